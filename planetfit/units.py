@@ -14,6 +14,8 @@ G_SI = _c.G.si.value                      # m^3 kg^-1 s^-2
 SIGMA_SB_SI = _c.sigma_sb.si.value        # W m^-2 K^-4
 K_B_SI = _c.k_B.si.value                  # J K^-1
 M_U_SI = _c.u.si.value                    # kg, atomic mass unit
+H_SI = _c.h.si.value                      # J s, Planck constant
+C_SI = _c.c.si.value                      # m s^-1, speed of light
 
 M_SUN_KG = _c.M_sun.si.value
 R_SUN_M = _c.R_sun.si.value
