@@ -167,6 +167,8 @@ def test_samples_off_the_grid_are_reported_not_extrapolated():
     assert result["p_rocky"] == 1.0
     assert "outside the model grid" in result["verdict"]
     json.dumps(result)
+    mostly_off = composition(mass[40:], radius[40:])
+    assert mostly_off["verdict"].startswith("Only 16% of samples lie inside the model grid")
     nothing = composition(np.full(3, hi * 10), np.full(3, 5.0))
     assert nothing["p_rocky"] is None and nothing["fraction_outside_grid"] == 1.0
     assert all(v is None for v in nothing["reference_radii_earth"].values())

@@ -63,8 +63,13 @@ def _verdict(out, p_rocky):
         if water is not None:
             text += (f", needing at least {water['median']:.0%} water over an Earth-like "
                      f"interior")
-    if out["fraction_outside_grid"] > 0:
-        text += f", with {out['fraction_outside_grid']:.0%} of samples outside the model grid"
+    outside = out["fraction_outside_grid"]
+    if outside > _MAJORITY:
+        lo, hi = out["grid_mass_range_earth"]
+        text = (f"Only {1.0 - outside:.0%} of samples lie inside the model grid ({lo:g}-{hi:g} "
+                f"Earth masses), and for those: {text[0].lower()}{text[1:]}")
+    elif outside > 0:
+        text += f", with {outside:.0%} of samples outside the model grid"
     return f"{text}; {_CAVEAT}."
 
 
