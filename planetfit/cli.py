@@ -1,0 +1,177 @@
+"""The ``planetfit`` command line: parses, calls the pipeline, prints.
+
+Exit codes: 0 success, 2 bad input (one paragraph naming what is wrong and
+the fix), 1 internal failure, 130 interrupted (resumable).
+"""
+
+import argparse
+import json
+import sys
+import traceback
+from pathlib import Path
+
+from .errors import InputError
+
+EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports usage errors as input errors (exit 2, no traceback)."""
+
+    def error(self, message):
+        self.print_usage(sys.stderr)
+        raise InputError(f"{message}.", fix=f"see '{self.prog} --help'.")
+
+
+def _add_run_options(p):
+    p.add_argument("--out", help="run directory (default: the config's 'output')")
+    p.add_argument("--resume", action="store_true", help="continue an interrupted run from samples.h5")
+    p.add_argument("--force", action="store_true", help="replace the outputs of an earlier run in the folder")
+    p.add_argument("--cores", type=int, default=1, help="processes for the walkers (default 1)")
+    p.add_argument("--quiet", action="store_true", help="no progress bar or progress messages")
+
+
+def build_parser():
+    parser = _Parser(prog="planetfit", description="Joint transit + radial-velocity fits of transiting planets.")
+    sub = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
+    p = sub.add_parser("run", help="the whole job: check, fit, derive, context, figures and tables")
+    p.add_argument("config")
+    _add_run_options(p)
+    p = sub.add_parser("check", help="validate the config and data; print a data overview; fit nothing")
+    p.add_argument("config")
+    p = sub.add_parser("demo", help="fit the bundled demo system")
+    _add_run_options(p)
+    p = sub.add_parser("redraw", help="figures and tables again from a run's saved samples")
+    p.add_argument("rundir")
+    p = sub.add_parser("interior", help="composition verdict for a mass and radius (Earth units)")
+    p.add_argument("--mass", nargs=2, type=float, required=True, metavar=("M", "SIG"))
+    p.add_argument("--radius", nargs=2, type=float, required=True, metavar=("R", "SIG"))
+    p.add_argument("--json", action="store_true")
+    p = sub.add_parser("climate", help="temperatures and habitable-zone position for one star and orbit")
+    p.add_argument("--teff", type=float, required=True, metavar="K")
+    p.add_argument("--radius-rsun", type=float, required=True, metavar="R")
+    p.add_argument("--a-au", type=float, required=True, metavar="A")
+    p.add_argument("--albedo", type=float, default=0.3)
+    p.add_argument("--tau", type=float, default=0.94)
+    p.add_argument("--json", action="store_true")
+    return parser
+
+
+def _print_summary(run_dir):
+    summary = json.loads((Path(run_dir) / "summary.json").read_text())
+    s = summary["sampling"]
+    print(f"\n{summary['system']}: {s['steps']} steps x {s['walkers']} walkers, "
+          f"{s['independent_samples']} independent samples, converged: {s['converged']}")
+    for name, p in summary["planets"].items():
+        parts = []
+        for key, label, unit in (("mass_earth", "M", "M_earth"), ("radius_earth", "R", "R_earth"),
+                                 ("density_gcc", "rho", "g/cm3")):
+            st = p.get(key)
+            if st:
+                parts.append(f"{label} = {st['median']:.3g} +{st['upper'] - st['median']:.2g} "
+                             f"-{st['median'] - st['lower']:.2g} {unit}")
+        if p.get("mass_is_minimum"):
+            parts[0] = parts[0].replace("M =", "M sin i =")
+        print(f"  {name}: " + ", ".join(parts))
+        if p.get("composition"):
+            print(f"     {p['composition']['verdict']}")
+    print(f"outputs in {run_dir}")
+
+
+def _cmd_run(args, config):
+    from . import pipeline
+    if args.cores < 1:
+        raise InputError(f"--cores must be at least 1, got {args.cores}.", fix="use e.g. --cores 2.")
+    run_dir = pipeline.run(config, output=args.out, resume=args.resume, force=args.force, cores=args.cores,
+                           quiet=args.quiet)
+    _print_summary(run_dir)
+
+
+def _cmd_check(args):
+    from . import pipeline
+    checked = pipeline.check(args.config)
+    c = checked.config
+    print(f"{c.system}: {len(c.planets)} planet(s), {len(c.photometry)} photometric and "
+          f"{len(c.velocities)} RV dataset(s); config OK")
+    for row in pipeline.overview(checked):
+        print("  {:<18s} {:<10s} {:6d} points ({} NaN rows dropped), BJD_TDB {:.3f} to {:.3f}, {}".format(*row))
+    from .posterior import build_layout
+    layout = build_layout(c)
+    print(f"  {layout.ndim} free parameters: {', '.join(layout.free)}")
+
+
+def _cmd_interior(args):
+    from .interior import quick_verdict
+    for name, (value, sig) in (("--mass", args.mass), ("--radius", args.radius)):
+        if not value > 0 or not sig >= 0:
+            raise InputError(f"{name} needs a positive value and a non-negative uncertainty, got {value} {sig}.",
+                             fix=f"e.g. {name} 5.0 0.8 (Earth units).")
+    result = quick_verdict(args.mass[0], args.mass[1], args.radius[0], args.radius[1])
+    if args.json:
+        print(json.dumps(result, indent=2))
+        return
+    print(f"p_rocky = {result['p_rocky']:.3f}, p_volatile_rich = {result['p_volatile_rich']:.3f}, "
+          f"p_denser_than_earth_like = {result['p_denser_than_earth_like']:.3f}")
+    radii = ", ".join(f"{k} {v:.3f}" for k, v in result["reference_radii_earth"].items())
+    print(f"reference radii at M = {args.mass[0]:g} M_earth: {radii} R_earth")
+    print(result["verdict"])
+
+
+def _cmd_climate(args):
+    from .climate import quick_climate
+    try:
+        result = quick_climate(args.teff, args.radius_rsun, args.a_au, albedo=args.albedo, tau=args.tau)
+    except ValueError as exc:
+        raise InputError(f"{exc}.", fix="see 'planetfit climate --help'.") from None
+    if args.json:
+        print(json.dumps(result, indent=2))
+        return
+    for key in ("insolation_earth", "equilibrium_temp_k", "surface_temp_k", "p_conservative_hz", "p_optimistic_hz",
+                "p_surface_liquid_water"):
+        print(f"{key:>24s}: {result[key]}")
+    if result.get("hz_limits_au"):
+        print("   habitable-zone limits (au): " + ", ".join(f"{k} {v:.3f}" for k, v in result["hz_limits_au"].items()
+                                                           if v is not None))
+    for c in result["cautions"]:
+        print(f"  note: {c}")
+
+
+def main(argv=None):
+    """Entry point of the ``planetfit`` console script."""
+    try:
+        args = build_parser().parse_args(argv)
+        if args.command == "run":
+            _cmd_run(args, args.config)
+        elif args.command == "demo":
+            from .demo import DEMO_CONFIG
+            if args.out is None:
+                args.out = "planetfit-demo"
+            _cmd_run(args, DEMO_CONFIG)
+        elif args.command == "check":
+            _cmd_check(args)
+        elif args.command == "redraw":
+            from . import pipeline
+            pipeline.redraw(args.rundir)
+            print(f"figures and tables rebuilt in {args.rundir}")
+        elif args.command == "interior":
+            _cmd_interior(args)
+        elif args.command == "climate":
+            _cmd_climate(args)
+    except InputError as exc:
+        print(f"planetfit: {exc.message()}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("\nplanetfit: interrupted. The chain is saved in samples.h5 up to the last step; "
+              "continue with 'planetfit run CONFIG --resume' (same --out).", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    except SystemExit as exc:
+        return exc.code if isinstance(exc.code, int) else EXIT_OK
+    except Exception:
+        traceback.print_exc()
+        print("planetfit: internal error (above); please report it with the config.", file=sys.stderr)
+        return EXIT_INTERNAL
+    return EXIT_OK
+
+
+if __name__ == "__main__":
+    sys.exit(main())

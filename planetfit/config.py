@@ -1,0 +1,439 @@
+"""YAML config -> validated, typed config objects.
+
+The file is read with a safe YAML loader; every key is checked against the
+schema below and every error names the file, the dotted key (with its line)
+and what was expected. Paths are resolved relative to the config file.
+"""
+
+import dataclasses
+import difflib
+import math
+from pathlib import Path
+
+import yaml
+
+from .errors import InputError
+from .priors import Fixed, Normal, Uniform, make_prior
+
+ORBITS = ("circular", "eccentric")
+LIMB_DARKENING_LAWS = ("quadratic",)
+
+
+@dataclasses.dataclass
+class StarConfig:
+    mass_msun: object
+    radius_rsun: object
+    teff_k: object
+    age_gyr: object = None
+    mag_j: float = None
+    mag_k: float = None
+
+
+@dataclasses.dataclass
+class PlanetConfig:
+    name: str
+    period_days: object
+    transit_bjd: object
+    rv_amplitude_ms: object
+    radius_ratio: object = None
+    impact: object = None
+    orbit: str = "circular"
+    transits: bool = True
+    sqrt_e_cos_w: object = None
+    sqrt_e_sin_w: object = None
+    eccentricity_max: float = 0.9
+
+
+@dataclasses.dataclass
+class PhotometryConfig:
+    name: str
+    file: Path
+    columns: dict
+    time_offset_days: float
+    exposure_min: float
+    supersample: int
+    limb_darkening: str
+    band: str
+    q1: object
+    q2: object
+    flux_level: object
+    jitter_ppm: object
+    normalise: bool
+
+
+@dataclasses.dataclass
+class VelocityConfig:
+    name: str
+    file: Path
+    columns: dict
+    time_offset_days: float
+    offset_ms: object
+    jitter_ms: object
+
+
+@dataclasses.dataclass
+class SamplingConfig:
+    walkers: int = 48
+    max_steps: int = 20000
+    check_every: int = 200
+    autocorr_factor: float = 50.0
+    autocorr_tolerance: float = 0.01
+    optimiser_starts: int = 4
+
+
+@dataclasses.dataclass
+class Config:
+    path: Path
+    system: str
+    seed: int
+    output: Path
+    star: StarConfig
+    planets: list
+    photometry: list
+    velocities: list
+    sampling: SamplingConfig
+    raw: dict
+    lines: dict
+
+
+# ----------------------------------------------------------------- reading
+
+
+def _key_lines(node, prefix=""):
+    """Map dotted key paths to 1-based line numbers from a composed YAML node."""
+    lines = {}
+    if isinstance(node, yaml.MappingNode):
+        for knode, vnode in node.value:
+            key = f"{prefix}.{knode.value}" if prefix else str(knode.value)
+            lines[key] = knode.start_mark.line + 1
+            lines.update(_key_lines(vnode, key))
+    elif isinstance(node, yaml.SequenceNode):
+        for i, vnode in enumerate(node.value):
+            key = f"{prefix}[{i}]"
+            lines[key] = vnode.start_mark.line + 1
+            lines.update(_key_lines(vnode, key))
+    return lines
+
+
+def read_yaml(path):
+    """Read a YAML file safely; return (data, key->line map)."""
+    path = Path(path)
+    try:
+        text = path.read_text()
+    except FileNotFoundError:
+        raise InputError("config file not found.", file=path,
+                         fix="check the path; run 'planetfit demo' for a working example.") from None
+    except (IsADirectoryError, PermissionError, UnicodeDecodeError) as exc:
+        raise InputError(f"cannot read the config file ({exc.__class__.__name__}).", file=path,
+                         fix="give a readable UTF-8 YAML file.") from None
+    try:
+        node = yaml.compose(text, Loader=yaml.SafeLoader)
+        data = yaml.load(text, Loader=yaml.SafeLoader)
+    except yaml.YAMLError as exc:
+        mark = getattr(exc, "problem_mark", None)
+        problem = getattr(exc, "problem", None) or str(exc)
+        raise InputError(f"the file is not valid YAML ({problem}).", file=path,
+                         line=mark.line + 1 if mark else None,
+                         fix="check indentation and that every 'key: value' pair has a space after the colon.") from None
+    if not isinstance(data, dict):
+        raise InputError("the config must be a YAML mapping of keys such as 'star', 'planets', 'photometry'.",
+                         file=path, fix="start from the demo config ('planetfit demo' writes one).")
+    return data, _key_lines(node)
+
+
+# ----------------------------------------------------------------- checking
+
+
+class _Section:
+    """Checks one mapping of the config and reports errors with file, key and line."""
+
+    def __init__(self, ctx, data, key):
+        self.ctx, self.key = ctx, key
+        if not isinstance(data, dict):
+            self.ctx.fail(key, f"expected a mapping of keys, got {type(data).__name__} {data!r}.",
+                          "indent the keys of this block under it.")
+        self.data = data
+        self.used = set()
+
+    def _k(self, name):
+        return f"{self.key}.{name}" if self.key else name
+
+    def has(self, name):
+        return name in self.data and self.data[name] is not None
+
+    def take(self, name, required=False, default=None):
+        self.used.add(name)
+        if name not in self.data or self.data[name] is None:
+            if required:
+                self.ctx.fail(self.key or name, f"the required key '{name}' is missing.",
+                              f"add '{name}:' to this block (see README, config reference).")
+            return default
+        return self.data[name]
+
+    def number(self, name, required=False, default=None, positive=False, integer=False):
+        value = self.take(name, required, default)
+        if value is None:
+            return None
+        ok = isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+        if integer:
+            ok = ok and float(value).is_integer()
+        if ok and positive and not value > 0:
+            self.ctx.fail(self._k(name), f"must be positive, got {value}.", "give a value above zero.")
+        if not ok:
+            kind = "an integer" if integer else "a finite number"
+            self.ctx.fail(self._k(name), f"expected {kind}, got {value!r}.", f"write '{name}: <number>'.")
+        return int(value) if integer else float(value)
+
+    def text(self, name, required=False, default=None, choices=None):
+        value = self.take(name, required, default)
+        if value is None:
+            return None
+        if not isinstance(value, str):
+            self.ctx.fail(self._k(name), f"expected text, got {value!r}.", f"write '{name}: <text>'.")
+        if choices and value not in choices:
+            self.ctx.fail(self._k(name), f"'{value}' is not one of {', '.join(choices)}.",
+                          f"use one of: {', '.join(choices)}.")
+        return value
+
+    def flag(self, name, default):
+        value = self.take(name, default=default)
+        if not isinstance(value, bool):
+            self.ctx.fail(self._k(name), f"expected true or false, got {value!r}.", f"write '{name}: true' or 'false'.")
+        return value
+
+    def prior(self, name, required=False, default=None):
+        value = self.take(name, required)
+        if value is None:
+            return default
+        try:
+            return make_prior(value)
+        except ValueError as exc:
+            self.ctx.fail(self._k(name), f"invalid prior: {exc}.",
+                          "write e.g. '{uniform: [lo, hi]}', '{normal: [mean, sd]}' or a number to fix it.")
+
+    def path(self, name):
+        value = self.text(name, required=True)
+        return (self.ctx.path.parent / value).resolve()
+
+    def finish(self, allowed=None):
+        """Reject keys that were not read, with a 'did you mean' hint."""
+        known = set(allowed or ()) | self.used
+        for extra in self.data:
+            if extra not in known:
+                close = difflib.get_close_matches(str(extra), sorted(known), n=1)
+                hint = f"did you mean '{close[0]}'?" if close else f"allowed keys here: {', '.join(sorted(known))}."
+                self.ctx.fail(self._k(str(extra)), "unknown key.", hint)
+
+
+class _Context:
+    def __init__(self, path, lines):
+        self.path, self.lines = path, lines
+
+    def fail(self, key, problem, fix):
+        raise InputError(problem, file=self.path, key=key, line=self.lines.get(key), fix=fix)
+
+
+def _check_star(ctx, data):
+    s = _Section(ctx, data, "star")
+    star = StarConfig(
+        mass_msun=s.prior("mass_msun", required=True),
+        radius_rsun=s.prior("radius_rsun", required=True),
+        teff_k=s.prior("teff_k", required=True),
+        age_gyr=s.prior("age_gyr"),
+        mag_j=s.number("mag_j"),
+        mag_k=s.number("mag_k"),
+    )
+    for name in ("mass_msun", "radius_rsun", "teff_k"):
+        _positive_prior(ctx, f"star.{name}", getattr(star, name), name)
+    s.finish()
+    return star
+
+
+def _positive_prior(ctx, key, prior, what):
+    lo, _ = prior.bounds
+    if not lo > 0 and not (isinstance(prior, Normal) and prior.mean > 5 * prior.sd):
+        ctx.fail(key, f"the prior reaches zero or below; {what} must be positive.",
+                 "raise the lower bound above zero (or use a normal prior with mean > 5 sd).")
+
+
+def _check_planet(ctx, name, data):
+    key = f"planets.{name}"
+    s = _Section(ctx, data, key)
+    transits = s.flag("transits", True)
+    orbit = s.text("orbit", default="circular", choices=ORBITS)
+    planet = PlanetConfig(
+        name=str(name),
+        period_days=s.prior("period_days", required=True),
+        transit_bjd=s.prior("transit_bjd", required=True),
+        rv_amplitude_ms=s.prior("rv_amplitude_ms", required=True),
+        orbit=orbit, transits=transits)
+    _positive_prior(ctx, f"{key}.period_days", planet.period_days, "the period")
+    lo, _ = planet.rv_amplitude_ms.bounds
+    if lo < 0:
+        ctx.fail(f"{key}.rv_amplitude_ms", "the prior allows negative semi-amplitudes.",
+                 "use a lower bound of 0 or above.")
+    if transits:
+        planet.radius_ratio = s.prior("radius_ratio", required=True)
+        planet.impact = s.prior("impact", required=True)
+        _positive_prior(ctx, f"{key}.radius_ratio", planet.radius_ratio, "the radius ratio")
+        k_hi = planet.radius_ratio.bounds[1]
+        b_lo, b_hi = planet.impact.bounds
+        if b_lo < 0:
+            ctx.fail(f"{key}.impact", "the impact parameter cannot be negative.", "use a lower bound of 0.")
+        if b_lo >= 1 + min(k_hi, 1.0):
+            ctx.fail(f"{key}.impact", f"the whole prior lies beyond 1 + radius ratio ({1 + k_hi:g}): no transit is possible.",
+                     "use e.g. '{uniform: [0, 1]}'.")
+    else:
+        for extra in ("radius_ratio", "impact"):
+            if s.has(extra):
+                ctx.fail(f"{key}.{extra}", "this planet has 'transits: false', so it has no transit parameters.",
+                         f"remove '{extra}', or set 'transits: true' if it does transit.")
+    if orbit == "eccentric":
+        planet.eccentricity_max = s.number("eccentricity_max", default=0.9)
+        if not 0 < planet.eccentricity_max < 1:
+            ctx.fail(f"{key}.eccentricity_max", f"must lie in (0, 1), got {planet.eccentricity_max}.",
+                     "use e.g. 0.9; bound orbits need e < 1.")
+        planet.sqrt_e_cos_w = s.prior("sqrt_e_cos_w", default=Uniform(-1, 1))
+        planet.sqrt_e_sin_w = s.prior("sqrt_e_sin_w", default=Uniform(-1, 1))
+    else:
+        for extra in ("sqrt_e_cos_w", "sqrt_e_sin_w", "eccentricity_max"):
+            if s.has(extra):
+                ctx.fail(f"{key}.{extra}", "only eccentric orbits take eccentricity parameters.",
+                         f"remove '{extra}' or set 'orbit: eccentric'.")
+    s.finish(allowed=("radius_ratio", "impact", "sqrt_e_cos_w", "sqrt_e_sin_w", "eccentricity_max"))
+    return planet
+
+
+def _check_columns(ctx, key, data, needed):
+    s = _Section(ctx, data, key)
+    cols = {n: s.text(n, default=n) for n in needed}
+    s.finish()
+    return cols
+
+
+def _dataset_name(s, key, index, seen, ctx):
+    name = s.text("name", required=True)
+    if name in seen:
+        ctx.fail(f"{key}.name", f"the dataset name '{name}' is used twice.", "give every dataset its own name.")
+    seen.add(name)
+    return name
+
+
+def _check_photometry(ctx, i, data, seen):
+    key = f"photometry[{i}]"
+    s = _Section(ctx, data, key)
+    name = _dataset_name(s, key, i, seen, ctx)
+    exposure = s.number("exposure_min", required=True, positive=True)
+    default_ss = max(1, math.ceil(exposure / 2.0 - 1e-9))  # sub-exposures of at most 2 min
+    phot = PhotometryConfig(
+        name=name, file=s.path("file"),
+        columns=_check_columns(ctx, f"{key}.columns", s.take("columns", default={}), ("time", "flux", "error")),
+        time_offset_days=s.number("time_offset_days", default=0.0),
+        exposure_min=exposure,
+        supersample=s.number("supersample", default=default_ss, integer=True, positive=True),
+        limb_darkening=s.text("limb_darkening", default="quadratic", choices=LIMB_DARKENING_LAWS),
+        band=s.text("band", default=name),
+        q1=s.prior("limb_darkening_q1", default=Uniform(0, 1)),
+        q2=s.prior("limb_darkening_q2", default=Uniform(0, 1)),
+        flux_level=s.prior("flux_level", default=Uniform(0.9, 1.1)),
+        jitter_ppm=s.prior("jitter_ppm", default=Fixed(0.0)),
+        normalise=s.flag("normalise", True))
+    for q in ("q1", "q2"):
+        lo, hi = getattr(phot, q).bounds
+        if lo < 0 or hi > 1:
+            ctx.fail(f"{key}.limb_darkening_{q}", "Kipping's q1 and q2 live in [0, 1].", "keep the prior inside [0, 1].")
+    if phot.jitter_ppm.bounds[0] < 0:
+        ctx.fail(f"{key}.jitter_ppm", "a jitter cannot be negative.", "use a lower bound of 0 or above.")
+    s.finish()
+    return phot
+
+
+def _check_velocities(ctx, i, data, seen):
+    key = f"velocities[{i}]"
+    s = _Section(ctx, data, key)
+    name = _dataset_name(s, key, i, seen, ctx)
+    rv = VelocityConfig(
+        name=name, file=s.path("file"),
+        columns=_check_columns(ctx, f"{key}.columns", s.take("columns", default={}), ("time", "rv", "error")),
+        time_offset_days=s.number("time_offset_days", default=0.0),
+        offset_ms=s.prior("offset_ms", required=True),
+        jitter_ms=s.prior("jitter_ms", default=Fixed(0.0)))
+    if rv.jitter_ms.bounds[0] < 0:
+        ctx.fail(f"{key}.jitter_ms", "a jitter cannot be negative.", "use a lower bound of 0 or above.")
+    s.finish()
+    return rv
+
+
+def _check_list(ctx, key, value):
+    if value is None:
+        return []
+    if not isinstance(value, list):
+        ctx.fail(key, f"expected a list of datasets (lines starting with '- '), got {type(value).__name__}.",
+                 f"write each dataset under '{key}:' as '- name: ...'.")
+    return value
+
+
+def load_config(path, output=None):
+    """Read and validate a config file.
+
+    Parameters
+    ----------
+    path : str or Path
+        The YAML file.
+    output : str or Path, optional
+        Run directory overriding the config's ``output`` key.
+
+    Returns
+    -------
+    Config
+
+    Raises
+    ------
+    InputError
+        Naming the file, key and line, and the fix.
+    """
+    path = Path(path).resolve()
+    data, lines = read_yaml(path)
+    ctx = _Context(path, lines)
+    top = _Section(ctx, data, "")
+    system = str(top.take("system", default=path.stem))
+    seed = top.number("seed", default=0, integer=True)
+    out = top.text("output", default=f"runs/{path.stem}")
+    star = _check_star(ctx, top.take("star", required=True))
+    planets_raw = top.take("planets", required=True)
+    if not isinstance(planets_raw, dict) or not planets_raw:
+        ctx.fail("planets", "expected a mapping of planet names to their parameters.",
+                 "write e.g. 'planets:' then 'b:' indented below it.")
+    planets = [_check_planet(ctx, name, p) for name, p in planets_raw.items()]
+    seen = set()
+    photometry = [_check_photometry(ctx, i, d, seen)
+                  for i, d in enumerate(_check_list(ctx, "photometry", top.take("photometry")))]
+    velocities = [_check_velocities(ctx, i, d, seen)
+                  for i, d in enumerate(_check_list(ctx, "velocities", top.take("velocities")))]
+    if not photometry and not velocities:
+        ctx.fail("photometry", "the config has no data: neither 'photometry' nor 'velocities' lists a dataset.",
+                 "add at least one dataset (see README, config reference).")
+    if any(p.transits for p in planets) and not photometry:
+        name = next(p.name for p in planets if p.transits)
+        ctx.fail(f"planets.{name}.transits", "a transiting planet needs photometry, and none is given.",
+                 "add a 'photometry' dataset, or set 'transits: false'.")
+    if not velocities:
+        for p in planets:
+            if not p.rv_amplitude_ms.fixed:
+                ctx.fail(f"planets.{p.name}.rv_amplitude_ms", "no radial velocities are given to constrain it.",
+                         "fix it to 0 (transit-only fit) or add a 'velocities' dataset.")
+    sampling_raw = top.take("sampling", default={})
+    ss = _Section(ctx, sampling_raw, "sampling")
+    defaults = SamplingConfig()
+    sampling = SamplingConfig(
+        walkers=ss.number("walkers", default=defaults.walkers, integer=True, positive=True),
+        max_steps=ss.number("max_steps", default=defaults.max_steps, integer=True, positive=True),
+        check_every=ss.number("check_every", default=defaults.check_every, integer=True, positive=True),
+        autocorr_factor=ss.number("autocorr_factor", default=defaults.autocorr_factor, positive=True),
+        autocorr_tolerance=ss.number("autocorr_tolerance", default=defaults.autocorr_tolerance, positive=True),
+        optimiser_starts=ss.number("optimiser_starts", default=defaults.optimiser_starts, integer=True, positive=True))
+    ss.finish()
+    top.finish(allowed=("climate",))
+    output_dir = Path(output).resolve() if output is not None else (path.parent / out).resolve()
+    return Config(path=path, system=system, seed=seed, output=output_dir, star=star, planets=planets,
+                  photometry=photometry, velocities=velocities, sampling=sampling, raw=data, lines=lines)

@@ -1,0 +1,106 @@
+"""Write the demo system's light curves and radial velocities from a fixed seed.
+
+Run ``python -m planetfit.demo.generate [OUTDIR]`` (default: this package's
+``data/`` folder). The system is invented: a K dwarf, Keldra-4, with a
+transiting super-Earth (b) and an outer planet seen only in RVs (c). The
+light curves are made with batman's public ``TransitModel`` (independent of
+planetfit's windowed evaluation) and the RVs with radvel's ``rv_drive``.
+"""
+
+import json
+import sys
+from pathlib import Path
+
+import batman
+import numpy as np
+from radvel import kepler, orbit
+
+from ..models.geometry import solve_orbit
+from ..units import M_EARTH_KG, MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M
+
+SEED = 20261201
+BTJD_OFFSET = 2457000.0
+
+TRUTH = {
+    "star": {"mass_msun": 0.78, "radius_rsun": 0.74, "teff_k": 4900.0},
+    "b": {"period_days": 6.13712, "transit_bjd": 2460003.4172, "radius_earth": 1.52,
+          "impact": 0.32, "rv_amplitude_ms": 2.10, "e": 0.0, "omega_deg": 90.0},
+    "c": {"period_days": 42.31, "transit_bjd": 2460021.7, "rv_amplitude_ms": 4.6,
+          "e": 0.15, "omega_deg": 55.0},
+    "limb_darkening_u": [0.50, 0.17],
+}
+
+# Sectors: (name, start BTJD, days, cadence min, white noise per point in ppm).
+SECTORS = [("camera-30min", 2400.0, 27.0, 30.0, 110.0),
+           ("camera-2min", 3000.0, 27.0, 2.0, 420.0),
+           ("camera-2min", 3027.4, 27.0, 2.0, 420.0)]
+# Spectrographs: (name, points, error m/s, jitter m/s, offset m/s).
+SPECTROGRAPHS = [("spectrograph-a", 35, 1.2, 1.5, -12.3), ("spectrograph-b", 25, 1.8, 2.4, 31.0)]
+RV_SPAN_BJD = (2459930.0, 2460190.0)
+
+
+def sector_times(start, days, cadence_min):
+    """Regular cadence with a one-day data-downlink gap in the middle of the sector."""
+    t = np.arange(start, start + days, cadence_min / MINUTES_PER_DAY)
+    mid = start + days / 2
+    return t[(t < mid - 0.5) | (t > mid + 0.5)]
+
+
+def light_curve(t_bjd, cadence_min):
+    """Noise-free relative flux of planet b (batman, exposure-integrated)."""
+    s, b = TRUTH["star"], TRUTH["b"]
+    k = b["radius_earth"] * R_EARTH_M / (s["radius_rsun"] * R_SUN_M)
+    a_r, cos_i, _ = solve_orbit(b["period_days"], b["rv_amplitude_ms"], b["impact"], 0.0, np.pi / 2,
+                                s["mass_msun"], s["radius_rsun"])
+    p = batman.TransitParams()
+    p.t0, p.per, p.rp, p.a = b["transit_bjd"], b["period_days"], k, a_r
+    p.inc, p.ecc, p.w = np.degrees(np.arccos(cos_i)), 0.0, 90.0
+    p.u, p.limb_dark = list(TRUTH["limb_darkening_u"]), "quadratic"
+    ss = max(1, int(np.ceil(cadence_min / 2.0)))
+    model = batman.TransitModel(p, t_bjd, supersample_factor=ss, exp_time=cadence_min / MINUTES_PER_DAY)
+    return model.light_curve(p)
+
+
+def radial_velocity(t_bjd):
+    """Noise-free stellar RV (m/s) from both planets."""
+    total = np.zeros_like(t_bjd)
+    for name in ("b", "c"):
+        p = TRUTH[name]
+        w = np.radians(p["omega_deg"])
+        tp = orbit.timetrans_to_timeperi(p["transit_bjd"], p["period_days"], p["e"], w)
+        total += kepler.rv_drive(t_bjd, np.array([p["period_days"], tp, p["e"], w, p["rv_amplitude_ms"]]))
+    return total
+
+
+def write(outdir):
+    """Write the demo tables and ``truth.json`` into ``outdir``."""
+    outdir = Path(outdir)
+    outdir.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(SEED)
+    by_name = {}
+    for name, start, days, cadence, noise_ppm in SECTORS:
+        t = sector_times(start, days, cadence)
+        flux = light_curve(t + BTJD_OFFSET, cadence) + rng.normal(0, noise_ppm * PPM, t.size)
+        err = np.full(t.size, noise_ppm * PPM)
+        flux[rng.choice(t.size, 5, replace=False)] = np.nan  # a few lost exposures, as in real products
+        by_name.setdefault(name, []).append((t, flux, err))
+    for name, parts in by_name.items():
+        t, f, e = (np.concatenate(x) for x in zip(*parts))
+        scale = 18450.0  # electrons per second, arbitrary: the pipeline normalises
+        np.savetxt(outdir / f"{name}.csv", np.column_stack([t, f * scale, e * scale]), delimiter=",",
+                   fmt=["%.6f", "%.3f", "%.3f"], header="btjd,flux_e_per_s,flux_err_e_per_s", comments="")
+    for name, n, err, jitter, offset in SPECTROGRAPHS:
+        t = np.sort(rng.uniform(*RV_SPAN_BJD, n))
+        rv = radial_velocity(t) + offset + rng.normal(0, np.hypot(err, jitter), n)
+        e = err * rng.uniform(0.85, 1.15, n)
+        np.savetxt(outdir / f"{name}.txt", np.column_stack([t, rv, e]), fmt=["%.5f", "%.3f", "%.3f"],
+                   header="bjd_tdb rv_ms sigma_rv_ms", comments="")
+    truth = dict(TRUTH, seed=SEED, spectrographs={n: {"jitter_ms": j, "offset_ms": o} for n, _, _, j, o in SPECTROGRAPHS})
+    truth["b"]["mass_earth"] = float(solve_orbit(TRUTH["b"]["period_days"], TRUTH["b"]["rv_amplitude_ms"],
+                                                 TRUTH["b"]["impact"], 0.0, np.pi / 2, TRUTH["star"]["mass_msun"],
+                                                 TRUTH["star"]["radius_rsun"])[2] / M_EARTH_KG)
+    (outdir / "truth.json").write_text(json.dumps(truth, indent=2) + "\n")
+
+
+if __name__ == "__main__":
+    write(sys.argv[1] if len(sys.argv) > 1 else Path(__file__).resolve().parent / "data")

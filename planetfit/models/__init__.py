@@ -1,0 +1,1 @@
+"""Forward models: orbit geometry, transit light curves, Keplerian velocities."""

@@ -1,0 +1,86 @@
+"""Transit light curves with batman, computed only where they can differ from 1.
+
+batman (Kreidberg 2015, PASP 127, 1161) implements Mandel & Agol (2002)
+quadratic limb darkening. We call its two compiled kernels directly -- the
+sky-projected separation and the quadratic-law flux -- on the points inside
+a window around each predicted transit, so a model costs time in proportion
+to the in-transit points, not the whole light curve. Outside the window the
+flux is exactly 1. Long exposures are integrated by supersampling: each
+exposure is averaged over ``supersample`` sub-exposures spread evenly over
+it (Kipping 2010, MNRAS 408, 1758), the grid of offsets built once per
+dataset.
+"""
+
+import numpy as np
+from batman import _quadratic_ld, _rsky
+
+#: batman's code for a primary transit (as opposed to a secondary eclipse).
+_PRIMARY = 1
+#: Safety margin on the half-window beyond half the longest possible duration.
+WINDOW_MARGIN = 1.25
+
+
+def quadratic_coefficients(q1, q2):
+    """Quadratic limb-darkening u1, u2 from Kipping (2013, MNRAS 435, 2152) q1, q2 in [0, 1]."""
+    sq = np.sqrt(q1)
+    return 2 * sq * q2, sq * (1 - 2 * q2)
+
+
+class TransitLightCurve:
+    """Relative flux of transits of one planet over one dataset's times.
+
+    Parameters
+    ----------
+    times_bjd : ndarray
+        Sorted mid-exposure times.
+    exposure_days : float
+        Exposure length; used when ``supersample > 1``.
+    supersample : int
+        Sub-exposures per exposure (1: no integration).
+    """
+
+    def __init__(self, times_bjd, exposure_days, supersample):
+        self.times = np.ascontiguousarray(times_bjd, dtype=float)
+        self.supersample = int(supersample)
+        if self.supersample > 1:
+            # Sub-exposure centres, as in batman's own TransitModel.
+            self.offsets = np.linspace(-exposure_days / 2, exposure_days / 2, self.supersample)
+        else:
+            self.offsets = np.zeros(1)
+        self.pad_days = exposure_days / 2
+
+    def window(self, period_days, transit_bjd, half_width_days):
+        """Indices of points within ``half_width_days`` of a predicted mid-transit."""
+        t = self.times
+        first = np.floor((t[0] - half_width_days - transit_bjd) / period_days)
+        last = np.ceil((t[-1] + half_width_days - transit_bjd) / period_days)
+        centres = transit_bjd + period_days * np.arange(first, last + 1)
+        starts = np.searchsorted(t, centres - half_width_days, "left")
+        ends = np.searchsorted(t, centres + half_width_days, "right")
+        lengths = ends - starts
+        total = int(lengths.sum())
+        if total == 0:
+            return np.empty(0, dtype=np.intp)
+        shift = np.repeat(starts - np.concatenate(([0], np.cumsum(lengths)[:-1])), lengths)
+        return shift + np.arange(total)
+
+    def half_window_days(self, period_days, a_over_rstar, radius_ratio, sin_i, e, omega_rad):
+        """Half-width of the window: the longest transit this geometry allows, with margin."""
+        chord = min(1.0, (1 + radius_ratio) / (a_over_rstar * sin_i))
+        speed_factor = np.sqrt(1 - e * e) / (1 - e)  # longest at apoastron
+        return WINDOW_MARGIN * period_days / (2 * np.pi) * np.arcsin(chord) * speed_factor + self.pad_days
+
+    def flux(self, index, period_days, transit_bjd, a_over_rstar, inc_rad, e, omega_rad, radius_ratio, u1, u2):
+        """Relative flux at ``self.times[index]`` (exposure-integrated).
+
+        Returns
+        -------
+        ndarray
+            One value per index; 1 means no transit.
+        """
+        t = (self.times[index, None] + self.offsets[None, :]).ravel()
+        d = _rsky._rsky(t, transit_bjd, period_days, a_over_rstar, inc_rad, e, omega_rad, _PRIMARY, 1)
+        f = _quadratic_ld._quadratic_ld(d, radius_ratio, u1, u2, 1)
+        if self.supersample > 1:
+            f = f.reshape(-1, self.supersample).mean(axis=1)
+        return f

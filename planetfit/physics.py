@@ -1,0 +1,85 @@
+"""Posterior samples -> physical quantities of the star and each planet.
+
+Per sample: the planet mass from the exact mass function with the sampled
+inclination and star mass (not the Mp << M* shortcut), radius from the
+radius ratio and the sampled stellar radius, bulk density, surface gravity,
+a in au and in stellar radii, inclination, eccentricity, total transit
+duration, stellar density. Teff and age do not enter the likelihood, so
+their posterior is their prior: they are drawn from it here, independently
+per sample. Constants come from :mod:`planetfit.units` (astropy).
+"""
+
+import numpy as np
+
+from .models.geometry import planet_mass_kg, semi_major_axis_m, transit_duration_days
+from .posterior import planet_orbit
+from .units import (AU_M, G_SI, HOURS_PER_DAY, KG_M3_TO_G_CM3, M_EARTH_KG, M_JUP_KG, M_SUN_KG, R_EARTH_M,
+                    R_JUP_M, R_SUN_M)
+
+
+def bulk_density_gcc(mass_kg, radius_m):
+    """Mean density M / (4/3 pi R^3) in g/cm^3."""
+    return mass_kg / (4.0 / 3.0 * np.pi * radius_m**3) * KG_M3_TO_G_CM3
+
+
+def derive(config, layout, samples, rng):
+    """Physical quantities for every posterior sample.
+
+    Parameters
+    ----------
+    config : Config
+    layout : ParameterLayout
+    samples : ndarray, shape (n, ndim)
+    rng : numpy.random.Generator
+        For the stellar Teff and age drawn from their priors.
+
+    Returns
+    -------
+    dict
+        ``"star"`` -> {quantity: array}, ``"planets"`` -> {name: {quantity:
+        array}}, ``"parameters"`` -> {sampled name: array}. Arrays have one
+        value per sample.
+    """
+    n = samples.shape[0]
+    values = {k: np.broadcast_to(np.asarray(v, dtype=float), (n,)).copy() for k, v in layout.values(samples).items()}
+    mstar, rstar = values["star.mass_msun"], values["star.radius_rsun"]
+    star = {"mass_msun": mstar, "radius_rsun": rstar,
+            "density_gcc": bulk_density_gcc(mstar * M_SUN_KG, rstar * R_SUN_M),
+            "teff_k": np.asarray(config.star.teff_k.sample(rng, n), dtype=float)}
+    if config.star.age_gyr is not None:
+        star["age_gyr"] = np.asarray(config.star.age_gyr.sample(rng, n), dtype=float)
+    planets = {}
+    for p in config.planets:
+        planets[p.name] = _planet(p, values, mstar, rstar)
+    return {"star": star, "planets": planets, "parameters": values}
+
+
+def _planet(planet, values, mstar_msun, rstar_rsun):
+    n = planet.name
+    per = values[f"{n}.period_days"]
+    k_ms = values[f"{n}.rv_amplitude_ms"]
+    orbit = planet_orbit(values, planet)
+    e = np.broadcast_to(orbit["e"], per.shape)
+    w = np.broadcast_to(orbit["omega_rad"], per.shape)
+    out = {"period_days": per, "transit_bjd": values[f"{n}.transit_bjd"], "eccentricity": e,
+           "omega_deg": np.degrees(w), "rv_amplitude_ms": k_ms}
+    if planet.transits:
+        mass_kg = orbit["mass_kg"]
+        a_r, cos_i = orbit["a_over_rstar"], orbit["cos_i"]
+        k = values[f"{n}.radius_ratio"]
+        radius_m = k * rstar_rsun * R_SUN_M
+        out.update(
+            radius_ratio=k, impact=values[f"{n}.impact"], inclination_deg=np.degrees(np.arccos(cos_i)),
+            a_over_rstar=a_r, semi_major_axis_au=a_r * rstar_rsun * R_SUN_M / AU_M,
+            radius_earth=radius_m / R_EARTH_M, radius_jup=radius_m / R_JUP_M,
+            density_gcc=bulk_density_gcc(mass_kg, radius_m),
+            surface_gravity_ms2=G_SI * mass_kg / radius_m**2,
+            transit_duration_hr=transit_duration_days(per, a_r, k, values[f"{n}.impact"], cos_i, e, w)
+            * HOURS_PER_DAY)
+    else:
+        # No inclination: the mass is the minimum mass M sin i.
+        mass_kg = planet_mass_kg(k_ms, per, e, 1.0, mstar_msun * M_SUN_KG)
+        a_m = semi_major_axis_m(per, mstar_msun * M_SUN_KG + mass_kg)
+        out.update(semi_major_axis_au=a_m / AU_M, a_over_rstar=a_m / (rstar_rsun * R_SUN_M))
+    out.update(mass_earth=mass_kg / M_EARTH_KG, mass_jup=mass_kg / M_JUP_KG)
+    return out

@@ -1,0 +1,203 @@
+"""The stages of a run, in order: check -> fit -> derive -> context -> report.
+
+Each function here calls one stage after another; the stages themselves
+live in their modules. ``finish`` turns saved samples into every output, so
+``planetfit redraw`` and ``planetfit run`` share it.
+"""
+
+import contextlib
+import dataclasses
+import json
+import logging
+import multiprocessing
+import os
+import shutil
+from pathlib import Path
+
+import emcee
+import h5py
+import numpy as np
+import yaml
+
+from . import climate, context, physics
+from .config import load_config
+from .data import load_all
+from .errors import InputError
+from .posterior import JointPosterior
+from .report import outputs
+from .report import summary as summary_out
+from .report.files import write_text_atomic
+from .sampling import run_sampler
+
+log = logging.getLogger("planetfit")
+
+RUN_FILES = ("summary.json", "summary.md", "table.tex", "samples.h5", "posterior.csv", "run.log",
+             "config.resolved.yaml")
+
+
+@dataclasses.dataclass
+class Checked:
+    """A validated config with its data read and checked."""
+
+    config: object
+    photometry: list
+    velocities: list
+    climate: object
+
+
+def check(config_path, output=None):
+    """Validate the config, read and check every dataset, fit nothing."""
+    config = load_config(config_path, output=output)
+    phot, rvs = load_all(config)
+    raw = config.raw.get("climate")
+    try:
+        settings = climate.ClimateSettings.from_mapping(raw)
+    except (ValueError, TypeError) as exc:
+        key = str(exc).split(":")[0]
+        raise InputError(f"invalid climate setting: {exc}.", file=config.path,
+                         key=f"climate.{key}", line=config.lines.get(f"climate.{key}") or config.lines.get("climate"),
+                         fix="see README, climate block, for the accepted keys and values.") from None
+    names = {p.name for p in config.planets} & {d.name for d in config.photometry + config.velocities}
+    if names:
+        raise InputError(f"'{sorted(names)[0]}' names both a planet and a dataset.", file=config.path,
+                         key="planets", fix="rename the dataset (e.g. 'camera-1').")
+    return Checked(config, phot, rvs, settings)
+
+
+def overview(checked):
+    """Rows of the data overview printed by ``planetfit check``."""
+    rows = []
+    for d in checked.photometry:
+        cadence = np.median(np.diff(d.time)) * 1440 if d.time.size > 1 else float("nan")
+        rows.append((d.name, "photometry", d.time.size, d.dropped_nan, d.time[0], d.time[-1],
+                     f"{cadence:.1f} min cadence, {np.median(d.error) * 1e6:.0f} ppm median error, "
+                     f"supersample x{d.supersample}"))
+    for d in checked.velocities:
+        rows.append((d.name, "velocities", d.time.size, d.dropped_nan, d.time[0], d.time[-1],
+                     f"{np.median(d.error):.2f} m/s median error, rms {np.std(d.rv):.2f} m/s"))
+    return rows
+
+
+def _logging_to(run_dir, quiet):
+    log.setLevel(logging.INFO)
+    for h in list(log.handlers):
+        log.removeHandler(h)
+        h.close()
+    fh = logging.FileHandler(run_dir / "run.log")
+    fh.setFormatter(logging.Formatter("%(asctime)s %(levelname)s %(message)s"))
+    log.addHandler(fh)
+    sh = logging.StreamHandler()
+    sh.setLevel(logging.WARNING if quiet else logging.INFO)
+    sh.setFormatter(logging.Formatter("%(message)s"))
+    log.addHandler(sh)
+
+
+def _prepare_run_dir(run_dir, resume, force):
+    if run_dir.exists() and any(run_dir.iterdir()):
+        if resume:
+            if not (run_dir / "samples.h5").exists():
+                raise InputError("there is no samples.h5 to resume from.", file=run_dir,
+                                 fix="run without --resume to start a new fit.")
+            return
+        if not force:
+            raise InputError("the run directory already holds files.", file=run_dir,
+                             fix="use --resume to continue that run, --force to replace it, or --out for a new folder.")
+        for name in RUN_FILES:
+            with contextlib.suppress(FileNotFoundError):
+                (run_dir / name).unlink()
+        shutil.rmtree(run_dir / "figures", ignore_errors=True)
+    elif resume:
+        raise InputError("the run directory does not exist, so there is nothing to resume.", file=run_dir,
+                         fix="run without --resume to start a new fit.")
+    run_dir.mkdir(parents=True, exist_ok=True)
+
+
+def _resolved_config(config):
+    raw = dict(config.raw)
+    raw["output"] = str(config.output)
+    for section, items in (("photometry", config.photometry), ("velocities", config.velocities)):
+        raw[section] = [dict(entry, file=str(c.file)) for entry, c in zip(raw.get(section) or [], items)]
+    return yaml.safe_dump(raw, sort_keys=False)
+
+
+def _pin_threads():
+    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ[var] = "1"
+
+
+def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False):
+    """The whole job for one config; returns the run directory."""
+    checked = check(config_path, output=output)
+    config = checked.config
+    run_dir = config.output
+    _prepare_run_dir(run_dir, resume, force)
+    _logging_to(run_dir, quiet)
+    log.info("planetfit run of %s (%s)", config.path, config.system)
+    for row in overview(checked):
+        log.info("  %-18s %-10s %6d points (%d NaN rows dropped), BJD %.3f-%.3f, %s", *row)
+    write_text_atomic(run_dir / "config.resolved.yaml", _resolved_config(config))
+    post = JointPosterior(config, checked.photometry, checked.velocities)
+    rng = np.random.default_rng(config.seed)
+    pool = None
+    if cores > 1:
+        pool = multiprocessing.get_context("fork").Pool(cores, initializer=_pin_threads)
+    try:
+        result = run_sampler(post, post.layout, config.sampling, run_dir / "samples.h5", rng, pool=pool,
+                             progress=not quiet, resume=resume)
+    finally:
+        if pool is not None:
+            pool.close()
+            pool.join()
+    meta = result.summary()
+    meta.update(discard=result.discard, thin=result.thin, cores=cores)
+    with h5py.File(run_dir / "samples.h5", "a") as fh:
+        g = fh.require_group("planetfit")
+        g.attrs["parameter_names"] = post.layout.free
+        g.attrs["sampling_json"] = json.dumps(meta)
+        if "autocorr_history" in g:
+            del g["autocorr_history"]
+        g["autocorr_history"] = np.array(result.autocorr_history, dtype=float).reshape(-1, 2)
+    finish(run_dir, checked, result.samples, meta)
+    return run_dir
+
+
+def finish(run_dir, checked, samples, sampling_meta):
+    """Derive, add context and write every output from posterior samples."""
+    config = checked.config
+    post = JointPosterior(config, checked.photometry, checked.velocities)
+    rng = np.random.default_rng([config.seed, 1])
+    derived = physics.derive(config, post.layout, samples, rng)
+    derived["parameter_names"] = post.layout.free
+    blocks = context.add_context(config, derived, checked.climate, rng)
+    summary = summary_out.build_summary(config, derived, blocks, sampling_meta)
+    summary_out.write_summary_json(run_dir / "summary.json", summary)
+    summary_out.write_posterior_csv(run_dir / "posterior.csv", derived)
+    outputs.write_all(run_dir, checked, post, samples, derived, summary)
+    log.info("outputs written to %s", run_dir)
+    return summary
+
+
+def load_run(run_dir):
+    """Saved samples and sampling facts of a finished run (for redraw)."""
+    run_dir = Path(run_dir)
+    h5 = run_dir / "samples.h5"
+    if not h5.exists():
+        raise InputError("no samples.h5 in this folder.", file=run_dir, fix="give the folder of a finished run.")
+    try:
+        with h5py.File(h5, "r") as fh:
+            meta = json.loads(fh["planetfit"].attrs["sampling_json"])
+        backend = emcee.backends.HDFBackend(str(h5), name="chain", read_only=True)
+        samples = backend.get_chain(discard=meta["discard"], thin=meta["thin"], flat=True)
+    except (OSError, KeyError) as exc:
+        raise InputError(f"samples.h5 is unreadable or incomplete ({exc}).", file=h5,
+                         fix="rerun the fit with --resume (if it was interrupted) or --force.") from None
+    return meta, samples
+
+
+def redraw(run_dir):
+    """Rebuild every figure and table of a finished run from samples.h5."""
+    run_dir = Path(run_dir).resolve()
+    meta, samples = load_run(run_dir)
+    checked = check(run_dir / "config.resolved.yaml", output=run_dir)
+    _logging_to(run_dir, quiet=True)
+    return finish(run_dir, checked, samples, meta)

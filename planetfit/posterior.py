@@ -1,0 +1,208 @@
+"""Parameter vector layout and the joint log-probability (the hot path).
+
+The sampled vector holds, in order: the star's mass and radius; per planet
+its period, transit (conjunction) time, radius ratio and impact parameter
+(transiting planets only), RV semi-amplitude and, for eccentric orbits,
+sqrt(e) cos w and sqrt(e) sin w; per photometric band Kipping's q1, q2; per
+photometric dataset its flux level and jitter; per spectrograph its offset
+and jitter. Parameters with a fixed value are held out of the vector.
+a/R* follows from Kepler's third law with the sampled masses and period,
+and the inclination from the impact parameter, so the transit shape
+constrains the stellar density and stellar uncertainties propagate.
+"""
+
+import math
+
+import numpy as np
+
+from .models.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
+from .models.keplerian import radial_velocity_ms
+from .models.transit import TransitLightCurve, quadratic_coefficients
+from .units import PPM
+
+_LOG_2PI = math.log(2 * math.pi)
+
+
+class ParameterLayout:
+    """Names and priors of every model parameter, fixed or free.
+
+    Parameters
+    ----------
+    entries : list of (name, Prior)
+    """
+
+    def __init__(self, entries):
+        self.all_names = [n for n, _ in entries]
+        self.priors = dict(entries)
+        self.free = [n for n, p in entries if not p.fixed]
+        self.fixed = {n: p.value for n, p in entries if p.fixed}
+        self._free_priors = [self.priors[n] for n in self.free]
+
+    @property
+    def ndim(self):
+        return len(self.free)
+
+    def values(self, theta):
+        """Dict of every parameter's value (fixed ones filled in); works on arrays too."""
+        out = dict(self.fixed)
+        for i, name in enumerate(self.free):
+            out[name] = theta[..., i] if isinstance(theta, np.ndarray) and theta.ndim > 1 else theta[i]
+        return out
+
+    def log_prior(self, theta):
+        total = 0.0
+        for prior, x in zip(self._free_priors, theta):
+            total += prior.log_density(x)
+        return total
+
+    def sample_prior(self, rng, size):
+        """Draws from the prior, shape (size, ndim)."""
+        return np.column_stack([p.sample(rng, size) for p in self._free_priors])
+
+
+def build_layout(config):
+    """The parameter layout of a config (fixed and free)."""
+    entries = [("star.mass_msun", config.star.mass_msun), ("star.radius_rsun", config.star.radius_rsun)]
+    for p in config.planets:
+        entries += [(f"{p.name}.period_days", p.period_days), (f"{p.name}.transit_bjd", p.transit_bjd)]
+        if p.transits:
+            entries += [(f"{p.name}.radius_ratio", p.radius_ratio), (f"{p.name}.impact", p.impact)]
+        entries.append((f"{p.name}.rv_amplitude_ms", p.rv_amplitude_ms))
+        if p.orbit == "eccentric":
+            entries += [(f"{p.name}.sqrt_e_cos_w", p.sqrt_e_cos_w), (f"{p.name}.sqrt_e_sin_w", p.sqrt_e_sin_w)]
+    bands = {}
+    for d in config.photometry:
+        bands.setdefault(d.band, d)
+    for band, d in bands.items():
+        entries += [(f"{band}.limb_darkening_q1", d.q1), (f"{band}.limb_darkening_q2", d.q2)]
+    for d in config.photometry:
+        entries += [(f"{d.name}.flux_level", d.flux_level), (f"{d.name}.jitter_ppm", d.jitter_ppm)]
+    for d in config.velocities:
+        entries += [(f"{d.name}.offset_ms", d.offset_ms), (f"{d.name}.jitter_ms", d.jitter_ms)]
+    return ParameterLayout(entries)
+
+
+def planet_orbit(values, planet):
+    """Orbit of one planet from parameter values (scalars or arrays).
+
+    Returns
+    -------
+    dict
+        ``e``, ``omega_rad`` and, for transiting planets, ``a_over_rstar``,
+        ``cos_i``, ``mass_kg``.
+    """
+    n = planet.name
+    if planet.orbit == "eccentric":
+        e, w = eccentricity_omega(values[f"{n}.sqrt_e_cos_w"], values[f"{n}.sqrt_e_sin_w"])
+    else:
+        e, w = 0.0, CIRCULAR_OMEGA_RAD
+    out = {"e": e, "omega_rad": w}
+    if planet.transits:
+        a_r, cos_i, mp = solve_orbit(values[f"{n}.period_days"], values[f"{n}.rv_amplitude_ms"],
+                                     values[f"{n}.impact"], e, w,
+                                     values["star.mass_msun"], values["star.radius_rsun"])
+        out.update(a_over_rstar=a_r, cos_i=cos_i, mass_kg=mp)
+    return out
+
+
+def gaussian_log_likelihood(residual, variance):
+    """Sum of independent Gaussian log-densities."""
+    return -0.5 * float(np.sum(residual * residual / variance + np.log(variance)) + residual.size * _LOG_2PI)
+
+
+class JointPosterior:
+    """Log-probability of the joint transit + RV model.
+
+    Parameters
+    ----------
+    config : Config
+    photometry : list of Photometry
+    velocities : list of Velocities
+
+    Notes
+    -----
+    Callable on one parameter vector; returns ``-inf`` outside the prior
+    support or for unphysical orbits (no transit for a transiting planet,
+    periastron inside the star, e above the planet's cap).
+    """
+
+    def __init__(self, config, photometry, velocities):
+        self.config = config
+        self.layout = build_layout(config)
+        self.planets = config.planets
+        self.transiting = [p for p in self.planets if p.transits]
+        self.photometry = photometry
+        self.velocities = velocities
+        self.light_curves = [
+            [TransitLightCurve(d.time, d.exposure_days, d.supersample) for _ in self.transiting] for d in photometry]
+        self._phot_err2 = [d.error**2 for d in photometry]
+        self._rv_err2 = [d.error**2 for d in velocities]
+
+    def __call__(self, theta):
+        lp = self.layout.log_prior(theta)
+        if not math.isfinite(lp):
+            return -math.inf
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            # Unphysical corners (e -> 1, grazing geometry) are rejected below, not warned about.
+            ll = self.log_likelihood(self.layout.values(theta))
+        return lp + ll if math.isfinite(ll) else -math.inf
+
+    def orbits(self, values):
+        """Per planet orbit dict, or None if any orbit is unphysical."""
+        out = {}
+        for p in self.planets:
+            o = planet_orbit(values, p)
+            if o["e"] >= p.eccentricity_max:
+                return None
+            if p.transits:
+                k = values[f"{p.name}.radius_ratio"]
+                if k <= 0 or values[f"{p.name}.impact"] >= 1 + k or not abs(o["cos_i"]) < 1:
+                    return None
+                if o["a_over_rstar"] * (1 - o["e"]) <= 1 + k:
+                    return None
+            out[p.name] = o
+        return out
+
+    def photometry_model(self, values, orbits, i):
+        """Model flux of photometric dataset ``i``."""
+        d = self.photometry[i]
+        u1, u2 = quadratic_coefficients(values[f"{d.band}.limb_darkening_q1"], values[f"{d.band}.limb_darkening_q2"])
+        level = values[f"{d.name}.flux_level"]
+        model = np.full(d.time.size, level)
+        for p, lc in zip(self.transiting, self.light_curves[i]):
+            o = orbits[p.name]
+            n = p.name
+            per, t0, k = values[f"{n}.period_days"], values[f"{n}.transit_bjd"], values[f"{n}.radius_ratio"]
+            sin_i = math.sqrt(1 - o["cos_i"] ** 2)
+            idx = lc.window(per, t0, lc.half_window_days(per, o["a_over_rstar"], k, sin_i, o["e"], o["omega_rad"]))
+            if idx.size:
+                f = lc.flux(idx, per, t0, o["a_over_rstar"], math.acos(o["cos_i"]), o["e"], o["omega_rad"], k, u1, u2)
+                model[idx] -= level * (1 - f)
+        return model
+
+    def velocity_model(self, values, orbits, i, times=None):
+        """Model RV (m/s, without the instrument offset) of spectrograph ``i`` or at ``times``."""
+        t = self.velocities[i].time if times is None else times
+        model = np.zeros(t.size)
+        for p in self.planets:
+            o = orbits[p.name]
+            n = p.name
+            model += radial_velocity_ms(t, values[f"{n}.period_days"], values[f"{n}.transit_bjd"],
+                                        o["e"], o["omega_rad"], values[f"{n}.rv_amplitude_ms"])
+        return model
+
+    def log_likelihood(self, values):
+        """Gaussian log-likelihood of all datasets for one set of parameter values."""
+        orbits = self.orbits(values)
+        if orbits is None:
+            return -math.inf
+        total = 0.0
+        for i, d in enumerate(self.photometry):
+            jit = values[f"{d.name}.jitter_ppm"] * PPM
+            total += gaussian_log_likelihood(d.flux - self.photometry_model(values, orbits, i),
+                                             self._phot_err2[i] + jit * jit)
+        for i, d in enumerate(self.velocities):
+            jit = values[f"{d.name}.jitter_ms"]
+            resid = d.rv - values[f"{d.name}.offset_ms"] - self.velocity_model(values, orbits, i)
+            total += gaussian_log_likelihood(resid, self._rv_err2[i] + jit * jit)
+        return total

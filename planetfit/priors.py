@@ -1,0 +1,225 @@
+"""Prior distributions: log-density, draws from the prior, support.
+
+Each prior is a small class with the same interface, chosen by the config
+spelling (``uniform``, ``normal``, ``loguniform``, ``truncnormal``; a bare
+number is :class:`Fixed`). Construction validates the arguments and raises
+``ValueError`` with a plain sentence; the config stage adds file and key.
+"""
+
+import math
+
+import numpy as np
+from scipy import special, stats
+
+
+class Prior:
+    """Base class: a one-dimensional prior."""
+
+    fixed = False
+
+    def log_density(self, x):
+        """Log prior density at scalar ``x`` (``-inf`` outside the support)."""
+        raise NotImplementedError
+
+    def sample(self, rng, size=None):
+        """Draw from the prior with numpy Generator ``rng``."""
+        raise NotImplementedError
+
+    @property
+    def bounds(self):
+        """(lower, upper) of the support; infinite where unbounded."""
+        return (-math.inf, math.inf)
+
+    def describe(self):
+        """Short text form for tables, e.g. ``U(0, 1)``."""
+        raise NotImplementedError
+
+    def as_config(self):
+        """The config spelling of this prior (round-trips through the loader)."""
+        raise NotImplementedError
+
+
+def _finite(*values):
+    if not all(isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v) for v in values):
+        raise ValueError("all arguments must be finite numbers")
+
+
+class Fixed(Prior):
+    """A parameter held at one value (not sampled)."""
+
+    fixed = True
+
+    def __init__(self, value):
+        _finite(value)
+        self.value = float(value)
+
+    def log_density(self, x):
+        return 0.0 if x == self.value else -math.inf
+
+    def sample(self, rng, size=None):
+        return np.full(size, self.value) if size is not None else self.value
+
+    @property
+    def bounds(self):
+        return (self.value, self.value)
+
+    def describe(self):
+        return f"fixed {self.value:g}"
+
+    def as_config(self):
+        return self.value
+
+
+class Uniform(Prior):
+    """Uniform density on ``[lo, hi]``."""
+
+    def __init__(self, lo, hi):
+        _finite(lo, hi)
+        if not lo < hi:
+            raise ValueError(f"lower bound {lo} must be below upper bound {hi}")
+        self.lo, self.hi = float(lo), float(hi)
+        self._logp = -math.log(self.hi - self.lo)
+
+    def log_density(self, x):
+        return self._logp if self.lo <= x <= self.hi else -math.inf
+
+    def sample(self, rng, size=None):
+        return rng.uniform(self.lo, self.hi, size)
+
+    @property
+    def bounds(self):
+        return (self.lo, self.hi)
+
+    def describe(self):
+        return f"U({self.lo:g}, {self.hi:g})"
+
+    def as_config(self):
+        return {"uniform": [self.lo, self.hi]}
+
+
+class LogUniform(Prior):
+    """Density proportional to ``1/x`` on ``[lo, hi]``, ``0 < lo < hi``."""
+
+    def __init__(self, lo, hi):
+        _finite(lo, hi)
+        if not 0 < lo < hi:
+            raise ValueError(f"needs 0 < lower < upper, got [{lo}, {hi}]")
+        self.lo, self.hi = float(lo), float(hi)
+        self._lognorm = math.log(math.log(self.hi / self.lo))
+
+    def log_density(self, x):
+        return -math.log(x) - self._lognorm if self.lo <= x <= self.hi else -math.inf
+
+    def sample(self, rng, size=None):
+        return np.exp(rng.uniform(math.log(self.lo), math.log(self.hi), size))
+
+    @property
+    def bounds(self):
+        return (self.lo, self.hi)
+
+    def describe(self):
+        return f"logU({self.lo:g}, {self.hi:g})"
+
+    def as_config(self):
+        return {"loguniform": [self.lo, self.hi]}
+
+
+class Normal(Prior):
+    """Gaussian density with mean and standard deviation ``sd > 0``."""
+
+    def __init__(self, mean, sd):
+        _finite(mean, sd)
+        if not sd > 0:
+            raise ValueError(f"standard deviation must be positive, got {sd}")
+        self.mean, self.sd = float(mean), float(sd)
+        self._lognorm = -0.5 * math.log(2 * math.pi) - math.log(self.sd)
+
+    def log_density(self, x):
+        z = (x - self.mean) / self.sd
+        return self._lognorm - 0.5 * z * z
+
+    def sample(self, rng, size=None):
+        return rng.normal(self.mean, self.sd, size)
+
+    def describe(self):
+        return f"N({self.mean:g}, {self.sd:g})"
+
+    def as_config(self):
+        return {"normal": [self.mean, self.sd]}
+
+
+class TruncNormal(Prior):
+    """Gaussian density truncated to ``[lo, hi]``."""
+
+    def __init__(self, mean, sd, lo, hi):
+        _finite(mean, sd, lo, hi)
+        if not sd > 0:
+            raise ValueError(f"standard deviation must be positive, got {sd}")
+        if not lo < hi:
+            raise ValueError(f"lower bound {lo} must be below upper bound {hi}")
+        self.mean, self.sd, self.lo, self.hi = map(float, (mean, sd, lo, hi))
+        self._a, self._b = (self.lo - self.mean) / self.sd, (self.hi - self.mean) / self.sd
+        mass = special.ndtr(self._b) - special.ndtr(self._a)
+        if not mass > 0:
+            raise ValueError("the interval holds no probability of the normal distribution")
+        self._lognorm = -0.5 * math.log(2 * math.pi) - math.log(self.sd) - math.log(mass)
+
+    def log_density(self, x):
+        if not self.lo <= x <= self.hi:
+            return -math.inf
+        z = (x - self.mean) / self.sd
+        return self._lognorm - 0.5 * z * z
+
+    def sample(self, rng, size=None):
+        return stats.truncnorm.rvs(self._a, self._b, loc=self.mean, scale=self.sd,
+                                   size=size, random_state=rng)
+
+    @property
+    def bounds(self):
+        return (self.lo, self.hi)
+
+    def describe(self):
+        return f"N({self.mean:g}, {self.sd:g}) in [{self.lo:g}, {self.hi:g}]"
+
+    def as_config(self):
+        return {"truncnormal": [self.mean, self.sd, self.lo, self.hi]}
+
+
+#: Config spelling -> (class, number of arguments).
+PRIOR_KINDS = {"uniform": (Uniform, 2), "normal": (Normal, 2),
+               "loguniform": (LogUniform, 2), "truncnormal": (TruncNormal, 4)}
+
+
+def make_prior(spec):
+    """Build a prior from its config form.
+
+    Parameters
+    ----------
+    spec : float or dict
+        A bare number (fixed) or a one-key mapping such as
+        ``{"uniform": [lo, hi]}``.
+
+    Returns
+    -------
+    Prior
+
+    Raises
+    ------
+    ValueError
+        With a sentence saying what is wrong and the accepted forms.
+    """
+    forms = "a number (fixed) or one of " + ", ".join(
+        f"{{{k}: [{n} numbers]}}" for k, (_, n) in PRIOR_KINDS.items())
+    if isinstance(spec, bool):
+        raise ValueError(f"expected {forms}, got {spec!r}")
+    if isinstance(spec, (int, float)):
+        return Fixed(spec)
+    if not isinstance(spec, dict) or len(spec) != 1:
+        raise ValueError(f"expected {forms}, got {spec!r}")
+    (kind, args), = spec.items()
+    if kind not in PRIOR_KINDS:
+        raise ValueError(f"unknown prior '{kind}'; expected {forms}")
+    cls, nargs = PRIOR_KINDS[kind]
+    if not isinstance(args, (list, tuple)) or len(args) != nargs:
+        raise ValueError(f"'{kind}' takes a list of {nargs} numbers, got {args!r}")
+    return cls(*args)

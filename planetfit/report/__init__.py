@@ -1,0 +1,1 @@
+"""Run outputs: summary.json, summary.md, posterior.csv, tables and figures."""

@@ -1,0 +1,85 @@
+"""summary.json and posterior.csv: the numbers of a run, for scripts.
+
+Key names follow DESIGN.md's contract; STAT is
+``{"median", "lower", "upper"}`` with percentile values (15.87, 50, 84.13).
+"""
+
+import io
+import json
+
+import numpy as np
+
+from ..stats import stat
+from .files import write_text_atomic
+
+STAR_KEYS = ("mass_msun", "radius_rsun", "density_gcc", "teff_k", "age_gyr")
+PLANET_KEYS = ("period_days", "transit_bjd", "radius_ratio", "impact", "inclination_deg", "a_over_rstar",
+               "semi_major_axis_au", "eccentricity", "omega_deg", "rv_amplitude_ms", "mass_earth", "mass_jup",
+               "radius_earth", "radius_jup", "density_gcc", "surface_gravity_ms2", "transit_duration_hr",
+               "equilibrium_temp_k", "insolation_earth")
+
+
+def build_summary(config, derived, blocks, sampling):
+    """The summary.json content.
+
+    Parameters
+    ----------
+    config : Config
+    derived : dict
+        Output of :func:`planetfit.physics.derive` after context.
+    blocks : dict
+        Output of :func:`planetfit.context.add_context`.
+    sampling : dict
+        ``SamplingResult.summary()`` plus run facts.
+    """
+    star = {k: stat(derived["star"][k]) for k in STAR_KEYS if k in derived["star"]}
+    planets = {}
+    for p in config.planets:
+        q = derived["planets"][p.name]
+        entry = {k: stat(q[k]) for k in PLANET_KEYS if k in q}
+        entry["transits"] = p.transits
+        entry["orbit"] = p.orbit
+        if not p.transits:
+            entry["mass_is_minimum"] = True
+            entry["note"] = "not transiting: mass_earth and mass_jup are minimum masses (M sin i)"
+        entry.update(blocks[p.name])
+        planets[p.name] = entry
+    fitted = {name: stat(derived["parameters"][name]) for name in derived["parameter_names"]}
+    return {"system": config.system, "star": star, "planets": planets, "fitted_parameters": fitted,
+            "sampling": sampling}
+
+
+def _clean_json(obj):
+    if isinstance(obj, dict):
+        return {k: _clean_json(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_clean_json(v) for v in obj]
+    if isinstance(obj, (np.floating, float)):
+        return float(obj) if np.isfinite(obj) else None
+    if isinstance(obj, np.integer):
+        return int(obj)
+    if isinstance(obj, np.bool_):
+        return bool(obj)
+    return obj
+
+
+def write_summary_json(path, summary):
+    """Write summary.json (NaN and inf become null)."""
+    write_text_atomic(path, json.dumps(_clean_json(summary), indent=2) + "\n")
+
+
+def posterior_columns(derived):
+    """Column name -> per-sample array for posterior.csv (star_*, <planet>_*)."""
+    cols = {f"star_{k}": v for k, v in derived["star"].items()}
+    for name, q in derived["planets"].items():
+        cols.update({f"{name}_{k}": v for k, v in q.items()})
+    return cols
+
+
+def write_posterior_csv(path, derived):
+    """Write posterior.csv: physical quantities, one row per sample."""
+    cols = posterior_columns(derived)
+    buf = io.StringIO()
+    buf.write(",".join(cols) + "\n")
+    np.savetxt(buf, np.column_stack(list(cols.values())), delimiter=",", fmt="%.10g")
+    write_text_atomic(path, buf.getvalue())

@@ -1,0 +1,284 @@
+"""From a log-probability to posterior samples: optimise, then emcee.
+
+1. Maximum a posteriori: Powell's method (bounded by the prior support)
+   from the prior's centre and from draws from the prior; the best wins.
+2. Walkers start from the Laplace approximation around that optimum
+   (covariance from a finite-difference Hessian), so burn-in is short.
+3. emcee's ensemble sampler (Foreman-Mackey et al. 2013, PASP 125, 306)
+   with differential-evolution moves (ter Braak 2006; ter Braak & Vrugt
+   2008), every step written to an HDF5 file that can be resumed.
+4. Stop when the chain is longer than ``autocorr_factor`` integrated
+   autocorrelation times and the estimate changed by less than
+   ``autocorr_tolerance`` since the last check, or at ``max_steps``
+   (Goodman & Weare 2010; emcee's documented practice). Burn-in of two
+   autocorrelation times is discarded and the chain thinned by half the
+   shortest one.
+"""
+
+import dataclasses
+import logging
+import math
+import time
+
+import emcee
+import numpy as np
+from scipy import optimize
+
+log = logging.getLogger("planetfit")
+
+BAD_LOG_PROB = 1e25  # what the minimiser sees instead of -inf
+
+
+@dataclasses.dataclass
+class SamplingResult:
+    """Flat posterior samples and an honest account of how they were obtained."""
+
+    samples: np.ndarray        # (n, ndim), burn-in discarded and thinned
+    log_prob: np.ndarray       # (n,)
+    walkers: int
+    steps: int
+    autocorr_steps: float      # largest integrated autocorrelation time
+    independent_samples: int
+    acceptance_fraction: float
+    converged: bool
+    seconds: float
+    discard: int
+    thin: int
+    autocorr_history: list     # [(step, max tau)]
+
+    def summary(self):
+        """The ``sampling`` block of summary.json."""
+        return {"walkers": self.walkers, "steps": self.steps, "autocorr_steps": round(self.autocorr_steps, 2),
+                "independent_samples": self.independent_samples,
+                "acceptance_fraction": round(self.acceptance_fraction, 4),
+                "converged": bool(self.converged), "seconds": round(self.seconds, 1)}
+
+
+def prior_centre(prior):
+    """A central value of a prior: its median."""
+    lo, hi = prior.bounds
+    if math.isfinite(lo) and math.isfinite(hi):
+        if prior.__class__.__name__ == "LogUniform":
+            return math.sqrt(lo * hi)
+        if hasattr(prior, "mean") and lo <= prior.mean <= hi:
+            return prior.mean
+        return 0.5 * (lo + hi)
+    return prior.mean
+
+
+def prior_scale(prior):
+    """A natural scale of a prior: its width if bounded, else four standard deviations."""
+    lo, hi = prior.bounds
+    return hi - lo if math.isfinite(lo) and math.isfinite(hi) else 4 * prior.sd
+
+
+def find_map(log_prob, layout, rng, starts):
+    """Maximum a posteriori by Powell's method from several starts.
+
+    The search runs in coordinates scaled by each prior's width, so one
+    tolerance suits periods known to 1e-5 d and offsets known to 1 m/s.
+
+    Returns
+    -------
+    (theta, log_prob_value)
+    """
+    priors = [layout.priors[n] for n in layout.free]
+    centre = np.array([prior_centre(p) for p in priors])
+    scale = np.array([prior_scale(p) for p in priors])
+    bounds = [tuple(None if not math.isfinite(b) else (b - c) / s for b in p.bounds)
+              for p, c, s in zip(priors, centre, scale)]
+    candidates = [centre] + [x for x in layout.sample_prior(rng, 20 * starts)
+                             if math.isfinite(log_prob(x))][: starts - 1]
+
+    def objective(z):
+        v = log_prob(centre + z * scale)
+        return -v if math.isfinite(v) else BAD_LOG_PROB
+
+    best, best_val = None, -math.inf
+    for n, x0 in enumerate(candidates, 1):
+        if not math.isfinite(log_prob(x0)):
+            continue
+        res = optimize.minimize(objective, (x0 - centre) / scale, method="Powell", bounds=bounds,
+                                options={"xtol": 1e-7, "ftol": 1e-10, "maxfev": 3000 * len(x0)})
+        val = -res.fun
+        log.info("optimiser start %d of %d: log-probability %.3f after %d evaluations", n, len(candidates),
+                 val, res.nfev)
+        if val > best_val:
+            best, best_val = centre + res.x * scale, val
+    if best is None:
+        raise RuntimeError("no start drawn from the prior has a finite probability")
+    return best, best_val
+
+
+def _hessian(log_prob, theta, h):
+    """Central-difference Hessian of -log_prob with steps ``h``."""
+    n = theta.size
+    f0 = log_prob(theta)
+
+    def f(i, di, j, dj):
+        x = theta.copy()
+        x[i] += di * h[i]
+        x[j] += dj * h[j]
+        return log_prob(x)
+
+    hess = np.zeros((n, n))
+    for i in range(n):
+        hess[i, i] = -(f(i, 1, i, 0) - 2 * f0 + f(i, -1, i, 0)) / h[i] ** 2
+        for j in range(i + 1, n):
+            hess[i, j] = hess[j, i] = -(f(i, 1, j, 1) - f(i, 1, j, -1) - f(i, -1, j, 1)
+                                         + f(i, -1, j, -1)) / (4 * h[i] * h[j])
+    return hess
+
+
+def laplace_covariance(log_prob, theta, widths):
+    """Covariance of the Laplace approximation around the optimum ``theta``.
+
+    Inverse of a central-difference Hessian of -log_prob, with each step
+    a tenth of that parameter's curvature scale (from a first pass at 1e-4
+    of the prior width). Parameters whose stencil leaves the prior support
+    (an optimum on a bound) or whose curvature is not positive get no
+    correlations and a standard deviation of 1e-3 of the prior width;
+    negative eigenvalues are raised so the result is positive definite.
+    """
+    h = 1e-4 * widths
+    curvature = np.diag(_hessian_diagonal(log_prob, theta, h))
+    ok = np.isfinite(curvature) & (curvature > 0)
+    h = np.where(ok, 0.1 / np.sqrt(np.where(ok, curvature, 1.0)), h)
+    hess = _hessian(log_prob, theta, h)
+    floor = (1e-3 * widths) ** -2
+    bad = ~np.isfinite(np.diag(hess)) | (np.diag(hess) <= 0)
+    hess[~np.isfinite(hess)] = 0.0
+    hess[bad, :] = 0.0
+    hess[:, bad] = 0.0
+    hess[bad, bad] = floor[bad]
+    # Work in units of each parameter's own curvature scale: a correlation matrix.
+    d = np.sqrt(np.diag(hess))
+    corr = hess / np.outer(d, d)
+    vals, vecs = np.linalg.eigh(corr)
+    vals = np.clip(vals, 1e-3, None)
+    return ((vecs / vals) @ vecs.T) / np.outer(d, d)
+
+
+def _hessian_diagonal(log_prob, theta, h):
+    """Diagonal of the Hessian of -log_prob (as a diagonal matrix)."""
+    f0 = log_prob(theta)
+    out = np.zeros(theta.size)
+    for i in range(theta.size):
+        up, down = theta.copy(), theta.copy()
+        up[i] += h[i]
+        down[i] -= h[i]
+        out[i] = -(log_prob(up) - 2 * f0 + log_prob(down)) / h[i] ** 2
+    return np.diag(out)
+
+
+def initial_walkers(log_prob, layout, theta, nwalkers, rng):
+    """Walker positions drawn around ``theta``, each with finite probability."""
+    priors = [layout.priors[n] for n in layout.free]
+    cov = laplace_covariance(log_prob, theta, np.array([prior_scale(p) for p in priors]))
+    lo = np.array([p.bounds[0] for p in priors])
+    hi = np.array([p.bounds[1] for p in priors])
+    out = []
+    for scale in (1.0, 0.1, 0.01):
+        draws = rng.multivariate_normal(theta, cov * scale, size=20 * nwalkers)
+        # Fold draws that leave a bound back inside it (an optimum on a bound is common for jitters).
+        draws = np.where(draws < lo, 2 * lo - draws, draws)
+        draws = np.where(draws > hi, 2 * hi - draws, draws)
+        for x in draws:
+            if math.isfinite(log_prob(x)):
+                out.append(x)
+                if len(out) == nwalkers:
+                    return np.array(out)
+    raise RuntimeError("could not place walkers with finite probability around the optimum")
+
+
+def autocorr_estimate(backend):
+    """Integrated autocorrelation time per parameter (tolerance off; noisy on short chains)."""
+    return backend.get_autocorr_time(tol=0)
+
+
+def run_sampler(log_prob, layout, settings, h5_path, rng, pool=None, progress=True, resume=False):
+    """Run emcee until converged or ``settings.max_steps``.
+
+    Parameters
+    ----------
+    log_prob : callable
+    layout : ParameterLayout
+    settings : SamplingConfig
+    h5_path : Path
+        The chain file; written every step, continued when ``resume``.
+    rng : numpy.random.Generator
+    pool : optional
+        A pool with ``map`` for parallel walkers.
+    progress : bool
+        Show a tqdm progress bar.
+    resume : bool
+        Continue the chain in ``h5_path`` instead of starting anew.
+
+    Returns
+    -------
+    SamplingResult
+    """
+    ndim, nwalkers = layout.ndim, settings.walkers
+    if nwalkers < 2 * ndim:
+        nwalkers = 2 * ndim + (2 * ndim) % 2
+        log.warning("walkers raised to %d: emcee needs at least twice the number of free parameters (%d)",
+                    nwalkers, ndim)
+    backend = emcee.backends.HDFBackend(str(h5_path), name="chain")
+    start = time.perf_counter()
+    if resume and backend.iteration > 0:
+        initial = None
+        log.info("resuming from step %d in %s", backend.iteration, h5_path)
+        nwalkers = backend.shape[0]
+    else:
+        backend.reset(nwalkers, ndim)
+        theta, best = find_map(log_prob, layout, rng, settings.optimiser_starts)
+        log.info("maximum a posteriori log-probability %.3f", best)
+        initial = initial_walkers(log_prob, layout, theta, nwalkers, rng)
+    sampler = emcee.EnsembleSampler(nwalkers, ndim, log_prob, pool=pool, backend=backend,
+                                    moves=[(emcee.moves.DEMove(), 0.8), (emcee.moves.DESnookerMove(), 0.2)])
+    sampler.random_state = np.random.RandomState(int(rng.integers(2**31))).get_state()
+    history, converged, old_tau = [], False, np.inf
+    bar = None
+    if progress:
+        from tqdm import tqdm
+        bar = tqdm(total=settings.max_steps, initial=backend.iteration, unit="step", desc="sampling",
+                   dynamic_ncols=True)
+    remaining = settings.max_steps - backend.iteration
+    for _ in sampler.sample(initial, iterations=max(remaining, 0), progress=False, store=True):
+        it = sampler.iteration
+        if bar is not None:
+            bar.update(1)
+        if it % settings.check_every:
+            continue
+        tau = autocorr_estimate(backend)
+        tmax = float(np.max(tau))
+        history.append((it, tmax))
+        acc = float(np.mean(backend.accepted / backend.iteration))
+        converged = bool(np.all(tau * settings.autocorr_factor < it)
+                         and np.all(np.abs(old_tau - tau) / tau < settings.autocorr_tolerance))
+        log.info("step %d: autocorrelation %.1f steps (need < %.0f), acceptance %.3f",
+                 it, tmax, it / settings.autocorr_factor, acc)
+        if bar is not None:
+            bar.set_postfix_str(f"tau {tmax:.0f} (limit {it / settings.autocorr_factor:.0f}), accept {acc:.2f}")
+        if converged:
+            break
+        old_tau = tau
+    if bar is not None:
+        bar.close()
+    tau = autocorr_estimate(backend)
+    steps = backend.iteration
+    discard = min(int(2 * np.max(tau)), steps // 2)
+    thin = max(1, int(0.5 * np.min(tau)))
+    samples = backend.get_chain(discard=discard, thin=thin, flat=True)
+    lp = backend.get_log_prob(discard=discard, thin=thin, flat=True)
+    tmax = float(np.max(tau))
+    n_indep = int((steps - discard) * nwalkers / tmax) if tmax > 0 else 0
+    if not converged:
+        log.warning("NOT CONVERGED: %d steps reach %.1f autocorrelation times (target %.0f); "
+                    "treat the uncertainties with caution and raise sampling.max_steps.",
+                    steps, steps / tmax, settings.autocorr_factor)
+    return SamplingResult(samples=samples, log_prob=lp, walkers=nwalkers, steps=steps, autocorr_steps=tmax,
+                          independent_samples=n_indep,
+                          acceptance_fraction=float(np.mean(backend.accepted / max(steps, 1))),
+                          converged=converged, seconds=time.perf_counter() - start, discard=discard, thin=thin,
+                          autocorr_history=history)
