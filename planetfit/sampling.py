@@ -48,8 +48,9 @@ class SamplingResult:
 
     def summary(self):
         """The ``sampling`` block of summary.json."""
-        return {"walkers": self.walkers, "steps": self.steps, "autocorr_steps": round(self.autocorr_steps, 2),
-                "independent_samples": self.independent_samples,
+        return {"walkers": int(self.walkers), "steps": int(self.steps),
+                "autocorr_steps": round(float(self.autocorr_steps), 2),
+                "independent_samples": int(self.independent_samples),
                 "acceptance_fraction": round(self.acceptance_fraction, 4),
                 "converged": bool(self.converged), "seconds": round(self.seconds, 1)}
 
@@ -99,7 +100,7 @@ def find_map(log_prob, layout, rng, starts):
         if not math.isfinite(log_prob(x0)):
             continue
         res = optimize.minimize(objective, (x0 - centre) / scale, method="Powell", bounds=bounds,
-                                options={"xtol": 1e-7, "ftol": 1e-10, "maxfev": 3000 * len(x0)})
+                                options={"xtol": 1e-7, "ftol": 1e-10, "maxfev": 500 * len(x0)})
         val = -res.fun
         log.info("optimiser start %d of %d: log-probability %.3f after %d evaluations", n, len(candidates),
                  val, res.nfev)
@@ -174,7 +175,8 @@ def _hessian_diagonal(log_prob, theta, h):
 def initial_walkers(log_prob, layout, theta, nwalkers, rng):
     """Walker positions drawn around ``theta``, each with finite probability."""
     priors = [layout.priors[n] for n in layout.free]
-    cov = laplace_covariance(log_prob, theta, np.array([prior_scale(p) for p in priors]))
+    with np.errstate(invalid="ignore", over="ignore"):  # stencils that leave the support are handled
+        cov = laplace_covariance(log_prob, theta, np.array([prior_scale(p) for p in priors]))
     lo = np.array([p.bounds[0] for p in priors])
     hi = np.array([p.bounds[1] for p in priors])
     out = []
@@ -267,8 +269,8 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, pool=None, progress=Tr
         bar.close()
     tau = autocorr_estimate(backend)
     steps = backend.iteration
-    discard = min(int(2 * np.max(tau)), steps // 2)
-    thin = max(1, int(0.5 * np.min(tau)))
+    discard = int(min(2 * np.max(tau), steps // 2))
+    thin = int(max(1, 0.5 * np.min(tau)))
     samples = backend.get_chain(discard=discard, thin=thin, flat=True)
     lp = backend.get_log_prob(discard=discard, thin=thin, flat=True)
     tmax = float(np.max(tau))
