@@ -6,6 +6,8 @@ the fix), 1 internal failure, 130 interrupted (resumable).
 
 import argparse
 import json
+import os
+import signal
 import sys
 import traceback
 from pathlib import Path
@@ -136,8 +138,27 @@ def _cmd_climate(args):
         print(f"  note: {c}")
 
 
+def _resume_hint(args):
+    """The command that continues an interrupted run."""
+    if getattr(args, "command", None) not in ("run", "demo"):
+        return "run the command again."
+    out = f" --out {args.out}" if args.out else ""
+    target = f"run {args.config}" if args.command == "run" else "demo"
+    return f"the chain is saved in samples.h5 up to the last step; continue with 'planetfit {target} --resume{out}'."
+
+
+def _terminate_like_interrupt(signum, frame, main_pid=os.getpid()):
+    """SIGTERM handler: stop the main process as Ctrl-C does; worker processes just end."""
+    if os.getpid() != main_pid:
+        signal.signal(signum, signal.SIG_DFL)
+        os.kill(os.getpid(), signum)
+    raise KeyboardInterrupt
+
+
 def main(argv=None):
     """Entry point of the ``planetfit`` console script."""
+    args = None
+    previous = signal.signal(signal.SIGTERM, _terminate_like_interrupt)
     try:
         args = build_parser().parse_args(argv)
         if args.command == "run":
@@ -161,8 +182,7 @@ def main(argv=None):
         print(f"planetfit: {exc.message()}", file=sys.stderr)
         return EXIT_INPUT
     except KeyboardInterrupt:
-        print("\nplanetfit: interrupted. The chain is saved in samples.h5 up to the last step; "
-              "continue with 'planetfit run CONFIG --resume' (same --out).", file=sys.stderr)
+        print(f"\nplanetfit: interrupted; {_resume_hint(args)}", file=sys.stderr)
         return EXIT_INTERRUPTED
     except SystemExit as exc:
         return exc.code if isinstance(exc.code, int) else EXIT_OK
@@ -170,6 +190,8 @@ def main(argv=None):
         traceback.print_exc()
         print("planetfit: internal error (above); please report it with the config.", file=sys.stderr)
         return EXIT_INTERNAL
+    finally:
+        signal.signal(signal.SIGTERM, previous)
     return EXIT_OK
 
 

@@ -8,6 +8,7 @@ and what was expected. Paths are resolved relative to the config file.
 import dataclasses
 import difflib
 import math
+import reprlib
 from pathlib import Path
 
 import yaml
@@ -17,6 +18,12 @@ from .priors import Fixed, Normal, Uniform, make_prior
 
 ORBITS = ("circular", "eccentric")
 LIMB_DARKENING_LAWS = ("quadratic",)
+#: Most values a config may expand to; nested YAML aliases ("billion laughs") can reach billions.
+MAX_YAML_NODES = 100_000
+#: Short reprs of user values in messages, whatever their size.
+_SHORT = reprlib.Repr()
+_SHORT.maxlevel, _SHORT.maxlist, _SHORT.maxdict, _SHORT.maxstring = 2, 4, 4, 40
+_show = _SHORT.repr
 
 
 @dataclasses.dataclass
@@ -99,12 +106,30 @@ class Config:
 # ----------------------------------------------------------------- reading
 
 
+def _count_nodes(node, memo):
+    """Number of values ``node`` expands to, each alias counted in full (memoised per node)."""
+    if id(node) not in memo:
+        memo[id(node)] = 0  # a self-referencing alias counts once
+        children = node.value if isinstance(node, yaml.SequenceNode) else (
+            [n for pair in node.value for n in pair] if isinstance(node, yaml.MappingNode) else [])
+        memo[id(node)] = 1 + sum(_count_nodes(c, memo) for c in children)
+    return memo[id(node)]
+
+
 def _key_lines(node, prefix=""):
-    """Map dotted key paths to 1-based line numbers from a composed YAML node."""
+    """Map dotted key paths to 1-based line numbers from a composed YAML node.
+
+    Raises ValueError(key, line) for a key given twice in one mapping (YAML
+    would silently keep the last).
+    """
     lines = {}
     if isinstance(node, yaml.MappingNode):
+        seen = set()
         for knode, vnode in node.value:
             key = f"{prefix}.{knode.value}" if prefix else str(knode.value)
+            if knode.value in seen:
+                raise ValueError(key, knode.start_mark.line + 1)
+            seen.add(knode.value)
             lines[key] = knode.start_mark.line + 1
             lines.update(_key_lines(vnode, key))
     elif isinstance(node, yaml.SequenceNode):
@@ -128,17 +153,34 @@ def read_yaml(path):
                          fix="give a readable UTF-8 YAML file.") from None
     try:
         node = yaml.compose(text, Loader=yaml.SafeLoader)
+        if node is not None and _count_nodes(node, {}) > MAX_YAML_NODES:
+            raise InputError(f"the file expands to more than {MAX_YAML_NODES} values (nested aliases '*name').",
+                             file=path, line=1, fix="write the config without nested anchors and aliases.")
         data = yaml.load(text, Loader=yaml.SafeLoader)
+    except yaml.constructor.ConstructorError as exc:
+        mark = exc.problem_mark
+        raise InputError(f"a YAML tag is not accepted here ({exc.problem}); tags that build Python objects "
+                         "are never executed.", file=path,
+                         line=mark.line + 1 if mark else None, fix="remove the '!!' tag and write a plain value.") from None
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         problem = getattr(exc, "problem", None) or str(exc)
         raise InputError(f"the file is not valid YAML ({problem}).", file=path,
                          line=mark.line + 1 if mark else None,
                          fix="check indentation and that every 'key: value' pair has a space after the colon.") from None
+    except RecursionError:
+        raise InputError("the file nests too deeply.", file=path, line=1,
+                         fix="write the config as a few levels of 'key: value' blocks.") from None
     if not isinstance(data, dict):
         raise InputError("the config must be a YAML mapping of keys such as 'star', 'planets', 'photometry'.",
-                         file=path, fix="start from the demo config ('planetfit demo' writes one).")
-    return data, _key_lines(node)
+                         file=path, line=1, fix="start from the demo config ('planetfit demo' writes one).")
+    try:
+        lines = _key_lines(node)
+    except ValueError as exc:
+        key, line = exc.args
+        raise InputError("this key is given twice in the same block; YAML would silently keep only the last.",
+                         file=path, key=key, line=line, fix="delete one of the two.") from None
+    return data, lines
 
 
 # ----------------------------------------------------------------- checking
@@ -150,7 +192,7 @@ class _Section:
     def __init__(self, ctx, data, key):
         self.ctx, self.key = ctx, key
         if not isinstance(data, dict):
-            self.ctx.fail(key, f"expected a mapping of keys, got {type(data).__name__} {data!r}.",
+            self.ctx.fail(key, f"expected a mapping of keys, got {type(data).__name__} {_show(data)}.",
                           "indent the keys of this block under it.")
         self.data = data
         self.used = set()
@@ -165,6 +207,10 @@ class _Section:
         self.used.add(name)
         if name not in self.data or self.data[name] is None:
             if required:
+                close = difflib.get_close_matches(name, [str(k) for k in self.data if k != name], n=1)
+                if close:
+                    self.ctx.fail(self._k(close[0]), f"unknown key, and the required key '{name}' is missing.",
+                                  f"did you mean '{name}'?")
                 self.ctx.fail(self.key or name, f"the required key '{name}' is missing.",
                               f"add '{name}:' to this block (see README, config reference).")
             return default
@@ -181,7 +227,7 @@ class _Section:
             self.ctx.fail(self._k(name), f"must be positive, got {value}.", "give a value above zero.")
         if not ok:
             kind = "an integer" if integer else "a finite number"
-            self.ctx.fail(self._k(name), f"expected {kind}, got {value!r}.", f"write '{name}: <number>'.")
+            self.ctx.fail(self._k(name), f"expected {kind}, got {_show(value)}.", f"write '{name}: <number>'.")
         return int(value) if integer else float(value)
 
     def text(self, name, required=False, default=None, choices=None):
@@ -189,7 +235,7 @@ class _Section:
         if value is None:
             return None
         if not isinstance(value, str):
-            self.ctx.fail(self._k(name), f"expected text, got {value!r}.", f"write '{name}: <text>'.")
+            self.ctx.fail(self._k(name), f"expected text, got {_show(value)}.", f"write '{name}: <text>'.")
         if choices and value not in choices:
             self.ctx.fail(self._k(name), f"'{value}' is not one of {', '.join(choices)}.",
                           f"use one of: {', '.join(choices)}.")
@@ -198,7 +244,7 @@ class _Section:
     def flag(self, name, default):
         value = self.take(name, default=default)
         if not isinstance(value, bool):
-            self.ctx.fail(self._k(name), f"expected true or false, got {value!r}.", f"write '{name}: true' or 'false'.")
+            self.ctx.fail(self._k(name), f"expected true or false, got {_show(value)}.", f"write '{name}: true' or 'false'.")
         return value
 
     def prior(self, name, required=False, default=None):
@@ -230,7 +276,11 @@ class _Context:
         self.path, self.lines = path, lines
 
     def fail(self, key, problem, fix):
-        raise InputError(problem, file=self.path, key=key, line=self.lines.get(key), fix=fix)
+        """Raise an InputError at ``key``'s line (or its nearest enclosing block's, if the key is absent)."""
+        parent = key
+        while parent and parent not in self.lines:
+            parent = parent.rpartition(".")[0]
+        raise InputError(problem, file=self.path, key=key, line=self.lines.get(parent), fix=fix)
 
 
 def _check_star(ctx, data):
@@ -283,6 +333,10 @@ def _check_planet(ctx, name, data):
         if b_lo >= 1 + min(k_hi, 1.0):
             ctx.fail(f"{key}.impact", f"the whole prior lies beyond 1 + radius ratio ({1 + k_hi:g}): no transit is possible.",
                      "use e.g. '{uniform: [0, 1]}'.")
+        if b_hi > 1 + min(k_hi, 1.0):
+            ctx.fail(f"{key}.impact", f"the prior reaches {b_hi:g}, beyond 1 + the largest radius ratio ({1 + k_hi:g}), "
+                     "where the planet would not transit.",
+                     f"cap the upper bound at {1 + min(k_hi, 1.0):g} or below, e.g. '{{uniform: [0, 1]}}'.")
     else:
         for extra in ("radius_ratio", "impact"):
             if s.has(extra):
@@ -295,6 +349,11 @@ def _check_planet(ctx, name, data):
                      "use e.g. 0.9; bound orbits need e < 1.")
         planet.sqrt_e_cos_w = s.prior("sqrt_e_cos_w", default=Uniform(-1, 1))
         planet.sqrt_e_sin_w = s.prior("sqrt_e_sin_w", default=Uniform(-1, 1))
+        for name in ("sqrt_e_cos_w", "sqrt_e_sin_w"):
+            lo, hi = getattr(planet, name).bounds
+            if lo < -1 or hi > 1:
+                ctx.fail(f"{key}.{name}", "the prior reaches beyond [-1, 1], that is e > 1 (an unbound orbit).",
+                         "keep it inside [-1, 1], e.g. '{uniform: [-1, 1]}' (eccentricity_max caps e further).")
     else:
         for extra in ("sqrt_e_cos_w", "sqrt_e_sin_w", "eccentricity_max"):
             if s.has(extra):

@@ -131,17 +131,17 @@ def _clean(path, table, name):
                              fix="remove those rows or replace them by NaN to have them dropped.")
     bad = np.flatnonzero(t["error"] <= 0)
     if bad.size:
-        raise InputError(f"{bad.size} rows have zero or negative uncertainties (first at time {t['time'][bad[0]]!r}).",
+        raise InputError(f"{bad.size} rows have zero or negative uncertainties (first at time {t['time'][bad[0]]:.6f}).",
                          file=path, key="columns.error",
                          fix="give positive 1-sigma uncertainties, or remove those rows.")
     dt = np.diff(t["time"])
     if np.any(dt == 0):
         i = np.flatnonzero(dt == 0)[0]
-        raise InputError(f"time {t['time'][i]!r} appears more than once.", file=path, key="columns.time",
+        raise InputError(f"time {t['time'][i]:.6f} appears more than once.", file=path, key="columns.time",
                          fix="remove duplicated rows, or average them into one.")
     if np.any(dt < 0):
         i = np.flatnonzero(dt < 0)[0]
-        raise InputError(f"times are not in increasing order (at {t['time'][i + 1]!r} after {t['time'][i]!r}).",
+        raise InputError(f"times are not in increasing order (at {t['time'][i + 1]:.6f} after {t['time'][i]:.6f}).",
                          file=path, key="columns.time", fix="sort the file by time.")
     return t, dropped
 

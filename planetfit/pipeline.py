@@ -23,7 +23,7 @@ from . import climate, context, physics
 from .config import load_config
 from .data import load_all
 from .errors import InputError
-from .posterior import JointPosterior
+from .posterior import JointPosterior, build_layout
 from .report import outputs
 from .report import summary as summary_out
 from .report.files import write_text_atomic
@@ -48,6 +48,9 @@ class Checked:
 def check(config_path, output=None):
     """Validate the config, read and check every dataset, fit nothing."""
     config = load_config(config_path, output=output)
+    if raw is not None and not isinstance(raw, dict):
+        raise InputError("the climate block must be a mapping of settings.", file=config.path, key="climate",
+                         line=config.lines.get("climate"), fix="write e.g. 'climate: {albedo: 0.3, tau: 0.94}'.")
     phot, rvs = load_all(config)
     raw = config.raw.get("climate")
     try:
@@ -57,10 +60,14 @@ def check(config_path, output=None):
         raise InputError(f"invalid climate setting: {exc}.", file=config.path,
                          key=f"climate.{key}", line=config.lines.get(f"climate.{key}") or config.lines.get("climate"),
                          fix="see README, climate block, for the accepted keys and values.") from None
-    names = {p.name for p in config.planets} & {d.name for d in config.photometry + config.velocities}
-    if names:
-        raise InputError(f"'{sorted(names)[0]}' names both a planet and a dataset.", file=config.path,
-                         key="planets", fix="rename the dataset (e.g. 'camera-1').")
+    planets = {p.name for p in config.planets}
+    sections = [(f"photometry[{i}]", d) for i, d in enumerate(config.photometry)]
+    sections += [(f"velocities[{i}]", d) for i, d in enumerate(config.velocities)]
+    for section, d in sections:
+        if d.name in planets:
+            raise InputError(f"'{d.name}' names both a planet and a dataset.", file=config.path,
+                             key=f"{section}.name", line=config.lines.get(f"{section}.name"),
+                             fix="rename the dataset (e.g. 'camera-1').")
     return Checked(config, phot, rvs, settings)
 
 
@@ -91,6 +98,9 @@ def _logging_to(run_dir, quiet):
     sh.setFormatter(logging.Formatter("%(message)s"))
     log.addHandler(sh)
 
+    if run_dir.exists() and not run_dir.is_dir():
+        raise InputError("the run directory path exists and is not a folder.", file=run_dir,
+                         fix="choose another folder with --out (or the config's 'output'), or move the file away.")
 
 def _prepare_run_dir(run_dir, resume, force):
     if run_dir.exists() and any(run_dir.iterdir()):
@@ -109,7 +119,45 @@ def _prepare_run_dir(run_dir, resume, force):
     elif resume:
         raise InputError("the run directory does not exist, so there is nothing to resume.", file=run_dir,
                          fix="run without --resume to start a new fit.")
-    run_dir.mkdir(parents=True, exist_ok=True)
+    try:
+        run_dir.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(f"cannot create the run directory ({exc.strerror}).", file=run_dir,
+                         fix="choose a writable folder with --out (or the config's 'output').") from None
+
+
+def check_resumable(h5_path, ndim, walkers):
+    """Check that ``samples.h5`` holds a chain this config can continue.
+
+    Parameters
+    ----------
+    h5_path : Path
+    ndim : int
+        Free parameters of the config.
+    walkers : int
+        Walkers the config asks for (raised to ``2 ndim`` as the sampler does).
+
+    Raises
+    ------
+    InputError
+        If the file is unreadable or its chain has other walkers or dimension.
+    """
+    fix = ("move samples.h5 away (it is never overwritten silently) and run again, or use --force "
+           "to start a new fit in this folder.")
+    try:
+        with h5py.File(h5_path, "r") as fh:
+            chain = fh["chain"]
+            steps = int(chain.attrs["iteration"])
+            shape = (int(chain.attrs["nwalkers"]), int(chain.attrs["ndim"]))
+    except (OSError, KeyError, ValueError) as exc:
+        raise InputError(f"samples.h5 is truncated or not a planetfit chain ({exc}).", file=h5_path, fix=fix) from None
+    expected = (max(walkers, 2 * ndim), ndim)
+    if steps > 0 and shape != expected:
+        raise InputError(f"the saved chain has {shape[0]} walkers x {shape[1]} parameters, but this config "
+                         f"needs {expected[0]} x {expected[1]}.", file=h5_path,
+                         fix="resume with the config that started the run (sampling.walkers and the free "
+                             "parameters must not change), or " + fix)
+    return steps
 
 
 def _resolved_config(config):
@@ -124,6 +172,8 @@ def _pin_threads():
     for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ[var] = "1"
 
+    if resume:
+        check_resumable(run_dir / "samples.h5", build_layout(config).ndim, config.sampling.walkers)
 
 def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False):
     """The whole job for one config; returns the run directory."""
@@ -188,7 +238,7 @@ def load_run(run_dir):
             meta = json.loads(fh["planetfit"].attrs["sampling_json"])
         backend = emcee.backends.HDFBackend(str(h5), name="chain", read_only=True)
         samples = backend.get_chain(discard=meta["discard"], thin=meta["thin"], flat=True)
-    except (OSError, KeyError) as exc:
+    except (OSError, KeyError, ValueError) as exc:
         raise InputError(f"samples.h5 is unreadable or incomplete ({exc}).", file=h5,
                          fix="rerun the fit with --resume (if it was interrupted) or --force.") from None
     return meta, samples
