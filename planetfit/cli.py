@@ -147,18 +147,31 @@ def _resume_hint(args):
     return f"the chain is saved in samples.h5 up to the last step; continue with 'planetfit {target} --resume{out}'."
 
 
-def _terminate_like_interrupt(signum, frame, main_pid=os.getpid()):
-    """SIGTERM handler: stop the main process as Ctrl-C does; worker processes just end."""
+def _interrupted(signum, frame, main_pid=os.getpid()):
+    """SIGINT and SIGTERM handler: stop the main process with KeyboardInterrupt; worker processes just end.
+
+    Libraries print tracebacks of exceptions passing through them (emcee does
+    for every log-probability call), so output is silenced until ``main``
+    restores it and prints how to resume.
+    """
     if os.getpid() != main_pid:
         signal.signal(signum, signal.SIG_DFL)
         os.kill(os.getpid(), signum)
+    sys.stdout = sys.stderr = open(os.devnull, "w")
     raise KeyboardInterrupt
+
+
+def _restore(streams):
+    if sys.stderr is not streams[1]:
+        sys.stderr.close()
+    sys.stdout, sys.stderr = streams
 
 
 def main(argv=None):
     """Entry point of the ``planetfit`` console script."""
     args = None
-    previous = signal.signal(signal.SIGTERM, _terminate_like_interrupt)
+    streams = sys.stdout, sys.stderr
+    previous = {sig: signal.signal(sig, _interrupted) for sig in (signal.SIGINT, signal.SIGTERM)}
     try:
         args = build_parser().parse_args(argv)
         if args.command == "run":
@@ -182,6 +195,7 @@ def main(argv=None):
         print(f"planetfit: {exc.message()}", file=sys.stderr)
         return EXIT_INPUT
     except KeyboardInterrupt:
+        _restore(streams)
         print(f"\nplanetfit: interrupted; {_resume_hint(args)}", file=sys.stderr)
         return EXIT_INTERRUPTED
     except SystemExit as exc:
@@ -191,7 +205,9 @@ def main(argv=None):
         print("planetfit: internal error (above); please report it with the config.", file=sys.stderr)
         return EXIT_INTERNAL
     finally:
-        signal.signal(signal.SIGTERM, previous)
+        _restore(streams)
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)
     return EXIT_OK
 
 
