@@ -9,8 +9,6 @@ import contextlib
 import dataclasses
 import json
 import logging
-import multiprocessing
-import os
 import shutil
 from pathlib import Path
 
@@ -48,11 +46,11 @@ class Checked:
 def check(config_path, output=None):
     """Validate the config, read and check every dataset, fit nothing."""
     config = load_config(config_path, output=output)
+    phot, rvs = load_all(config)
+    raw = config.raw.get("climate")
     if raw is not None and not isinstance(raw, dict):
         raise InputError("the climate block must be a mapping of settings.", file=config.path, key="climate",
                          line=config.lines.get("climate"), fix="write e.g. 'climate: {albedo: 0.3, tau: 0.94}'.")
-    phot, rvs = load_all(config)
-    raw = config.raw.get("climate")
     try:
         settings = climate.ClimateSettings.from_mapping(raw)
     except (ValueError, TypeError) as exc:
@@ -98,11 +96,11 @@ def _logging_to(run_dir, quiet):
     sh.setFormatter(logging.Formatter("%(message)s"))
     log.addHandler(sh)
 
+
+def _prepare_run_dir(run_dir, resume, force):
     if run_dir.exists() and not run_dir.is_dir():
         raise InputError("the run directory path exists and is not a folder.", file=run_dir,
                          fix="choose another folder with --out (or the config's 'output'), or move the file away.")
-
-def _prepare_run_dir(run_dir, resume, force):
     if run_dir.exists() and any(run_dir.iterdir()):
         if resume:
             if not (run_dir / "samples.h5").exists():
@@ -168,19 +166,14 @@ def _resolved_config(config):
     return yaml.safe_dump(raw, sort_keys=False)
 
 
-def _pin_threads():
-    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
-        os.environ[var] = "1"
-
-    if resume:
-        check_resumable(run_dir / "samples.h5", build_layout(config).ndim, config.sampling.walkers)
-
 def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False):
     """The whole job for one config; returns the run directory."""
     checked = check(config_path, output=output)
     config = checked.config
     run_dir = config.output
     _prepare_run_dir(run_dir, resume, force)
+    if resume:
+        check_resumable(run_dir / "samples.h5", build_layout(config).ndim, config.sampling.walkers)
     _logging_to(run_dir, quiet)
     log.info("planetfit run of %s (%s)", config.path, config.system)
     for row in overview(checked):
@@ -188,16 +181,8 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
     write_text_atomic(run_dir / "config.resolved.yaml", _resolved_config(config))
     post = JointPosterior(config, checked.photometry, checked.velocities)
     rng = np.random.default_rng(config.seed)
-    pool = None
-    if cores > 1:
-        pool = multiprocessing.get_context("fork").Pool(cores, initializer=_pin_threads)
-    try:
-        result = run_sampler(post, post.layout, config.sampling, run_dir / "samples.h5", rng, pool=pool,
-                             progress=not quiet, resume=resume)
-    finally:
-        if pool is not None:
-            pool.close()
-            pool.join()
+    result = run_sampler(post, post.layout, config.sampling, run_dir / "samples.h5", rng, cores=cores,
+                         progress=not quiet, resume=resume)
     meta = result.summary()
     meta.update(discard=result.discard, thin=result.thin, cores=cores)
     with h5py.File(run_dir / "samples.h5", "a") as fh:

@@ -17,14 +17,17 @@ import numpy as np
 
 from .models.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
 from .models.keplerian import radial_velocity_ms
+from .models.noise import WhiteNoise
 from .models.transit import TransitLightCurve, quadratic_coefficients
+from .priors import Prior
 from .units import PPM
-
-_LOG_2PI = math.log(2 * math.pi)
-
 
 class ParameterLayout:
     """Names and priors of every model parameter, fixed or free.
+
+    The sampled vector ``theta`` holds each free parameter in its prior's
+    sampler coordinate (``ln x`` for log-uniform priors, else ``x``);
+    :meth:`values` converts to physical values.
 
     Parameters
     ----------
@@ -42,22 +45,34 @@ class ParameterLayout:
     def ndim(self):
         return len(self.free)
 
+    @property
+    def sampled_labels(self):
+        """Names of the sampler coordinates (``ln(name)`` where log-transformed)."""
+        return [f"ln({n})" if type(p).to_sampler is not Prior.to_sampler else n
+                for n, p in zip(self.free, self._free_priors)]
+
     def values(self, theta):
-        """Dict of every parameter's value (fixed ones filled in); works on arrays too."""
+        """Dict of every parameter's physical value (fixed ones filled in); works on (n, ndim) arrays too."""
         out = dict(self.fixed)
-        for i, name in enumerate(self.free):
-            out[name] = theta[..., i] if isinstance(theta, np.ndarray) and theta.ndim > 1 else theta[i]
+        columns = theta.T if isinstance(theta, np.ndarray) and theta.ndim > 1 else theta
+        for name, prior, y in zip(self.free, self._free_priors, columns):
+            out[name] = prior.from_sampler(y)
         return out
+
+    def to_sampler(self, physical):
+        """Sampler coordinates of a vector (or (n, ndim) array) of physical values."""
+        physical = np.asarray(physical, dtype=float)
+        return np.stack([p.to_sampler(x) for p, x in zip(self._free_priors, physical.T)], axis=-1)
 
     def log_prior(self, theta):
         total = 0.0
-        for prior, x in zip(self._free_priors, theta):
-            total += prior.log_density(x)
+        for prior, y in zip(self._free_priors, theta):
+            total += prior.log_density_sampler(y)
         return total
 
     def sample_prior(self, rng, size):
-        """Draws from the prior, shape (size, ndim)."""
-        return np.column_stack([p.sample(rng, size) for p in self._free_priors])
+        """Draws from the prior in sampler coordinates, shape (size, ndim)."""
+        return self.to_sampler(np.column_stack([p.sample(rng, size) for p in self._free_priors]))
 
 
 def build_layout(config):
@@ -105,9 +120,8 @@ def planet_orbit(values, planet):
     return out
 
 
-def gaussian_log_likelihood(residual, variance):
-    """Sum of independent Gaussian log-densities."""
-    return -0.5 * float(np.sum(residual * residual / variance + np.log(variance)) + residual.size * _LOG_2PI)
+def _fixed_value(prior):
+    return prior.value if prior.fixed else None
 
 
 class JointPosterior:
@@ -135,8 +149,13 @@ class JointPosterior:
         self.velocities = velocities
         self.light_curves = [
             [TransitLightCurve(d.time, d.exposure_days, d.supersample) for _ in self.transiting] for d in photometry]
-        self._phot_err2 = [d.error**2 for d in photometry]
-        self._rv_err2 = [d.error**2 for d in velocities]
+        priors = self.layout.priors
+        self.photometry_noise = [
+            WhiteNoise(d.error, f"{d.name}.jitter_ppm", PPM, _fixed_value(priors[f"{d.name}.jitter_ppm"]))
+            for d in photometry]
+        self.velocity_noise = [
+            WhiteNoise(d.error, f"{d.name}.jitter_ms", 1.0, _fixed_value(priors[f"{d.name}.jitter_ms"]))
+            for d in velocities]
 
     def __call__(self, theta):
         lp = self.layout.log_prior(theta)
@@ -197,12 +216,9 @@ class JointPosterior:
         if orbits is None:
             return -math.inf
         total = 0.0
-        for i, d in enumerate(self.photometry):
-            jit = values[f"{d.name}.jitter_ppm"] * PPM
-            total += gaussian_log_likelihood(d.flux - self.photometry_model(values, orbits, i),
-                                             self._phot_err2[i] + jit * jit)
-        for i, d in enumerate(self.velocities):
-            jit = values[f"{d.name}.jitter_ms"]
+        for i, (d, noise) in enumerate(zip(self.photometry, self.photometry_noise)):
+            total += noise.log_likelihood(d.flux - self.photometry_model(values, orbits, i), values)
+        for i, (d, noise) in enumerate(zip(self.velocities, self.velocity_noise)):
             resid = d.rv - values[f"{d.name}.offset_ms"] - self.velocity_model(values, orbits, i)
-            total += gaussian_log_likelihood(resid, self._rv_err2[i] + jit * jit)
+            total += noise.log_likelihood(resid, values)
         return total

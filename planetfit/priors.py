@@ -34,6 +34,20 @@ class Prior:
         """Short text form for tables, e.g. ``U(0, 1)``."""
         raise NotImplementedError
 
+    # The sampler works in its own coordinate y; identity unless a subclass
+    # has a better-conditioned one (log for scale parameters).
+    def to_sampler(self, x):
+        """Sampler coordinate of physical value ``x``."""
+        return x
+
+    def from_sampler(self, y):
+        """Physical value of sampler coordinate ``y``."""
+        return y
+
+    def log_density_sampler(self, y):
+        """Log density of the prior in the sampler coordinate (with the Jacobian)."""
+        return self.log_density(y)
+
     def as_config(self):
         """The config spelling of this prior (round-trips through the loader)."""
         raise NotImplementedError
@@ -106,6 +120,7 @@ class LogUniform(Prior):
             raise ValueError(f"needs 0 < lower < upper, got [{lo}, {hi}]")
         self.lo, self.hi = float(lo), float(hi)
         self._lognorm = math.log(math.log(self.hi / self.lo))
+        self._ylo, self._yhi = math.log(self.lo), math.log(self.hi)
 
     def log_density(self, x):
         return -math.log(x) - self._lognorm if self.lo <= x <= self.hi else -math.inf
@@ -119,6 +134,17 @@ class LogUniform(Prior):
 
     def describe(self):
         return f"logU({self.lo:g}, {self.hi:g})"
+
+    # Sampled as y = ln x, where the density is flat: scale parameters such
+    # as jitters then mix as well near the lower bound as near the upper.
+    def to_sampler(self, x):
+        return np.log(x)
+
+    def from_sampler(self, y):
+        return np.exp(y)
+
+    def log_density_sampler(self, y):
+        return -self._lognorm if self._ylo <= y <= self._yhi else -math.inf
 
     def as_config(self):
         return {"loguniform": [self.lo, self.hi]}

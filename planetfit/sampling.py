@@ -16,8 +16,11 @@
 """
 
 import dataclasses
+import contextlib
 import logging
 import math
+import multiprocessing
+import os
 import time
 
 import emcee
@@ -56,21 +59,28 @@ class SamplingResult:
 
 
 def prior_centre(prior):
-    """A central value of a prior: its median."""
+    """A central value of a prior (physical units)."""
     lo, hi = prior.bounds
     if math.isfinite(lo) and math.isfinite(hi):
-        if prior.__class__.__name__ == "LogUniform":
-            return math.sqrt(lo * hi)
-        if hasattr(prior, "mean") and lo <= prior.mean <= hi:
-            return prior.mean
-        return 0.5 * (lo + hi)
+        return float(prior.from_sampler(0.5 * (prior.to_sampler(lo) + prior.to_sampler(hi))))
     return prior.mean
 
 
-def prior_scale(prior):
-    """A natural scale of a prior: its width if bounded, else four standard deviations."""
-    lo, hi = prior.bounds
-    return hi - lo if math.isfinite(lo) and math.isfinite(hi) else 4 * prior.sd
+def sampler_geometry(layout):
+    """Centre, natural scale and bounds of each free parameter in sampler coordinates.
+
+    The scale is the prior's width if bounded, else four standard deviations.
+
+    Returns
+    -------
+    centre, scale, lower, upper : ndarray
+    """
+    priors = [layout.priors[n] for n in layout.free]
+    centre = np.array([p.to_sampler(prior_centre(p)) for p in priors], dtype=float)
+    lo = np.array([p.to_sampler(p.bounds[0]) if math.isfinite(p.bounds[0]) else -math.inf for p in priors])
+    hi = np.array([p.to_sampler(p.bounds[1]) if math.isfinite(p.bounds[1]) else math.inf for p in priors])
+    scale = np.where(np.isfinite(hi - lo), hi - lo, [4 * getattr(p, "sd", 1.0) for p in priors])
+    return centre, scale, lo, hi
 
 
 def find_map(log_prob, layout, rng, starts):
@@ -83,11 +93,9 @@ def find_map(log_prob, layout, rng, starts):
     -------
     (theta, log_prob_value)
     """
-    priors = [layout.priors[n] for n in layout.free]
-    centre = np.array([prior_centre(p) for p in priors])
-    scale = np.array([prior_scale(p) for p in priors])
-    bounds = [tuple(None if not math.isfinite(b) else (b - c) / s for b in p.bounds)
-              for p, c, s in zip(priors, centre, scale)]
+    centre, scale, lo, hi = sampler_geometry(layout)
+    bounds = [tuple(None if not math.isfinite(b) else (b - c) / s for b in (l, h))
+              for l, h, c, s in zip(lo, hi, centre, scale)]
     candidates = [centre] + [x for x in layout.sample_prior(rng, 20 * starts)
                              if math.isfinite(log_prob(x))][: starts - 1]
 
@@ -174,11 +182,9 @@ def _hessian_diagonal(log_prob, theta, h):
 
 def initial_walkers(log_prob, layout, theta, nwalkers, rng):
     """Walker positions drawn around ``theta``, each with finite probability."""
-    priors = [layout.priors[n] for n in layout.free]
+    _, scale, lo, hi = sampler_geometry(layout)
     with np.errstate(invalid="ignore", over="ignore"):  # stencils that leave the support are handled
-        cov = laplace_covariance(log_prob, theta, np.array([prior_scale(p) for p in priors]))
-    lo = np.array([p.bounds[0] for p in priors])
-    hi = np.array([p.bounds[1] for p in priors])
+        cov = laplace_covariance(log_prob, theta, scale)
     out = []
     for scale in (1.0, 0.1, 0.01):
         draws = rng.multivariate_normal(theta, cov * scale, size=20 * nwalkers)
@@ -198,7 +204,41 @@ def autocorr_estimate(backend):
     return backend.get_autocorr_time(tol=0)
 
 
-def run_sampler(log_prob, layout, settings, h5_path, rng, pool=None, progress=True, resume=False):
+_WORKER_LOG_PROB = None
+
+
+def _worker_log_prob(theta):
+    """Log-probability in a worker process (inherited at fork: nothing is pickled per call)."""
+    return _WORKER_LOG_PROB(theta)
+
+
+def _pin_threads():
+    """One BLAS/OpenMP thread per worker process, so N workers use N cores."""
+    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ[var] = "1"
+
+
+@contextlib.contextmanager
+def walker_pool(log_prob, cores):
+    """A fork-based process pool evaluating ``log_prob``, or None for one core.
+
+    Yields the function to hand to emcee and the pool.
+    """
+    global _WORKER_LOG_PROB
+    if cores <= 1:
+        yield log_prob, None
+        return
+    _WORKER_LOG_PROB = log_prob
+    pool = multiprocessing.get_context("fork").Pool(cores, initializer=_pin_threads)
+    try:
+        yield _worker_log_prob, pool
+    finally:
+        pool.terminate()
+        pool.join()
+        _WORKER_LOG_PROB = None
+
+
+def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True, resume=False):
     """Run emcee until converged or ``settings.max_steps``.
 
     Parameters
@@ -209,8 +249,8 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, pool=None, progress=Tr
     h5_path : Path
         The chain file; written every step, continued when ``resume``.
     rng : numpy.random.Generator
-    pool : optional
-        A pool with ``map`` for parallel walkers.
+    cores : int
+        Processes evaluating walkers in parallel (emcee's ``pool``).
     progress : bool
         Show a tqdm progress bar.
     resume : bool
@@ -236,8 +276,15 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, pool=None, progress=Tr
         theta, best = find_map(log_prob, layout, rng, settings.optimiser_starts)
         log.info("maximum a posteriori log-probability %.3f", best)
         initial = initial_walkers(log_prob, layout, theta, nwalkers, rng)
-    sampler = emcee.EnsembleSampler(nwalkers, ndim, log_prob, pool=pool, backend=backend,
-                                    moves=[(emcee.moves.DEMove(), 0.8), (emcee.moves.DESnookerMove(), 0.2)])
+    with walker_pool(log_prob, cores) as (fn, pool):
+        sampler = emcee.EnsembleSampler(nwalkers, ndim, fn, pool=pool, backend=backend,
+                                        moves=[(emcee.moves.DEMove(), 0.8), (emcee.moves.DESnookerMove(), 0.2)])
+        converged, history = _sample(sampler, backend, initial, settings, rng, progress)
+    return _result(backend, settings, nwalkers, converged, history, time.perf_counter() - start)
+
+
+def _sample(sampler, backend, initial, settings, rng, progress):
+    """Advance the chain until converged or max_steps; return (converged, history)."""
     sampler.random_state = np.random.RandomState(int(rng.integers(2**31))).get_state()
     history, converged, old_tau = [], False, np.inf
     bar = None
@@ -267,6 +314,11 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, pool=None, progress=Tr
         old_tau = tau
     if bar is not None:
         bar.close()
+    return converged, history
+
+
+def _result(backend, settings, nwalkers, converged, history, seconds):
+    """Burn-in discarded, thinned samples and the facts of the run."""
     tau = autocorr_estimate(backend)
     steps = backend.iteration
     discard = int(min(2 * np.max(tau), steps // 2))
@@ -282,5 +334,5 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, pool=None, progress=Tr
     return SamplingResult(samples=samples, log_prob=lp, walkers=nwalkers, steps=steps, autocorr_steps=tmax,
                           independent_samples=n_indep,
                           acceptance_fraction=float(np.mean(backend.accepted / max(steps, 1))),
-                          converged=converged, seconds=time.perf_counter() - start, discard=discard, thin=thin,
+                          converged=converged, seconds=seconds, discard=discard, thin=thin,
                           autocorr_history=history)
