@@ -47,7 +47,8 @@ def planet_mass_kg(k_ms, period_days, e, sin_i, star_mass_kg, iterations=6):
         tot = star_mass_kg + m
         g = m**3 * s3 - f * tot * tot
         dg = 3 * m * m * s3 - 2 * f * tot
-        m = m - g / dg
+        with np.errstate(invalid="ignore", divide="ignore"):
+            m = m - np.where(dg != 0, g / dg, 0.0)  # K = 0: m = 0 is exact and dg = 0
     return m
 
 

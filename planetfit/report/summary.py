@@ -18,6 +18,9 @@ PLANET_KEYS = ("period_days", "transit_bjd", "radius_ratio", "impact", "inclinat
                "radius_earth", "radius_jup", "density_gcc", "surface_gravity_ms2", "transit_duration_hr",
                "equilibrium_temp_k", "insolation_earth")
 
+#: Planet quantities that need RVs; transit-only fits report them as null.
+UNMEASURED_WITHOUT_RVS = ("rv_amplitude_ms", "mass_earth", "mass_jup", "density_gcc", "surface_gravity_ms2")
+
 
 def build_summary(config, derived, blocks, sampling):
     """The summary.json content.
@@ -31,6 +34,12 @@ def build_summary(config, derived, blocks, sampling):
         Output of :func:`planetfit.context.add_context`.
     sampling : dict
         ``SamplingResult.summary()`` plus run facts.
+
+    Notes
+    -----
+    Without RVs the semi-amplitude is held fixed, so no mass is measured:
+    transit-only fits report ``UNMEASURED_WITHOUT_RVS`` as null with a note,
+    not an upper limit (an upper limit would need a free K constrained by data).
     """
     star = {k: stat(derived["star"][k]) for k in STAR_KEYS if k in derived["star"]}
     planets = {}
@@ -42,6 +51,10 @@ def build_summary(config, derived, blocks, sampling):
         if not p.transits:
             entry["mass_is_minimum"] = True
             entry["note"] = "not transiting: mass_earth and mass_jup are minimum masses (M sin i)"
+        if not config.velocities:
+            # K is held fixed without RVs: whatever mass follows from it was assumed, not measured.
+            entry.update({k: None for k in UNMEASURED_WITHOUT_RVS})
+            entry["note"] = "no RVs: mass not measured (mass, density, gravity and K are null)"
         entry.update(blocks[p.name])
         planets[p.name] = entry
     fitted = {name: stat(derived["parameters"][name]) for name in derived["parameter_names"]}

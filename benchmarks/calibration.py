@@ -1,0 +1,154 @@
+"""Simulation-based calibration of the joint fit (Talts et al. 2018, arXiv:1804.06788).
+
+Each synthetic system is drawn from the same prior the fit uses: one
+transiting planet on a circular orbit, six days of 10-min photometry (two
+or three transits) and 20 RVs. Data are simulated with planetfit's own
+forward model plus Gaussian noise, fitted with short emcee chains, and the
+fraction of systems whose true value falls inside the 68% and 95% central
+posterior intervals is reported for planet mass, radius, K and radius ratio.
+A calibrated posterior covers the truth at the nominal rate, within the
+binomial scatter sqrt(p (1 - p) / N).
+
+Usage: python benchmarks/calibration.py [--systems N] [--processes P] [--steps S]
+Prints one JSON object.
+"""
+
+import argparse
+import json
+import logging
+import math
+import multiprocessing
+import os
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+import yaml
+
+PRIOR = {
+    "star": {"mass_msun": {"normal": [0.9, 0.05]}, "radius_rsun": {"normal": [0.85, 0.03]},
+             "teff_k": {"normal": [5300, 80]}},
+    "planet": {"period_days": {"uniform": [2.9, 3.1]}, "transit_bjd": {"uniform": [2460001.0, 2460001.2]},
+               "radius_ratio": {"uniform": [0.02, 0.08]}, "impact": {"uniform": [0.0, 0.8]},
+               "rv_amplitude_ms": {"uniform": [1.0, 20.0]}},
+    "offset_ms": {"uniform": [-20.0, 20.0]},
+}
+PHOT_START_BJD, PHOT_DAYS, CADENCE_MIN, NOISE_PPM = 2460000.9, 6.0, 10.0, 500.0
+N_RV, RV_ERROR_MS = 20, 2.0
+QUANTITIES = ("mass_earth", "radius_earth", "rv_amplitude_ms", "radius_ratio")
+
+
+def _config(phot_file, rv_file, steps, seed):
+    """A config dict whose priors are PRIOR (limb darkening, flux level and jitters fixed)."""
+    return {
+        "system": "Calibration", "seed": seed, "output": "run", "star": PRIOR["star"],
+        "planets": {"b": dict(PRIOR["planet"], orbit="circular")},
+        "photometry": [{"name": "cam", "file": str(phot_file), "columns": {"time": "t", "flux": "f", "error": "e"},
+                        "exposure_min": CADENCE_MIN, "supersample": 1, "limb_darkening_q1": 0.36,
+                        "limb_darkening_q2": 0.3, "flux_level": 1.0, "normalise": False}],
+        "velocities": [{"name": "spec", "file": str(rv_file), "columns": {"time": "t", "rv": "v", "error": "e"},
+                        "offset_ms": PRIOR["offset_ms"]}],
+        "sampling": {"walkers": 24, "max_steps": steps, "check_every": 250, "optimiser_starts": 2},
+    }
+
+
+def _write_table(path, columns, header):
+    np.savetxt(path, np.column_stack(columns), delimiter=",", header=header, comments="", fmt="%.9f")
+
+
+def fit_one(args):
+    """Draw one system from the prior, simulate data, fit it; return truth and posterior intervals."""
+    seed, steps = args
+    from planetfit import physics
+    from planetfit.config import load_config
+    from planetfit.data import load_all
+    from planetfit.posterior import JointPosterior
+    from planetfit.sampling import run_sampler
+    from planetfit.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
+
+    rng = np.random.default_rng(seed)
+    with tempfile.TemporaryDirectory() as tmp:
+        tmp = Path(tmp)
+        t_phot = PHOT_START_BJD + np.arange(0, PHOT_DAYS, CADENCE_MIN / (24 * 60))
+        t_rv = np.sort(rng.uniform(PHOT_START_BJD - 15, PHOT_START_BJD + 15, N_RV))
+        # Placeholder tables give the posterior the observation times; the model then makes the data.
+        _write_table(tmp / "phot.csv", [t_phot, np.ones_like(t_phot), np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
+        _write_table(tmp / "rv.csv", [t_rv, np.zeros(N_RV), np.full(N_RV, RV_ERROR_MS)], "t,v,e")
+        (tmp / "config.yaml").write_text(yaml.safe_dump(_config(tmp / "phot.csv", tmp / "rv.csv", steps, seed)))
+        config = load_config(tmp / "config.yaml")
+        phot, rvs = load_all(config)
+        post = JointPosterior(config, phot, rvs)
+        layout = post.layout
+        while True:  # a draw from the prior with a transit and a finite probability
+            truth = layout.sample_prior(rng, 1)[0]
+            values = layout.values(truth)
+            orbits = post.orbits(values)
+            if orbits is not None and np.any(post.photometry_model(values, orbits, 0) < 1):
+                break
+        flux = post.photometry_model(values, orbits, 0) + rng.normal(0, NOISE_PPM * 1e-6, t_phot.size)
+        rv = values["spec.offset_ms"] + post.velocity_model(values, orbits, 0) + rng.normal(0, RV_ERROR_MS, N_RV)
+        _write_table(tmp / "phot.csv", [t_phot, flux, np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
+        _write_table(tmp / "rv.csv", [t_rv, rv, np.full(N_RV, RV_ERROR_MS)], "t,v,e")
+        phot, rvs = load_all(config)
+        post = JointPosterior(config, phot, rvs)
+        result = run_sampler(post, layout, config.sampling, tmp / "samples.h5", rng, progress=False)
+        derived = physics.derive(config, layout, result.samples, rng)["planets"]["b"]
+    true_values = {"mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
+                   "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
+                   "rv_amplitude_ms": values["b.rv_amplitude_ms"], "radius_ratio": values["b.radius_ratio"]}
+    out = {"seed": seed, "steps": int(result.steps), "converged": bool(result.converged)}
+    for q in QUANTITIES:
+        p = np.percentile(derived[q], [2.5, 15.865, 84.135, 97.5])
+        x = true_values[q]
+        out[q] = {"in_68": bool(p[1] <= x <= p[2]), "in_95": bool(p[0] <= x <= p[3])}
+    return out
+
+
+def _quiet_worker():
+    logging.getLogger("planetfit").setLevel(logging.ERROR)  # short chains: NOT CONVERGED is expected
+    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ[var] = "1"
+
+
+def calibrate(systems, processes, steps, first_seed=1000):
+    """Fit ``systems`` synthetic systems; return the coverage report as a dict.
+
+    Each system's result is also printed to stderr as one JSON line.
+    """
+    start = time.perf_counter()
+    jobs = [(first_seed + i, steps) for i in range(systems)]
+    results = []
+    with multiprocessing.get_context("fork").Pool(processes, initializer=_quiet_worker) as pool:
+        for r in pool.imap_unordered(fit_one, jobs):
+            results.append(r)
+            print(json.dumps(r), file=sys.stderr, flush=True)  # one line per system, for partial runs
+    return coverage(results, steps, time.perf_counter() - start)
+
+
+def coverage(results, steps, seconds):
+    """Coverage report from per-system results (the JSON lines ``fit_one`` returns)."""
+    n = len(results)
+    report = {"systems": n, "steps_per_fit": steps,
+              "converged_fraction": round(sum(r["converged"] for r in results) / n, 3),
+              "binomial_sd_68": round(math.sqrt(0.68 * 0.32 / n), 3),
+              "binomial_sd_95": round(math.sqrt(0.95 * 0.05 / n), 3)}
+    for level in ("68", "95"):
+        report[f"coverage_{level}"] = {q: round(sum(r[q][f"in_{level}"] for r in results) / n, 3)
+                                       for q in QUANTITIES}
+    report["seconds"] = round(seconds, 1)
+    return report
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--systems", type=int, default=200)
+    parser.add_argument("--processes", type=int, default=2)
+    parser.add_argument("--steps", type=int, default=1500, help="max emcee steps per fit")
+    args = parser.parse_args()
+    print(json.dumps(calibrate(args.systems, args.processes, args.steps), indent=2))
+
+
+if __name__ == "__main__":
+    main()
