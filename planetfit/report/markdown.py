@@ -1,25 +1,73 @@
-"""summary.md: the run's numbers as Markdown tables for people."""
+"""summary.md: the parameter table of table.tex as Markdown, plus the run's context in words."""
+
+from .rounding import number_text, value_text
+from .tables import NOTE_TEXT, prior_text
+
+_HEADER = ["| Parameter | Prior | Value | Unit | summary.json key |", "|---|---|---|---|---|"]
 
 
-def _fmt(s):
-    if s is None:
-        return "n/a"
-    med, lo, hi = s["median"], s["lower"], s["upper"]
-    return f"{med:.6g} +{hi - med:.3g} -{med - lo:.3g}"
+def _row(row):
+    prior = prior_text(row.prior) if row.prior is not None else "-"
+    value = value_text(row.stat) if row.key else number_text(row.stat["median"])
+    key = f"`{row.key}`" if row.key else "(fixed)"
+    return f"| {row.label} | {prior} | {value} | {row.quantity.unit_text} | {key} |"
 
 
-def summary_markdown(summary):
-    """Markdown text of a summary.json dict."""
-    out = [f"# {summary['system']}", "", "## Star", "", "| quantity | value |", "|---|---|"]
-    out += [f"| {k} | {_fmt(v)} |" for k, v in summary["star"].items()]
-    for name, p in summary["planets"].items():
-        out += ["", f"## Planet {name}", "", "| quantity | value |", "|---|---|"]
-        out += [f"| {k} | {_fmt(v)} |" for k, v in p.items() if isinstance(v, dict) and "median" in v]
-        comp = p.get("composition")
-        if comp:
-            out += ["", f"Composition: {comp['verdict']}"]
+def _table(rows):
+    out = []
+    for row in rows:
+        if row.quantity is None:
+            level = "##" if row.heading.endswith("parameters") else "###"
+            out += ["", f"{level} {row.heading}"]
+            continue
+        if out[-1].startswith("#"):
+            out += [""] + _HEADER
+        out.append(_row(row))
+    return out
+
+
+def _pct(x):
+    return "n/a" if x is None else f"{x:.0%}"
+
+
+def _context(name, planet):
+    out = ["", f"### Planet {name}"]
+    comp = planet.get("composition")
+    if comp:
+        out += ["", f"Composition: {comp['verdict']}"]
+    clim = planet.get("climate")
+    if clim:
+        out += ["", f"Habitable zone (Kopparapu et al. 2014): probability {_pct(clim['p_conservative_hz'])} "
+                f"inside the conservative limits, {_pct(clim['p_optimistic_hz'])} inside the optimistic ones; "
+                f"grey-greenhouse surface temperature {value_text(clim['surface_temp_k'])} K."]
+    atm = planet.get("atmosphere")
+    if atm:
+        out += ["", f"Atmosphere: scale height {value_text(atm['scale_height_km'])} km, transmission signal "
+                f"{value_text(atm['transmission_signal_ppm'])} ppm, TSM {value_text(atm['tsm'])}, "
+                f"ESM {value_text(atm['esm'])} (Kempton et al. 2018)."]
+    if planet.get("note"):
+        out += ["", f"Note: {planet['note']}."]
+    return out
+
+
+def summary_markdown(summary, rows):
+    """Markdown text of a run.
+
+    Parameters
+    ----------
+    summary : dict
+        summary.json content.
+    rows : list of Row
+        :func:`planetfit.report.tables.table_rows`, the rows of table.tex.
+    """
+    out = [f"# {summary['system']}"]
+    out += _table(rows)
+    out += ["", NOTE_TEXT, "", "## Context"]
+    for name, planet in summary["planets"].items():
+        out += _context(name, planet)
     s = summary["sampling"]
-    out += ["", "## Sampling", "", f"{s['walkers']} walkers x {s['steps']} steps, autocorrelation "
-            f"{s['autocorr_steps']} steps, {s['independent_samples']} independent samples, acceptance "
-            f"{s['acceptance_fraction']}, converged: {s['converged']}, {s['seconds']} s."]
+    out += ["", "## Sampling", "",
+            f"{s['walkers']} walkers x {s['steps']} steps; autocorrelation time {s['autocorr_steps']:.1f} steps; "
+            f"{s['independent_samples']} independent samples; acceptance fraction {s['acceptance_fraction']:.3f}; "
+            f"converged: {'yes' if s['converged'] else 'NO (raise sampling.max_steps)'}; {s['seconds']:.0f} s."]
     return "\n".join(out) + "\n"

@@ -1,0 +1,200 @@
+"""The parameter table: rows from summary.json and their LaTeX form (table.tex).
+
+Two floats: fitted parameters with their priors, then derived parameters.
+Numbers follow the rounding rule of :mod:`planetfit.report.rounding`.
+"""
+
+import dataclasses
+
+from . import quantities as q
+from .rounding import number_text, value_tex
+
+# Parameter keys of the sampled vector, in the order they appear in the table.
+_PLANET_FITTED = ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms",
+                  "sqrt_e_cos_w", "sqrt_e_sin_w")
+_PLANET_DERIVED = ("inclination_deg", "a_over_rstar", "semi_major_axis_au", "eccentricity", "omega_deg",
+                   "mass_earth", "mass_jup", "radius_earth", "radius_jup", "density_gcc",
+                   "surface_gravity_ms2", "transit_duration_hr", "equilibrium_temp_k", "insolation_earth")
+_STAR_FITTED = ("mass_msun", "radius_rsun")
+_STAR_DERIVED = ("density_gcc", "teff_k", "age_gyr")
+NOTE_FITTED = (r"Values are posterior medians with the 15.87th and 84.13th percentiles. Priors: "
+               r"$\mathcal{U}$ uniform, $\log\mathcal{U}$ log-uniform, $\mathcal{N}$(mean, standard deviation) "
+               r"normal, truncated where an interval is given.")
+NOTE_DERIVED = (r"Values are posterior medians with the 15.87th and 84.13th percentiles. $T_\mathrm{eq}$ assumes "
+                r"zero Bond albedo and full heat redistribution. $T_\mathrm{eff}$ and the age do not enter the "
+                r"fit: their posterior is their prior.")
+NOTE_TEXT = ("Values are posterior medians with the 15.87th and 84.13th percentiles. Priors: U uniform, logU "
+             "log-uniform, N(mean, sd) normal, truncated where an interval is given. T_eq assumes zero Bond "
+             "albedo and full heat redistribution. Teff and the age do not enter the fit: their posterior is "
+             "their prior.")
+
+
+# ----------------------------------------------------------------- priors
+
+_PRIOR_FORMS = {  # config spelling -> (text symbol, LaTeX symbol)
+    "uniform": ("U", r"\mathcal{U}"),
+    "loguniform": ("logU", r"\log\mathcal{U}"),
+    "normal": ("N", r"\mathcal{N}"),
+    "truncnormal": ("N", r"\mathcal{N}"),
+}
+
+
+def prior_text(prior, tex=False):
+    """A prior as ``U(0, 1)`` / ``N(0.45, 0.1) in [0, 1]`` / ``fixed``, or in LaTeX."""
+    spec = prior.as_config()
+    if not isinstance(spec, dict):
+        return "fixed"
+    (kind, args), = spec.items()
+    text_sym, tex_sym = _PRIOR_FORMS[kind]
+    head = ", ".join(number_text(a) for a in args[:2])
+    tail = f" in [{number_text(args[2])}, {number_text(args[3])}]" if len(args) == 4 else ""
+    if not tex:
+        return f"{text_sym}({head}){tail}"
+    tail = f" on $[{number_text(args[2])}, {number_text(args[3])}]$" if len(args) == 4 else ""
+    return f"${tex_sym}({head})${tail}"
+
+
+# ----------------------------------------------------------------- rows
+
+@dataclasses.dataclass
+class Row:
+    """One table line; a heading when ``quantity`` is None."""
+
+    heading: str
+    quantity: q.Quantity = None
+    qualifier: str = ""        # band or dataset a parameter belongs to
+    prior: object = None       # Prior, or None for derived quantities
+    stat: dict = None
+    key: str = ""              # dotted path in summary.json ("" for fixed parameters)
+
+    @property
+    def label(self):
+        """Plain-text label, e.g. ``Limb darkening q1 (camera)``."""
+        base = f"{self.quantity.label} {self.quantity.symbol_text}".rstrip()
+        return f"{base} ({self.qualifier})" if self.qualifier else base
+
+
+def _owner_and_key(name):
+    owner, _, key = name.rpartition(".")
+    return owner, key
+
+
+def table_rows(summary, priors):
+    """Rows of the parameter table.
+
+    Parameters
+    ----------
+    summary : dict
+        summary.json content.
+    priors : dict
+        Parameter name -> Prior for every model parameter, fixed or free
+        (``ParameterLayout.priors``, in layout order), plus the star's
+        Teff and age priors (:func:`star_priors`).
+
+    Returns
+    -------
+    list of Row
+    """
+    fitted = summary["fitted_parameters"]
+    planets = summary["planets"]
+    rows = [Row("Fitted parameters"), Row("Star")]
+
+    def fitted_row(name, quantity, qualifier=""):
+        prior = priors[name]
+        if prior.fixed:
+            return Row("", quantity, qualifier, prior, {"median": prior.value, "lower": prior.value,
+                                                        "upper": prior.value})
+        return Row("", quantity, qualifier, prior, fitted[name], f"fitted_parameters.{name}")
+
+    rows += [fitted_row(f"star.{k}", q.STAR[k]) for k in _STAR_FITTED]
+    for pname, p in planets.items():
+        rows.append(Row(f"Planet {pname}"))
+        rows += [fitted_row(f"{pname}.{k}", q.planet_quantity(k, p["transits"]))
+                 for k in _PLANET_FITTED if f"{pname}.{k}" in priors]
+    datasets = [n for n in priors if _owner_and_key(n)[0] not in planets and not n.startswith("star.")]
+    if datasets:
+        rows.append(Row("Instruments"))
+        for name in datasets:
+            owner, key = _owner_and_key(name)
+            rows.append(fitted_row(name, q.DATASET[key], owner))
+    rows += [Row("Derived parameters"), Row("Star")]
+    rows += [Row("", q.STAR[k], "", priors.get(f"star.{k}"), summary["star"][k], f"star.{k}")
+             for k in _STAR_DERIVED if k in summary["star"]]
+    for pname, p in planets.items():
+        heading = f"Planet {pname}" + ("" if p["orbit"] == "eccentric" else " (circular orbit)")
+        rows.append(Row(heading))
+        for k in _PLANET_DERIVED:
+            if k not in p or (p["orbit"] != "eccentric" and k in ("eccentricity", "omega_deg")):
+                continue
+            rows.append(Row("", q.planet_quantity(k, p["transits"]), "", None, p[k], f"planets.{pname}.{k}"))
+    return rows
+
+
+def star_priors(config):
+    """Star Teff and age priors by the names :func:`table_rows` looks up."""
+    out = {"star.teff_k": config.star.teff_k}
+    if config.star.age_gyr is not None:
+        out["star.age_gyr"] = config.star.age_gyr
+    return out
+
+
+# ----------------------------------------------------------------- LaTeX
+
+_TEX_SPECIAL = {"\\": r"\textbackslash{}", "&": r"\&", "%": r"\%", "$": r"\$", "#": r"\#", "_": r"\_",
+                "{": r"\{", "}": r"\}", "~": r"\textasciitilde{}", "^": r"\textasciicircum{}"}
+
+
+def tex_escape(text):
+    """Escape LaTeX's special characters in plain text."""
+    return "".join(_TEX_SPECIAL.get(c, c) for c in str(text))
+
+
+def _label_tex(row, with_prior):
+    qual = f" ({tex_escape(row.qualifier)})" if row.qualifier else ""
+    label = f"{row.quantity.label}{qual}, {row.quantity.symbol_tex}"
+    if not with_prior and row.prior is not None:
+        label += f" (prior {prior_text(row.prior, tex=True)})"
+    return label
+
+
+def _float(caption, label, rows, with_prior, note):
+    """One ``table*`` float; every value row ends with a comment naming its summary.json key."""
+    ncol = 4 if with_prior else 3
+    out = [r"\begin{table*}",
+           r"\centering\small",
+           f"\\caption{{{caption}}}",
+           f"\\label{{{label}}}",
+           f"\\begin{{tabular}}{{{'l' * ncol}}}",
+           r"\hline\hline",
+           ("Parameter & Prior & Value & Unit \\\\" if with_prior else "Parameter & Value & Unit \\\\"),
+           r"\hline"]
+    for row in rows:
+        if row.quantity is None:
+            out.append(f"\\multicolumn{{{ncol}}}{{l}}{{\\textbf{{{tex_escape(row.heading)}}}}} \\\\")
+            continue
+        cells = [_label_tex(row, with_prior)]
+        if with_prior:
+            cells.append(prior_text(row.prior, tex=True))
+        cells += [value_tex(row.stat) if row.key else f"${number_text(row.stat['median'])}$", row.quantity.unit_tex]
+        out.append(" & ".join(cells) + f" \\\\ % {row.key or 'fixed'}")
+    out += [r"\hline", r"\end{tabular}", "", f"\\smallskip\\parbox{{0.9\\textwidth}}{{\\footnotesize {note}}}",
+            r"\end{table*}"]
+    return out
+
+
+def latex_table(summary, rows):
+    """table.tex text: two ``table*`` floats (fitted parameters with priors; derived parameters).
+
+    Standard LaTeX only (tabular, hline, math mode), so it compiles in the common journal classes.
+    """
+    system = tex_escape(summary["system"])
+    slug = "".join(c if c.isalnum() else "-" for c in str(summary["system"]).lower())
+    split = next(i for i, r in enumerate(rows) if r.quantity is None and r.heading == "Derived parameters")
+    fitted = [r for r in rows[:split] if r.heading != "Fitted parameters"]
+    out = [f"% Parameters of {system}, written by planetfit from summary.json.",
+           "% Each value row ends with a comment naming the summary.json key it comes from."]
+    out += _float(f"Fitted parameters of {system} and their priors.", f"tab:{slug}-fitted", fitted, True, NOTE_FITTED)
+    out.append("")
+    out += _float(f"Derived parameters of {system}.", f"tab:{slug}-derived", rows[split + 1:], False,
+                  NOTE_DERIVED)
+    return "\n".join(out) + "\n"
