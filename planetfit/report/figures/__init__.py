@@ -1,0 +1,47 @@
+"""Every figure of a run, one module per figure family.
+
+:func:`figure_builders` lists them; each builder returns a
+:class:`matplotlib.figure.Figure` that the caller saves as PNG and PDF.
+"""
+
+from functools import partial
+
+from .common import PosteriorView, file_stem
+from .convergence import convergence_figure, read_chain
+from .corners import physical_corner, sampled_corner
+from .habitable_zone import habitable_zone_figure
+from .mass_radius import mass_radius_figure
+from .transit import transit_figure
+from .velocity import rv_phase_figure, rv_time_figure
+
+
+def _convergence(run_dir, posterior, summary, target_factor):
+    history, chain = read_chain(run_dir / "samples.h5", posterior.layout)
+    return convergence_figure(history, chain, posterior.layout.free, summary["sampling"]["discard"], target_factor)
+
+
+def figure_builders(run_dir, checked, posterior, samples, derived, summary):
+    """``(file stem, builder)`` pairs for every figure of a run, in drawing order.
+
+    Parameters are those of :func:`planetfit.report.outputs.write_all`.
+    """
+    view = PosteriorView(posterior, samples, seed=checked.config.seed)
+    planets = posterior.planets
+    transiting = [p for p in planets if p.transits]
+    out = []
+    for p in transiting:
+        duration_hr = summary["planets"][p.name]["transit_duration_hr"]["median"]
+        for i, d in enumerate(posterior.photometry):
+            out.append((f"transit_{file_stem(p.name)}_{file_stem(d.name)}",
+                        partial(transit_figure, posterior, view, p, i, duration_hr)))
+    if posterior.velocities:
+        out += [(f"rv_phase_{file_stem(p.name)}", partial(rv_phase_figure, posterior, view, p)) for p in planets]
+        out.append(("rv_time", partial(rv_time_figure, posterior, view)))
+    out += [(f"corner_{file_stem(p.name)}", partial(physical_corner, derived, p)) for p in planets]
+    out.append(("corner_sampled", partial(sampled_corner, derived)))
+    if transiting:
+        out.append(("mass_radius", partial(mass_radius_figure, derived, transiting)))
+    out.append(("habitable_zone", partial(habitable_zone_figure, derived, planets)))
+    out.append(("convergence", partial(_convergence, run_dir, posterior, summary,
+                                       checked.config.sampling.autocorr_factor)))
+    return out

@@ -1,0 +1,82 @@
+"""Convergence figure: autocorrelation time against steps, and walker traces."""
+
+import emcee
+import h5py
+import numpy as np
+
+from .. import style
+
+N_TRACES = 3
+#: Steps drawn per walker trace (longer chains are thinned for display only).
+MAX_TRACE_POINTS = 1500
+
+
+def read_chain(h5_path, layout):
+    """Autocorrelation history and the full chain in physical values from a run's samples.h5.
+
+    Returns
+    -------
+    history : ndarray, shape (k, 2)
+        (step, largest autocorrelation time estimate) rows.
+    chain : ndarray, shape (steps, walkers, ndim)
+    """
+    with h5py.File(h5_path, "r") as fh:
+        history = np.asarray(fh["planetfit"]["autocorr_history"], dtype=float).reshape(-1, 2)
+    raw = emcee.backends.HDFBackend(str(h5_path), name="chain", read_only=True).get_chain()
+    values = layout.values(raw.reshape(-1, raw.shape[-1]))
+    chain = np.stack([np.broadcast_to(values[n], raw.shape[0] * raw.shape[1]) for n in layout.free], axis=-1)
+    return history, chain.reshape(raw.shape)
+
+
+def convergence_figure(history, chain, names, discard, target_factor):
+    """Autocorrelation estimate against steps, and traces of the slowest-mixing parameters.
+
+    Parameters
+    ----------
+    history : ndarray, shape (k, 2)
+        (step, largest autocorrelation time) rows.
+    chain : ndarray, shape (steps, walkers, ndim)
+    names : list of str
+    discard : int
+        Burn-in steps left out of the posterior (marked on the traces).
+    target_factor : float
+        The stopping rule wants the chain longer than this many autocorrelation times.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        1 + min(3, ndim) axes: autocorrelation, then one trace per parameter
+        (its name written in the panel).
+    """
+    steps = chain.shape[0]
+    tau = emcee.autocorr.integrated_time(chain, tol=0)
+    slowest = np.argsort(tau)[::-1][:N_TRACES]
+    stride = max(1, steps // MAX_TRACE_POINTS)
+    x = np.arange(0, steps, stride)
+    with style.style():
+        fig = style.new_figure(style.COLUMN_WIDTH_IN, 1.4 + 1.0 * len(slowest))
+        axes = fig.subplots(1 + len(slowest), 1, height_ratios=[1.6] + [1] * len(slowest))
+        ax = axes[0]
+        ax.plot([0, steps], [0, steps / target_factor], "--", color=style.GREY, label=f"steps / {target_factor:g}")
+        top = steps / target_factor
+        if history.size:
+            ax.plot(history[:, 0], history[:, 1], "o-", color=style.BLUE, ms=2.5, label=r"largest $\hat\tau$")
+            top = max(top, np.nanmax(history[:, 1]))
+        ax.set_xlim(0, steps)
+        ax.set_ylim(0, 1.15 * top)
+        ax.set_xlabel("Step")
+        ax.set_ylabel("Autocorrelation\ntime [steps]")
+        ax.legend(loc="upper left")
+        for ax, j in zip(axes[1:], slowest):
+            ax.plot(x, chain[::stride, :, j], color=style.BLUE, lw=0.3, alpha=0.25, rasterized=True)
+            ax.axvline(discard, color=style.VERMILLION, lw=0.8, ls="--")
+            ax.set_xlim(0, steps)
+            # Names are too long for a y label of a short panel: written inside it.
+            box = {"facecolor": "white", "edgecolor": "none", "alpha": 0.8, "pad": 1.0}
+            ax.text(0.01, 0.95, names[j], transform=ax.transAxes, ha="left", va="top", fontsize=6.5, bbox=box)
+            ax.text(0.99, 0.95, rf"$\hat\tau$ = {tau[j]:.0f}", transform=ax.transAxes, ha="right", va="top",
+                    fontsize=6.5, bbox=box)
+        axes[-1].set_xlabel("Step (dashed: end of burn-in)")
+        for ax in axes[1:-1]:
+            ax.tick_params(labelbottom=False)
+    return fig

@@ -1,0 +1,130 @@
+"""Radial-velocity figures: each planet phase-folded, and the whole time series."""
+
+import numpy as np
+
+from ...models.keplerian import radial_velocity_ms
+from .. import style
+from .common import band, phase_days
+
+GRID_POINTS = 600
+#: The time-series model grid resolves the shortest period with this many points.
+POINTS_PER_PERIOD = 40
+MAX_GRID_POINTS = 20000
+
+
+def planet_rv_ms(values, orbit, name, times):
+    """One planet's Keplerian RV (m/s) at ``times``."""
+    return radial_velocity_ms(times, values[f"{name}.period_days"], values[f"{name}.transit_bjd"], orbit["e"],
+                              orbit["omega_rad"], values[f"{name}.rv_amplitude_ms"])
+
+
+def _corrected(posterior, view, index):
+    """Offset-free RVs, the model of all planets, jitter-inflated errors of spectrograph ``index``."""
+    d = posterior.velocities[index]
+    v = view.median
+    rv = d.rv - v[f"{d.name}.offset_ms"]
+    err = np.hypot(d.error, v[f"{d.name}.jitter_ms"])
+    return d, rv, posterior.velocity_model(v, view.median_orbits, index), err
+
+
+def _instruments(ax, posterior, draw_one):
+    for i, d in enumerate(posterior.velocities):
+        x, y, e = draw_one(i)
+        ax.errorbar(x, y, e, fmt=style.MARKERS[i % len(style.MARKERS)], color=style.CYCLE[i % len(style.CYCLE)],
+                    ms=3, elinewidth=0.7, label=d.name)
+
+
+def _panels(width_in, height_in):
+    fig = style.new_figure(width_in, height_in)
+    top, bottom = fig.subplots(2, 1, sharex=True, height_ratios=(3, 1.2))
+    bottom.axhline(0.0, color=style.MODEL_COLOUR)
+    bottom.set_ylabel("Residual [m/s]")
+    return fig, top, bottom
+
+
+def rv_phase_figure(posterior, view, planet):
+    """RVs folded on ``planet``'s period with offsets and the other planets removed.
+
+    Error bars include each spectrograph's median jitter. Phase 0 is the
+    transit (inferior conjunction).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        Two axes: velocity, residuals.
+    """
+    name = planet.name
+    v, orbits = view.median, view.median_orbits
+    period = v[f"{name}.period_days"]
+
+    def phase(times):
+        return phase_days(times, period, v[f"{name}.transit_bjd"]) / period
+
+    def folded(i):
+        d, rv, model, err = _corrected(posterior, view, i)
+        own = planet_rv_ms(v, orbits[name], name, d.time)
+        return phase(d.time), rv - (model - own), err
+
+    def residual(i):
+        d, rv, model, err = _corrected(posterior, view, i)
+        return phase(d.time), rv - model, err
+
+    grid = np.linspace(-0.5, 0.5, GRID_POINTS)
+    median = planet_rv_ms(v, orbits[name], name, v[f"{name}.transit_bjd"] + grid * period)
+    lo, hi = band([planet_rv_ms(val, orb[name], name, val[f"{name}.transit_bjd"] + grid * val[f"{name}.period_days"])
+                   for val, orb in view.draws])
+    with style.style():
+        fig, top, bottom = _panels(style.COLUMN_WIDTH_IN, 3.3)
+        top.fill_between(grid, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0, label="68% of draws")
+        top.plot(grid, median, color=style.MODEL_COLOUR, label="median model")
+        _instruments(top, posterior, folded)
+        _instruments(bottom, posterior, residual)
+        top.set_ylabel("Radial velocity [m/s]")
+        bottom.set_xlabel("Phase (0 = conjunction)")
+        bottom.set_xlim(-0.5, 0.5)
+        fig.legend(*top.get_legend_handles_labels(), loc="outside upper center", ncols=2, title=f"Planet {name}, P = {period:.4g} d")
+    return fig
+
+
+def rv_time_figure(posterior, view):
+    """All RVs against time (offsets removed) with the summed model of every planet.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        Two axes: velocity, residuals.
+    """
+    v, orbits = view.median, view.median_orbits
+    t_all = np.concatenate([d.time for d in posterior.velocities])
+    t0 = float(np.floor(t_all.min() / 100.0) * 100.0)
+    span = t_all.max() - t_all.min()
+    t_lo, t_hi = t_all.min() - 0.03 * span, t_all.max() + 0.03 * span
+    shortest = min(v[f"{p.name}.period_days"] for p in posterior.planets)
+    n = int(min(MAX_GRID_POINTS, max(GRID_POINTS, POINTS_PER_PERIOD * (t_hi - t_lo) / shortest)))
+    grid = np.linspace(t_lo, t_hi, n)
+
+    def total(values, orbs):
+        return sum(planet_rv_ms(values, orbs[p.name], p.name, grid) for p in posterior.planets)
+
+    lo, hi = band([total(val, orb) for val, orb in view.draws])
+
+    def data(i):
+        d, rv, _, err = _corrected(posterior, view, i)
+        return d.time - t0, rv, err
+
+    def residual(i):
+        d, rv, model, err = _corrected(posterior, view, i)
+        return d.time - t0, rv - model, err
+
+    with style.style():
+        fig, top, bottom = _panels(style.PAGE_WIDTH_IN, 3.3)
+        top.fill_between(grid - t0, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0,
+                         label="68% of draws")
+        top.plot(grid - t0, total(v, orbits), color=style.MODEL_COLOUR, lw=0.8, label="median model")
+        _instruments(top, posterior, data)
+        _instruments(bottom, posterior, residual)
+        top.set_ylabel("Radial velocity [m/s]")
+        bottom.set_xlabel(f"Time [BJD$_\\mathrm{{TDB}}$ $-$ {t0:.0f}]")
+        bottom.set_xlim(t_lo - t0, t_hi - t0)
+        fig.legend(*top.get_legend_handles_labels(), loc="outside upper center", ncols=2 + len(posterior.velocities))
+    return fig
