@@ -65,7 +65,7 @@ def test_bad_input_exits_2_with_file_key_and_fix(name, cases_copy, capsys, monke
         assert text in err, f"{text!r} missing from: {err}"
 
 
-@pytest.mark.parametrize("name", ["malformed_yaml", "python_object_tag", "mixed_time_systems"])
+@pytest.mark.parametrize("name", ["python_object_tag", "mixed_time_systems"])
 def test_bad_input_through_a_real_process(name, cases_copy):
     folder = cases_copy / name
     args, mentions = _expect(folder)

@@ -12,7 +12,7 @@ from planetfit import data
 from planetfit.config import load_config
 from planetfit.errors import InputError
 
-FUZZ = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+FUZZ = settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 
 BASE = {
     "system": "Fuzz-1", "seed": 1, "output": "run",
