@@ -31,6 +31,7 @@ def _add_run_options(p):
     p.add_argument("--force", action="store_true", help="replace the outputs of an earlier run in the folder")
     p.add_argument("--cores", type=int, default=1, help="processes for the walkers (default 1)")
     p.add_argument("--quiet", action="store_true", help="no progress bar or progress messages")
+    p.add_argument("--no-figures", action="store_true", help="write numbers and tables only (faster, for batches)")
 
 
 def build_parser():
@@ -85,7 +86,7 @@ def _cmd_run(args, config):
     if args.cores < 1:
         raise InputError(f"--cores must be at least 1, got {args.cores}.", fix="use e.g. --cores 2.")
     run_dir = pipeline.run(config, output=args.out, resume=args.resume, force=args.force, cores=args.cores,
-                           quiet=args.quiet)
+                           quiet=args.quiet, figures=not args.no_figures)
     _print_summary(run_dir)
 
 

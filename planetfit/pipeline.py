@@ -166,7 +166,7 @@ def _resolved_config(config):
     return yaml.safe_dump(raw, sort_keys=False)
 
 
-def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False):
+def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False, figures=True):
     """The whole job for one config; returns the run directory."""
     checked = check(config_path, output=output)
     config = checked.config
@@ -192,11 +192,11 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
         if "autocorr_history" in g:
             del g["autocorr_history"]
         g["autocorr_history"] = np.array(result.autocorr_history, dtype=float).reshape(-1, 2)
-    finish(run_dir, checked, result.samples, meta)
+    finish(run_dir, checked, result.samples, meta, figures=figures)
     return run_dir
 
 
-def finish(run_dir, checked, samples, sampling_meta):
+def finish(run_dir, checked, samples, sampling_meta, figures=True):
     """Derive, add context and write every output from posterior samples."""
     config = checked.config
     post = JointPosterior(config, checked.photometry, checked.velocities)
@@ -207,7 +207,7 @@ def finish(run_dir, checked, samples, sampling_meta):
     summary = summary_out.build_summary(config, derived, blocks, sampling_meta)
     summary_out.write_summary_json(run_dir / "summary.json", summary)
     summary_out.write_posterior_csv(run_dir / "posterior.csv", derived)
-    outputs.write_all(run_dir, checked, post, samples, derived, summary)
+    outputs.write_all(run_dir, checked, post, samples, derived, summary, figures=figures)
     log.info("outputs written to %s", run_dir)
     return summary
 

@@ -182,13 +182,15 @@ class JointPosterior:
             out[p.name] = o
         return out
 
-    def photometry_model(self, values, orbits, i):
-        """Model flux of photometric dataset ``i``."""
+    def photometry_model(self, values, orbits, i, planets=None):
+        """Model flux of photometric dataset ``i``, with the transits of ``planets`` (default: all)."""
         d = self.photometry[i]
         u1, u2 = quadratic_coefficients(values[f"{d.band}.limb_darkening_q1"], values[f"{d.band}.limb_darkening_q2"])
         level = values[f"{d.name}.flux_level"]
         model = np.full(d.time.size, level)
         for p, lc in zip(self.transiting, self.light_curves[i]):
+            if planets is not None and p.name not in planets:
+                continue
             o = orbits[p.name]
             n = p.name
             per, t0, k = values[f"{n}.period_days"], values[f"{n}.transit_bjd"], values[f"{n}.radius_ratio"]

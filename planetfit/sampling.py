@@ -268,7 +268,7 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
     backend = emcee.backends.HDFBackend(str(h5_path), name="chain")
     start = time.perf_counter()
     if resume and backend.iteration > 0:
-        initial = None
+        initial = backend.get_last_sample()
         log.info("resuming from step %d in %s", backend.iteration, h5_path)
         nwalkers = backend.shape[0]
     else:

@@ -13,7 +13,7 @@ from .style import save_figure
 log = logging.getLogger("planetfit")
 
 
-def write_all(run_dir, checked, posterior, samples, derived, summary):
+def write_all(run_dir, checked, posterior, samples, derived, summary, figures=True):
     """Write table.tex, summary.md and every figure into ``run_dir`` and ``run_dir/figures``.
 
     Parameters
@@ -27,12 +27,16 @@ def write_all(run_dir, checked, posterior, samples, derived, summary):
         :func:`planetfit.physics.derive` output after context.
     summary : dict
         summary.json content.
+    figures : bool
+        Draw the figures (tables are always written).
     """
     run_dir = Path(run_dir)
     priors = {**posterior.layout.priors, **tables.star_priors(checked.config)}
     rows = tables.table_rows(summary, priors)
     write_text_atomic(run_dir / "table.tex", tables.latex_table(summary, rows))
     write_text_atomic(run_dir / "summary.md", summary_markdown(summary, rows))
+    if not figures:
+        return
     for name, build in figure_builders(run_dir, checked, posterior, samples, derived, summary):
         start = time.perf_counter()
         save_figure(build(), run_dir / "figures", name)

@@ -1,7 +1,5 @@
 """What several figures share: posterior draws, folding, binning, credible bands."""
 
-import copy
-
 import numpy as np
 
 from ...stats import LOWER_PERCENTILE, UPPER_PERCENTILE
@@ -52,15 +50,6 @@ class PosteriorView:
             orbits = posterior.orbits(values)
             if orbits is not None:
                 self.draws.append((values, orbits))
-
-
-def only_planet(posterior, planet):
-    """A shallow copy of ``posterior`` whose photometric model holds one planet's transits only."""
-    j = posterior.transiting.index(planet)
-    single = copy.copy(posterior)
-    single.transiting = [planet]
-    single.light_curves = [[curves[j]] for curves in posterior.light_curves]
-    return single
 
 
 def phase_days(times, period_days, transit_bjd):

@@ -7,7 +7,7 @@ import numpy as np
 from ...models.transit import TransitLightCurve, quadratic_coefficients
 from ...units import HOURS_PER_DAY, MINUTES_PER_DAY, PPM
 from .. import style
-from .common import band, bin_points, only_planet, phase_days
+from .common import band, bin_points, phase_days
 
 #: Half-width of the plotted window in transit durations, and its floor in hours.
 WINDOW_DURATIONS = 1.5
@@ -56,7 +56,7 @@ def transit_figure(posterior, view, planet, index, duration_hr):
     v, orbits = view.median, view.median_orbits
     level = v[f"{d.name}.flux_level"]
     full = posterior.photometry_model(v, orbits, index)
-    own = only_planet(posterior, planet).photometry_model(v, orbits, index)
+    own = posterior.photometry_model(v, orbits, index, planets=[planet.name])
     x_hr = phase_days(d.time, v[f"{planet.name}.period_days"], v[f"{planet.name}.transit_bjd"]) * HOURS_PER_DAY
     half = max(WINDOW_DURATIONS * duration_hr, MIN_HALF_WINDOW_HR)
     sel = np.abs(x_hr) <= half
