@@ -25,11 +25,12 @@ class _Parser(argparse.ArgumentParser):
         raise InputError(f"{message}.", fix=f"see '{self.prog} --help'.")
 
 
-def _add_run_options(p):
+def _add_run_options(p, default_cores=1):
     p.add_argument("--out", help="run directory (default: the config's 'output')")
     p.add_argument("--resume", action="store_true", help="continue an interrupted run from samples.h5")
     p.add_argument("--force", action="store_true", help="replace the outputs of an earlier run in the folder")
-    p.add_argument("--cores", type=int, default=1, help="processes for the walkers (default 1)")
+    p.add_argument("--cores", type=int, default=default_cores,
+                   help=f"processes for the walkers (default {default_cores})")
     p.add_argument("--quiet", action="store_true", help="no progress bar or progress messages")
     p.add_argument("--no-figures", action="store_true", help="write numbers and tables only (faster, for batches)")
 
@@ -43,7 +44,7 @@ def build_parser():
     p = sub.add_parser("check", help="validate the config and data; print a data overview; fit nothing")
     p.add_argument("config")
     p = sub.add_parser("demo", help="fit the bundled demo system")
-    _add_run_options(p)
+    _add_run_options(p, default_cores=min(2, os.cpu_count() or 1))
     p = sub.add_parser("redraw", help="figures and tables again from a run's saved samples")
     p.add_argument("rundir")
     p = sub.add_parser("interior", help="composition verdict for a mass and radius (Earth units)")
