@@ -20,12 +20,12 @@ import contextlib
 import logging
 import math
 import multiprocessing
-import os
 import time
 
 import emcee
 import numpy as np
 from scipy import optimize
+from threadpoolctl import threadpool_limits
 
 log = logging.getLogger("planetfit")
 
@@ -213,9 +213,12 @@ def _worker_log_prob(theta):
 
 
 def _pin_threads():
-    """One BLAS/OpenMP thread per worker process, so N workers use N cores."""
-    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
-        os.environ[var] = "1"
+    """One BLAS/OpenMP thread per worker process, so N workers use N cores.
+
+    Set through threadpoolctl: the BLAS library is loaded before the fork,
+    so environment variables set in the worker would come too late.
+    """
+    threadpool_limits(limits=1)
 
 
 @contextlib.contextmanager
@@ -267,19 +270,22 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
                     nwalkers, ndim)
     backend = emcee.backends.HDFBackend(str(h5_path), name="chain")
     start = time.perf_counter()
-    if resume and backend.iteration > 0:
-        initial = backend.get_last_sample()
-        log.info("resuming from step %d in %s", backend.iteration, h5_path)
-        nwalkers = backend.shape[0]
-    else:
-        backend.reset(nwalkers, ndim)
-        theta, best = find_map(log_prob, layout, rng, settings.optimiser_starts)
-        log.info("maximum a posteriori log-probability %.3f", best)
-        initial = initial_walkers(log_prob, layout, theta, nwalkers, rng)
-    with walker_pool(log_prob, cores) as (fn, pool):
-        sampler = emcee.EnsembleSampler(nwalkers, ndim, fn, pool=pool, backend=backend,
-                                        moves=[(emcee.moves.DEMove(), 0.8), (emcee.moves.DESnookerMove(), 0.2)])
-        converged, history = _sample(sampler, backend, initial, settings, rng, progress)
+    # One log-probability is too small a job for a threaded BLAS: its threads only contend with the
+    # walkers' processes and other programs for the cores (6x slower evaluations on a loaded 2-core machine).
+    with threadpool_limits(limits=1):
+        if resume and backend.iteration > 0:
+            initial = backend.get_last_sample()
+            log.info("resuming from step %d in %s", backend.iteration, h5_path)
+            nwalkers = backend.shape[0]
+        else:
+            backend.reset(nwalkers, ndim)
+            theta, best = find_map(log_prob, layout, rng, settings.optimiser_starts)
+            log.info("maximum a posteriori log-probability %.3f", best)
+            initial = initial_walkers(log_prob, layout, theta, nwalkers, rng)
+        with walker_pool(log_prob, cores) as (fn, pool):
+            sampler = emcee.EnsembleSampler(nwalkers, ndim, fn, pool=pool, backend=backend,
+                                            moves=[(emcee.moves.DEMove(), 0.8), (emcee.moves.DESnookerMove(), 0.2)])
+            converged, history = _sample(sampler, backend, initial, settings, rng, progress)
     return _result(backend, settings, nwalkers, converged, history, time.perf_counter() - start)
 
 
