@@ -45,6 +45,14 @@ def build_parser():
     p.add_argument("config")
     p = sub.add_parser("demo", help="fit the bundled demo system")
     _add_run_options(p, default_cores=min(2, os.cpu_count() or 1))
+    p = sub.add_parser("batch", help="fit many configs as Dask tasks; write batch_summary.csv")
+    p.add_argument("configs", nargs="+", metavar="CONFIG")
+    p.add_argument("--workers", type=int, help="processes of the local cluster (default: the machine's cores)")
+    p.add_argument("--scheduler", metavar="ADDRESS", help="use the Dask scheduler at ADDRESS instead of a local cluster")
+    p.add_argument("--out", metavar="DIR", help="run directories in DIR/<config stem> and batch_summary.csv in DIR "
+                                                "(default: each config's 'output', summary in the current folder)")
+    p.add_argument("--figures", action="store_true", help="also draw each system's figures (slower)")
+    p.add_argument("--force", action="store_true", help="replace the outputs of earlier runs in the folders")
     p = sub.add_parser("redraw", help="figures and tables again from a run's saved samples")
     p.add_argument("rundir")
     p = sub.add_parser("interior", help="composition verdict for a mass and radius (Earth units)")
@@ -89,6 +97,24 @@ def _cmd_run(args, config):
     run_dir = pipeline.run(config, output=args.out, resume=args.resume, force=args.force, cores=args.cores,
                            quiet=args.quiet, figures=not args.no_figures)
     _print_summary(run_dir)
+
+
+def _cmd_batch(args):
+    """Exit code: 0 if every system succeeded, else 2 (a bad input) or 1 (an internal failure)."""
+    from .batch import STATUS_INPUT, STATUS_OK, run_batch
+
+    def show(rows):
+        r = rows[0]
+        note = f"{r['seconds']} s" if r["status"] == STATUS_OK else r["error"]
+        print(f"{r['status']:>14s}  {r['config']}: {note}", flush=True)
+
+    path, rows = run_batch(args.configs, out_dir=args.out, workers=args.workers, scheduler=args.scheduler,
+                           figures=args.figures, force=args.force, on_result=show)
+    failed = {r["config"]: r["status"] for r in rows if r["status"] != STATUS_OK}
+    print(f"{len(args.configs) - len(failed)} of {len(args.configs)} systems fitted; summary in {path}")
+    if not failed:
+        return EXIT_OK
+    return EXIT_INPUT if set(failed.values()) == {STATUS_INPUT} else EXIT_INTERNAL
 
 
 def _cmd_check(args):
@@ -183,6 +209,8 @@ def main(argv=None):
             if args.out is None:
                 args.out = "planetfit-demo"
             _cmd_run(args, DEMO_CONFIG)
+        elif args.command == "batch":
+            return _cmd_batch(args)
         elif args.command == "check":
             _cmd_check(args)
         elif args.command == "redraw":
