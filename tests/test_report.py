@@ -62,9 +62,9 @@ def run(tmp_path_factory):
         run_dir = pipeline.run(_small_demo(folder), quiet=True)
     table_from_fit = (run_dir / "table.tex").read_bytes()
 
-    def capture(*args):
+    def capture(*args, **kwargs):
         captured["args"] = args
-        real_write_all(*args)
+        real_write_all(*args, **kwargs)
 
     def keep(fig, folder, name):
         captured["figures"][name] = fig

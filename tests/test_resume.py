@@ -51,8 +51,6 @@ def _chain(h5):
     return emcee.backends.HDFBackend(str(h5), name="chain", read_only=True).get_chain()
 
 
-@pytest.mark.xfail(strict=True, reason="sampling.run_sampler passes initial=None to emcee on resume; it needs "
-                   "initial = backend.get_last_sample() (sampling.py belongs to another developer)")
 def test_killed_run_resumes_without_losing_steps(tmp_path, capsys, no_figures):
     config = write_system(tmp_path, max_steps=500, n_phot=150)
     h5 = tmp_path / "run" / "samples.h5"
