@@ -15,6 +15,8 @@ from pathlib import Path
 from .errors import InputError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
+#: Seconds between repeated KeyboardInterrupts after Ctrl-C or SIGTERM, until the run has stopped.
+REPEAT_INTERRUPT_S = 0.5
 
 
 class _Parser(argparse.ArgumentParser):
@@ -180,16 +182,21 @@ def _interrupted(signum, frame, main_pid=os.getpid()):
 
     Libraries print tracebacks of exceptions passing through them (emcee does
     for every log-probability call), so output is silenced until ``main``
-    restores it and prints how to resume.
+    restores it and prints how to resume. Code that swallows the exception
+    (a callback from compiled code) cannot keep the run going: a timer
+    raises it again every half second until ``main`` has stopped.
     """
     if os.getpid() != main_pid:
         signal.signal(signum, signal.SIG_DFL)
         os.kill(os.getpid(), signum)
-    sys.stdout = sys.stderr = open(os.devnull, "w")
+    if signum != signal.SIGALRM:
+        sys.stdout = sys.stderr = open(os.devnull, "w")
+        signal.setitimer(signal.ITIMER_REAL, REPEAT_INTERRUPT_S, REPEAT_INTERRUPT_S)
     raise KeyboardInterrupt
 
 
 def _restore(streams):
+    signal.setitimer(signal.ITIMER_REAL, 0)
     if sys.stderr is not streams[1]:
         sys.stderr.close()
     sys.stdout, sys.stderr = streams
@@ -199,7 +206,7 @@ def main(argv=None):
     """Entry point of the ``planetfit`` console script."""
     args = None
     streams = sys.stdout, sys.stderr
-    previous = {sig: signal.signal(sig, _interrupted) for sig in (signal.SIGINT, signal.SIGTERM)}
+    previous = {sig: signal.signal(sig, _interrupted) for sig in (signal.SIGINT, signal.SIGTERM, signal.SIGALRM)}
     try:
         args = build_parser().parse_args(argv)
         if args.command == "run":
