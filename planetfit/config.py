@@ -14,10 +14,16 @@ from pathlib import Path
 import yaml
 
 from .errors import InputError
-from .priors import Fixed, Normal, Uniform, make_prior
+from .priors import Fixed, LogUniform, Normal, Uniform, make_prior
 
 ORBITS = ("circular", "eccentric")
 LIMB_DARKENING_LAWS = ("quadratic",)
+BASELINES = ("constant", "linear", "gp")
+GP_KERNELS = ("sho", "matern32")
+RV_TRENDS = ("none", "linear", "quadratic")
+#: Quality factor of a stochastically driven damped oscillator whose power spectrum resembles
+#: granulation-type variability (Foreman-Mackey et al. 2017, AJ 154, 220, section 4.1).
+SHO_QUALITY_DEFAULT = 1 / math.sqrt(2)
 #: Most values a config may expand to; nested YAML aliases ("billion laughs") can reach billions.
 MAX_YAML_NODES = 100_000
 #: Short reprs of user values in messages, whatever their size.
@@ -54,7 +60,7 @@ class PlanetConfig:
 @dataclasses.dataclass
 class PhotometryConfig:
     name: str
-    file: Path
+    file: Path                      # the first of ``files`` (messages)
     columns: dict
     time_offset_days: float
     exposure_min: float
@@ -66,6 +72,24 @@ class PhotometryConfig:
     flux_level: object
     jitter_ppm: object
     normalise: bool
+    files: list = None              # every file of the dataset, concatenated in time order
+    quality_column: str = None
+    quality_keep_bits: tuple = ()   # bit numbers counted from 1 (bit n has value 2**(n - 1))
+    clip_sigma: float = 5.0         # 0: no clipping
+    clip_window_days: float = 0.5
+    segment_gap_days: float = 0.5
+    near_transits_hours: float = None
+    baseline: str = "constant"
+    slope_per_day: object = None
+    dilution: object = Fixed(0.0)
+    gp_kernel: str = "sho"
+    gp_sigma_ppm: object = None
+    gp_rho_days: object = None
+    gp_quality: object = None
+
+    def __post_init__(self):
+        if self.files is None:
+            self.files = [self.file]
 
 
 @dataclasses.dataclass
@@ -76,6 +100,24 @@ class VelocityConfig:
     time_offset_days: float
     offset_ms: object
     jitter_ms: object
+    decorrelate: dict = dataclasses.field(default_factory=dict)  # indicator column -> prior (m/s per unit)
+    activity_amplitude_ms: object = None
+
+
+@dataclasses.dataclass
+class RvTrendConfig:
+    kind: str                       # linear or quadratic
+    slope_ms_per_day: object
+    curvature_ms_per_day2: object = None
+    reference_bjd: float = None     # None: middle of the RV time span
+
+
+@dataclasses.dataclass
+class RvActivityConfig:
+    rotation_period_days: object
+    quality: object
+    quality_difference: object
+    mix: object
 
 
 @dataclasses.dataclass
@@ -101,6 +143,8 @@ class Config:
     sampling: SamplingConfig
     raw: dict
     lines: dict
+    rv_trend: RvTrendConfig = None
+    rv_activity: RvActivityConfig = None
 
 
 # ----------------------------------------------------------------- reading
@@ -261,6 +305,26 @@ class _Section:
         value = self.text(name, required=True)
         return (self.ctx.path.parent / value).resolve()
 
+    def paths(self, name):
+        """One path or a non-empty list of paths (e.g. one file per sector)."""
+        value = self.take(name, required=True)
+        if isinstance(value, str):
+            value = [value]
+        if not isinstance(value, list) or not value or not all(isinstance(v, str) for v in value):
+            self.ctx.fail(self._k(name), f"expected a file name or a list of file names, got {_show(value)}.",
+                          f"write '{name}: data.fits' or '{name}: [sector-1.fits, sector-2.fits]'.")
+        return [(self.ctx.path.parent / v).resolve() for v in value]
+
+    def integers(self, name, lo, hi):
+        """A list of integers in [lo, hi] (default: empty)."""
+        value = self.take(name, default=[])
+        ok = isinstance(value, list) and all(isinstance(v, int) and not isinstance(v, bool) and lo <= v <= hi
+                                             for v in value)
+        if not ok:
+            self.ctx.fail(self._k(name), f"expected a list of integers from {lo} to {hi}, got {_show(value)}.",
+                          f"write e.g. '{name}: [{lo}, {lo + 2}]'.")
+        return tuple(value)
+
     def finish(self, allowed=None):
         """Reject keys that were not read, with a 'did you mean' hint."""
         known = set(allowed or ()) | self.used
@@ -384,8 +448,9 @@ def _check_photometry(ctx, i, data, seen):
     name = _dataset_name(s, key, i, seen, ctx)
     exposure = s.number("exposure_min", required=True, positive=True)
     default_ss = max(1, math.ceil(exposure / 2.0 - 1e-9))  # sub-exposures of at most 2 min
+    files = s.paths("file")
     phot = PhotometryConfig(
-        name=name, file=s.path("file"),
+        name=name, file=files[0], files=files,
         columns=_check_columns(ctx, f"{key}.columns", s.take("columns", default={}), ("time", "flux", "error")),
         time_offset_days=s.number("time_offset_days", default=0.0),
         exposure_min=exposure,
@@ -396,31 +461,126 @@ def _check_photometry(ctx, i, data, seen):
         q2=s.prior("limb_darkening_q2", default=Uniform(0, 1)),
         flux_level=s.prior("flux_level", default=Uniform(0.9, 1.1)),
         jitter_ppm=s.prior("jitter_ppm", default=Fixed(0.0)),
-        normalise=s.flag("normalise", True))
+        normalise=s.flag("normalise", True),
+        quality_column=s.text("quality_column"),
+        quality_keep_bits=s.integers("quality_keep_bits", 1, 32),
+        clip_sigma=s.number("clip_sigma", default=5.0),
+        clip_window_days=s.number("clip_window_days", default=0.5, positive=True),
+        segment_gap_days=s.number("segment_gap_days", default=0.5, positive=True),
+        near_transits_hours=s.number("near_transits_hours", positive=True),
+        baseline=s.text("baseline", default="constant", choices=BASELINES),
+        dilution=s.prior("dilution", default=Fixed(0.0)))
+    if phot.clip_sigma < 0:
+        ctx.fail(f"{key}.clip_sigma", f"must be 0 (no clipping) or positive, got {phot.clip_sigma}.",
+                 "use e.g. 5 (clip points more than 5 sigma from the running median).")
+    if phot.quality_keep_bits and phot.quality_column is None:
+        ctx.fail(f"{key}.quality_keep_bits", "bits to keep need a quality column.",
+                 "add 'quality_column: <column name>' or remove 'quality_keep_bits'.")
+    lo, hi = phot.dilution.bounds
+    if lo < 0 or hi >= 1:
+        ctx.fail(f"{key}.dilution", "the contaminating flux fraction must lie in [0, 1).",
+                 "give e.g. 0.05, or '{uniform: [0, 0.2]}'.")
+    if phot.baseline == "linear":
+        phot.slope_per_day = s.prior("slope_per_day", default=Uniform(-0.01, 0.01))
+    if phot.baseline == "gp":
+        phot.gp_kernel = s.text("gp_kernel", default="sho", choices=GP_KERNELS)
+        phot.gp_sigma_ppm = s.prior("gp_sigma_ppm", default=LogUniform(1.0, 1e5))
+        phot.gp_rho_days = s.prior("gp_rho_days", default=LogUniform(0.1, 50.0))
+        for name_ in ("gp_sigma_ppm", "gp_rho_days"):
+            _positive_prior(ctx, f"{key}.{name_}", getattr(phot, name_), name_)
+        if phot.gp_kernel == "sho":
+            phot.gp_quality = s.prior("gp_quality", default=Fixed(SHO_QUALITY_DEFAULT))
+            _positive_prior(ctx, f"{key}.gp_quality", phot.gp_quality, "the quality factor")
     for q in ("q1", "q2"):
         lo, hi = getattr(phot, q).bounds
         if lo < 0 or hi > 1:
             ctx.fail(f"{key}.limb_darkening_{q}", "Kipping's q1 and q2 live in [0, 1].", "keep the prior inside [0, 1].")
     if phot.jitter_ppm.bounds[0] < 0:
         ctx.fail(f"{key}.jitter_ppm", "a jitter cannot be negative.", "use a lower bound of 0 or above.")
+    _only_with(ctx, s, key, ("slope_per_day",), "baseline: linear")
+    _only_with(ctx, s, key, ("gp_kernel", "gp_sigma_ppm", "gp_rho_days", "gp_quality"), "baseline: gp")
     s.finish()
     return phot
 
 
-def _check_velocities(ctx, i, data, seen):
+def _only_with(ctx, s, key, names, setting):
+    """Reject keys given without the setting that uses them."""
+    for extra in names:
+        if extra not in s.used and s.has(extra):
+            ctx.fail(f"{key}.{extra}", f"this key is used only with '{setting}'.",
+                     f"remove '{extra}', or set '{setting}'.")
+
+
+def _check_velocities(ctx, i, data, seen, activity):
     key = f"velocities[{i}]"
     s = _Section(ctx, data, key)
     name = _dataset_name(s, key, i, seen, ctx)
+    raw_decorrelate = s.take("decorrelate", default={})
+    ds = _Section(ctx, raw_decorrelate, f"{key}.decorrelate")
+    decorrelate = {str(col): ds.prior(col, required=True) for col in list(ds.data)}
+    columns = _check_columns(ctx, f"{key}.columns", s.take("columns", default={}), ("time", "rv", "error"))
+    for col in decorrelate:
+        if col in columns.values():
+            ctx.fail(f"{key}.decorrelate.{col}", "this column is already the time, RV or error column.",
+                     "name an activity-indicator column of the file (e.g. line width or bisector span).")
     rv = VelocityConfig(
-        name=name, file=s.path("file"),
-        columns=_check_columns(ctx, f"{key}.columns", s.take("columns", default={}), ("time", "rv", "error")),
+        name=name, file=s.path("file"), columns=columns,
         time_offset_days=s.number("time_offset_days", default=0.0),
         offset_ms=s.prior("offset_ms", required=True),
-        jitter_ms=s.prior("jitter_ms", default=Fixed(0.0)))
+        jitter_ms=s.prior("jitter_ms", default=Fixed(0.0)),
+        decorrelate=decorrelate)
+    if activity:
+        rv.activity_amplitude_ms = s.prior("activity_amplitude_ms", default=LogUniform(0.01, 50.0))
+        _positive_prior(ctx, f"{key}.activity_amplitude_ms", rv.activity_amplitude_ms, "the activity amplitude")
+    elif s.has("activity_amplitude_ms"):
+        ctx.fail(f"{key}.activity_amplitude_ms", "an activity amplitude needs the shared 'rv_activity' block.",
+                 "add a top-level 'rv_activity:' block, or remove this key.")
     if rv.jitter_ms.bounds[0] < 0:
         ctx.fail(f"{key}.jitter_ms", "a jitter cannot be negative.", "use a lower bound of 0 or above.")
-    s.finish()
+    s.finish(allowed=("activity_amplitude_ms",))
     return rv
+
+
+def _check_rv_trend(ctx, value):
+    """``rv_trend: linear`` or a block {kind, slope_ms_per_day, curvature_ms_per_day2, reference_bjd}."""
+    if value is None or value == "none":
+        return None
+    if isinstance(value, str):
+        value = {"kind": value}
+    s = _Section(ctx, value, "rv_trend")
+    kind = s.text("kind", required=True, choices=RV_TRENDS)
+    trend = RvTrendConfig(kind=kind, slope_ms_per_day=s.prior("slope_ms_per_day", default=Uniform(-1.0, 1.0)),
+                          reference_bjd=s.number("reference_bjd"))
+    if kind == "quadratic":
+        trend.curvature_ms_per_day2 = s.prior("curvature_ms_per_day2", default=Uniform(-0.01, 0.01))
+    s.finish(allowed=("curvature_ms_per_day2",))
+    if kind == "none":
+        return None
+    if kind == "linear" and s.has("curvature_ms_per_day2"):
+        ctx.fail("rv_trend.curvature_ms_per_day2", "a linear trend has no curvature.",
+                 "remove the key or set 'kind: quadratic'.")
+    return trend
+
+
+def _check_rv_activity(ctx, value):
+    """The shared rotation GP of the RVs (celerite2 RotationTerm), or None."""
+    if value is None:
+        return None
+    s = _Section(ctx, value, "rv_activity")
+    act = RvActivityConfig(rotation_period_days=s.prior("rotation_period_days", required=True),
+                           quality=s.prior("quality", default=LogUniform(0.5, 50.0)),
+                           quality_difference=s.prior("quality_difference", default=Fixed(1.0)),
+                           mix=s.prior("mix", default=Fixed(0.5)))
+    for name in ("rotation_period_days", "quality"):
+        _positive_prior(ctx, f"rv_activity.{name}", getattr(act, name), name)
+    for name in ("quality_difference", "mix"):
+        if getattr(act, name).bounds[0] < 0:
+            ctx.fail(f"rv_activity.{name}", "must not be negative.", "use a lower bound of 0 or above.")
+    if act.mix.bounds[1] > 1:
+        ctx.fail("rv_activity.mix", "the fraction of power at half the period lies in [0, 1].",
+                 "keep the prior inside [0, 1].")
+    s.finish()
+    return act
 
 
 def _check_list(ctx, key, value):
@@ -467,8 +627,14 @@ def load_config(path, output=None):
     seen = set()
     photometry = [_check_photometry(ctx, i, d, seen)
                   for i, d in enumerate(_check_list(ctx, "photometry", top.take("photometry")))]
-    velocities = [_check_velocities(ctx, i, d, seen)
+    rv_activity = _check_rv_activity(ctx, top.take("rv_activity"))
+    velocities = [_check_velocities(ctx, i, d, seen, rv_activity is not None)
                   for i, d in enumerate(_check_list(ctx, "velocities", top.take("velocities")))]
+    rv_trend = _check_rv_trend(ctx, top.take("rv_trend"))
+    for block, value in (("rv_trend", rv_trend), ("rv_activity", rv_activity)):
+        if value is not None and not velocities:
+            ctx.fail(block, "this block models radial velocities, and none are given.",
+                     f"add a 'velocities' dataset or remove '{block}'.")
     if not photometry and not velocities:
         ctx.fail("photometry", "the config has no data: neither 'photometry' nor 'velocities' lists a dataset.",
                  "add at least one dataset (see README, config reference).")
@@ -495,4 +661,5 @@ def load_config(path, output=None):
     top.finish(allowed=("climate",))
     output_dir = Path(output).resolve() if output is not None else (path.parent / out).resolve()
     return Config(path=path, system=system, seed=seed, output=output_dir, star=star, planets=planets,
-                  photometry=photometry, velocities=velocities, sampling=sampling, raw=data, lines=lines)
+                  photometry=photometry, velocities=velocities, sampling=sampling, raw=data, lines=lines,
+                  rv_trend=rv_trend, rv_activity=rv_activity)

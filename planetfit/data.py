@@ -1,11 +1,16 @@
 """Reading photometry and radial-velocity tables into checked arrays.
 
 Tables are CSV or whitespace-separated text with a header line naming the
-columns (lines starting with ``#`` are comments). The config maps our
-quantities (time, flux, error / time, rv, error) to the file's column names.
-Times become BJD_TDB by adding ``time_offset_days``. Rows with NaN are
-dropped and counted; everything else that is wrong stops with an
-:class:`~planetfit.errors.InputError` naming the file, column or line.
+columns (lines starting with ``#`` are comments), or, for photometry, FITS
+binary tables (:mod:`planetfit.fits_io`). The config maps our quantities
+(time, flux, error / time, rv, error, plus a quality bitmask and activity
+indicators) to the file's column names. Text times become BJD_TDB by adding
+``time_offset_days``; FITS times by their header's reference date. Rows
+flagged in the quality column and rows with NaN are dropped and counted;
+light curves are then normalised per contiguous segment and clipped of
+outliers outside predicted transits (:mod:`planetfit.cleaning`). Everything
+else that is wrong stops with an :class:`~planetfit.errors.InputError`
+naming the file, column or line.
 """
 
 import dataclasses
@@ -13,8 +18,10 @@ import logging
 
 import numpy as np
 
+from . import cleaning
 from .errors import InputError
-from .units import MINUTES_PER_DAY
+from .fits_io import is_fits, read_fits_table
+from .units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 log = logging.getLogger("planetfit")
 
@@ -43,6 +50,17 @@ class Photometry:
     band: str
     dropped_nan: int = 0
     normalisation: float = 1.0
+    segment: np.ndarray = None      # contiguous-segment label of every point
+    dropped_quality: int = 0
+    clipped: int = 0
+    dropped_far_from_transits: int = 0
+
+    def counts(self):
+        """Point counts of the cleaning steps (the ``data`` block of summary.json)."""
+        return {"points": int(self.time.size), "dropped_nan": self.dropped_nan,
+                "dropped_quality": self.dropped_quality, "clipped": self.clipped,
+                "dropped_far_from_transits": self.dropped_far_from_transits,
+                "segments": int(np.unique(self.segment).size) if self.segment is not None else 1}
 
 
 @dataclasses.dataclass
@@ -54,6 +72,11 @@ class Velocities:
     rv: np.ndarray
     error: np.ndarray
     dropped_nan: int = 0
+    indicators: dict = dataclasses.field(default_factory=dict)  # column -> values minus their median
+
+    def counts(self):
+        """Point counts (the ``data`` block of summary.json)."""
+        return {"points": int(self.time.size), "dropped_nan": self.dropped_nan}
 
 
 def _split(line, sep):
@@ -146,27 +169,106 @@ def _clean(path, table, name):
     return t, dropped
 
 
-def load_photometry(cfg):
-    """Read one photometry dataset from its :class:`~planetfit.config.PhotometryConfig`."""
-    table, dropped = _clean(cfg.file, read_table(cfg.file, cfg.columns), cfg.name)
-    flux, error = table["flux"], table["error"]
+def quality_mask(quality, keep_bits):
+    """True for rows whose quality bitmask has a set bit outside ``keep_bits`` (bit n has value 2**(n - 1))."""
+    keep = sum(1 << (b - 1) for b in keep_bits)
+    flags = quality.astype(np.int64)
+    return (flags & ~keep) != 0
+
+
+def _read_light_curve(cfg, path):
+    """One file's table (times in BJD_TDB) and its count of quality-flagged rows dropped."""
+    columns = dict(cfg.columns)
+    if cfg.quality_column is not None:
+        columns["quality"] = cfg.quality_column
+    if is_fits(path):
+        if cfg.time_offset_days != 0.0:
+            raise InputError("FITS light curves carry their own time reference (BJDREFI + BJDREFF); "
+                             "'time_offset_days' would shift them twice.", file=path, key="time_offset_days",
+                             fix="remove 'time_offset_days' from this dataset.")
+        table = read_fits_table(path, columns)
+    else:
+        table = read_table(path, columns)
+        table["time"] = table["time"] + cfg.time_offset_days
+    flagged = 0
+    if "quality" in table:
+        quality = np.nan_to_num(table.pop("quality"), nan=0.0)
+        bad = quality_mask(quality, cfg.quality_keep_bits)
+        flagged = int(bad.sum())
+        table = {k: v[~bad] for k, v in table.items()}
+    return table, flagged
+
+
+def load_photometry(cfg, planets=(), star=None):
+    """Read, clean and normalise one photometry dataset.
+
+    Parameters
+    ----------
+    cfg : PhotometryConfig
+        Several ``files`` are concatenated in time order.
+    planets : list of PlanetConfig
+        Their predicted transits are spared by the clipping and, with
+        ``near_transits_hours``, alone kept.
+    star : StarConfig
+        Sets the longest transit the priors allow.
+    """
+    parts, flagged = [], 0
+    for path in cfg.files:
+        table, n = _read_light_curve(cfg, path)
+        parts.append(table)
+        flagged += n
+    parts.sort(key=lambda t: np.nanmin(t["time"]) if t["time"].size else 0.0)
+    table = {k: np.concatenate([t[k] for t in parts]) for k in parts[0]}
+    if flagged:
+        log.info("%s: dropped %d rows with quality flags set", cfg.name, flagged)
+    table, dropped = _clean(cfg.file, table, cfg.name)
+    time, flux, error = table["time"], table["flux"], table["error"]
+    segment = cleaning.segment_labels(time, cfg.segment_gap_days)
     norm = 1.0
     if cfg.normalise:
-        norm = float(np.median(flux))
-        if not norm > 0:
-            raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
-                             key="columns.flux", fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
-        flux, error = flux / norm, error / norm
-    return Photometry(name=cfg.name, time=table["time"] + cfg.time_offset_days, flux=flux, error=error,
+        for label in np.unique(segment):
+            seg = segment == label
+            level = float(np.median(flux[seg]))
+            if not level > 0:
+                raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
+                                 key="columns.flux",
+                                 fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
+            flux[seg], error[seg] = flux[seg] / level, error[seg] / level
+            norm = level if label == 0 else norm
+    keep = np.ones(time.size, dtype=bool)
+    clipped = far = 0
+    if planets:
+        in_transit = cleaning.near_transits(time, planets, star)
+        out = cleaning.sigma_clip(time, flux, segment, in_transit, cfg.clip_sigma, cfg.clip_window_days)
+        clipped = int(out.sum())
+        keep &= ~out
+        if cfg.near_transits_hours is not None:
+            near = cleaning.near_transits(time, planets, star, cfg.near_transits_hours / HOURS_PER_DAY)
+            far = int((keep & ~near).sum())
+            keep &= near
+        if clipped or far:
+            log.info("%s: clipped %d outliers (%.1f sigma), dropped %d points far from predicted transits",
+                     cfg.name, clipped, cfg.clip_sigma, far)
+        if not keep.any():
+            raise InputError("no points are left near the predicted transits.", file=cfg.file,
+                             key="near_transits_hours", fix="check the ephemeris priors, or widen the window.")
+    return Photometry(name=cfg.name, time=time[keep], flux=flux[keep], error=error[keep],
                       exposure_days=cfg.exposure_min / MINUTES_PER_DAY, supersample=cfg.supersample,
-                      band=cfg.band, dropped_nan=dropped, normalisation=norm)
+                      band=cfg.band, dropped_nan=dropped, normalisation=norm, segment=segment[keep],
+                      dropped_quality=flagged, clipped=clipped, dropped_far_from_transits=far)
 
 
 def load_velocities(cfg):
-    """Read one RV dataset from its :class:`~planetfit.config.VelocityConfig`."""
-    table, dropped = _clean(cfg.file, read_table(cfg.file, cfg.columns), cfg.name)
+    """Read one RV dataset from its :class:`~planetfit.config.VelocityConfig`.
+
+    Activity indicators named in ``decorrelate`` are read as extra columns
+    and centred on their medians.
+    """
+    columns = dict(cfg.columns, **{f"indicator:{c}": c for c in cfg.decorrelate})
+    table, dropped = _clean(cfg.file, read_table(cfg.file, columns), cfg.name)
+    indicators = {c: table[f"indicator:{c}"] - np.median(table[f"indicator:{c}"]) for c in cfg.decorrelate}
     return Velocities(name=cfg.name, time=table["time"] + cfg.time_offset_days, rv=table["rv"],
-                      error=table["error"], dropped_nan=dropped)
+                      error=table["error"], dropped_nan=dropped, indicators=indicators)
 
 
 def _suggest_offset(times, current):
@@ -211,7 +313,7 @@ def load_all(config):
     -------
     (list of Photometry, list of Velocities)
     """
-    phot = [load_photometry(c) for c in config.photometry]
+    phot = [load_photometry(c, config.planets, config.star) for c in config.photometry]
     rvs = [load_velocities(c) for c in config.velocities]
     check_time_systems(config, [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
                        + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))])

@@ -74,9 +74,13 @@ def overview(checked):
     rows = []
     for d in checked.photometry:
         cadence = np.median(np.diff(d.time)) * 1440 if d.time.size > 1 else float("nan")
+        counts = d.counts()
         rows.append((d.name, "photometry", d.time.size, d.dropped_nan, d.time[0], d.time[-1],
                      f"{cadence:.1f} min cadence, {np.median(d.error) * 1e6:.0f} ppm median error, "
-                     f"supersample x{d.supersample}"))
+                     f"supersample x{d.supersample}, {counts['segments']} segment(s), "
+                     f"{counts['dropped_quality']} quality-flagged rows dropped, {counts['clipped']} outliers clipped"
+                     + (f", {counts['dropped_far_from_transits']} points far from transits left out"
+                        if counts["dropped_far_from_transits"] else "")))
     for d in checked.velocities:
         rows.append((d.name, "velocities", d.time.size, d.dropped_nan, d.time[0], d.time[-1],
                      f"{np.median(d.error):.2f} m/s median error, rms {np.std(d.rv):.2f} m/s"))
@@ -162,7 +166,8 @@ def _resolved_config(config):
     raw = dict(config.raw)
     raw["output"] = str(config.output)
     for section, items in (("photometry", config.photometry), ("velocities", config.velocities)):
-        raw[section] = [dict(entry, file=str(c.file)) for entry, c in zip(raw.get(section) or [], items)]
+        raw[section] = [dict(entry, file=[str(f) for f in c.files] if isinstance(entry.get("file"), list) else str(c.file))
+                        for entry, c in zip(raw.get(section) or [], items)]
     return yaml.safe_dump(raw, sort_keys=False)
 
 
@@ -205,6 +210,7 @@ def finish(run_dir, checked, samples, sampling_meta, figures=True):
     derived["parameter_names"] = post.layout.free
     blocks = context.add_context(config, derived, checked.climate, rng)
     summary = summary_out.build_summary(config, derived, blocks, sampling_meta)
+    summary["data"] = {d.name: d.counts() for d in checked.photometry + checked.velocities}
     summary_out.write_summary_json(run_dir / "summary.json", summary)
     summary_out.write_posterior_csv(run_dir / "posterior.csv", derived)
     outputs.write_all(run_dir, checked, post, samples, derived, summary, figures=figures)

@@ -1,0 +1,120 @@
+"""Cleaning light curves: segments at gaps, predicted transits, sigma clipping.
+
+Everything here runs once when a dataset is read, before any fit. The
+predicted transits use the centres of the ephemeris priors, widened by the
+priors' half-widths propagated to each epoch, so no point that could lie in
+a transit is clipped or cut away.
+"""
+
+import math
+
+import numpy as np
+from scipy import ndimage
+
+from .models.geometry import solve_orbit
+from .priors import Normal
+
+#: Margin on the longest transit a circular orbit allows (eccentric orbits can be slower).
+DURATION_MARGIN = 1.5
+#: Normal priors count this many standard deviations as their half-width.
+NORMAL_HALF_WIDTH_SD = 3.0
+#: Scale from the median absolute deviation to a Gaussian sigma (1 / Phi^-1(3/4)).
+MAD_TO_SIGMA = 1.4826
+MAX_CLIP_ITERATIONS = 10
+
+
+def segment_labels(times, gap_days):
+    """Integer label of the contiguous segment of every point: a new one starts after each gap > ``gap_days``."""
+    return np.concatenate(([0], np.cumsum(np.diff(times) > gap_days)))
+
+
+def _centre_and_half_width(prior):
+    lo, hi = prior.bounds
+    if math.isfinite(lo) and math.isfinite(hi):
+        return 0.5 * (lo + hi), 0.5 * (hi - lo)
+    if isinstance(prior, Normal):
+        return prior.mean, NORMAL_HALF_WIDTH_SD * prior.sd
+    return prior.sample(np.random.default_rng(0)), 0.0
+
+
+def near_transits(times, planets, star, half_width_days=None):
+    """Mask of points that may lie within ``half_width_days`` of a predicted transit.
+
+    Parameters
+    ----------
+    times : ndarray
+        BJD_TDB.
+    planets : list of PlanetConfig
+        Only transiting planets count.
+    star : StarConfig
+    half_width_days : float, optional
+        Half-width of the window around each mid-transit; by default the
+        longest transit the priors allow (circular orbit, impact 0, largest
+        radius ratio) times :data:`DURATION_MARGIN`.
+
+    Notes
+    -----
+    The window grows by the priors' half-widths of the transit time and
+    of the period times the number of orbits from the reference transit.
+    """
+    mask = np.zeros(times.size, dtype=bool)
+    mass, _ = _centre_and_half_width(star.mass_msun)
+    radius, _ = _centre_and_half_width(star.radius_rsun)
+    for p in planets:
+        if not p.transits:
+            continue
+        period, dp = _centre_and_half_width(p.period_days)
+        t0, dt0 = _centre_and_half_width(p.transit_bjd)
+        half = half_width_days
+        if half is None:
+            a_r = float(solve_orbit(period, 0.0, 0.0, 0.0, math.pi / 2, mass, radius)[0])
+            chord = min(1.0, (1 + p.radius_ratio.bounds[1]) / a_r)
+            half = DURATION_MARGIN * period / (2 * math.pi) * math.asin(chord)
+        epoch = np.round((times - t0) / period)
+        distance = np.abs(times - (t0 + epoch * period))
+        mask |= distance <= half + dt0 + np.abs(epoch) * dp
+    return mask
+
+
+def _running_median(times, flux, window_days):
+    """Median of ``flux`` over about ``window_days`` around each point (regular cadence assumed)."""
+    cadence = np.median(np.diff(times)) if times.size > 1 else window_days
+    size = int(max(3, min(times.size, round(window_days / cadence))) // 2 * 2 + 1)
+    return ndimage.median_filter(flux, size=size, mode="nearest")
+
+
+def sigma_clip(times, flux, segments, protected, sigma, window_days):
+    """Iterative sigma clipping about a running median, sparing ``protected`` points.
+
+    Each pass takes the running median of the kept points of every segment,
+    interpolates it to all points, estimates the scatter of the unprotected
+    kept points from their median absolute deviation, and marks points
+    farther than ``sigma`` times that scatter; passes repeat until no new
+    point is marked.
+
+    Returns
+    -------
+    ndarray of bool
+        True for clipped points.
+    """
+    clipped = np.zeros(times.size, dtype=bool)
+    if not sigma > 0:
+        return clipped
+    for _ in range(MAX_CLIP_ITERATIONS):
+        trend = np.empty(times.size)
+        for label in np.unique(segments):
+            seg = segments == label
+            keep = seg & ~clipped
+            if keep.sum() < 3:
+                keep = seg
+            trend[seg] = np.interp(times[seg], times[keep], _running_median(times[keep], flux[keep], window_days))
+        resid = flux - trend
+        free = ~clipped & ~protected
+        if free.sum() < 3:
+            break
+        scatter = MAD_TO_SIGMA * np.median(np.abs(resid[free] - np.median(resid[free])))
+        new = ~protected & (np.abs(resid) > sigma * scatter)
+        if np.array_equal(new, clipped):
+            break
+        clipped = new
+    return clipped
