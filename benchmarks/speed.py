@@ -1,0 +1,544 @@
+"""Speed and memory of planetfit on one fixed synthetic system; prints one JSON document.
+
+Run ``python benchmarks/speed.py`` (``--sections evaluation`` for the
+evaluation figures alone, a minute). The dataset is written from a fixed seed
+with the demo generator's true system: two 27-day sectors at 2-min cadence,
+one at 30-min cadence, 60 RVs from two spectrographs, one transiting planet
+and one seen only in RVs, white noise. Everything is measured in one process, the
+contenders interleaved round by round (best round kept), with BLAS limited to
+one thread as :func:`planetfit.sampling.run_sampler` does.
+
+Figures
+-------
+ratio_vs_plain
+    Log-probability evaluations per second of ``JointPosterior`` over those of
+    a hand-written reference: one ``batman.TransitModel`` over all photometry,
+    15 sub-exposures of 30 min everywhere, radvel Keplerians, numpy sums.
+overhead_vs_floor
+    planetfit's time per evaluation over the time of batman's two compiled
+    kernels alone (``_rsky``, ``_quadratic_ld``) on the same in-window,
+    supersampled points.
+independent_samples_per_second
+    Of a full ``pipeline.run`` of the dataset (figures off).
+memory
+    Peak resident memory of a short fit of ten 2-min sectors (~190,000
+    points), in a fresh process.
+prototype
+    The same posterior with a faster likelihood (see ``FastLikelihoodPrototype``):
+    its speed and its largest difference from planetfit's log-probability.
+"""
+
+import argparse
+import json
+import math
+import os
+import resource
+import shutil
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import batman
+import numpy as np
+import yaml
+from batman import _quadratic_ld, _rsky
+from radvel import kepler, orbit
+from threadpoolctl import threadpool_limits
+
+from planetfit import pipeline
+from planetfit.demo import generate
+from planetfit.models.keplerian import radial_velocity_ms
+from planetfit.models.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
+from planetfit.models.transit import quadratic_coefficients
+from planetfit.posterior import JointPosterior
+from planetfit.sampling import sampler_geometry
+from planetfit.units import G_SI, M_SUN_KG, MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M, SECONDS_PER_DAY
+
+POSITIONS = 16          # parameter vectors evaluated per round
+ROUNDS = 7              # interleaved rounds; the best is kept
+MIN_ROUND_S = 0.3       # each contender repeats its positions until a round lasts this long
+NAIVE_SUPERSAMPLE = 15  # sub-exposures of the plain reference, everywhere
+NAIVE_EXPOSURE_MIN = 30.0
+MEMORY_SECTORS = 10
+SEED = 20261201
+SECTOR_DAYS = 27.0
+# Sectors: (dataset, start BTJD, cadence min, white noise ppm); spectrographs: (name, points, error,
+# jitter, offset; m/s). The transit and orbits are the demo generator's TRUTH.
+SECTORS = [("camera-30min", 2400.0, 30.0, 110.0), ("camera-2min", 3000.0, 2.0, 420.0),
+           ("camera-2min", 3027.4, 2.0, 420.0)]
+SPECTROGRAPHS = [("spectrograph-a", 35, 1.2, 1.5, -12.3), ("spectrograph-b", 25, 1.8, 2.4, 31.0)]
+_LOG_2PI = math.log(2 * math.pi)
+
+
+def machine():
+    """CPU model, core count and load average."""
+    model = "unknown"
+    with open("/proc/cpuinfo") as fh:
+        for line in fh:
+            if line.startswith("model name"):
+                model = line.split(":", 1)[1].strip()
+                break
+    return {"cpu": model, "cores": os.cpu_count(), "load_average_1_5_15_min": [round(x, 2) for x in os.getloadavg()],
+            "python": sys.version.split()[0], "numpy": np.__version__, "batman": batman.__version__}
+
+
+def write_dataset(folder, sectors=SECTORS, sampling=None):
+    """Light curves, RVs and a config for the benchmark system; returns the config path.
+
+    Transits and Keplerians come from the demo generator's true system
+    (batman's ``TransitModel``, radvel); white noise from :data:`SEED`.
+    """
+    folder.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(SEED)
+    columns = {"time": "time", "flux": "flux", "error": "flux_err"}
+    tables, photometry = {}, []
+    for name, start, cadence_min, noise_ppm in sectors:
+        t = generate.sector_times(start, SECTOR_DAYS, cadence_min)
+        flux = generate.light_curve(t + generate.BTJD_OFFSET, cadence_min) + rng.normal(0, noise_ppm * PPM, t.size)
+        tables.setdefault(name, []).append(np.column_stack([t, flux, np.full(t.size, noise_ppm * PPM)]))
+        if len(tables[name]) == 1:
+            photometry.append({"name": name, "file": f"{name}.csv", "columns": columns,
+                               "time_offset_days": generate.BTJD_OFFSET, "exposure_min": cadence_min,
+                               "band": "camera", "jitter_ppm": 0})
+    for name, parts in tables.items():
+        np.savetxt(folder / f"{name}.csv", np.concatenate(parts), delimiter=",", fmt="%.8f",
+                   header="time,flux,flux_err", comments="")
+    photometry[0].update(limb_darkening_q1={"truncnormal": [0.45, 0.1, 0.0, 1.0]},
+                         limb_darkening_q2={"truncnormal": [0.37, 0.1, 0.0, 1.0]})
+    velocities = []
+    for name, n, error_ms, jitter_ms, offset_ms in SPECTROGRAPHS:
+        t = np.sort(rng.uniform(*generate.RV_SPAN_BJD, n))
+        rv = generate.radial_velocity(t) + offset_ms + rng.normal(0, np.hypot(error_ms, jitter_ms), n)
+        np.savetxt(folder / f"{name}.txt", np.column_stack([t, rv, np.full(n, error_ms)]), fmt="%.6f",
+                   header="time rv error", comments="")
+        velocities.append({"name": name, "file": f"{name}.txt", "columns": {"time": "time", "rv": "rv", "error": "error"},
+                           "offset_ms": {"uniform": [offset_ms - 50, offset_ms + 50]},
+                           "jitter_ms": {"loguniform": [0.01, 20]}})
+    config = {
+        "system": "Speed-1", "seed": 7, "output": "run",
+        "star": {"mass_msun": {"normal": [0.78, 0.03]}, "radius_rsun": {"normal": [0.74, 0.02]},
+                 "teff_k": {"normal": [4900, 80]}},
+        "planets": {
+            "b": {"period_days": {"uniform": [6.134, 6.140]}, "transit_bjd": {"uniform": [2460003.35, 2460003.48]},
+                  "radius_ratio": {"uniform": [0.005, 0.06]}, "impact": {"uniform": [0.0, 1.0]},
+                  "rv_amplitude_ms": {"uniform": [0.0, 10.0]}, "orbit": "circular"},
+            "c": {"transits": False, "period_days": {"uniform": [41.0, 44.0]},
+                  "transit_bjd": {"uniform": [2460015.0, 2460028.0]}, "rv_amplitude_ms": {"uniform": [0.0, 15.0]},
+                  "orbit": "eccentric"}},
+        "photometry": photometry, "velocities": velocities,
+        "sampling": sampling or {"walkers": 56, "max_steps": 15000},
+    }
+    path = folder / "config.yaml"
+    path.write_text(yaml.safe_dump(config, sort_keys=False))
+    return path
+
+
+def true_values(post):
+    """Physical value of every free parameter at the generator's truth (flux levels 1)."""
+    t = generate.TRUTH
+    u1, u2 = t["limb_darkening_u"]
+    e, w = t["c"]["e"], math.radians(t["c"]["omega_deg"])
+    values = {"star.mass_msun": t["star"]["mass_msun"], "star.radius_rsun": t["star"]["radius_rsun"],
+              "b.radius_ratio": t["b"]["radius_earth"] * R_EARTH_M / (t["star"]["radius_rsun"] * R_SUN_M),
+              "b.impact": t["b"]["impact"], "c.sqrt_e_cos_w": math.sqrt(e) * math.cos(w),
+              "c.sqrt_e_sin_w": math.sqrt(e) * math.sin(w),
+              "camera.limb_darkening_q1": (u1 + u2) ** 2, "camera.limb_darkening_q2": u1 / (2 * (u1 + u2))}
+    for p in ("b", "c"):
+        for key in ("period_days", "transit_bjd", "rv_amplitude_ms"):
+            values[f"{p}.{key}"] = t[p][key]
+    for name, _, _, jitter, offset in SPECTROGRAPHS:
+        values[f"{name}.offset_ms"], values[f"{name}.jitter_ms"] = offset, jitter
+    for d in post.photometry:
+        values[f"{d.name}.flux_level"] = 1.0
+    return np.array([values[n] for n in post.layout.free])
+
+
+def positions(post, n, seed=1):
+    """``n`` sampler-coordinate vectors scattered by 1e-4 of the prior widths around the truth."""
+    _, scale, _, _ = sampler_geometry(post.layout)
+    centre = post.layout.to_sampler(true_values(post))
+    rng = np.random.default_rng(seed)
+    out = centre + 1e-4 * scale * rng.standard_normal((n, centre.size))
+    assert all(math.isfinite(post(x)) for x in out), "benchmark positions must have finite probability"
+    return out
+
+
+class PlainPosterior:
+    """The joint log-probability written by hand, as a user would without planetfit.
+
+    Parameters
+    ----------
+    post : JointPosterior
+        Supplies the data, the parameter layout and the prior (shared, so
+        both compute the same posterior).
+    groups : list of (dataset indices, supersample, exposure_days)
+        One ``batman.TransitModel`` per group over the concatenated times.
+
+    Notes
+    -----
+    Transiting planets on circular orbits, one limb-darkening band, as in
+    the benchmark system.
+    """
+
+    def __init__(self, post, groups):
+        self.layout, self.planets, self.velocities = post.layout, post.planets, post.velocities
+        self.params = batman.TransitParams()
+        p = self.params  # placeholders until the first call; circular orbits
+        p.t0, p.per, p.rp, p.a, p.inc, p.ecc, p.w = 0.0, 1.0, 0.01, 10.0, 90.0, 0.0, 90.0
+        p.u, p.limb_dark = [0.4, 0.2], "quadratic"
+        self.groups = []
+        for idx, supersample, exposure in groups:
+            data = [post.photometry[i] for i in idx]
+            t = np.concatenate([d.time for d in data])
+            model = batman.TransitModel(p, t, supersample_factor=supersample, exp_time=exposure)
+            self.groups.append((model, np.concatenate([d.flux for d in data]),
+                                np.concatenate([d.error for d in data]) ** 2, data, [d.time.size for d in data]))
+
+    def __call__(self, theta):
+        lp = self.layout.log_prior(theta)
+        if not math.isfinite(lp):
+            return -math.inf
+        v = self.layout.values(theta)
+        p, ll = self.params, 0.0
+        for planet in self.planets:
+            if planet.transits:
+                n = planet.name
+                k = v[f"{n}.radius_ratio"]
+                a_r, cos_i, _ = solve_orbit(v[f"{n}.period_days"], v[f"{n}.rv_amplitude_ms"], v[f"{n}.impact"], 0.0,
+                                            CIRCULAR_OMEGA_RAD, v["star.mass_msun"], v["star.radius_rsun"])
+                if v[f"{n}.impact"] >= 1 + k or a_r <= 1 + k:
+                    return -math.inf
+                p.t0, p.per, p.rp, p.a = v[f"{n}.transit_bjd"], v[f"{n}.period_days"], k, a_r
+                p.inc = math.degrees(math.acos(cos_i))
+        band = self.groups[0][3][0].band
+        p.u = list(quadratic_coefficients(v[f"{band}.limb_darkening_q1"], v[f"{band}.limb_darkening_q2"]))
+        for model, flux, error2, data, sizes in self.groups:
+            lc = model.light_curve(p)
+            level = np.repeat([v[f"{d.name}.flux_level"] for d in data], sizes)
+            jitter = np.repeat([v[f"{d.name}.jitter_ppm"] * PPM for d in data], sizes)
+            var = error2 + jitter**2
+            r = flux - level * lc
+            ll += -0.5 * np.sum(r * r / var + np.log(var) + _LOG_2PI)
+        for d in self.velocities:
+            rv = np.zeros(d.time.size)
+            for planet in self.planets:
+                n = planet.name
+                if planet.orbit == "eccentric":
+                    e, w = eccentricity_omega(v[f"{n}.sqrt_e_cos_w"], v[f"{n}.sqrt_e_sin_w"])
+                else:
+                    e, w = 0.0, CIRCULAR_OMEGA_RAD
+                tp = orbit.timetrans_to_timeperi(v[f"{n}.transit_bjd"], v[f"{n}.period_days"], e, w)
+                rv += kepler.rv_drive(d.time, np.array([v[f"{n}.period_days"], tp, e, w, v[f"{n}.rv_amplitude_ms"]]))
+            var = d.error**2 + v[f"{d.name}.jitter_ms"] ** 2
+            r = d.rv - v[f"{d.name}.offset_ms"] - rv
+            ll += -0.5 * np.sum(r * r / var + np.log(var) + _LOG_2PI)
+        return lp + ll
+
+
+def kernel_calls(post, theta):
+    """Arguments of every batman kernel call planetfit makes for ``theta`` (in-window, supersampled)."""
+    v = post.layout.values(theta)
+    orbits = post.orbits(v)
+    calls = []
+    for d, curves in zip(post.photometry, post.light_curves):
+        u1, u2 = quadratic_coefficients(v[f"{d.band}.limb_darkening_q1"], v[f"{d.band}.limb_darkening_q2"])
+        for p, lc in zip(post.transiting, curves):
+            o, n = orbits[p.name], p.name
+            per, t0, k = v[f"{n}.period_days"], v[f"{n}.transit_bjd"], v[f"{n}.radius_ratio"]
+            sin_i = math.sqrt(1 - o["cos_i"] ** 2)
+            idx = lc.window(per, t0, lc.half_window_days(per, o["a_over_rstar"], k, sin_i, o["e"], o["omega_rad"]))
+            t = (lc.times[idx, None] + lc.offsets[None, :]).ravel()
+            calls.append((t, t0, per, o["a_over_rstar"], math.acos(o["cos_i"]), o["e"], o["omega_rad"], k, u1, u2))
+    return calls
+
+
+def floor_function(post, thetas):
+    """A callable(i) running only batman's kernels for the i-th position; and the points per evaluation."""
+    calls = [kernel_calls(post, th) for th in thetas]
+
+    def run(i):
+        for t, t0, per, a_r, inc, e, w, k, u1, u2 in calls[i]:
+            _quadratic_ld._quadratic_ld(_rsky._rsky(t, t0, per, a_r, inc, e, w, 1, 1), k, u1, u2, 1)
+
+    return run, float(np.mean([sum(c[0].size for c in cs) for cs in calls]))
+
+
+def _scalar_orbit(v, planet):
+    """``posterior.planet_orbit`` in Python floats (math module): same equations, no numpy scalars."""
+    n = planet.name
+    if planet.orbit == "eccentric":
+        c, s = v[f"{n}.sqrt_e_cos_w"], v[f"{n}.sqrt_e_sin_w"]
+        e, w = c * c + s * s, math.atan2(s, c)
+    else:
+        e, w = 0.0, CIRCULAR_OMEGA_RAD
+    out = {"e": e, "omega_rad": w}
+    if not planet.transits:
+        return out
+    per_s = v[f"{n}.period_days"] * SECONDS_PER_DAY
+    mstar, rstar = v["star.mass_msun"] * M_SUN_KG, v["star.radius_rsun"] * R_SUN_M
+    f = per_s * v[f"{n}.rv_amplitude_ms"] ** 3 * (1 - e * e) ** 1.5 / (2 * math.pi * G_SI)
+    mp = 0.0
+    for _ in range(3):
+        a_r = (G_SI * (mstar + mp) * per_s * per_s / (4 * math.pi**2)) ** (1 / 3) / rstar
+        cos_i = v[f"{n}.impact"] / a_r * (1 + e * math.sin(w)) / (1 - e * e)
+        s3 = max(0.0, 1 - cos_i * cos_i) ** 1.5
+        if s3 == 0:
+            return None
+        mp = (f * mstar * mstar / s3) ** (1 / 3)
+        for _ in range(6):
+            tot = mstar + mp
+            dg = 3 * mp * mp * s3 - 2 * f * tot
+            if dg == 0:
+                break
+            mp -= (mp**3 * s3 - f * tot * tot) / dg
+    out.update(a_over_rstar=a_r, cos_i=cos_i, mass_kg=mp)
+    return out
+
+
+def _window_indices(times, period_days, transit_bjd, half_width_days):
+    """``TransitLightCurve.window`` with Python-float bounds and one ``arange`` per transit (fewer numpy calls)."""
+    first = math.floor((times[0] - half_width_days - transit_bjd) / period_days)
+    last = math.ceil((times[-1] + half_width_days - transit_bjd) / period_days)
+    centres = transit_bjd + period_days * np.arange(first, last + 1)
+    starts = times.searchsorted(centres - half_width_days).tolist()
+    ends = times.searchsorted(centres + half_width_days, "right").tolist()
+    parts = [np.arange(a, b) for a, b in zip(starts, ends) if b > a]
+    return np.concatenate(parts) if parts else np.empty(0, dtype=np.intp)
+
+
+class FastLikelihoodPrototype:
+    """Prototype of four hot-path changes, measured against ``JointPosterior`` (whose data and layout it borrows).
+
+    1. Orbits in Python floats instead of numpy scalars (``_scalar_orbit``).
+    2. Photometry costs only the in-window points: with fixed weights
+       w = 1/(sigma^2 + jitter^2) and g = flux - 1, the whole-dataset chi^2
+       against a flat level L is sum(w g^2) - 2 (L-1) sum(w g) + (L-1)^2 sum(w),
+       three sums computed once; the in-window part is swapped for the transit
+       model's. Exact up to rounding (g is centred, so no cancellation).
+    3. The RVs of all spectrographs in one array.
+    4. Transit windows with fewer numpy calls (``_window_indices``).
+
+    Covers what the benchmark system uses: constant baselines, fixed
+    photometric jitter, white RV noise, no dilution, trend or activity terms.
+    """
+
+    def __init__(self, post):
+        self.post = post
+        self.layout, self.planets, self.velocities = post.layout, post.planets, post.velocities
+        self.sums = []
+        for d in post.photometry:
+            jitter = self.layout.fixed[f"{d.name}.jitter_ppm"] * PPM
+            var = d.error**2 + jitter**2
+            w, g = 1 / var, d.flux - 1
+            self.sums.append((w, g, float(w.sum()), float(w @ g), float(w @ (g * g)),
+                              -0.5 * float(np.sum(np.log(var)) + var.size * _LOG_2PI)))
+        # 3. All spectrographs in one array: one Keplerian per planet, not per planet and spectrograph.
+        self.rv_data = (np.concatenate([d.time for d in post.velocities]), np.concatenate([d.rv for d in post.velocities]),
+                        np.concatenate([d.error**2 for d in post.velocities]),
+                        np.concatenate([np.full(d.time.size, i) for i, d in enumerate(post.velocities)]))
+
+    def __call__(self, theta):
+        lp = self.layout.log_prior(theta)
+        if not math.isfinite(lp):
+            return -math.inf
+        ll = self.log_likelihood(self.layout.values(theta))
+        return lp + ll if math.isfinite(ll) else -math.inf
+
+    def orbits(self, values):
+        """As ``JointPosterior.orbits``, in Python floats."""
+        out = {}
+        for p in self.planets:
+            o = _scalar_orbit(values, p)
+            if o is None or o["e"] >= p.eccentricity_max:
+                return None
+            if p.transits:
+                k = values[f"{p.name}.radius_ratio"]
+                if k <= 0 or values[f"{p.name}.impact"] >= 1 + k or not abs(o["cos_i"]) < 1:
+                    return None
+                if o["a_over_rstar"] * (1 - o["e"]) <= 1 + k:
+                    return None
+            out[p.name] = o
+        return out
+
+    def photometry_chi2(self, values, orbits, i):
+        """chi^2 of photometric dataset ``i``: precomputed flat-level sums, corrected in the windows."""
+        d = self.post.photometry[i]
+        w, g, sw, swg, swgg, _ = self.sums[i]
+        level = values[f"{d.name}.flux_level"]
+        dl = level - 1
+        chi2 = swgg - 2 * dl * swg + dl * dl * sw
+        u1, u2 = quadratic_coefficients(values[f"{d.band}.limb_darkening_q1"], values[f"{d.band}.limb_darkening_q2"])
+        windows = []
+        for p, lc in zip(self.post.transiting, self.post.light_curves[i]):
+            o, n = orbits[p.name], p.name
+            per, t0, k = values[f"{n}.period_days"], values[f"{n}.transit_bjd"], values[f"{n}.radius_ratio"]
+            sin_i = math.sqrt(1 - o["cos_i"] ** 2)
+            idx = _window_indices(lc.times, per, t0,
+                                  lc.half_window_days(per, o["a_over_rstar"], k, sin_i, o["e"], o["omega_rad"]))
+            windows.append((lc, idx, per, t0, o, k))
+        union = windows[0][1] if len(windows) == 1 else np.unique(np.concatenate([x[1] for x in windows]))
+        if union.size == 0:
+            return chi2
+        deficit = np.zeros(union.size)
+        for lc, idx, per, t0, o, k in windows:
+            if idx.size:
+                at = slice(None) if len(windows) == 1 else np.searchsorted(union, idx)
+                deficit[at] += 1 - lc.flux(idx, per, t0, o["a_over_rstar"], math.acos(o["cos_i"]), o["e"],
+                                           o["omega_rad"], k, u1, u2)
+        wi, base = w[union], g[union] - dl
+        fit = base + level * deficit
+        return chi2 + float(wi @ (fit * fit)) - float(wi @ (base * base))
+
+    def log_likelihood(self, values):
+        orbits = self.orbits(values)
+        if orbits is None:
+            return -math.inf
+        total = sum(s[5] - 0.5 * self.photometry_chi2(values, orbits, i) for i, s in enumerate(self.sums))
+        if not self.velocities:
+            return total
+        t, rv, error2, which = self.rv_data
+        model = rv - np.array([values[f"{d.name}.offset_ms"] for d in self.velocities])[which]
+        for p in self.planets:
+            o, n = orbits[p.name], p.name
+            model -= radial_velocity_ms(t, values[f"{n}.period_days"], values[f"{n}.transit_bjd"], o["e"],
+                                        o["omega_rad"], values[f"{n}.rv_amplitude_ms"])
+        var = error2 + np.array([values[f"{d.name}.jitter_ms"] ** 2 for d in self.velocities])[which]
+        return total - 0.5 * float(np.sum(model * model / var + np.log(var)) + t.size * _LOG_2PI)
+
+
+def race(contenders, n):
+    """Seconds per call of each ``callable(i)`` over ``i < n``, best of ``ROUNDS`` interleaved rounds."""
+    repeats = {}
+    for name, fn in contenders.items():
+        start, reps = time.perf_counter(), 0
+        while time.perf_counter() - start < MIN_ROUND_S:
+            for i in range(n):
+                fn(i)
+            reps += 1
+        repeats[name] = reps
+    best = dict.fromkeys(contenders, math.inf)
+    for _ in range(ROUNDS):
+        for name, fn in contenders.items():
+            start = time.perf_counter()
+            for _ in range(repeats[name]):
+                for i in range(n):
+                    fn(i)
+            best[name] = min(best[name], (time.perf_counter() - start) / (repeats[name] * n))
+    return best
+
+
+def evaluation_figures(config_path):
+    checked = pipeline.check(config_path)
+    post = JointPosterior(checked.config, checked.photometry, checked.velocities)
+    proto = FastLikelihoodPrototype(post)
+    thetas = positions(post, POSITIONS)
+    phot = checked.photometry
+    naive = PlainPosterior(post, [(list(range(len(phot))), NAIVE_SUPERSAMPLE, NAIVE_EXPOSURE_MIN / MINUTES_PER_DAY)])
+    per_dataset = PlainPosterior(post, [([i], d.supersample, d.exposure_days) for i, d in enumerate(phot)])
+    floor, floor_points = floor_function(post, thetas)
+    planetfit_lp = np.array([post(x) for x in thetas])
+    default_threads = race({"planetfit": lambda i: post(thetas[i])}, len(thetas))["planetfit"]
+    with threadpool_limits(limits=1):
+        t = race({"planetfit": lambda i: post(thetas[i]), "plain": lambda i: naive(thetas[i]),
+                  "plain_per_dataset": lambda i: per_dataset(thetas[i]), "floor": floor,
+                  "prototype": lambda i: proto(thetas[i])}, len(thetas))
+    return {
+        "photometry_points": int(sum(d.time.size for d in phot)),
+        "in_window_kernel_points_per_evaluation": round(floor_points),
+        "planetfit_evaluations_per_second": round(1 / t["planetfit"]),
+        "plain_evaluations_per_second": round(1 / t["plain"], 2),
+        "ratio_vs_plain": round(t["plain"] / t["planetfit"], 1),
+        "ratio_vs_plain_per_dataset_supersampling": round(t["plain_per_dataset"] / t["planetfit"], 1),
+        "planetfit_microseconds_per_evaluation": round(t["planetfit"] * 1e6, 1),
+        "floor_microseconds_per_evaluation": round(t["floor"] * 1e6, 1),
+        "overhead_vs_floor": round(t["planetfit"] / t["floor"], 2),
+        "planetfit_microseconds_per_evaluation_default_blas_threads": round(default_threads * 1e6, 1),
+        "max_abs_logprob_difference_vs_plain_per_dataset": float(np.max(np.abs(
+            planetfit_lp - [per_dataset(x) for x in thetas]))),
+        "prototype": {
+            "microseconds_per_evaluation": round(t["prototype"] * 1e6, 1),
+            "overhead_vs_floor": round(t["prototype"] / t["floor"], 2),
+            "ratio_vs_plain": round(t["plain"] / t["prototype"], 1),
+            "max_abs_logprob_difference_vs_planetfit": float(np.max(np.abs(
+                planetfit_lp - [proto(x) for x in thetas])))},
+    }
+
+
+def fit_figures(config_path, cores):
+    start = time.perf_counter()
+    run_dir = pipeline.run(config_path, quiet=True, figures=False, cores=cores)
+    wall = time.perf_counter() - start
+    s = json.loads((run_dir / "summary.json").read_text())["sampling"]
+    start = time.perf_counter()
+    pipeline.redraw(run_dir)
+    redraw = time.perf_counter() - start
+    return {"cores": cores, "walkers": s["walkers"], "steps": s["steps"], "converged": s["converged"],
+            "autocorr_steps": s["autocorr_steps"], "independent_samples": s["independent_samples"],
+            "sampling_seconds": s["seconds"], "fit_wall_seconds_no_figures": round(wall, 1),
+            "independent_samples_per_second": round(s["independent_samples"] / s["seconds"], 2),
+            "independent_samples_per_wall_second": round(s["independent_samples"] / wall, 2),
+            "redraw_seconds_figures_and_tables": round(redraw, 1),
+            "demo_wall_seconds": round(wall + redraw, 1)}
+
+
+def write_memory_system(folder, max_steps):
+    """Ten 2-min sectors and the benchmark RVs, a short chain; returns the config path and the photometry points."""
+    sectors = [("ten-sectors", 3000.0 + 27.4 * i, 2.0, 420.0) for i in range(MEMORY_SECTORS)]
+    path = write_dataset(folder, sectors, {"walkers": 40, "max_steps": max_steps, "check_every": 100,
+                                           "optimiser_starts": 1})
+    return path, sum(generate.sector_times(start, SECTOR_DAYS, cadence).size for _, start, cadence, _ in sectors)
+
+
+def memory_child(config_path):
+    """Fit in this (fresh) process and print its peak resident memory."""
+    start = time.perf_counter()
+    run_dir = pipeline.run(config_path, quiet=True, figures=False)
+    s = json.loads((Path(run_dir) / "summary.json").read_text())["sampling"]
+    print(json.dumps({"peak_rss_mb": round(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024, 1),
+                      "steps": s["steps"], "walkers": s["walkers"], "wall_seconds": round(time.perf_counter() - start, 1)}))
+
+
+def memory_figures(folder, max_steps):
+    config_path, points = write_memory_system(folder, max_steps)
+    out = subprocess.run([sys.executable, __file__, "--memory-child", str(config_path)], capture_output=True,
+                         text=True)
+    if out.returncode:
+        return {"error": out.stderr.strip().splitlines()[-10:]}
+    result = json.loads(out.stdout.strip().splitlines()[-1])
+    result.update(photometry_points=points, under_2_gb=result["peak_rss_mb"] < 2048)
+    return result
+
+
+SECTIONS = ("evaluation", "fit", "memory")
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    parser.add_argument("--sections", nargs="+", choices=SECTIONS, default=list(SECTIONS))
+    parser.add_argument("--cores", type=int, default=1, help="processes for the full fit")
+    parser.add_argument("--memory-steps", type=int, default=200)
+    parser.add_argument("--memory-child", help=argparse.SUPPRESS)
+    args = parser.parse_args()
+    if args.memory_child:
+        memory_child(args.memory_child)
+        return
+    report = {"machine": machine()}
+    folder = Path(tempfile.mkdtemp(prefix="planetfit-speed-"))
+    try:
+        config_path = write_dataset(folder)
+        if "evaluation" in args.sections:
+            report["evaluation"] = evaluation_figures(config_path)
+        if "fit" in args.sections:
+            report["fit"] = fit_figures(config_path, args.cores)
+        if "memory" in args.sections:
+            report["memory"] = memory_figures(folder / "memory", args.memory_steps)
+    finally:
+        shutil.rmtree(folder, ignore_errors=True)
+    report["load_average_at_end"] = [round(x, 2) for x in os.getloadavg()]
+    print(json.dumps(report, indent=2))
+
+
+if __name__ == "__main__":
+    main()
