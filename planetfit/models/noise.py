@@ -1,7 +1,9 @@
 """Noise models: the log-likelihood of a dataset's residuals.
 
-Each noise model has one method, ``log_likelihood(residual, values)``, and
-is chosen per dataset when the posterior is built.
+Each noise model has ``log_likelihood(residual, values)`` and
+``predict(residual, values)`` (the correlated part of the residuals it
+expects: zero for white noise), and is chosen per dataset when the
+posterior is built. Gaussian processes live in :mod:`planetfit.models.gp`.
 """
 
 import math
@@ -44,3 +46,7 @@ class WhiteNoise:
         jit = values[self.jitter_name] * self.scale
         var = self.error2 + jit * jit
         return -0.5 * float(np.sum(residual * residual / var + np.log(var)) + residual.size * _LOG_2PI)
+
+    def predict(self, residual, values, times=None):
+        """White noise predicts nothing: zeros at the data times (or at ``times``)."""
+        return np.zeros(residual.size if times is None else np.size(times))

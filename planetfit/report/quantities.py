@@ -72,6 +72,19 @@ DATASET = {
     "jitter_ppm": Quantity("Jitter", r"$\sigma_\mathrm{jit}$", "ppm", "ppm"),
     "offset_ms": Quantity("RV offset", r"$\gamma$", *_MS),
     "jitter_ms": Quantity("RV jitter", r"$\sigma_\mathrm{jit}$", *_MS),
+    "slope_per_day": Quantity("Flux slope", r"$\dot F$", "1/d", r"d$^{-1}$"),
+    "dilution": Quantity("Dilution", r"$D$"),
+    "gp_sigma_ppm": Quantity("GP amplitude", r"$\sigma_\mathrm{GP}$", "ppm", "ppm"),
+    "gp_rho_days": Quantity("GP timescale", r"$\rho_\mathrm{GP}$", "d", "d"),
+    "gp_quality": Quantity("GP quality factor", r"$Q$"),
+    "activity_coefficient": Quantity("Activity coefficient", r"$c$", "m/s per unit", r"m\,s$^{-1}$ per unit"),
+    "activity_amplitude_ms": Quantity("Activity amplitude", r"$A_\mathrm{act}$", *_MS),
+    "slope_ms_per_day": Quantity("RV trend slope", r"$\dot\gamma$", "m/s/d", r"m\,s$^{-1}$\,d$^{-1}$"),
+    "curvature_ms_per_day2": Quantity("RV trend curvature", r"$\ddot\gamma$", "m/s/d^2", r"m\,s$^{-1}$\,d$^{-2}$"),
+    "rotation_period_days": Quantity("Rotation period", r"$P_\mathrm{rot}$", "d", "d"),
+    "quality": Quantity("Activity quality factor", r"$Q_0$"),
+    "quality_difference": Quantity("Activity quality difference", r"$\Delta Q$"),
+    "mix": Quantity("Activity harmonic fraction", r"$f$"),
 }
 
 

@@ -11,7 +11,7 @@ from .convergence import convergence_figure, read_chain
 from .corners import physical_corner, sampled_corner
 from .habitable_zone import habitable_zone_figure
 from .mass_radius import mass_radius_figure
-from .transit import transit_figure
+from .transit import light_curve_figure, transit_figure
 from .velocity import rv_phase_figure, rv_time_figure
 
 
@@ -34,6 +34,9 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
         for i, d in enumerate(posterior.photometry):
             out.append((f"transit_{file_stem(p.name)}_{file_stem(d.name)}",
                         partial(transit_figure, posterior, view, p, i, duration_hr)))
+    for i, c in enumerate(checked.config.photometry):
+        if c.baseline == "gp":
+            out.append((f"light_curve_{file_stem(c.name)}", partial(light_curve_figure, posterior, view, i)))
     if posterior.velocities:
         out += [(f"rv_phase_{file_stem(p.name)}", partial(rv_phase_figure, posterior, view, p)) for p in planets]
         out.append(("rv_time", partial(rv_time_figure, posterior, view)))

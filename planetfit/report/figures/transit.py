@@ -19,21 +19,30 @@ GRID_POINTS = 400
 DENSE_POINTS = 1000
 
 
-def _model_ppm(lc, values, orbit, planet, band_name):
-    """One planet's transit (relative flux - 1, ppm) on ``lc``'s times, measured from mid-transit."""
+def _model_ppm(lc, values, orbit, planet, band_name, dilution_name=None):
+    """One planet's (diluted) transit (relative flux - 1, ppm) on ``lc``'s times, measured from mid-transit."""
     n = planet.name
+    dilution = values[dilution_name] if dilution_name else 0.0
     u1, u2 = quadratic_coefficients(values[f"{band_name}.limb_darkening_q1"],
                                     values[f"{band_name}.limb_darkening_q2"])
     f = lc.flux(np.arange(lc.times.size), values[f"{n}.period_days"], 0.0, orbit["a_over_rstar"],
                 math.acos(orbit["cos_i"]), orbit["e"], orbit["omega_rad"], values[f"{n}.radius_ratio"], u1, u2)
-    return (f - 1.0) / PPM
+    return (f - 1.0) * (1 - dilution) / PPM
+
+
+def detrended(posterior, values, orbits, index):
+    """Dataset ``index``'s flux with the noise model's prediction (GP variability) removed, and its baseline."""
+    d = posterior.photometry[index]
+    flux = d.flux - posterior.photometry_noise_prediction(values, orbits, index)
+    return flux, np.broadcast_to(posterior.baselines[index].flux(values), d.time.shape)
 
 
 def transit_figure(posterior, view, planet, index, duration_hr):
     """Figure of ``planet``'s transits in photometric dataset ``index``.
 
-    Data are folded on the median ephemeris with the other planets' transits
-    and the flux level divided out; raw points faint, binned points with
+    Data are folded on the median ephemeris with the other planets' transits,
+    the GP prediction of the variability (for ``baseline: gp``) and the
+    baseline divided out; raw points faint, binned points with
     standard errors; the median-parameter model and the 68% band of
     posterior draws, both integrated over the exposure like the fit.
 
@@ -54,20 +63,21 @@ def transit_figure(posterior, view, planet, index, duration_hr):
     """
     d = posterior.photometry[index]
     v, orbits = view.median, view.median_orbits
-    level = v[f"{d.name}.flux_level"]
+    flux, level = detrended(posterior, v, orbits, index)
     full = posterior.photometry_model(v, orbits, index)
     own = posterior.photometry_model(v, orbits, index, planets=[planet.name])
     x_hr = phase_days(d.time, v[f"{planet.name}.period_days"], v[f"{planet.name}.transit_bjd"]) * HOURS_PER_DAY
     half = max(WINDOW_DURATIONS * duration_hr, MIN_HALF_WINDOW_HR)
     sel = np.abs(x_hr) <= half
     x_hr = x_hr[sel]
-    flux_ppm = ((d.flux - (full - own))[sel] / level - 1.0) / PPM
-    resid_ppm = (d.flux - full)[sel] / level / PPM
+    flux_ppm = ((flux - (full - own))[sel] / level[sel] - 1.0) / PPM
+    resid_ppm = (flux - full)[sel] / level[sel] / PPM
 
     grid_hr = np.linspace(-half, half, GRID_POINTS)
     lc = TransitLightCurve(grid_hr / HOURS_PER_DAY, d.exposure_days, d.supersample)
-    median_model = _model_ppm(lc, v, orbits[planet.name], planet, d.band)
-    lo, hi = band([_model_ppm(lc, val, orb[planet.name], planet, d.band) for val, orb in view.draws])
+    dilution = posterior.dilution_names[index]
+    median_model = _model_ppm(lc, v, orbits[planet.name], planet, d.band, dilution)
+    lo, hi = band([_model_ppm(lc, val, orb[planet.name], planet, d.band, dilution) for val, orb in view.draws])
     width_hr = max(duration_hr / BINS_PER_DURATION, d.exposure_days * HOURS_PER_DAY)
 
     with style.style():
@@ -105,3 +115,37 @@ def _limits(ax, data, model):
     lo, hi = min(lo, model.min()), max(hi, model.max())
     pad = 0.15 * (hi - lo) if hi > lo else 1.0
     ax.set_ylim(lo - pad, hi + pad)
+
+
+def light_curve_figure(posterior, view, index):
+    """Dataset ``index`` against time: data, the GP prediction plus the model, and the detrended light curve.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        Two axes: the data with the GP prediction added to the transit
+        model, and the data with the GP prediction removed.
+    """
+    d = posterior.photometry[index]
+    v, orbits = view.median, view.median_orbits
+    model = posterior.photometry_model(v, orbits, index)
+    gp = posterior.photometry_noise_prediction(v, orbits, index)
+    t0 = float(np.floor(d.time.min()))
+    x = d.time - t0
+    gaps = np.flatnonzero(np.diff(d.time) > 10 * np.median(np.diff(d.time))) + 1
+    with style.style():
+        fig = style.new_figure(style.PAGE_WIDTH_IN, 3.6)
+        top, bottom = fig.subplots(2, 1, sharex=True)
+        for ax, y, curve, label in ((top, d.flux, model + gp, "GP prediction + transit model"),
+                                    (bottom, d.flux - gp, model, "transit model")):
+            ax.plot(x, (y - 1) / PPM, ".", color=style.RAW_COLOUR, ms=1.0, alpha=0.4, mec="none", rasterized=True,
+                    label="each exposure")
+            for part_x, part_y in zip(np.split(x, gaps), np.split((curve - 1) / PPM, gaps)):
+                ax.plot(part_x, part_y, color=style.MODEL_COLOUR, lw=0.8, label=label)
+                label = None
+            ax.legend(loc="lower left", fontsize="small", markerscale=4)
+        top.set_ylabel("Relative flux $-$ 1 [ppm]")
+        bottom.set_ylabel("Detrended $-$ 1 [ppm]")
+        bottom.set_xlabel(f"Time [BJD$_\\mathrm{{TDB}}$ $-$ {t0:.0f}]")
+        fig.suptitle(f"{d.name}: variability (GP) and transits")
+    return fig

@@ -19,10 +19,10 @@ def planet_rv_ms(values, orbit, name, times):
 
 
 def _corrected(posterior, view, index):
-    """Offset-free RVs, the model of all planets, jitter-inflated errors of spectrograph ``index``."""
+    """RVs without offset and activity-GP prediction, the model (planets, trend, decorrelation), jitter-inflated errors."""
     d = posterior.velocities[index]
     v = view.median
-    rv = d.rv - v[f"{d.name}.offset_ms"]
+    rv = d.rv - v[f"{d.name}.offset_ms"] - posterior.velocity_noise_prediction(v, view.median_orbits)[index]
     err = np.hypot(d.error, v[f"{d.name}.jitter_ms"])
     return d, rv, posterior.velocity_model(v, view.median_orbits, index), err
 
@@ -104,13 +104,14 @@ def rv_time_figure(posterior, view):
     grid = np.linspace(t_lo, t_hi, n)
 
     def total(values, orbs):
-        return sum(planet_rv_ms(values, orbs[p.name], p.name, grid) for p in posterior.planets)
+        return posterior.trend_ms(values, grid) + sum(planet_rv_ms(values, orbs[p.name], p.name, grid)
+                                                      for p in posterior.planets)
 
     lo, hi = band([total(val, orb) for val, orb in view.draws])
 
     def data(i):
         d, rv, _, err = _corrected(posterior, view, i)
-        return d.time - t0, rv, err
+        return d.time - t0, rv - posterior.decorrelations[i].velocity_ms(v), err
 
     def residual(i):
         d, rv, model, err = _corrected(posterior, view, i)

@@ -1,0 +1,130 @@
+"""Gaussian-process noise with celerite2: correlated stellar variability and activity.
+
+celerite2 (Foreman-Mackey et al. 2017, AJ 154, 220; Foreman-Mackey 2018,
+RNAAS 2, 31) evaluates the likelihood of a one-dimensional GP whose kernel
+is a sum of complex exponentials in O(N) operations, so a GP over tens of
+thousands of photometric points can sit inside every likelihood call.
+Kernels are small classes with one method, ``term(values)``, returning the
+celerite2 term for one set of parameter values.
+"""
+
+import math
+
+import numpy as np
+from celerite2 import GaussianProcess, terms
+
+
+class SHOKernel:
+    """Stochastically driven damped simple harmonic oscillator (Foreman-Mackey et al. 2017, eq. 20).
+
+    Parameters
+    ----------
+    sigma_name, rho_name, quality_name : str
+        Parameters holding the standard deviation (in units of ``scale``),
+        the undamped period rho (days) and the quality factor Q.
+    scale : float
+        Unit of sigma in data units (1e-6 for ppm of relative flux).
+    """
+
+    def __init__(self, sigma_name, rho_name, quality_name, scale):
+        self.sigma_name, self.rho_name, self.quality_name, self.scale = sigma_name, rho_name, quality_name, scale
+
+    def term(self, values):
+        return terms.SHOTerm(sigma=values[self.sigma_name] * self.scale, rho=values[self.rho_name],
+                             Q=values[self.quality_name])
+
+
+class Matern32Kernel:
+    """Matern-3/2 kernel in celerite2's approximation (Foreman-Mackey et al. 2017, section 4.2)."""
+
+    def __init__(self, sigma_name, rho_name, scale):
+        self.sigma_name, self.rho_name, self.scale = sigma_name, rho_name, scale
+
+    def term(self, values):
+        return terms.Matern32Term(sigma=values[self.sigma_name] * self.scale, rho=values[self.rho_name])
+
+
+class RotationKernel:
+    """Two damped oscillators at the rotation period and half of it (celerite2's RotationTerm).
+
+    Unit standard deviation: amplitudes are applied per instrument by
+    :class:`GaussianProcessNoise`. The quasi-periodic signal of spots on a
+    rotating star has its power near the rotation period and its first
+    harmonic (e.g. Angus et al. 2018, MNRAS 474, 2094).
+    """
+
+    def __init__(self, period_name, quality_name, quality_difference_name, mix_name):
+        self.names = (period_name, quality_name, quality_difference_name, mix_name)
+
+    def term(self, values):
+        period, q0, dq, mix = (values[n] for n in self.names)
+        return terms.RotationTerm(sigma=1.0, period=period, Q0=q0, dQ=dq, f=mix)
+
+
+class GaussianProcessNoise:
+    """Gaussian log-likelihood of residuals under a celerite2 GP plus white noise.
+
+    Points may come from several instruments (``groups``), each with its
+    own jitter and, optionally, its own amplitude multiplying the shared
+    process: the covariance is a_g(i) a_g(j) k(t_i - t_j) + diag(error^2 +
+    jitter_g^2). Dividing residuals and white-noise standard deviations
+    by the amplitudes turns it into a plain celerite2 GP, with the log
+    determinant gaining 2 sum ln a_g(i).
+
+    Parameters
+    ----------
+    times : ndarray
+        Sorted times (days).
+    error : ndarray
+        Reported 1-sigma uncertainties.
+    kernel : SHOKernel, Matern32Kernel or RotationKernel
+    jitter_names : list of str
+        One jitter parameter per group, in units of ``scale``.
+    scale : float
+        Jitter unit in data units.
+    groups : ndarray of int, optional
+        Group of every point (default: one group).
+    amplitude_names : list of str, optional
+        One amplitude parameter per group (data units); None when the
+        kernel carries its own amplitude.
+    """
+
+    def __init__(self, times, error, kernel, jitter_names, scale=1.0, groups=None, amplitude_names=None):
+        self.times = np.ascontiguousarray(times, dtype=float)
+        self.error2 = np.asarray(error, dtype=float) ** 2
+        self.kernel = kernel
+        self.jitter_names = list(jitter_names)
+        self.scale = scale
+        self.groups = np.zeros(self.times.size, dtype=int) if groups is None else np.asarray(groups)
+        self.amplitude_names = amplitude_names
+
+    def _prepared(self, residual, values):
+        """The GP factorised for ``values``, the rescaled residuals and the log-determinant correction."""
+        jit = np.array([values[n] * self.scale for n in self.jitter_names])[self.groups]
+        diag = self.error2 + jit * jit
+        correction = 0.0
+        if self.amplitude_names is not None:
+            amp = np.array([values[n] for n in self.amplitude_names])[self.groups]
+            residual, diag = residual / amp, diag / (amp * amp)
+            correction = float(np.sum(np.log(amp)))
+        gp = GaussianProcess(self.kernel.term(values))
+        gp.compute(self.times, diag=diag, quiet=True, check_sorted=False)
+        return gp, residual, correction
+
+    def log_likelihood(self, residual, values):
+        """Log-likelihood of ``residual`` (data minus mean model); -inf if the covariance is singular."""
+        gp, residual, correction = self._prepared(residual, values)
+        ll = gp.log_likelihood(residual)
+        return ll - correction if math.isfinite(ll) else -math.inf
+
+    def predict(self, residual, values, times=None):
+        """Conditional mean of the process (data units) at ``times`` (default: the data times).
+
+        At the data times, each point's group amplitude is applied; at other
+        times the unit-amplitude process is returned.
+        """
+        gp, scaled, _ = self._prepared(residual, values)
+        mean = gp.predict(scaled, t=times)
+        if self.amplitude_names is not None and times is None:
+            mean = mean * np.array([values[n] for n in self.amplitude_names])[self.groups]
+        return mean

@@ -1,0 +1,80 @@
+"""Noise models against dense linear algebra: the celerite2 GP likelihood and its per-instrument amplitudes."""
+
+import math
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from planetfit.models.gp import GaussianProcessNoise, Matern32Kernel, RotationKernel, SHOKernel
+from planetfit.models.noise import WhiteNoise
+
+
+def sho_covariance(tau, sigma, rho, q):
+    """SHO autocovariance for Q > 1/2. source: Foreman-Mackey et al. 2017, AJ 154, 220, eq. 21-23
+    (written with S0 w0 Q = sigma^2 and w0 = 2 pi / rho)."""
+    w0 = 2 * np.pi / rho
+    eta = math.sqrt(1 - 1 / (4 * q * q))
+    tau = np.abs(tau)
+    return sigma**2 * np.exp(-w0 * tau / (2 * q)) * (np.cos(eta * w0 * tau) + np.sin(eta * w0 * tau) / (2 * eta * q))
+
+
+def matern32_covariance(tau, sigma, rho):
+    """source: Rasmussen & Williams 2006, Gaussian Processes for Machine Learning, eq. 4.17 (nu = 3/2)."""
+    r = math.sqrt(3) * np.abs(tau) / rho
+    return sigma**2 * (1 + r) * np.exp(-r)
+
+
+@pytest.fixture
+def data():
+    rng = np.random.default_rng(3)
+    t = np.sort(rng.uniform(0, 20, 150))
+    return t, rng.normal(0, 2.0, t.size), rng.uniform(0.5, 1.5, t.size)
+
+
+def test_sho_likelihood_equals_dense_gaussian(data):
+    t, y, err = data
+    values = {"s": 1.7, "r": 3.0, "q": 2.0, "j": 0.3}
+    noise = GaussianProcessNoise(t, err, SHOKernel("s", "r", "q", 1.0), ["j"])
+    cov = sho_covariance(t[:, None] - t[None, :], 1.7, 3.0, 2.0) + np.diag(err**2 + 0.3**2)
+    # source: multivariate normal log-density (scipy.stats.multivariate_normal)
+    assert noise.log_likelihood(y, values) == pytest.approx(stats.multivariate_normal(cov=cov).logpdf(y), abs=1e-6)
+
+
+def test_matern_likelihood_is_close_to_the_exact_kernel(data):
+    t, y, err = data
+    values = {"s": 1.2, "r": 2.0, "j": 0.0}
+    noise = GaussianProcessNoise(t, err, Matern32Kernel("s", "r", 1.0), ["j"])
+    cov = matern32_covariance(t[:, None] - t[None, :], 1.2, 2.0) + np.diag(err**2)
+    # celerite2 approximates Matern-3/2 with eps = 0.01 (Foreman-Mackey et al. 2017, section 4.2)
+    assert noise.log_likelihood(y, values) == pytest.approx(stats.multivariate_normal(cov=cov).logpdf(y), abs=0.05)
+
+
+def test_per_instrument_amplitudes_equal_dense_scaled_covariance(data):
+    t, y, err = data
+    groups = (np.arange(t.size) % 3 == 0).astype(int)
+    values = {"P": 6.0, "Q0": 3.0, "dQ": 1.0, "f": 0.4, "ja": 0.2, "jb": 0.7, "aa": 2.5, "ab": 0.8}
+    noise = GaussianProcessNoise(t, err, RotationKernel("P", "Q0", "dQ", "f"), ["ja", "jb"], 1.0, groups=groups,
+                                 amplitude_names=["aa", "ab"])
+    # Unit-amplitude rotation kernel: two SHO terms at P and P/2. source: celerite2 documentation, RotationTerm
+    q1, q2 = 0.5 + 3.0 + 1.0, 0.5 + 3.0
+    w1 = 4 * np.pi * q1 / (6.0 * math.sqrt(4 * q1**2 - 1))
+    w2 = 8 * np.pi * q2 / (6.0 * math.sqrt(4 * q2**2 - 1))
+    tau = t[:, None] - t[None, :]
+    k = (sho_covariance(tau, math.sqrt(1 / 1.4), 2 * np.pi / w1, q1)
+         + sho_covariance(tau, math.sqrt(0.4 / 1.4), 2 * np.pi / w2, q2))
+    amp = np.where(groups == 1, 0.8, 2.5)
+    jit = np.where(groups == 1, 0.7, 0.2)
+    cov = amp[:, None] * amp[None, :] * k + np.diag(err**2 + jit**2)
+    assert noise.log_likelihood(y, values) == pytest.approx(stats.multivariate_normal(cov=cov).logpdf(y), abs=1e-6)
+
+
+def test_gp_prediction_follows_a_slow_signal(data):
+    t, _, _ = data
+    signal = 3 * np.sin(2 * np.pi * t / 9.0)
+    y = signal + np.random.default_rng(4).normal(0, 0.3, t.size)
+    noise = GaussianProcessNoise(t, np.full(t.size, 0.3), SHOKernel("s", "r", "q", 1.0), ["j"])
+    pred = noise.predict(y, {"s": 3.0, "r": 9.0, "q": 5.0, "j": 0.0})
+    # common practice, no published source: the conditional mean follows a well-sampled signal to within the noise
+    assert np.std(pred - signal) < 0.3
+    assert np.all(WhiteNoise(np.ones(3), "j").predict(np.ones(3), {"j": 0.0}) == 0)
