@@ -22,7 +22,8 @@ from planetfit.report import outputs, rounding, tables
 from planetfit.report.figures.convergence import read_chain
 
 DEMO = Path(planetfit.__file__).parent / "demo"
-FIGURES = ("transit_b_camera-2min", "transit_b_camera-30min", "rv_phase_b", "rv_phase_c", "rv_time", "corner_b",
+FIGURES = ("transit_b_camera-2min", "transit_b_camera-30min", "light_curve_camera-2min", "light_curve_camera-30min",
+           "rv_phase_b", "rv_phase_c", "rv_time", "corner_b",
            "corner_c", "corner_sampled", "mass_radius", "habitable_zone", "convergence")
 VALUE = re.compile(r"\$(-?[0-9.]+)(?:\^\{\+([0-9.]+)\}_\{-([0-9.]+)\}| \\pm ([0-9.]+))?\$")
 
