@@ -318,7 +318,9 @@ class FastLikelihoodPrototype:
        three sums computed once; the in-window part is swapped for the transit
        model's. Exact up to rounding (g is centred, so no cancellation).
     3. The RVs of all spectrographs in one array.
-    4. Transit windows with fewer numpy calls (``_window_indices``).
+    4. Transit windows with fewer numpy calls (``_window_indices``), batman's
+       kernels called on the window's times directly (no sub-exposure
+       broadcast without supersampling), the chi^2 change in one dot product.
 
     Covers what the benchmark system uses: constant baselines, fixed
     photometric jitter, white RV noise, no dilution, trend or activity terms.
@@ -385,11 +387,13 @@ class FastLikelihoodPrototype:
         for lc, idx, per, t0, o, k in windows:
             if idx.size:
                 at = slice(None) if len(windows) == 1 else np.searchsorted(union, idx)
-                deficit[at] += 1 - lc.flux(idx, per, t0, o["a_over_rstar"], math.acos(o["cos_i"]), o["e"],
-                                           o["omega_rad"], k, u1, u2)
-        wi, base = w[union], g[union] - dl
-        fit = base + level * deficit
-        return chi2 + float(wi @ (fit * fit)) - float(wi @ (base * base))
+                t = lc.times[idx] if lc.supersample == 1 else (lc.times[idx, None] + lc.offsets).ravel()
+                f = _quadratic_ld._quadratic_ld(_rsky._rsky(t, t0, per, o["a_over_rstar"], math.acos(o["cos_i"]),
+                                                            o["e"], o["omega_rad"], 1, 1), k, u1, u2, 1)
+                deficit[at] += 1 - (f if lc.supersample == 1 else f.reshape(-1, lc.supersample).mean(axis=1))
+        # sum w (base + L d)^2 - sum w base^2 = L sum w d (2 base + L d), base = g - (L - 1)
+        d = level * deficit
+        return chi2 + float(np.dot(w[union] * d, 2 * (g[union] - dl) + d))
 
     def log_likelihood(self, values):
         orbits = self.orbits(values)
