@@ -28,6 +28,12 @@ def segment_labels(times, gap_days):
     return np.concatenate(([0], np.cumsum(np.diff(times) > gap_days)))
 
 
+def segment_slices(labels):
+    """Slices of the contiguous runs of equal ``labels`` (segments of time-sorted data)."""
+    edges = np.concatenate(([0], np.flatnonzero(np.diff(labels)) + 1, [labels.size]))
+    return [slice(a, b) for a, b in zip(edges[:-1], edges[1:])]
+
+
 def _centre_and_half_width(prior):
     lo, hi = prior.bounds
     if math.isfinite(lo) and math.isfinite(hi):
@@ -102,12 +108,11 @@ def sigma_clip(times, flux, segments, protected, sigma, window_days):
         return clipped
     for _ in range(MAX_CLIP_ITERATIONS):
         trend = np.empty(times.size)
-        for label in np.unique(segments):
-            seg = segments == label
-            keep = seg & ~clipped
+        for seg in segment_slices(segments):
+            t, f, keep = times[seg], flux[seg], ~clipped[seg]
             if keep.sum() < 3:
-                keep = seg
-            trend[seg] = np.interp(times[seg], times[keep], _running_median(times[keep], flux[keep], window_days))
+                keep[:] = True
+            trend[seg] = np.interp(t, t[keep], _running_median(t[keep], f[keep], window_days))
         resid = flux - trend
         free = ~clipped & ~protected
         if free.sum() < 3:

@@ -226,15 +226,14 @@ def load_photometry(cfg, planets=(), star=None):
     segment = cleaning.segment_labels(time, cfg.segment_gap_days)
     norm = 1.0
     if cfg.normalise:
-        for label in np.unique(segment):
-            seg = segment == label
-            level = float(np.median(flux[seg]))
-            if not level > 0:
-                raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
-                                 key="columns.flux",
-                                 fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
+        levels = [float(np.median(flux[seg])) for seg in cleaning.segment_slices(segment)]
+        if not min(levels) > 0:
+            raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
+                             key="columns.flux",
+                             fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
+        for seg, level in zip(cleaning.segment_slices(segment), levels):
             flux[seg], error[seg] = flux[seg] / level, error[seg] / level
-            norm = level if label == 0 else norm
+        norm = levels[0]  # the first segment's median (reported; every segment is normalised to its own)
     keep = np.ones(time.size, dtype=bool)
     clipped = far = 0
     if planets:
