@@ -130,6 +130,7 @@ def light_curve_figure(posterior, view, index):
     v, orbits = view.median, view.median_orbits
     model = posterior.photometry_model(v, orbits, index)
     gp = posterior.photometry_noise_prediction(v, orbits, index)
+    base = posterior.baselines[index].flux(v)
     t0 = float(np.floor(d.time.min()))
     x = d.time - t0
     gaps = np.flatnonzero(np.diff(d.time) > 10 * np.median(np.diff(d.time))) + 1
@@ -137,7 +138,7 @@ def light_curve_figure(posterior, view, index):
         fig = style.new_figure(style.PAGE_WIDTH_IN, 3.6)
         top, bottom = fig.subplots(2, 1, sharex=True)
         for ax, y, curve, label in ((top, d.flux, model + gp, "GP prediction + transit model"),
-                                    (bottom, d.flux - gp, model, "transit model")):
+                                    (bottom, (d.flux - gp) / base, model / base, "transit model")):
             ax.plot(x, (y - 1) / PPM, ".", color=style.RAW_COLOUR, ms=1.0, alpha=0.4, mec="none", rasterized=True,
                     label="each exposure")
             for part_x, part_y in zip(np.split(x, gaps), np.split((curve - 1) / PPM, gaps)):
@@ -145,7 +146,7 @@ def light_curve_figure(posterior, view, index):
                 label = None
             ax.legend(loc="lower left", fontsize="small", markerscale=4)
         top.set_ylabel("Relative flux $-$ 1 [ppm]")
-        bottom.set_ylabel("Detrended $-$ 1 [ppm]")
+        bottom.set_ylabel("Detrended / baseline $-$ 1 [ppm]")
         bottom.set_xlabel(f"Time [BJD$_\\mathrm{{TDB}}$ $-$ {t0:.0f}]")
         fig.suptitle(f"{d.name}: variability (GP) and transits")
     return fig
