@@ -13,7 +13,7 @@ from pathlib import Path
 
 import yaml
 
-from .errors import InputError
+from .errors import InputError, reading
 from .priors import Fixed, LogUniform, Normal, Uniform, make_prior
 
 ORBITS = ("circular", "eccentric")
@@ -187,14 +187,9 @@ def _key_lines(node, prefix=""):
 def read_yaml(path):
     """Read a YAML file safely; return (data, key->line map)."""
     path = Path(path)
-    try:
+    with reading(path, "config file", "check the path; run 'planetfit demo' for a working example.",
+                 "give a readable UTF-8 YAML file."):
         text = path.read_text()
-    except FileNotFoundError:
-        raise InputError("config file not found.", file=path,
-                         fix="check the path; run 'planetfit demo' for a working example.") from None
-    except (IsADirectoryError, PermissionError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the config file ({exc.__class__.__name__}).", file=path,
-                         fix="give a readable UTF-8 YAML file.") from None
     try:
         node = yaml.compose(text, Loader=yaml.SafeLoader)
         if node is not None and _count_nodes(node, {}) > MAX_YAML_NODES:

@@ -19,7 +19,7 @@ import logging
 import numpy as np
 
 from . import cleaning
-from .errors import InputError
+from .errors import DATA_FILE_MISSING_FIX, InputError, reading
 from .fits_io import is_fits, read_fits_table
 from .units import HOURS_PER_DAY, MINUTES_PER_DAY
 
@@ -98,14 +98,9 @@ def read_table(path, columns):
     dict of ndarray
         Our name -> float array (NaN kept; the caller decides).
     """
-    try:
+    with reading(path, "data file", DATA_FILE_MISSING_FIX,
+                 "give a readable CSV or whitespace-separated text file with a header line."):
         text = path.read_text()
-    except FileNotFoundError:
-        raise InputError("data file not found.", file=path,
-                         fix="check the 'file' path; relative paths are relative to the config file.") from None
-    except (IsADirectoryError, PermissionError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the data file ({exc.__class__.__name__}).", file=path,
-                         fix="give a readable CSV or whitespace-separated text file with a header line.") from None
     rows = [(n + 1, ln) for n, ln in enumerate(text.splitlines()) if ln.strip() and not ln.lstrip().startswith("#")]
     if not rows:
         raise InputError("the file is empty.", file=path, fix="give a table with a header line and data rows.")

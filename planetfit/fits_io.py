@@ -11,7 +11,7 @@ with an :class:`~planetfit.errors.InputError`.
 import numpy as np
 from astropy.io import fits
 
-from .errors import InputError
+from .errors import DATA_FILE_MISSING_FIX, InputError, reading
 
 #: File name endings read as FITS.
 FITS_SUFFIXES = (".fits", ".fit", ".fts", ".fits.gz", ".fit.gz")
@@ -72,14 +72,9 @@ def read_fits_table(path, columns):
     dict of ndarray
         Our name -> float array (NaN kept; the caller decides).
     """
-    try:
+    with reading(path, "FITS file", DATA_FILE_MISSING_FIX, "give a valid FITS light-curve product, or a CSV table.",
+                 unreadable=(OSError, ValueError, TypeError)):
         hdul = fits.open(path, memmap=False)
-    except FileNotFoundError:
-        raise InputError("data file not found.", file=path,
-                         fix="check the 'file' path; relative paths are relative to the config file.") from None
-    except (OSError, ValueError, TypeError) as exc:
-        raise InputError(f"cannot read the FITS file ({exc}).", file=path,
-                         fix="give a valid FITS light-curve product, or a CSV table.") from None
     with hdul:
         hdu = _table_hdu(hdul, path)
         ref_int, ref_frac = reference_bjd([hdu.header, hdul[0].header], path)
