@@ -120,3 +120,12 @@ def test_transit_only_fit_reports_no_mass(tmp_path, no_figures):
     assert "no RVs" in b["note"]
     assert _within_3_sigma(b["radius_ratio"], 0.04)  # the simulated radius ratio
     assert b["composition"] is None
+
+
+def test_transit_only_run_draws_its_figures(tmp_path):
+    # common practice, no published source: a fit without RVs has no mass to plot, and must still draw the rest
+    config = write_system(tmp_path, velocities=False, max_steps=200)
+    run_dir = pipeline.run(config, quiet=True)
+    names = {p.stem for p in (run_dir / "figures").glob("*.png")}
+    assert {"corner_b", "transit_b_cam", "habitable_zone", "convergence"} <= names
+    assert "mass_radius" not in names

@@ -6,6 +6,8 @@
 
 from functools import partial
 
+import numpy as np
+
 from .common import PosteriorView, file_stem
 from .convergence import convergence_figure, read_chain
 from .corners import physical_corner, sampled_corner
@@ -42,8 +44,11 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
         out.append(("rv_time", partial(rv_time_figure, posterior, view)))
     out += [(f"corner_{file_stem(p.name)}", partial(physical_corner, derived, p)) for p in planets]
     out.append(("corner_sampled", partial(sampled_corner, derived)))
-    if transiting:
-        out.append(("mass_radius", partial(mass_radius_figure, derived, transiting)))
+    # Planets with a measured mass (a transit-only fit has none) go on the mass-radius diagram.
+    weighed = [p for p in transiting if np.any(np.isfinite(derived["planets"][p.name]["mass_earth"])
+                                               & (derived["planets"][p.name]["mass_earth"] > 0))]
+    if weighed:
+        out.append(("mass_radius", partial(mass_radius_figure, derived, weighed)))
     out.append(("habitable_zone", partial(habitable_zone_figure, derived, planets)))
     out.append(("convergence", partial(_convergence, run_dir, posterior, summary,
                                        checked.config.sampling.autocorr_factor)))

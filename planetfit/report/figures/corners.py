@@ -56,7 +56,7 @@ def physical_corner(derived, planet):
     """Corner of a planet's mass, radius and density with its main fitted parameters.
 
     Planets seen only in RVs get minimum mass, period and semi-amplitude;
-    eccentric orbits add the eccentricity.
+    eccentric orbits add the eccentricity; quantities without spread are left out.
 
     Returns
     -------
@@ -67,6 +67,8 @@ def physical_corner(derived, planet):
     keys = list(_TRANSITING if planet.transits else _RV_ONLY)
     if planet.orbit == "eccentric":
         keys.append("eccentricity")
+    # A quantity held fixed (K = 0 in a transit-only fit, and the mass with it) has nothing to show.
+    keys = [k for k in keys if np.all(np.isfinite(values[k])) and np.ptp(values[k]) > 0]
     columns, labels = zip(*(_shifted(values[k], q.planet_quantity(k, planet.transits).axis_label()) for k in keys))
     with style.style(style.CORNER_RC):
         width_in = min(style.PAGE_WIDTH_IN, max(style.COLUMN_WIDTH_IN, PHYSICAL_MARGIN_IN + PHYSICAL_PANEL_IN * len(keys)))
