@@ -7,6 +7,9 @@ the key or line). Every case must exit with code 2, print a message with a
 fix, print no traceback and finish within the time limit.
 """
 
+# common practice, no published source: exit code 2 and a message naming file, key or line and a fix
+# are planetfit's own contract (DESIGN.md); these tests check no physics.
+
 import shutil
 import signal
 import subprocess

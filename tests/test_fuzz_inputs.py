@@ -1,5 +1,7 @@
 """Property tests: any config text or data table gives a result or an InputError, nothing else."""
 
+# common practice, no published source: property tests of planetfit's input contract; no physics is checked.
+
 import copy
 
 import numpy as np

@@ -1,5 +1,8 @@
 """Interrupted runs: SIGKILL, Ctrl-C and SIGTERM, then --resume; corrupt and mismatched chains."""
 
+# common practice, no published source: resume and interruption follow planetfit's own contract
+# (DESIGN.md, exit 130, no lost steps); no physics is checked.
+
 import json
 import os
 import signal
