@@ -52,7 +52,7 @@ from planetfit.demo import generate
 from planetfit.models.keplerian import radial_velocity_ms
 from planetfit.models.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
 from planetfit.models.transit import quadratic_coefficients
-from planetfit.posterior import JointPosterior
+from planetfit.posterior import JointPosterior, orbit_is_physical
 from planetfit.sampling import sampler_geometry
 from planetfit.units import G_SI, M_SUN_KG, MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M, SECONDS_PER_DAY
 
@@ -353,14 +353,8 @@ class FastLikelihoodPrototype:
         out = {}
         for p in self.planets:
             o = _scalar_orbit(values, p)
-            if o is None or o["e"] >= p.eccentricity_max:
+            if o is None or not orbit_is_physical(values, p, o):
                 return None
-            if p.transits:
-                k = values[f"{p.name}.radius_ratio"]
-                if k <= 0 or values[f"{p.name}.impact"] >= 1 + k or not abs(o["cos_i"]) < 1:
-                    return None
-                if o["a_over_rstar"] * (1 - o["e"]) <= 1 + k:
-                    return None
             out[p.name] = o
         return out
 

@@ -429,7 +429,7 @@ def _check_columns(ctx, key, data, needed):
     return cols
 
 
-def _dataset_name(s, key, index, seen, ctx):
+def _dataset_name(s, key, seen, ctx):
     name = s.text("name", required=True)
     if name in seen:
         ctx.fail(f"{key}.name", f"the dataset name '{name}' is used twice.", "give every dataset its own name.")
@@ -440,7 +440,7 @@ def _dataset_name(s, key, index, seen, ctx):
 def _check_photometry(ctx, i, data, seen):
     key = f"photometry[{i}]"
     s = _Section(ctx, data, key)
-    name = _dataset_name(s, key, i, seen, ctx)
+    name = _dataset_name(s, key, seen, ctx)
     exposure = s.number("exposure_min", required=True, positive=True)
     default_ss = max(1, math.ceil(exposure / 2.0 - 1e-9))  # sub-exposures of at most 2 min
     files = s.paths("file")
@@ -509,7 +509,7 @@ def _only_with(ctx, s, key, names, setting):
 def _check_velocities(ctx, i, data, seen, activity):
     key = f"velocities[{i}]"
     s = _Section(ctx, data, key)
-    name = _dataset_name(s, key, i, seen, ctx)
+    name = _dataset_name(s, key, seen, ctx)
     raw_decorrelate = s.take("decorrelate", default={})
     ds = _Section(ctx, raw_decorrelate, f"{key}.decorrelate")
     decorrelate = {str(col): ds.prior(col, required=True) for col in list(ds.data)}

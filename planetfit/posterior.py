@@ -194,6 +194,19 @@ def planet_orbit(values, planet):
     return out
 
 
+def orbit_is_physical(values, planet, orbit):
+    """Whether one planet's orbit is allowed: e below its cap and, for a transiting
+    planet, a positive radius ratio, a transit (b < 1 + k) and periastron outside the star."""
+    if orbit["e"] >= planet.eccentricity_max:
+        return False
+    if not planet.transits:
+        return True
+    k = values[f"{planet.name}.radius_ratio"]
+    if k <= 0 or values[f"{planet.name}.impact"] >= 1 + k or not abs(orbit["cos_i"]) < 1:
+        return False
+    return orbit["a_over_rstar"] * (1 - orbit["e"]) > 1 + k
+
+
 def _fixed_value(prior):
     return prior.value if prior.fixed else None
 
@@ -256,14 +269,8 @@ class JointPosterior:
         out = {}
         for p in self.planets:
             o = planet_orbit(values, p)
-            if o["e"] >= p.eccentricity_max:
+            if not orbit_is_physical(values, p, o):
                 return None
-            if p.transits:
-                k = values[f"{p.name}.radius_ratio"]
-                if k <= 0 or values[f"{p.name}.impact"] >= 1 + k or not abs(o["cos_i"]) < 1:
-                    return None
-                if o["a_over_rstar"] * (1 - o["e"]) <= 1 + k:
-                    return None
             out[p.name] = o
         return out
 
