@@ -1,8 +1,10 @@
-"""Synthetic transiting systems with known truth, for injection-recovery tests.
+"""Synthetic systems with known truth, for the tests and benchmarks.
 
 Light curves come from batman's public ``TransitModel`` (not planetfit's
 windowed kernels) and RVs from radvel's ``rv_drive``; each system is written
-as tables plus a config, and fitted through the real pipeline.
+as tables plus a config, and fitted through the real pipeline. Two kinds:
+any set of planets (:func:`write_system`, for injection-recovery) and a tiny
+one-planet system that fits in seconds (:func:`write_tiny_system`).
 """
 
 from pathlib import Path
@@ -33,7 +35,7 @@ def true_mass_radius(p, star=STAR):
 
 
 def light_curve(times, planets, exposure_min, star=STAR, u=(0.45, 0.2)):
-    """Relative flux of all transiting planets (batman, exposure-integrated)."""
+    """Relative flux of all transiting planets (batman); ``exposure_min = 0`` samples instants."""
     flux = np.ones_like(times)
     for p in planets.values():
         if p["radius_ratio"] is None:
@@ -61,6 +63,38 @@ def radial_velocity(times, planets):
     return total
 
 
+# ----------------------------------------------------------------- tables and config
+
+def star_priors(star, teff_k):
+    """The config's star: normal priors around ``star`` and ``teff_k`` (0.03 Msun, 0.02 Rsun, 80 K wide)."""
+    return {"mass_msun": {"normal": [star["mass_msun"], 0.03]},
+            "radius_rsun": {"normal": [star["radius_rsun"], 0.02]}, "teff_k": {"normal": [teff_k, 80]}}
+
+
+def write_photometry(folder, times_bjd, flux, error, exposure_min, fmt="%.8f", **entry):
+    """Write ``phot.csv`` (times as BJD - ``BTJD``) and return its config entry, with ``entry``'s keys added."""
+    np.savetxt(folder / "phot.csv", np.column_stack([times_bjd - BTJD, flux, np.full(times_bjd.size, error)]),
+               delimiter=",", header="time,flux,flux_err", comments="", fmt=fmt)
+    return {"name": "cam", "file": "phot.csv", "columns": {"time": "time", "flux": "flux", "error": "flux_err"},
+            "time_offset_days": BTJD, "exposure_min": exposure_min, **entry}
+
+
+def write_velocities(folder, name, file, times_bjd, rv_ms, error_ms, **priors):
+    """Write an RV table ``file`` and return its config entry ``name``, with ``priors``' keys added."""
+    np.savetxt(folder / file, np.column_stack([times_bjd, rv_ms, np.full(times_bjd.size, error_ms)]),
+               header="bjd rv err", comments="", fmt="%.6f")
+    return {"name": name, "file": file, "columns": {"time": "bjd", "rv": "rv", "error": "err"}, **priors}
+
+
+def write_config(folder, config):
+    """Write ``config.yaml`` into ``folder`` (keys in the given order); return its path."""
+    path = folder / "config.yaml"
+    path.write_text(yaml.safe_dump(config, sort_keys=False))
+    return path
+
+
+# ----------------------------------------------------------------- any set of planets
+
 def write_system(folder, planets, seed, days=20.0, cadence_min=10.0, noise_ppm=300.0, n_rv=40, rv_error_ms=1.5,
                  rv_offset_ms=5.0, walkers=40, max_steps=2000):
     """Write photometry, RVs and ``config.yaml`` for ``planets`` into ``folder``; return the config path."""
@@ -70,12 +104,11 @@ def write_system(folder, planets, seed, days=20.0, cadence_min=10.0, noise_ppm=3
     t0 = min(p["transit_bjd"] for p in planets.values()) - 1.0
     t_phot = np.arange(t0, t0 + days, cadence_min / 1440.0)
     flux = light_curve(t_phot, planets, cadence_min) + rng.normal(0, noise_ppm * 1e-6, t_phot.size)
-    np.savetxt(folder / "phot.csv", np.column_stack([t_phot - BTJD, flux, np.full(t_phot.size, noise_ppm * 1e-6)]),
-               delimiter=",", header="time,flux,flux_err", comments="", fmt="%.8f")
+    photometry = write_photometry(folder, t_phot, flux, noise_ppm * 1e-6, cadence_min)
     t_rv = np.sort(rng.uniform(t0, t0 + 4 * max(p["period_days"] for p in planets.values()), n_rv))
     rv = radial_velocity(t_rv, planets) + rv_offset_ms + rng.normal(0, rv_error_ms, n_rv)
-    np.savetxt(folder / "rv.txt", np.column_stack([t_rv, rv, np.full(n_rv, rv_error_ms)]),
-               header="bjd rv err", comments="", fmt="%.6f")
+    velocities = write_velocities(folder, "spec", "rv.txt", t_rv, rv, rv_error_ms,
+                                  offset_ms={"uniform": [-30, 30]}, jitter_ms={"loguniform": [0.01, 10]})
     config_planets = {}
     for name, p in planets.items():
         entry = {"period_days": {"uniform": [p["period_days"] * 0.998, p["period_days"] * 1.002]},
@@ -88,18 +121,61 @@ def write_system(folder, planets, seed, days=20.0, cadence_min=10.0, noise_ppm=3
         else:
             entry.update(radius_ratio={"uniform": [0.005, 0.2]}, impact={"uniform": [0.0, 1.0]})
         config_planets[name] = entry
-    config = {
-        "system": f"Synthetic-{seed}", "seed": seed, "output": "run",
-        "star": {"mass_msun": {"normal": [STAR["mass_msun"], 0.03]},
-                 "radius_rsun": {"normal": [STAR["radius_rsun"], 0.02]}, "teff_k": {"normal": [5400, 80]}},
-        "planets": config_planets,
-        "photometry": [{"name": "cam", "file": "phot.csv",
-                        "columns": {"time": "time", "flux": "flux", "error": "flux_err"},
-                        "time_offset_days": BTJD, "exposure_min": cadence_min}],
-        "velocities": [{"name": "spec", "file": "rv.txt", "columns": {"time": "bjd", "rv": "rv", "error": "err"},
-                        "offset_ms": {"uniform": [-30, 30]}, "jitter_ms": {"loguniform": [0.01, 10]}}],
+    return write_config(folder, {
+        "system": f"Synthetic-{seed}", "seed": seed, "output": "run", "star": star_priors(STAR, 5400),
+        "planets": config_planets, "photometry": [photometry], "velocities": [velocities],
         "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 200, "optimiser_starts": 3},
+    })
+
+
+# ----------------------------------------------------------------- a tiny system that fits in seconds
+
+TINY_TRUTH = {"mass_msun": 0.9, "radius_rsun": 0.85, "period_days": 3.0, "transit_bjd": 2460001.5,
+              "radius_ratio": 0.04, "impact": 0.3, "rv_amplitude_ms": 8.0}
+TINY_EXPOSURE_MIN = 10.0
+
+
+def _tiny_planets(truth):
+    """The tiny system's one circular planet, as :func:`planet_truth` gives it."""
+    return {"b": planet_truth(truth["period_days"], truth["transit_bjd"], truth["rv_amplitude_ms"],
+                              radius_ratio=truth["radius_ratio"], impact=truth["impact"])}
+
+
+def tiny_light_curve(times, truth=TINY_TRUTH):
+    """Noise-free relative flux of the tiny system at the instants ``times`` (no exposure integration)."""
+    return light_curve(times, _tiny_planets(truth), 0.0, star=truth, u=(0.4, 0.2))
+
+
+def write_tiny_system(folder, truth=TINY_TRUTH, seed=1, n_phot=400, n_rv=20, noise_ppm=400.0, rv_error_ms=1.5,
+                      max_steps=300, walkers=24, photometry=True, velocities=True, **overrides):
+    """Write the tiny system (one transiting planet, a few hundred photometry points, 20 RVs) into ``folder``.
+
+    Data tables and ``config.yaml``; ``overrides`` replace top-level config keys. Returns the config path.
+    """
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(seed)
+    P, t0 = truth["period_days"], truth["transit_bjd"]
+    # Photometry in three windows of 0.4 d around consecutive transits.
+    per_window = n_phot // 3
+    t_phot = np.concatenate([t0 + n * P + np.linspace(-0.2, 0.2, per_window) for n in range(3)])
+    flux = tiny_light_curve(t_phot, truth) + rng.normal(0, noise_ppm * 1e-6, t_phot.size)
+    t_rv = np.sort(rng.uniform(t0 - 20, t0 + 20, n_rv))
+    rv = radial_velocity(t_rv, _tiny_planets(truth)) + rng.normal(0, rv_error_ms, n_rv)
+    config = {
+        "system": "Tiny-1", "seed": 3, "output": "run", "star": star_priors(truth, 5300),
+        "planets": {"b": {"period_days": {"uniform": [P - 0.01, P + 0.01]},
+                          "transit_bjd": {"uniform": [t0 - 0.05, t0 + 0.05]},
+                          "radius_ratio": {"uniform": [0.005, 0.1]}, "impact": {"uniform": [0.0, 1.0]},
+                          "rv_amplitude_ms": {"uniform": [0.0, 30.0]} if velocities else 0.0}},
+        "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 100, "optimiser_starts": 2},
     }
-    path = folder / "config.yaml"
-    path.write_text(yaml.safe_dump(config, sort_keys=False))
-    return path
+    if photometry:
+        config["photometry"] = [write_photometry(folder, t_phot, flux, noise_ppm * 1e-6, TINY_EXPOSURE_MIN,
+                                                 fmt="%.7f", supersample=1)]
+    if velocities:
+        config["velocities"] = [write_velocities(folder, "spec", "rv.txt", t_rv, rv, rv_error_ms,
+                                                 offset_ms={"uniform": [-20, 20]},
+                                                 jitter_ms={"loguniform": [0.01, 10]})]
+    config.update(overrides)
+    return write_config(folder, config)

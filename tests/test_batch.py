@@ -12,7 +12,7 @@ from planetfit.cli import EXIT_INPUT, main
 from planetfit.errors import InputError
 from planetfit.models.geometry import solve_orbit
 from planetfit.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
-from tiny_system import TRUTH, write_system
+from synthetic import TINY_TRUTH as TRUTH, write_tiny_system as write_system
 
 pytest.importorskip("distributed")
 

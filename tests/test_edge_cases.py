@@ -13,7 +13,7 @@ from scipy import optimize
 from planetfit import pipeline
 from planetfit.models.geometry import planet_mass_kg, solve_orbit
 from planetfit.models.transit import TransitLightCurve
-from tiny_system import write_system
+from synthetic import write_tiny_system as write_system
 
 
 @pytest.mark.parametrize("e", [0.0, 0.3, 0.7, 0.9, 0.95])

@@ -12,7 +12,7 @@ from planetfit.cleaning import near_transits
 from planetfit.config import load_config
 from planetfit.data import load_photometry, quality_mask
 from planetfit.errors import InputError
-from tiny_system import TRUTH, light_curve, write_system
+from synthetic import TINY_TRUTH as TRUTH, tiny_light_curve as light_curve, write_tiny_system as write_system
 
 BJDREFI, BJDREFF = 2457000, 0.25
 CADENCE_DAYS = 10.0 / 1440.0

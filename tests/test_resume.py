@@ -17,7 +17,7 @@ import pytest
 
 from planetfit import pipeline
 from planetfit.cli import main
-from tiny_system import write_system
+from synthetic import write_tiny_system as write_system
 
 WAIT_S = 60
 

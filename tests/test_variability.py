@@ -36,7 +36,7 @@ def test_gp_baseline_recovers_radius_ratio_under_variability(tmp_path):
 
 def _posterior(tmp_path, **photometry):
     import yaml
-    from tiny_system import write_system
+    from synthetic import write_tiny_system as write_system
     from planetfit.pipeline import check
     from planetfit.posterior import JointPosterior
     path = write_system(tmp_path)
@@ -48,7 +48,7 @@ def _posterior(tmp_path, **photometry):
 
 
 def _values(post):
-    from tiny_system import TRUTH
+    from synthetic import TINY_TRUTH as TRUTH
     values = {n: post.layout.priors[n].value if post.layout.priors[n].fixed else None for n in post.layout.all_names}
     values.update({"star.mass_msun": TRUTH["mass_msun"], "star.radius_rsun": TRUTH["radius_rsun"],
                    "b.period_days": TRUTH["period_days"], "b.transit_bjd": TRUTH["transit_bjd"],

@@ -9,10 +9,10 @@ amplitudes and phases. Transits come from batman, RVs from radvel
 from pathlib import Path
 
 import numpy as np
-import yaml
 
 from planetfit.demo.generate import quasi_periodic
-from synthetic import STAR, light_curve, planet_truth, radial_velocity
+from synthetic import (STAR, light_curve, planet_truth, radial_velocity, star_priors, write_config,
+                       write_velocities)
 
 
 # ----------------------------------------------------------------- a spotted star with a transiting planet
@@ -39,8 +39,7 @@ def write_spotted_star(folder, seed, baseline, walkers=28, max_steps=400):
     p = TRANSITING
     config = {
         "system": f"Spotted-{seed}", "seed": seed, "output": "run",
-        "star": {"mass_msun": {"normal": [STAR["mass_msun"], 0.03]},
-                 "radius_rsun": {"normal": [STAR["radius_rsun"], 0.02]}, "teff_k": {"normal": [5400, 80]}},
+        "star": star_priors(STAR, 5400),
         "planets": {"b": {"period_days": {"uniform": [p["period_days"] - 0.01, p["period_days"] + 0.01]},
                           "transit_bjd": {"uniform": [p["transit_bjd"] - 0.04, p["transit_bjd"] + 0.04]},
                           "radius_ratio": {"uniform": [0.01, 0.1]}, "impact": {"uniform": [0.0, 1.0]},
@@ -56,9 +55,7 @@ def write_spotted_star(folder, seed, baseline, walkers=28, max_steps=400):
     if baseline == "constant":
         # The fairest white-noise fit: a free jitter can absorb part of the variability.
         config["photometry"][0]["jitter_ppm"] = {"loguniform": [1, 30000]}
-    path = folder / "config.yaml"
-    path.write_text(yaml.safe_dump(config, sort_keys=False))
-    return path
+    return write_config(folder, config)
 
 
 # ----------------------------------------------------------------- an active star seen by two spectrographs
@@ -72,8 +69,7 @@ def _rv_config(seed, velocities, walkers, max_steps, **top):
     p = RV_PLANET
     config = {
         "system": f"Active-{seed}", "seed": seed, "output": "run",
-        "star": {"mass_msun": {"normal": [STAR["mass_msun"], 0.03]},
-                 "radius_rsun": {"normal": [STAR["radius_rsun"], 0.02]}, "teff_k": {"normal": [5400, 80]}},
+        "star": star_priors(STAR, 5400),
         "planets": {"b": {"transits": False, "period_days": {"uniform": [p["period_days"] - 0.02, p["period_days"] + 0.02]},
                           "transit_bjd": {"uniform": [p["transit_bjd"] - 0.4, p["transit_bjd"] + 0.4]},
                           "rv_amplitude_ms": {"uniform": [0.0, 15.0]}}},
@@ -102,15 +98,10 @@ def write_active_star(folder, seed, activity_gp, walkers=32, max_steps=600):
     activity = np.split(activity, [times[0].size])
     for (name, n, scale, offset), t, act in zip(a["spectrographs"], times, activity):
         rv = radial_velocity(t, {"b": RV_PLANET}) + scale * act + offset + rng.normal(0, a["error_ms"], n)
-        np.savetxt(folder / f"{name}.txt", np.column_stack([t, rv, np.full(n, a["error_ms"])]),
-                   header="bjd rv err", comments="", fmt="%.6f")
-        entry = {"name": name, "file": f"{name}.txt", "columns": {"time": "bjd", "rv": "rv", "error": "err"},
-                 "offset_ms": {"uniform": [-30, 30]}, "jitter_ms": {"loguniform": [0.01, 20]}}
-        entries.append(entry)
+        entries.append(write_velocities(folder, name, f"{name}.txt", t, rv, a["error_ms"],
+                                        offset_ms={"uniform": [-30, 30]}, jitter_ms={"loguniform": [0.01, 20]}))
     top = {"rv_activity": {"rotation_period_days": {"uniform": [8.0, 20.0]}}} if activity_gp else {}
-    path = folder / "config.yaml"
-    path.write_text(yaml.safe_dump(_rv_config(seed, entries, walkers, max_steps, **top), sort_keys=False))
-    return path
+    return write_config(folder, _rv_config(seed, entries, walkers, max_steps, **top))
 
 
 TREND = {"slope_ms_per_day": 0.085, "curvature_ms_per_day2": -0.0012, "reference_bjd": 2460040.0,
@@ -133,6 +124,4 @@ def write_trend_star(folder, seed, walkers=24, max_steps=600):
     entry = {"name": "spec", "file": "rv.txt", "columns": {"time": "bjd", "rv": "rv", "error": "err"},
              "offset_ms": {"uniform": [-30, 30]}, "decorrelate": {"fwhm_kms": {"uniform": [-10, 10]}}}
     top = {"rv_trend": {"kind": "quadratic", "reference_bjd": TREND["reference_bjd"]}}
-    path = folder / "config.yaml"
-    path.write_text(yaml.safe_dump(_rv_config(seed, [entry], walkers, max_steps, **top), sort_keys=False))
-    return path
+    return write_config(folder, _rv_config(seed, [entry], walkers, max_steps, **top))
