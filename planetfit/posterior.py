@@ -27,8 +27,8 @@ import numpy as np
 from .models.baseline import BASELINES
 from .models.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
 from .models.gp import GaussianProcessNoise, Matern32Kernel, RotationKernel, SHOKernel
-from .models.keplerian import radial_velocity_ms
-from .models.noise import WhiteNoise
+from .models.keplerian import periastron_bjd, radial_velocity_ms
+from .models.noise import SparseResidualWhiteNoise, WhiteNoise
 from .models.transit import TransitLightCurve, quadratic_coefficients
 from .models.trend import LinearDecorrelation, PolynomialTrend
 from .priors import Prior
@@ -142,7 +142,8 @@ def photometry_noise(cfg, data, priors):
     """The noise model a photometric dataset's config chooses: white, or white + a celerite2 GP."""
     jitter = f"{cfg.name}.jitter_ppm"
     if cfg.baseline != "gp":
-        return WhiteNoise(data.error, jitter, PPM, _fixed_value(priors[jitter]))
+        fixed = priors[jitter]
+        return WhiteNoise(data.error, [jitter], PPM, fixed_jitters=[fixed.value] if fixed.fixed else None)
     sigma, rho = f"{cfg.name}.gp_sigma_ppm", f"{cfg.name}.gp_rho_days"
     kernel = (SHOKernel(sigma, rho, f"{cfg.name}.gp_quality", PPM) if cfg.gp_kernel == "sho"
               else Matern32Kernel(sigma, rho, PPM))
@@ -150,25 +151,31 @@ def photometry_noise(cfg, data, priors):
 
 
 def velocity_noise(config, velocities, priors):
-    """Noise models of the RVs as (index into the concatenated residuals, model) pairs.
+    """The noise model of all RVs, concatenated in spectrograph order, and the order it wants them in.
 
-    Without ``rv_activity`` each spectrograph has its own white noise; with
+    Without ``rv_activity``: white noise with a jitter per spectrograph. With
     it, one rotation GP runs over all spectrographs' points in time order,
     with per-spectrograph amplitudes and jitters.
+
+    Returns
+    -------
+    (index, noise)
+        ``noise`` scores ``residuals[index]``.
     """
-    sizes = np.cumsum([0] + [d.time.size for d in velocities])
+    groups = np.concatenate([np.full(d.time.size, i) for i, d in enumerate(velocities)])
+    error = np.concatenate([d.error for d in velocities])
+    jitters = [f"{d.name}.jitter_ms" for d in velocities]
     if config.rv_activity is None:
-        return [(slice(a, b), WhiteNoise(d.error, f"{d.name}.jitter_ms", 1.0, _fixed_value(priors[f"{d.name}.jitter_ms"])))
-                for a, b, d in zip(sizes[:-1], sizes[1:], velocities)]
+        fixed = [priors[n] for n in jitters]
+        values = [p.value for p in fixed] if all(p.fixed for p in fixed) else None
+        return slice(None), WhiteNoise(error, jitters, 1.0, groups, fixed_jitters=values)
     times = np.concatenate([d.time for d in velocities])
     order = np.argsort(times, kind="stable")
-    groups = np.concatenate([np.full(d.time.size, i) for i, d in enumerate(velocities)])[order]
-    error = np.concatenate([d.error for d in velocities])[order]
     kernel = RotationKernel("rv_activity.rotation_period_days", "rv_activity.quality",
                             "rv_activity.quality_difference", "rv_activity.mix")
-    gp = GaussianProcessNoise(times[order], error, kernel, [f"{d.name}.jitter_ms" for d in velocities], 1.0,
-                              groups=groups, amplitude_names=[f"{d.name}.activity_amplitude_ms" for d in velocities])
-    return [(order, gp)]
+    gp = GaussianProcessNoise(times[order], error[order], kernel, jitters, 1.0, groups=groups[order],
+                              amplitude_names=[f"{d.name}.activity_amplitude_ms" for d in velocities])
+    return order, gp
 
 
 def planet_orbit(values, planet):
@@ -177,15 +184,16 @@ def planet_orbit(values, planet):
     Returns
     -------
     dict
-        ``e``, ``omega_rad`` and, for transiting planets, ``a_over_rstar``,
-        ``cos_i``, ``mass_kg``.
+        ``e``, ``omega_rad``, ``periastron_bjd`` and, for transiting planets,
+        ``a_over_rstar``, ``cos_i``, ``mass_kg``.
     """
     n = planet.name
     if planet.orbit == "eccentric":
         e, w = eccentricity_omega(values[f"{n}.sqrt_e_cos_w"], values[f"{n}.sqrt_e_sin_w"])
     else:
         e, w = 0.0, CIRCULAR_OMEGA_RAD
-    out = {"e": e, "omega_rad": w}
+    out = {"e": e, "omega_rad": w,
+           "periastron_bjd": periastron_bjd(values[f"{n}.transit_bjd"], values[f"{n}.period_days"], e, w)}
     if planet.transits:
         a_r, cos_i, mp = solve_orbit(values[f"{n}.period_days"], values[f"{n}.rv_amplitude_ms"],
                                      values[f"{n}.impact"], e, w,
@@ -195,20 +203,27 @@ def planet_orbit(values, planet):
 
 
 def orbit_is_physical(values, planet, orbit):
-    """Whether one planet's orbit is allowed: e below its cap and, for a transiting
-    planet, a positive radius ratio, a transit (b < 1 + k) and periastron outside the star."""
-    if orbit["e"] >= planet.eccentricity_max:
-        return False
+    """Whether one planet's orbit is allowed (a boolean, or a boolean array for array values).
+
+    e below the planet's cap and, for a transiting planet, a positive radius
+    ratio, a transit (b < 1 + k) and periastron outside the star.
+    """
+    ok = np.asarray(orbit["e"]) < planet.eccentricity_max
     if not planet.transits:
-        return True
+        return ok
     k = values[f"{planet.name}.radius_ratio"]
-    if k <= 0 or values[f"{planet.name}.impact"] >= 1 + k or not abs(orbit["cos_i"]) < 1:
-        return False
-    return orbit["a_over_rstar"] * (1 - orbit["e"]) > 1 + k
+    with np.errstate(invalid="ignore"):
+        return (ok & (k > 0) & (values[f"{planet.name}.impact"] < 1 + k) & (np.abs(orbit["cos_i"]) < 1)
+                & (orbit["a_over_rstar"] * (1 - orbit["e"]) > 1 + k))
 
 
-def _fixed_value(prior):
-    return prior.value if prior.fixed else None
+def _rows(columns, n):
+    """Dicts of Python floats, one per row, from a dict of length-``n`` arrays and scalars."""
+    keys = list(columns)
+    table = np.empty((n, len(keys)))
+    for j, key in enumerate(keys):
+        table[:, j] = columns[key]
+    return [dict(zip(keys, row)) for row in table.tolist()]
 
 
 class JointPosterior:
@@ -222,9 +237,13 @@ class JointPosterior:
 
     Notes
     -----
-    Callable on one parameter vector; returns ``-inf`` outside the prior
-    support or for unphysical orbits (no transit for a transiting planet,
-    periastron inside the star, e above the planet's cap).
+    Callable on one parameter vector, and :meth:`log_prob_many` on a batch
+    (the orbits of a batch are solved in one vectorised pass). Returns
+    ``-inf`` outside the prior support or for unphysical orbits (no transit
+    for a transiting planet, periastron inside the star, e above the
+    planet's cap). Photometry with white noise of fixed jitter is scored in
+    time proportional to its in-transit points
+    (:class:`~planetfit.models.noise.SparseResidualWhiteNoise`).
     """
 
     def __init__(self, config, photometry, velocities):
@@ -239,33 +258,59 @@ class JointPosterior:
         priors = self.layout.priors
         self.baselines = [BASELINES[c.baseline](c.name, d.time) for c, d in zip(config.photometry, photometry)]
         self.photometry_noise = [photometry_noise(c, d, priors) for c, d in zip(config.photometry, photometry)]
+        self.sparse_noise = [
+            SparseResidualWhiteNoise(d.flux, b.basis, n) if isinstance(n, WhiteNoise) and n.fixed else None
+            for d, b, n in zip(photometry, self.baselines, self.photometry_noise)]
         self.dilution_names = [f"{c.name}.dilution" if has_dilution(c) else None for c in config.photometry]
         self.decorrelations = [
             LinearDecorrelation([decorrelation_name(d.name, col) for col in c.decorrelate],
                                 [d.indicators[col] for col in c.decorrelate])
             for c, d in zip(config.velocities, velocities)]
         self.trend = None
+        if velocities:
+            self.rv_times = np.concatenate([d.time for d in velocities])
+            self.rv_observed = np.concatenate([d.rv for d in velocities])
+            self.rv_group = np.concatenate([np.full(d.time.size, i) for i, d in enumerate(velocities)])
+            self.velocity_noise = velocity_noise(config, velocities, priors)
         if config.rv_trend is not None:
             reference = config.rv_trend.reference_bjd
             if reference is None:
-                times = np.concatenate([d.time for d in velocities])
-                reference = 0.5 * (times.min() + times.max())
+                reference = 0.5 * (self.rv_times.min() + self.rv_times.max())
             names = ["rv_trend.slope_ms_per_day"] + (["rv_trend.curvature_ms_per_day2"]
                                                      if config.rv_trend.kind == "quadratic" else [])
             self.trend = PolynomialTrend(names, reference)
-        self.velocity_noise = velocity_noise(config, velocities, priors) if velocities else []
 
     def __call__(self, theta):
-        lp = self.layout.log_prior(theta)
-        if not math.isfinite(lp):
-            return -math.inf
+        return float(self.log_prob_many(np.reshape(theta, (1, -1)))[0])
+
+    def log_prob_many(self, thetas):
+        """Log-probabilities of an (n, ndim) array of sampler vectors, shape (n,)."""
+        thetas = np.asarray(thetas, dtype=float)
+        out = np.full(len(thetas), -math.inf)
+        lp = np.array([self.layout.log_prior(t) for t in thetas])
+        rows = np.flatnonzero(np.isfinite(lp))
+        if rows.size == 0:
+            return out
+        # Unphysical corners (e -> 1, grazing geometry) are rejected, not warned about.
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            # Unphysical corners (e -> 1, grazing geometry) are rejected below, not warned about.
-            ll = self.log_likelihood(self.layout.values(theta))
-        return lp + ll if math.isfinite(ll) else -math.inf
+            values = self.layout.values(thetas[rows])
+            orbits = {p.name: planet_orbit(values, p) for p in self.planets}
+            physical = np.ones(rows.size, dtype=bool)
+            for p in self.planets:
+                physical &= orbit_is_physical(values, p, orbits[p.name])
+            good = np.flatnonzero(physical)
+            if good.size == 0:
+                return out
+            all_values = _rows(values, rows.size)
+            all_orbits = {name: _rows(orbit, rows.size) for name, orbit in orbits.items()}
+            ll = self.log_likelihood_many([all_values[j] for j in good],
+                                          [{name: o[j] for name, o in all_orbits.items()} for j in good])
+        keep = rows[good]
+        out[keep] = np.where(np.isfinite(ll), lp[keep] + ll, -math.inf)
+        return out
 
     def orbits(self, values):
-        """Per planet orbit dict, or None if any orbit is unphysical."""
+        """Per planet orbit dict for one set of parameter values, or None if any orbit is unphysical."""
         out = {}
         for p in self.planets:
             o = planet_orbit(values, p)
@@ -274,28 +319,71 @@ class JointPosterior:
             out[p.name] = o
         return out
 
-    def photometry_model(self, values, orbits, i, planets=None):
-        """Model flux of photometric dataset ``i``, with the transits of ``planets`` (default: all)."""
+    def transit_deficit(self, values, orbits, i, planets=None):
+        """Summed flux deficit of the transits of ``planets`` (default: all) in photometric dataset ``i``.
+
+        Returns
+        -------
+        index, deficit : ndarray
+            The sorted points inside any planet's transit window and the
+            deficit 1 - flux there (zero everywhere else).
+        """
         d = self.photometry[i]
         u1, u2 = quadratic_coefficients(values[f"{d.band}.limb_darkening_q1"], values[f"{d.band}.limb_darkening_q2"])
-        deficit = np.zeros(d.time.size)
+        windows = []
         for p, lc in zip(self.transiting, self.light_curves[i]):
             if planets is not None and p.name not in planets:
                 continue
-            o = orbits[p.name]
-            n = p.name
+            o, n = orbits[p.name], p.name
             per, t0, k = values[f"{n}.period_days"], values[f"{n}.transit_bjd"], values[f"{n}.radius_ratio"]
             sin_i = math.sqrt(1 - o["cos_i"] ** 2)
             idx = lc.window(per, t0, lc.half_window_days(per, o["a_over_rstar"], k, sin_i, o["e"], o["omega_rad"]))
             if idx.size:
                 f = lc.flux(idx, per, t0, o["a_over_rstar"], math.acos(o["cos_i"]), o["e"], o["omega_rad"], k, u1, u2)
-                deficit[idx] += 1 - f
+                windows.append((idx, 1 - f))
+        if len(windows) == 1:
+            return windows[0]
+        index = np.unique(np.concatenate([w[0] for w in windows])) if windows else np.empty(0, dtype=np.intp)
+        deficit = np.zeros(index.size)
+        for idx, part in windows:
+            deficit[index.searchsorted(idx)] += part
+        return index, deficit
+
+    def photometry_model(self, values, orbits, i, planets=None):
+        """Model flux of photometric dataset ``i``, with the transits of ``planets`` (default: all)."""
+        index, part = self.transit_deficit(values, orbits, i, planets)
+        deficit = np.zeros(self.photometry[i].time.size)
+        deficit[index] = part
         dilution = values[self.dilution_names[i]] if self.dilution_names[i] else 0.0
         return self.baselines[i].flux(values) * (1 - (1 - dilution) * deficit)
+
+    def photometry_log_likelihoods(self, values_list, orbits_list, i):
+        """Log-likelihood of photometric dataset ``i`` for each set of values and orbits, shape (n,)."""
+        sparse = self.sparse_noise[i]
+        if sparse is None:
+            d = self.photometry[i]
+            residuals = np.array([d.flux - self.photometry_model(v, o, i) for v, o in zip(values_list, orbits_list)])
+            return self.photometry_noise[i].log_likelihood_many(residuals, values_list)
+        indices, deficits = [], []
+        for v, o in zip(values_list, orbits_list):
+            index, deficit = self.transit_deficit(v, o, i)
+            indices.append(index)
+            deficits.append((1 - v[self.dilution_names[i]]) * deficit if self.dilution_names[i] else deficit)
+        coefficients = [self.baselines[i].coefficients(v) for v in values_list]
+        return sparse.log_likelihood_many(coefficients, indices, deficits)
 
     def trend_ms(self, values, times):
         """The RV trend (m/s) at ``times`` (zeros without ``rv_trend``)."""
         return np.zeros(np.size(times)) if self.trend is None else self.trend.velocity_ms(values, times)
+
+    def keplerians_ms(self, values, orbits, times):
+        """Sum of every planet's Keplerian RV (m/s) at ``times``."""
+        model = np.zeros(np.size(times))
+        for p in self.planets:
+            o, n = orbits[p.name], p.name
+            model += radial_velocity_ms(times, values[f"{n}.period_days"], o["periastron_bjd"],
+                                        o["e"], o["omega_rad"], values[f"{n}.rv_amplitude_ms"])
+        return model
 
     def velocity_model(self, values, orbits, i, times=None):
         """Model RV (m/s, without the instrument offset) of spectrograph ``i``.
@@ -304,20 +392,22 @@ class JointPosterior:
         activity decorrelation. At other ``times``: Keplerians + trend.
         """
         t = self.velocities[i].time if times is None else times
-        model = self.trend_ms(values, t)
-        for p in self.planets:
-            o = orbits[p.name]
-            n = p.name
-            model += radial_velocity_ms(t, values[f"{n}.period_days"], values[f"{n}.transit_bjd"],
-                                        o["e"], o["omega_rad"], values[f"{n}.rv_amplitude_ms"])
+        model = self.keplerians_ms(values, orbits, t) + self.trend_ms(values, t)
         if times is None:
             model += self.decorrelations[i].velocity_ms(values)
         return model
 
     def velocity_residuals(self, values, orbits):
         """RVs minus offsets and models, all spectrographs concatenated."""
-        return np.concatenate([d.rv - values[f"{d.name}.offset_ms"] - self.velocity_model(values, orbits, i)
-                               for i, d in enumerate(self.velocities)])
+        t = self.rv_times
+        offsets = np.array([values[f"{d.name}.offset_ms"] for d in self.velocities])[self.rv_group]
+        resid = self.rv_observed - offsets - self.keplerians_ms(values, orbits, t)
+        if self.trend is not None:
+            resid -= self.trend.velocity_ms(values, t)
+        if any(dec.names for dec in self.decorrelations):
+            resid -= np.concatenate([np.broadcast_to(dec.velocity_ms(values), d.time.shape)
+                                     for dec, d in zip(self.decorrelations, self.velocities)])
+        return resid
 
     def photometry_noise_prediction(self, values, orbits, i):
         """The noise model's prediction of dataset ``i``'s residuals (the GP's variability; zeros if white)."""
@@ -327,22 +417,18 @@ class JointPosterior:
     def velocity_noise_prediction(self, values, orbits):
         """Per spectrograph, the noise model's prediction of its residuals (the activity GP; zeros if white)."""
         resid = self.velocity_residuals(values, orbits)
+        index, noise = self.velocity_noise
         out = np.zeros(resid.size)
-        for index, noise in self.velocity_noise:
-            out[index] = noise.predict(resid[index], values)
-        sizes = np.cumsum([d.time.size for d in self.velocities])[:-1]
-        return np.split(out, sizes)
+        out[index] = noise.predict(resid[index], values)
+        return np.split(out, np.cumsum([d.time.size for d in self.velocities])[:-1])
 
-    def log_likelihood(self, values):
-        """Gaussian log-likelihood of all datasets for one set of parameter values."""
-        orbits = self.orbits(values)
-        if orbits is None:
-            return -math.inf
-        total = 0.0
-        for i, (d, noise) in enumerate(zip(self.photometry, self.photometry_noise)):
-            total += noise.log_likelihood(d.flux - self.photometry_model(values, orbits, i), values)
+    def log_likelihood_many(self, values_list, orbits_list):
+        """Gaussian log-likelihood of all datasets for each set of parameter values and their orbits."""
+        total = np.zeros(len(values_list))
+        for i in range(len(self.photometry)):
+            total += self.photometry_log_likelihoods(values_list, orbits_list, i)
         if self.velocities:
-            resid = self.velocity_residuals(values, orbits)
-            for index, noise in self.velocity_noise:
-                total += noise.log_likelihood(resid[index], values)
+            index, noise = self.velocity_noise
+            residuals = np.array([self.velocity_residuals(v, o)[index] for v, o in zip(values_list, orbits_list)])
+            total += noise.log_likelihood_many(residuals, values_list)
         return total

@@ -8,7 +8,7 @@ import pytest
 from radvel import kepler
 
 from planetfit.models.geometry import solve_orbit, transit_duration_days
-from planetfit.models.keplerian import radial_velocity_ms
+from planetfit.models.keplerian import periastron_bjd, radial_velocity_ms
 from planetfit.models.transit import TransitLightCurve, quadratic_coefficients
 
 
@@ -76,8 +76,10 @@ def test_rv_at_transit_and_sign_convention():
     # transit at f = pi/2 - w, so v(transit) = K e cos w, and for a circular orbit v falls through zero
     k, per, tc = 10.0, 5.0, 2460000.0
     e, w = 0.3, math.radians(40.0)
-    assert radial_velocity_ms(np.array([tc]), per, tc, e, w, k)[0] == pytest.approx(k * e * math.cos(w), abs=1e-6)
-    v = radial_velocity_ms(np.array([tc - 0.01, tc, tc + 0.01]), per, tc, 0.0, math.pi / 2, k)
+    tp = periastron_bjd(tc, per, e, w)
+    assert radial_velocity_ms(np.array([tc]), per, tp, e, w, k)[0] == pytest.approx(k * e * math.cos(w), abs=1e-6)
+    tp = periastron_bjd(tc, per, 0.0, math.pi / 2)
+    v = radial_velocity_ms(np.array([tc - 0.01, tc, tc + 0.01]), per, tp, 0.0, math.pi / 2, k)
     assert v[0] > 0 > v[2] and abs(v[1]) < 1e-9
 
 

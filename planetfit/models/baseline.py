@@ -1,10 +1,15 @@
 """Photometric baselines: the out-of-transit flux a dataset's transits are cut into.
 
-Each baseline is a small class with ``entries(cfg)`` (its parameters and
-priors for the layout) and ``flux(values)`` (the baseline at the data
-times, a scalar or an array). ``baseline: gp`` uses the constant baseline
-with a Gaussian-process noise model (:mod:`planetfit.models.gp`).
+Each baseline is linear in its coefficients: flux = basis @ coefficients,
+the first basis column being all ones. A baseline is a small class with
+``entries(cfg)`` (its parameters and priors for the layout),
+``coefficients(values)``, the fixed ``basis`` (N, k) and ``flux(values)``
+(the baseline at the data times, a scalar or an array). ``baseline: gp``
+uses the constant baseline with a Gaussian-process noise model
+(:mod:`planetfit.models.gp`).
 """
+
+import numpy as np
 
 
 class ConstantBaseline:
@@ -12,10 +17,14 @@ class ConstantBaseline:
 
     def __init__(self, name, times):
         self.level_name = f"{name}.flux_level"
+        self.basis = np.ones((np.size(times), 1))
 
     @staticmethod
     def entries(cfg):
         return [(f"{cfg.name}.flux_level", cfg.flux_level)]
+
+    def coefficients(self, values):
+        return [values[self.level_name]]
 
     def flux(self, values):
         return values[self.level_name]
@@ -27,10 +36,15 @@ class LinearBaseline:
     def __init__(self, name, times):
         self.level_name, self.slope_name = f"{name}.flux_level", f"{name}.slope_per_day"
         self.dt_days = times - 0.5 * (times[0] + times[-1])
+        self.basis = np.column_stack([np.ones(self.dt_days.size), self.dt_days])
 
     @staticmethod
     def entries(cfg):
         return [(f"{cfg.name}.flux_level", cfg.flux_level), (f"{cfg.name}.slope_per_day", cfg.slope_per_day)]
+
+    def coefficients(self, values):
+        level = values[self.level_name]
+        return [level, level * values[self.slope_name]]
 
     def flux(self, values):
         return values[self.level_name] * (1 + values[self.slope_name] * self.dt_days)

@@ -117,6 +117,10 @@ class GaussianProcessNoise:
         ll = gp.log_likelihood(residual)
         return ll - correction if math.isfinite(ll) else -math.inf
 
+    def log_likelihood_many(self, residuals, values_list):
+        """:meth:`log_likelihood` of each row of ``residuals`` with its values (one factorisation each)."""
+        return np.array([self.log_likelihood(r, v) for r, v in zip(residuals, values_list)])
+
     def predict(self, residual, values, times=None):
         """Conditional mean of the process (data units) at ``times`` (default: the data times).
 

@@ -11,6 +11,8 @@ it (Kipping 2010, MNRAS 408, 1758), the grid of offsets built once per
 dataset.
 """
 
+import math
+
 import numpy as np
 from batman import _quadratic_ld, _rsky
 
@@ -22,7 +24,7 @@ WINDOW_MARGIN = 1.25
 
 def quadratic_coefficients(q1, q2):
     """Quadratic limb-darkening u1, u2 from Kipping (2013, MNRAS 435, 2152) q1, q2 in [0, 1]."""
-    sq = np.sqrt(q1)
+    sq = q1**0.5
     return 2 * sq * q2, sq * (1 - 2 * q2)
 
 
@@ -50,25 +52,21 @@ class TransitLightCurve:
         self.pad_days = exposure_days / 2
 
     def window(self, period_days, transit_bjd, half_width_days):
-        """Indices of points within ``half_width_days`` of a predicted mid-transit."""
+        """Indices of points within ``half_width_days`` of a predicted mid-transit (sorted)."""
         t = self.times
-        first = np.floor((t[0] - half_width_days - transit_bjd) / period_days)
-        last = np.ceil((t[-1] + half_width_days - transit_bjd) / period_days)
+        first = math.floor((t[0] - half_width_days - transit_bjd) / period_days)
+        last = math.ceil((t[-1] + half_width_days - transit_bjd) / period_days)
         centres = transit_bjd + period_days * np.arange(first, last + 1)
-        starts = np.searchsorted(t, centres - half_width_days, "left")
-        ends = np.searchsorted(t, centres + half_width_days, "right")
-        lengths = ends - starts
-        total = int(lengths.sum())
-        if total == 0:
-            return np.empty(0, dtype=np.intp)
-        shift = np.repeat(starts - np.concatenate(([0], np.cumsum(lengths)[:-1])), lengths)
-        return shift + np.arange(total)
+        starts = t.searchsorted(centres - half_width_days, "left")
+        lengths = t.searchsorted(centres + half_width_days, "right") - starts
+        ends = lengths.cumsum()
+        return np.arange(ends[-1]) + np.repeat(starts - ends + lengths, lengths)
 
     def half_window_days(self, period_days, a_over_rstar, radius_ratio, sin_i, e, omega_rad):
         """Half-width of the window: the longest transit this geometry allows, with margin."""
         chord = min(1.0, (1 + radius_ratio) / (a_over_rstar * sin_i))
-        speed_factor = np.sqrt(1 - e * e) / (1 - e)  # longest at apoastron
-        return WINDOW_MARGIN * period_days / (2 * np.pi) * np.arcsin(chord) * speed_factor + self.pad_days
+        speed_factor = math.sqrt(1 - e * e) / (1 - e)  # longest at apoastron
+        return WINDOW_MARGIN * period_days / (2 * math.pi) * math.asin(chord) * speed_factor + self.pad_days
 
     def flux(self, index, period_days, transit_bjd, a_over_rstar, inc_rad, e, omega_rad, radius_ratio, u1, u2):
         """Relative flux at ``self.times[index]`` (exposure-integrated).
@@ -78,9 +76,9 @@ class TransitLightCurve:
         ndarray
             One value per index; 1 means no transit.
         """
-        t = (self.times[index, None] + self.offsets[None, :]).ravel()
+        t = self.times[index] if self.supersample == 1 else (self.times[index, None] + self.offsets).ravel()
         d = _rsky._rsky(t, transit_bjd, period_days, a_over_rstar, inc_rad, e, omega_rad, _PRIMARY, 1)
         f = _quadratic_ld._quadratic_ld(d, radius_ratio, u1, u2, 1)
         if self.supersample > 1:
-            f = f.reshape(-1, self.supersample).mean(axis=1)
+            f = f.reshape(-1, self.supersample).sum(axis=1) * (1 / self.supersample)
         return f

@@ -14,7 +14,7 @@ MAX_GRID_POINTS = 20000
 
 def planet_rv_ms(values, orbit, name, times):
     """One planet's Keplerian RV (m/s) at ``times``."""
-    return radial_velocity_ms(times, values[f"{name}.period_days"], values[f"{name}.transit_bjd"], orbit["e"],
+    return radial_velocity_ms(times, values[f"{name}.period_days"], orbit["periastron_bjd"], orbit["e"],
                               orbit["omega_rad"], values[f"{name}.rv_amplitude_ms"])
 
 

@@ -1,0 +1,57 @@
+"""The joint log-probability's fast paths against the plain computation they replace."""
+
+import math
+
+import numpy as np
+import yaml
+from scipy import stats
+
+from planetfit.pipeline import check
+from planetfit.posterior import JointPosterior
+from synthetic import write_tiny_system
+
+
+def posterior(tmp_path, **photometry):
+    path = write_tiny_system(tmp_path)
+    raw = yaml.safe_load(path.read_text())
+    raw["photometry"][0].update(photometry)
+    path.write_text(yaml.safe_dump(raw))
+    checked = check(path)
+    return JointPosterior(checked.config, checked.photometry, checked.velocities)
+
+
+def prior_draws(post, n, seed=5):
+    """Draws from the prior with a finite probability (some per batch would be rejected otherwise)."""
+    rng = np.random.default_rng(seed)
+    draws = post.layout.sample_prior(rng, 50 * n)
+    return draws[np.isfinite(post.log_prob_many(draws))][:n]
+
+
+def test_batch_equals_one_at_a_time_and_rejects_outside_the_prior(tmp_path):
+    post = posterior(tmp_path)
+    thetas = prior_draws(post, 12)
+    lo = np.array([post.layout.priors[n].bounds[0] for n in post.layout.free])
+    outside = thetas[0].copy()
+    outside[np.argmax(np.isfinite(lo))] = -1e9  # below a finite lower bound
+    batch = np.vstack([thetas, outside])
+    expected = np.array([post(x) for x in batch])
+    assert np.array_equal(post.log_prob_many(batch), expected)
+    assert np.all(np.isfinite(expected[:-1])) and expected[-1] == -math.inf
+
+
+def test_in_window_photometric_likelihood_equals_the_dense_gaussian(tmp_path):
+    # A linear baseline, a contaminating flux fraction and a fixed jitter: the case scored from
+    # precomputed sums plus the in-transit points only.
+    post = posterior(tmp_path, baseline="linear", slope_per_day={"uniform": [-0.01, 0.01]}, dilution=0.2,
+                     jitter_ppm=150.0)
+    assert post.sparse_noise[0] is not None
+    d = post.photometry[0]
+    sd = np.sqrt(d.error**2 + (150e-6) ** 2)
+    for theta in prior_draws(post, 8):
+        values = post.layout.values(theta)
+        orbits = post.orbits(values)
+        model = post.photometry_model(values, orbits, 0)
+        # source: Gaussian log-density, summed point by point (scipy.stats.norm)
+        dense = float(np.sum(stats.norm.logpdf(d.flux, loc=model, scale=sd)))
+        fast = post.photometry_log_likelihoods([values], [orbits], 0)[0]
+        assert abs(fast - dense) < 1e-9 * abs(dense), (fast, dense)
