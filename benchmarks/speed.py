@@ -11,7 +11,8 @@ one thread as :func:`planetfit.sampling.run_sampler` does.
 Figures
 -------
 ratio_vs_plain
-    Log-probability evaluations per second of ``JointPosterior`` over those of
+    Log-probability evaluations per second of ``JointPosterior`` (walkers in
+    batches of 28, as emcee proposes them for 56 walkers) over those of
     a hand-written reference: one ``batman.TransitModel`` over all photometry,
     15 sub-exposures of 30 min everywhere, radvel Keplerians, numpy sums.
 overhead_vs_floor
@@ -23,9 +24,6 @@ independent_samples_per_second
 memory
     Peak resident memory of a short fit of ten 2-min sectors (~190,000
     points), in a fresh process.
-prototype
-    The same posterior with a faster likelihood (see ``FastLikelihoodPrototype``):
-    its speed and its largest difference from planetfit's log-probability.
 """
 
 import argparse
@@ -49,14 +47,13 @@ from threadpoolctl import threadpool_limits
 
 from planetfit import pipeline
 from planetfit.demo import generate
-from planetfit.models.keplerian import radial_velocity_ms
 from planetfit.models.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
 from planetfit.models.transit import quadratic_coefficients
-from planetfit.posterior import JointPosterior, orbit_is_physical
+from planetfit.posterior import JointPosterior
 from planetfit.sampling import sampler_geometry
-from planetfit.units import G_SI, M_SUN_KG, MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M, SECONDS_PER_DAY
+from planetfit.units import MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M
 
-POSITIONS = 16          # parameter vectors evaluated per round
+POSITIONS = 28          # parameter vectors per batch: half of 56 walkers, as emcee's moves propose them
 ROUNDS = 7              # interleaved rounds; the best is kept
 MIN_ROUND_S = 0.3       # each contender repeats its positions until a round lasts this long
 NAIVE_SUPERSAMPLE = 15  # sub-exposures of the plain reference, everywhere
@@ -255,165 +252,24 @@ def kernel_calls(post, theta):
 
 
 def floor_function(post, thetas):
-    """A callable(i) running only batman's kernels for the i-th position; and the points per evaluation."""
-    calls = [kernel_calls(post, th) for th in thetas]
+    """A callable running only batman's kernels for every position; and the points per evaluation."""
+    calls = [call for th in thetas for call in kernel_calls(post, th)]
 
-    def run(i):
-        for t, t0, per, a_r, inc, e, w, k, u1, u2 in calls[i]:
+    def run():
+        for t, t0, per, a_r, inc, e, w, k, u1, u2 in calls:
             _quadratic_ld._quadratic_ld(_rsky._rsky(t, t0, per, a_r, inc, e, w, 1, 1), k, u1, u2, 1)
 
-    return run, float(np.mean([sum(c[0].size for c in cs) for cs in calls]))
-
-
-def _scalar_orbit(v, planet):
-    """``posterior.planet_orbit`` in Python floats (math module): same equations, no numpy scalars."""
-    n = planet.name
-    if planet.orbit == "eccentric":
-        c, s = v[f"{n}.sqrt_e_cos_w"], v[f"{n}.sqrt_e_sin_w"]
-        e, w = c * c + s * s, math.atan2(s, c)
-    else:
-        e, w = 0.0, CIRCULAR_OMEGA_RAD
-    out = {"e": e, "omega_rad": w}
-    if not planet.transits:
-        return out
-    per_s = v[f"{n}.period_days"] * SECONDS_PER_DAY
-    mstar, rstar = v["star.mass_msun"] * M_SUN_KG, v["star.radius_rsun"] * R_SUN_M
-    f = per_s * v[f"{n}.rv_amplitude_ms"] ** 3 * (1 - e * e) ** 1.5 / (2 * math.pi * G_SI)
-    mp = 0.0
-    for _ in range(3):
-        a_r = (G_SI * (mstar + mp) * per_s * per_s / (4 * math.pi**2)) ** (1 / 3) / rstar
-        cos_i = v[f"{n}.impact"] / a_r * (1 + e * math.sin(w)) / (1 - e * e)
-        s3 = max(0.0, 1 - cos_i * cos_i) ** 1.5
-        if s3 == 0:
-            return None
-        mp = (f * mstar * mstar / s3) ** (1 / 3)
-        for _ in range(6):
-            tot = mstar + mp
-            dg = 3 * mp * mp * s3 - 2 * f * tot
-            if dg == 0:
-                break
-            mp -= (mp**3 * s3 - f * tot * tot) / dg
-    out.update(a_over_rstar=a_r, cos_i=cos_i, mass_kg=mp)
-    return out
-
-
-def _window_indices(times, period_days, transit_bjd, half_width_days):
-    """``TransitLightCurve.window`` with Python-float bounds and one ``arange`` per transit (fewer numpy calls)."""
-    first = math.floor((times[0] - half_width_days - transit_bjd) / period_days)
-    last = math.ceil((times[-1] + half_width_days - transit_bjd) / period_days)
-    centres = transit_bjd + period_days * np.arange(first, last + 1)
-    starts = times.searchsorted(centres - half_width_days).tolist()
-    ends = times.searchsorted(centres + half_width_days, "right").tolist()
-    parts = [np.arange(a, b) for a, b in zip(starts, ends) if b > a]
-    return np.concatenate(parts) if parts else np.empty(0, dtype=np.intp)
-
-
-class FastLikelihoodPrototype:
-    """Prototype of four hot-path changes, measured against ``JointPosterior`` (whose data and layout it borrows).
-
-    1. Orbits in Python floats instead of numpy scalars (``_scalar_orbit``).
-    2. Photometry costs only the in-window points: with fixed weights
-       w = 1/(sigma^2 + jitter^2) and g = flux - 1, the whole-dataset chi^2
-       against a flat level L is sum(w g^2) - 2 (L-1) sum(w g) + (L-1)^2 sum(w),
-       three sums computed once; the in-window part is swapped for the transit
-       model's. Exact up to rounding (g is centred, so no cancellation).
-    3. The RVs of all spectrographs in one array.
-    4. Transit windows with fewer numpy calls (``_window_indices``), batman's
-       kernels called on the window's times directly (no sub-exposure
-       broadcast without supersampling), the chi^2 change in one dot product.
-
-    Covers what the benchmark system uses: constant baselines, fixed
-    photometric jitter, white RV noise, no dilution, trend or activity terms.
-    """
-
-    def __init__(self, post):
-        self.post = post
-        self.layout, self.planets, self.velocities = post.layout, post.planets, post.velocities
-        self.sums = []
-        for d in post.photometry:
-            jitter = self.layout.fixed[f"{d.name}.jitter_ppm"] * PPM
-            var = d.error**2 + jitter**2
-            w, g = 1 / var, d.flux - 1
-            self.sums.append((w, g, float(w.sum()), float(w @ g), float(w @ (g * g)),
-                              -0.5 * float(np.sum(np.log(var)) + var.size * _LOG_2PI)))
-        # 3. All spectrographs in one array: one Keplerian per planet, not per planet and spectrograph.
-        self.rv_data = (np.concatenate([d.time for d in post.velocities]), np.concatenate([d.rv for d in post.velocities]),
-                        np.concatenate([d.error**2 for d in post.velocities]),
-                        np.concatenate([np.full(d.time.size, i) for i, d in enumerate(post.velocities)]))
-
-    def __call__(self, theta):
-        lp = self.layout.log_prior(theta)
-        if not math.isfinite(lp):
-            return -math.inf
-        ll = self.log_likelihood(self.layout.values(theta))
-        return lp + ll if math.isfinite(ll) else -math.inf
-
-    def orbits(self, values):
-        """As ``JointPosterior.orbits``, in Python floats."""
-        out = {}
-        for p in self.planets:
-            o = _scalar_orbit(values, p)
-            if o is None or not orbit_is_physical(values, p, o):
-                return None
-            out[p.name] = o
-        return out
-
-    def photometry_chi2(self, values, orbits, i):
-        """chi^2 of photometric dataset ``i``: precomputed flat-level sums, corrected in the windows."""
-        d = self.post.photometry[i]
-        w, g, sw, swg, swgg, _ = self.sums[i]
-        level = values[f"{d.name}.flux_level"]
-        dl = level - 1
-        chi2 = swgg - 2 * dl * swg + dl * dl * sw
-        u1, u2 = quadratic_coefficients(values[f"{d.band}.limb_darkening_q1"], values[f"{d.band}.limb_darkening_q2"])
-        windows = []
-        for p, lc in zip(self.post.transiting, self.post.light_curves[i]):
-            o, n = orbits[p.name], p.name
-            per, t0, k = values[f"{n}.period_days"], values[f"{n}.transit_bjd"], values[f"{n}.radius_ratio"]
-            sin_i = math.sqrt(1 - o["cos_i"] ** 2)
-            idx = _window_indices(lc.times, per, t0,
-                                  lc.half_window_days(per, o["a_over_rstar"], k, sin_i, o["e"], o["omega_rad"]))
-            windows.append((lc, idx, per, t0, o, k))
-        union = windows[0][1] if len(windows) == 1 else np.unique(np.concatenate([x[1] for x in windows]))
-        if union.size == 0:
-            return chi2
-        deficit = np.zeros(union.size)
-        for lc, idx, per, t0, o, k in windows:
-            if idx.size:
-                at = slice(None) if len(windows) == 1 else np.searchsorted(union, idx)
-                t = lc.times[idx] if lc.supersample == 1 else (lc.times[idx, None] + lc.offsets).ravel()
-                f = _quadratic_ld._quadratic_ld(_rsky._rsky(t, t0, per, o["a_over_rstar"], math.acos(o["cos_i"]),
-                                                            o["e"], o["omega_rad"], 1, 1), k, u1, u2, 1)
-                deficit[at] += 1 - (f if lc.supersample == 1 else f.reshape(-1, lc.supersample).mean(axis=1))
-        # sum w (base + L d)^2 - sum w base^2 = L sum w d (2 base + L d), base = g - (L - 1)
-        d = level * deficit
-        return chi2 + float(np.dot(w[union] * d, 2 * (g[union] - dl) + d))
-
-    def log_likelihood(self, values):
-        orbits = self.orbits(values)
-        if orbits is None:
-            return -math.inf
-        total = sum(s[5] - 0.5 * self.photometry_chi2(values, orbits, i) for i, s in enumerate(self.sums))
-        if not self.velocities:
-            return total
-        t, rv, error2, which = self.rv_data
-        model = rv - np.array([values[f"{d.name}.offset_ms"] for d in self.velocities])[which]
-        for p in self.planets:
-            o, n = orbits[p.name], p.name
-            model -= radial_velocity_ms(t, values[f"{n}.period_days"], values[f"{n}.transit_bjd"], o["e"],
-                                        o["omega_rad"], values[f"{n}.rv_amplitude_ms"])
-        var = error2 + np.array([values[f"{d.name}.jitter_ms"] ** 2 for d in self.velocities])[which]
-        return total - 0.5 * float(np.sum(model * model / var + np.log(var)) + t.size * _LOG_2PI)
+    return run, sum(c[0].size for c in calls) / len(thetas)
 
 
 def race(contenders, n):
-    """Seconds per call of each ``callable(i)`` over ``i < n``, best of ``ROUNDS`` interleaved rounds."""
+    """Seconds per position of each ``callable()`` (which evaluates all ``n`` positions),
+    best of ``ROUNDS`` interleaved rounds."""
     repeats = {}
     for name, fn in contenders.items():
         start, reps = time.perf_counter(), 0
         while time.perf_counter() - start < MIN_ROUND_S:
-            for i in range(n):
-                fn(i)
+            fn()
             reps += 1
         repeats[name] = reps
     best = dict.fromkeys(contenders, math.inf)
@@ -421,8 +277,7 @@ def race(contenders, n):
         for name, fn in contenders.items():
             start = time.perf_counter()
             for _ in range(repeats[name]):
-                for i in range(n):
-                    fn(i)
+                fn()
             best[name] = min(best[name], (time.perf_counter() - start) / (repeats[name] * n))
     return best
 
@@ -430,37 +285,36 @@ def race(contenders, n):
 def evaluation_figures(config_path):
     checked = pipeline.check(config_path)
     post = JointPosterior(checked.config, checked.photometry, checked.velocities)
-    proto = FastLikelihoodPrototype(post)
     thetas = positions(post, POSITIONS)
     phot = checked.photometry
     naive = PlainPosterior(post, [(list(range(len(phot))), NAIVE_SUPERSAMPLE, NAIVE_EXPOSURE_MIN / MINUTES_PER_DAY)])
     per_dataset = PlainPosterior(post, [([i], d.supersample, d.exposure_days) for i, d in enumerate(phot)])
     floor, floor_points = floor_function(post, thetas)
-    planetfit_lp = np.array([post(x) for x in thetas])
-    default_threads = race({"planetfit": lambda i: post(thetas[i])}, len(thetas))["planetfit"]
+    planetfit_lp = post.log_prob_many(thetas)
+
+    def one_at_a_time(fn):
+        return lambda: [fn(x) for x in thetas]
+
+    contenders = {"planetfit": lambda: post.log_prob_many(thetas), "planetfit_one_at_a_time": one_at_a_time(post),
+                  "plain": one_at_a_time(naive), "plain_per_dataset": one_at_a_time(per_dataset), "floor": floor}
+    default_threads = race({"planetfit": contenders["planetfit"]}, len(thetas))["planetfit"]
     with threadpool_limits(limits=1):
-        t = race({"planetfit": lambda i: post(thetas[i]), "plain": lambda i: naive(thetas[i]),
-                  "plain_per_dataset": lambda i: per_dataset(thetas[i]), "floor": floor,
-                  "prototype": lambda i: proto(thetas[i])}, len(thetas))
+        t = race(contenders, len(thetas))
     return {
         "photometry_points": int(sum(d.time.size for d in phot)),
         "in_window_kernel_points_per_evaluation": round(floor_points),
+        "positions_per_batch": len(thetas),
         "planetfit_evaluations_per_second": round(1 / t["planetfit"]),
         "plain_evaluations_per_second": round(1 / t["plain"], 2),
         "ratio_vs_plain": round(t["plain"] / t["planetfit"], 1),
         "ratio_vs_plain_per_dataset_supersampling": round(t["plain_per_dataset"] / t["planetfit"], 1),
         "planetfit_microseconds_per_evaluation": round(t["planetfit"] * 1e6, 1),
+        "planetfit_microseconds_per_evaluation_one_at_a_time": round(t["planetfit_one_at_a_time"] * 1e6, 1),
         "floor_microseconds_per_evaluation": round(t["floor"] * 1e6, 1),
         "overhead_vs_floor": round(t["planetfit"] / t["floor"], 2),
         "planetfit_microseconds_per_evaluation_default_blas_threads": round(default_threads * 1e6, 1),
         "max_abs_logprob_difference_vs_plain_per_dataset": float(np.max(np.abs(
             planetfit_lp - [per_dataset(x) for x in thetas]))),
-        "prototype": {
-            "microseconds_per_evaluation": round(t["prototype"] * 1e6, 1),
-            "overhead_vs_floor": round(t["prototype"] / t["floor"], 2),
-            "ratio_vs_plain": round(t["plain"] / t["prototype"], 1),
-            "max_abs_logprob_difference_vs_planetfit": float(np.max(np.abs(
-                planetfit_lp - [proto(x) for x in thetas])))},
     }
 
 

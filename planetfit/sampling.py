@@ -17,11 +17,11 @@
 """
 
 import dataclasses
-import contextlib
 import logging
 import math
 import multiprocessing
 import time
+import traceback
 
 import emcee
 import numpy as np
@@ -120,27 +120,26 @@ def find_map(log_prob, layout, rng, starts):
     return best, best_val
 
 
-def _hessian(log_prob, theta, h):
-    """Central-difference Hessian of -log_prob with steps ``h``."""
+def _hessian(evaluate, theta, h):
+    """Central-difference Hessian of -log_prob with steps ``h``; ``evaluate`` maps (n, ndim) to (n,)."""
     n = theta.size
-    f0 = log_prob(theta)
-
-    def f(i, di, j, dj):
-        x = theta.copy()
-        x[i] += di * h[i]
-        x[j] += dj * h[j]
-        return log_prob(x)
-
-    hess = np.zeros((n, n))
+    steps = np.diag(h)
+    points = [theta]
     for i in range(n):
-        hess[i, i] = -(f(i, 1, i, 0) - 2 * f0 + f(i, -1, i, 0)) / h[i] ** 2
-        for j in range(i + 1, n):
-            hess[i, j] = hess[j, i] = -(f(i, 1, j, 1) - f(i, 1, j, -1) - f(i, -1, j, 1)
-                                         + f(i, -1, j, -1)) / (4 * h[i] * h[j])
+        points += [theta + steps[i], theta - steps[i]]
+    pairs = [(i, j) for i in range(n) for j in range(i + 1, n)]
+    for i, j in pairs:
+        points += [theta + steps[i] + steps[j], theta + steps[i] - steps[j],
+                   theta - steps[i] + steps[j], theta - steps[i] - steps[j]]
+    f = evaluate(np.array(points))
+    f0, single, double = f[0], f[1:1 + 2 * n].reshape(n, 2), f[1 + 2 * n:].reshape(-1, 4)
+    hess = np.diag(-(single[:, 0] - 2 * f0 + single[:, 1]) / h**2)
+    for (i, j), (pp, pm, mp, mm) in zip(pairs, double):
+        hess[i, j] = hess[j, i] = -(pp - pm - mp + mm) / (4 * h[i] * h[j])
     return hess
 
 
-def laplace_covariance(log_prob, theta, widths):
+def laplace_covariance(evaluate, theta, widths):
     """Covariance of the Laplace approximation around the optimum ``theta``.
 
     Inverse of a central-difference Hessian of -log_prob, with each step
@@ -149,12 +148,16 @@ def laplace_covariance(log_prob, theta, widths):
     (an optimum on a bound) or whose curvature is not positive get no
     correlations and a standard deviation of 1e-3 of the prior width;
     negative eigenvalues are raised so the result is positive definite.
+    ``evaluate`` maps an (n, ndim) batch to its log-probabilities.
     """
     h = 1e-4 * widths
-    curvature = np.diag(_hessian_diagonal(log_prob, theta, h))
+    n = theta.size
+    stencil = np.concatenate([theta[None], theta + np.diag(h), theta - np.diag(h)])
+    f = evaluate(stencil)
+    curvature = -(f[1:1 + n] - 2 * f[0] + f[1 + n:]) / h**2
     ok = np.isfinite(curvature) & (curvature > 0)
     h = np.where(ok, 0.1 / np.sqrt(np.where(ok, curvature, 1.0)), h)
-    hess = _hessian(log_prob, theta, h)
+    hess = _hessian(evaluate, theta, h)
     floor = (1e-3 * widths) ** -2
     bad = ~np.isfinite(np.diag(hess)) | (np.diag(hess) <= 0)
     hess[~np.isfinite(hess)] = 0.0
@@ -169,34 +172,22 @@ def laplace_covariance(log_prob, theta, widths):
     return ((vecs / vals) @ vecs.T) / np.outer(d, d)
 
 
-def _hessian_diagonal(log_prob, theta, h):
-    """Diagonal of the Hessian of -log_prob (as a diagonal matrix)."""
-    f0 = log_prob(theta)
-    out = np.zeros(theta.size)
-    for i in range(theta.size):
-        up, down = theta.copy(), theta.copy()
-        up[i] += h[i]
-        down[i] -= h[i]
-        out[i] = -(log_prob(up) - 2 * f0 + log_prob(down)) / h[i] ** 2
-    return np.diag(out)
-
-
-def initial_walkers(log_prob, layout, theta, nwalkers, rng):
-    """Walker positions drawn around ``theta``, each with finite probability."""
+def initial_walkers(evaluate, layout, theta, nwalkers, rng):
+    """Walker positions drawn around ``theta``, each with finite probability (``evaluate``: batch log-prob)."""
     _, scale, lo, hi = sampler_geometry(layout)
     with np.errstate(invalid="ignore", over="ignore"):  # stencils that leave the support are handled
-        cov = laplace_covariance(log_prob, theta, scale)
+        cov = laplace_covariance(evaluate, theta, scale)
     out = []
     for scale in (1.0, 0.1, 0.01):
         draws = rng.multivariate_normal(theta, cov * scale, size=20 * nwalkers)
         # Fold draws that leave a bound back inside it (an optimum on a bound is common for jitters).
         draws = np.where(draws < lo, 2 * lo - draws, draws)
         draws = np.where(draws > hi, 2 * hi - draws, draws)
-        for x in draws:
-            if math.isfinite(log_prob(x)):
-                out.append(x)
-                if len(out) == nwalkers:
-                    return np.array(out)
+        for first in range(0, draws.shape[0], nwalkers):  # in batches: most land at the first
+            batch = draws[first:first + nwalkers]
+            out += list(batch[np.isfinite(evaluate(batch))])
+            if len(out) >= nwalkers:
+                return np.array(out[:nwalkers])
     raise RuntimeError("could not place walkers with finite probability around the optimum")
 
 
@@ -270,41 +261,74 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
         return super().get_value(name, flat=flat, thin=thin, discard=discard)
 
 
-_WORKER_LOG_PROB = None
+def _evaluate_share(log_prob, thetas):
+    """Log-probabilities of one process's share of a batch of walkers."""
+    return log_prob.log_prob_many(thetas)
 
 
-def _worker_log_prob(theta):
-    """Log-probability in a worker process (inherited at fork: nothing is pickled per call)."""
-    return _WORKER_LOG_PROB(theta)
+def _serve(conn, log_prob):
+    """Worker loop: receive shares of walkers, send back their log-probabilities (or the error)."""
+    threadpool_limits(limits=1)  # BLAS was loaded before the fork: environment variables would come too late
+    while True:
+        try:
+            thetas = conn.recv()
+        except EOFError:  # the parent has gone
+            return
+        try:
+            conn.send(("ok", _evaluate_share(log_prob, thetas)))
+        except Exception:
+            conn.send(("error", traceback.format_exc()))
 
 
-def _pin_threads():
-    """One BLAS/OpenMP thread per worker process, so N workers use N cores.
+class WalkerProcesses:
+    """Evaluates batches of walkers split across ``cores`` processes (emcee's ``vectorize`` call).
 
-    Set through threadpoolctl: the BLAS library is loaded before the fork,
-    so environment variables set in the worker would come too late.
+    The calling process evaluates the first share itself; ``cores - 1``
+    forked workers (which inherit the log-probability, nothing is pickled
+    but the walkers) evaluate the others, one message per share and batch.
+
+    Parameters
+    ----------
+    log_prob : JointPosterior
+        Anything with ``log_prob_many((n, ndim)) -> (n,)``.
+    cores : int
     """
-    threadpool_limits(limits=1)
 
+    def __init__(self, log_prob, cores):
+        self.log_prob = log_prob
+        self.workers = []
+        context = multiprocessing.get_context("fork")
+        for _ in range(max(cores, 1) - 1):
+            mine, theirs = context.Pipe()
+            process = context.Process(target=_serve, args=(theirs, log_prob), daemon=True)
+            process.start()
+            theirs.close()
+            self.workers.append((process, mine))
 
-@contextlib.contextmanager
-def walker_pool(log_prob, cores):
-    """A fork-based process pool evaluating ``log_prob``, or None for one core.
+    def __call__(self, thetas):
+        shares = np.array_split(np.asarray(thetas, dtype=float), len(self.workers) + 1)
+        for (_, conn), share in zip(self.workers, shares[1:]):
+            conn.send(share)
+        out = [_evaluate_share(self.log_prob, shares[0])]
+        for process, conn in self.workers:
+            status, value = conn.recv()
+            if status == "error":
+                raise RuntimeError(f"log-probability failed in worker process {process.pid}:\n{value}")
+            out.append(value)
+        return np.concatenate(out)
 
-    Yields the function to hand to emcee and the pool.
-    """
-    global _WORKER_LOG_PROB
-    if cores <= 1:
-        yield log_prob, None
-        return
-    _WORKER_LOG_PROB = log_prob
-    pool = multiprocessing.get_context("fork").Pool(cores, initializer=_pin_threads)
-    try:
-        yield _worker_log_prob, pool
-    finally:
-        pool.terminate()
-        pool.join()
-        _WORKER_LOG_PROB = None
+    def close(self):
+        for process, conn in self.workers:
+            conn.close()
+            process.terminate()
+            process.join()
+        self.workers = []
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
 
 
 def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True, resume=False):
@@ -312,14 +336,16 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
 
     Parameters
     ----------
-    log_prob : callable
+    log_prob : JointPosterior
+        Callable on one sampler vector (the optimiser's calls) with
+        ``log_prob_many`` for batches (the walkers', evaluated together).
     layout : ParameterLayout
     settings : SamplingConfig
     h5_path : Path
         The chain file; written every step, continued when ``resume``.
     rng : numpy.random.Generator
     cores : int
-        Processes evaluating walkers in parallel (emcee's ``pool``).
+        Processes evaluating walkers in parallel (:class:`WalkerProcesses`).
     progress : bool
         Show a tqdm progress bar.
     resume : bool
@@ -338,7 +364,7 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
     start = time.perf_counter()
     # One log-probability is too small a job for a threaded BLAS: its threads only contend with the
     # walkers' processes and other programs for the cores (6x slower evaluations on a loaded 2-core machine).
-    with threadpool_limits(limits=1):
+    with threadpool_limits(limits=1), WalkerProcesses(log_prob, cores) as evaluate:
         if resume and backend.iteration > 0:
             initial = backend.get_last_sample()
             log.info("resuming from step %d in %s", backend.iteration, h5_path)
@@ -347,14 +373,13 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
             backend.reset(nwalkers, ndim)
             theta, best = find_map(log_prob, layout, rng, settings.optimiser_starts)
             log.info("maximum a posteriori log-probability %.3f", best)
-            initial = initial_walkers(log_prob, layout, theta, nwalkers, rng)
-        with walker_pool(log_prob, cores) as (fn, pool):
-            sampler = emcee.EnsembleSampler(nwalkers, ndim, fn, pool=pool, backend=backend,
-                                            moves=[(emcee.moves.DEMove(), 0.8), (emcee.moves.DESnookerMove(), 0.2)])
-            try:
-                converged, history = _sample(sampler, backend, initial, settings, rng, progress)
-            finally:  # also on Ctrl-C: every step taken is saved for --resume
-                backend.flush()
+            initial = initial_walkers(evaluate, layout, theta, nwalkers, rng)
+        sampler = emcee.EnsembleSampler(nwalkers, ndim, evaluate, vectorize=True, backend=backend,
+                                        moves=[(emcee.moves.DEMove(), 0.8), (emcee.moves.DESnookerMove(), 0.2)])
+        try:
+            converged, history = _sample(sampler, backend, initial, settings, rng, progress)
+        finally:  # also on Ctrl-C: every step taken is saved for --resume
+            backend.flush()
     return _result(backend, settings, nwalkers, converged, history, time.perf_counter() - start)
 
 

@@ -14,27 +14,28 @@ QUANTITIES = ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplit
 
 
 _PID_FOLDER = []  # [folder, original function], set by the fixture and inherited by forked workers
-_SEEN = []
+_SEEN = []  # pids that have left their file
 
 
-def _recording_worker_log_prob(theta):
-    """The pool's function, leaving a file named by the pid of each process that runs it."""
+def _recording_evaluate_share(log_prob, thetas):
+    """The walkers' evaluation, leaving a file named by the pid of each process that runs it."""
     folder, original = _PID_FOLDER
-    if not _SEEN:  # once per (forked) process
+    if os.getpid() not in _SEEN:  # once per process
         (folder / str(os.getpid())).touch()
-        _SEEN.append(True)
-    return original(theta)
+        _SEEN.append(os.getpid())
+    return original(log_prob, thetas)
 
 
 @pytest.fixture
 def worker_pids(tmp_path, monkeypatch):
-    """Folder where each process evaluating walkers through the pool leaves a file named by its pid."""
+    """Folder where each process evaluating walkers leaves a file named by its pid."""
     folder = tmp_path / "pids"
     folder.mkdir()
-    _PID_FOLDER[:] = [folder, sampling._worker_log_prob]
-    monkeypatch.setattr(sampling, "_worker_log_prob", _recording_worker_log_prob)
+    _PID_FOLDER[:] = [folder, sampling._evaluate_share]
+    monkeypatch.setattr(sampling, "_evaluate_share", _recording_evaluate_share)
     yield folder
     _PID_FOLDER.clear()
+    _SEEN.clear()
 
 
 def test_two_cores_give_the_one_core_posterior(tmp_path, worker_pids):
@@ -44,7 +45,7 @@ def test_two_cores_give_the_one_core_posterior(tmp_path, worker_pids):
         run_dir = pipeline.run(config, output=tmp_path / f"cores-{cores}", cores=cores, quiet=True, figures=False)
         runs[cores] = json.loads((run_dir / "summary.json").read_text())["planets"]["b"]
     pids = {int(p.name) for p in worker_pids.iterdir()}
-    assert len(pids) == 2 and os.getpid() not in pids, "the 2-core run must evaluate walkers in two worker processes"
+    assert len(pids) == 2 and os.getpid() in pids, "the 2-core run must evaluate walkers in this process and one worker"
     # common practice, no published source: fits of the same data agree within their 1-sigma widths
     for key in QUANTITIES:
         one, two = runs[1][key], runs[2][key]
