@@ -32,22 +32,22 @@ def cos_inclination(impact, a_over_rstar, e, omega_rad):
     return impact / a_over_rstar * (1 + e * np.sin(omega_rad)) / (1 - e * e)
 
 
-def planet_mass_kg(k_ms, period_days, e, sin_i, star_mass_kg, iterations=6):
+def planet_mass_kg(k_ms, period_days, e, sin_i, star_mass_kg, iterations=6, initial_kg=None):
     """Planet mass from the exact mass function.
 
     Solves Mp^3 sin^3 i / (M* + Mp)^2 = P K^3 (1 - e^2)^(3/2) / (2 pi G) by
-    Newton's method from the Mp << M* solution (Cumming et al. 1999; Lovis &
-    Fischer 2010, eq. 14). Converges to machine precision in a few steps for
-    Mp < M*.
+    Newton's method from ``initial_kg`` or else the Mp << M* solution
+    (Cumming et al. 1999; Lovis & Fischer 2010, eq. 14). Converges to machine
+    precision in a few steps for Mp < M*.
     """
     f = period_days * SECONDS_PER_DAY * k_ms**3 * (1 - e * e) ** 1.5 / (2 * np.pi * G_SI)
     s3 = sin_i**3
-    m = np.cbrt(f * star_mass_kg**2 / s3)
-    for _ in range(iterations):
-        tot = star_mass_kg + m
-        g = m**3 * s3 - f * tot * tot
-        dg = 3 * m * m * s3 - 2 * f * tot
-        with np.errstate(invalid="ignore", divide="ignore"):
+    m = np.cbrt(f * star_mass_kg**2 / s3) if initial_kg is None else initial_kg
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for _ in range(iterations):
+            tot = star_mass_kg + m
+            g = m**3 * s3 - f * tot * tot
+            dg = 3 * m * m * s3 - 2 * f * tot
             m = m - np.where(dg != 0, g / dg, 0.0)  # K = 0: m = 0 is exact and dg = 0
     return m
 
@@ -57,7 +57,8 @@ def solve_orbit(period_days, k_ms, impact, e, omega_rad, star_mass_msun, star_ra
 
     a depends on Mp through Kepler's third law, and Mp on i through the mass
     function; a fixed-point pass of three iterations converges to better than
-    1e-9 relative for Mp/M* < 0.01.
+    1e-9 relative for Mp/M* < 0.01 (the later passes start Newton's method
+    from the mass of the pass before, which two steps then refine).
 
     Returns
     -------
@@ -65,12 +66,12 @@ def solve_orbit(period_days, k_ms, impact, e, omega_rad, star_mass_msun, star_ra
     """
     mstar = star_mass_msun * M_SUN_KG
     rstar = star_radius_rsun * R_SUN_M
-    mp = 0.0
+    mp = None
     for _ in range(3):
-        a_r = semi_major_axis_m(period_days, mstar + mp) / rstar
+        a_r = semi_major_axis_m(period_days, mstar + (0.0 if mp is None else mp)) / rstar
         cos_i = cos_inclination(impact, a_r, e, omega_rad)
         sin_i = np.sqrt(np.clip(1 - cos_i * cos_i, 0.0, 1.0))
-        mp = planet_mass_kg(k_ms, period_days, e, sin_i, mstar)
+        mp = planet_mass_kg(k_ms, period_days, e, sin_i, mstar, iterations=6 if mp is None else 2, initial_kg=mp)
     return a_r, cos_i, mp
 
 
