@@ -32,7 +32,7 @@ def _add_run_options(p, default_cores=1):
     p.add_argument("--resume", action="store_true", help="continue an interrupted run from samples.h5")
     p.add_argument("--force", action="store_true", help="replace the outputs of an earlier run in the folder")
     p.add_argument("--cores", type=int, default=default_cores,
-                   help=f"processes for the walkers (default {default_cores})")
+                   help=f"processes for the walkers and the figures (default {default_cores})")
     p.add_argument("--quiet", action="store_true", help="no progress bar or progress messages")
     p.add_argument("--no-figures", action="store_true", help="write numbers and tables only (faster, for batches)")
 
@@ -57,6 +57,7 @@ def build_parser():
     p.add_argument("--force", action="store_true", help="replace the outputs of earlier runs in the folders")
     p = sub.add_parser("redraw", help="figures and tables again from a run's saved samples")
     p.add_argument("rundir")
+    p.add_argument("--cores", type=int, default=1, help="processes drawing the figures (default 1)")
     p = sub.add_parser("interior", help="composition verdict for a mass and radius (Earth units)")
     p.add_argument("--mass", nargs=2, type=float, required=True, metavar=("M", "SIG"))
     p.add_argument("--radius", nargs=2, type=float, required=True, metavar=("R", "SIG"))
@@ -222,7 +223,7 @@ def main(argv=None):
             _cmd_check(args)
         elif args.command == "redraw":
             from . import pipeline
-            pipeline.redraw(args.rundir)
+            pipeline.redraw(args.rundir, cores=args.cores)
             print(f"figures and tables rebuilt in {args.rundir}")
         elif args.command == "interior":
             _cmd_interior(args)

@@ -197,12 +197,12 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
         if "autocorr_history" in g:
             del g["autocorr_history"]
         g["autocorr_history"] = np.array(result.autocorr_history, dtype=float).reshape(-1, 2)
-    finish(run_dir, checked, result.samples, meta, figures=figures)
+    finish(run_dir, checked, result.samples, meta, figures=figures, cores=cores)
     return run_dir
 
 
-def finish(run_dir, checked, samples, sampling_meta, figures=True):
-    """Derive, add context and write every output from posterior samples."""
+def finish(run_dir, checked, samples, sampling_meta, figures=True, cores=1):
+    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
     config = checked.config
     post = JointPosterior(config, checked.photometry, checked.velocities)
     rng = np.random.default_rng([config.seed, 1])
@@ -213,7 +213,7 @@ def finish(run_dir, checked, samples, sampling_meta, figures=True):
     summary["data"] = {d.name: d.counts() for d in checked.photometry + checked.velocities}
     summary_out.write_summary_json(run_dir / "summary.json", summary)
     summary_out.write_posterior_csv(run_dir / "posterior.csv", derived)
-    outputs.write_all(run_dir, checked, post, samples, derived, summary, figures=figures)
+    outputs.write_all(run_dir, checked, post, samples, derived, summary, figures=figures, cores=cores)
     log.info("outputs written to %s", run_dir)
     return summary
 
@@ -235,10 +235,10 @@ def load_run(run_dir):
     return meta, samples
 
 
-def redraw(run_dir):
-    """Rebuild every figure and table of a finished run from samples.h5."""
+def redraw(run_dir, cores=1):
+    """Rebuild every figure and table of a finished run from samples.h5 (figures drawn by ``cores`` processes)."""
     run_dir = Path(run_dir).resolve()
     meta, samples = load_run(run_dir)
     checked = check(run_dir / "config.resolved.yaml", output=run_dir)
     _logging_to(run_dir, quiet=True)
-    return finish(run_dir, checked, samples, meta)
+    return finish(run_dir, checked, samples, meta, cores=cores)

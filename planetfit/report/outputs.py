@@ -1,6 +1,7 @@
 """Every human-facing output of a run: summary.md, table.tex and figures (PNG + PDF)."""
 
 import logging
+import multiprocessing
 import time
 from pathlib import Path
 
@@ -13,7 +14,7 @@ from .style import save_figure
 log = logging.getLogger("planetfit")
 
 
-def write_all(run_dir, checked, posterior, samples, derived, summary, figures=True):
+def write_all(run_dir, checked, posterior, samples, derived, summary, figures=True, cores=1):
     """Write table.tex, summary.md and every figure into ``run_dir`` and ``run_dir/figures``.
 
     Parameters
@@ -29,6 +30,8 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
         summary.json content.
     figures : bool
         Draw the figures (tables are always written).
+    cores : int
+        Processes drawing figures (:func:`draw_figures`).
     """
     run_dir = Path(run_dir)
     priors = {**posterior.layout.priors, **tables.star_priors(checked.config)}
@@ -37,7 +40,38 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
     write_text_atomic(run_dir / "summary.md", summary_markdown(summary, rows))
     if not figures:
         return
-    for name, build in figure_builders(run_dir, checked, posterior, samples, derived, summary):
-        start = time.perf_counter()
-        save_figure(build(), run_dir / "figures", name)
-        log.info("figure %s written (%.1f s)", name, time.perf_counter() - start)
+    draw_figures(figure_builders(run_dir, checked, posterior, samples, derived, summary), run_dir / "figures",
+                 cores)
+
+
+def draw_figures(builders, folder, cores=1):
+    """Draw and save ``(name, builder)`` figures, shared out among ``cores`` forked processes.
+
+    Each process takes the next undrawn figure until none is left, so the
+    longest figure (listed first) runs beside all the others.
+    """
+    context = multiprocessing.get_context("fork")
+    taken = context.Value("i", 0)
+
+    def work():
+        while True:
+            with taken.get_lock():
+                k = taken.value
+                taken.value += 1
+            if k >= len(builders):
+                return
+            name, build = builders[k]
+            start = time.perf_counter()
+            save_figure(build(), folder, name)
+            log.info("figure %s written (%.1f s)", name, time.perf_counter() - start)
+
+    helpers = [context.Process(target=work, daemon=True) for _ in range(min(cores, len(builders)) - 1)]
+    for process in helpers:
+        process.start()
+    try:
+        work()
+    finally:
+        for process in helpers:
+            process.join()
+    if any(process.exitcode for process in helpers):
+        raise RuntimeError(f"a figure failed in a drawing process; the others are in {folder}")

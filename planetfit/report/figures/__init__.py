@@ -23,14 +23,14 @@ def _convergence(run_dir, posterior, summary, target_factor):
 
 
 def figure_builders(run_dir, checked, posterior, samples, derived, summary):
-    """``(file stem, builder)`` pairs for every figure of a run, in drawing order.
+    """``(file stem, builder)`` pairs for every figure of a run, the longest to draw first.
 
     Parameters are those of :func:`planetfit.report.outputs.write_all`.
     """
     view = PosteriorView(posterior, samples, seed=checked.config.seed)
     planets = posterior.planets
     transiting = [p for p in planets if p.transits]
-    out = []
+    out = [("corner_sampled", partial(sampled_corner, derived))]  # ~half of all drawing time
     for p in transiting:
         duration_hr = summary["planets"][p.name]["transit_duration_hr"]["median"]
         for i, d in enumerate(posterior.photometry):
@@ -43,7 +43,6 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
         out += [(f"rv_phase_{file_stem(p.name)}", partial(rv_phase_figure, posterior, view, p)) for p in planets]
         out.append(("rv_time", partial(rv_time_figure, posterior, view)))
     out += [(f"corner_{file_stem(p.name)}", partial(physical_corner, derived, p)) for p in planets]
-    out.append(("corner_sampled", partial(sampled_corner, derived)))
     # Planets with a measured mass (a transit-only fit has none) go on the mass-radius diagram.
     weighed = [p for p in transiting if np.any(np.isfinite(derived["planets"][p.name]["mass_earth"])
                                                & (derived["planets"][p.name]["mass_earth"] > 0))]
