@@ -86,6 +86,7 @@ class PhotometryConfig:
     gp_sigma_ppm: object = None
     gp_rho_days: object = None
     gp_quality: object = None
+    gp_shared_with: str = None      # another dataset whose GP hyperparameters this one uses
 
     def __post_init__(self):
         if self.files is None:
@@ -478,6 +479,13 @@ def _check_photometry(ctx, i, data, seen):
     if phot.baseline == "linear":
         phot.slope_per_day = s.prior("slope_per_day", default=Uniform(-0.01, 0.01))
     if phot.baseline == "gp":
+        phot.gp_shared_with = s.text("gp_shared_with")
+    if phot.gp_shared_with is not None:
+        for own in ("gp_kernel", "gp_sigma_ppm", "gp_rho_days", "gp_quality"):
+            if s.has(own):
+                ctx.fail(f"{key}.{own}", f"this dataset takes its GP from '{phot.gp_shared_with}' (gp_shared_with).",
+                         f"remove '{own}' here (set it on '{phot.gp_shared_with}'), or remove 'gp_shared_with'.")
+    elif phot.baseline == "gp":
         phot.gp_kernel = s.text("gp_kernel", default="sho", choices=GP_KERNELS)
         phot.gp_sigma_ppm = s.prior("gp_sigma_ppm", default=LogUniform(1.0, 1e5))
         phot.gp_rho_days = s.prior("gp_rho_days", default=LogUniform(0.1, 50.0))
@@ -493,9 +501,25 @@ def _check_photometry(ctx, i, data, seen):
     if phot.jitter_ppm.bounds[0] < 0:
         ctx.fail(f"{key}.jitter_ppm", "a jitter cannot be negative.", "use a lower bound of 0 or above.")
     _only_with(ctx, s, key, ("slope_per_day",), "baseline: linear")
-    _only_with(ctx, s, key, ("gp_kernel", "gp_sigma_ppm", "gp_rho_days", "gp_quality"), "baseline: gp")
+    _only_with(ctx, s, key, ("gp_kernel", "gp_sigma_ppm", "gp_rho_days", "gp_quality", "gp_shared_with"),
+               "baseline: gp")
     s.finish()
     return phot
+
+
+def _check_shared_gps(ctx, photometry):
+    """Each ``gp_shared_with`` names another dataset that has its own GP; copy that GP's kernel."""
+    by_name = {p.name: p for p in photometry}
+    for i, p in enumerate(photometry):
+        if p.gp_shared_with is None:
+            continue
+        owner = by_name.get(p.gp_shared_with)
+        if owner is None or owner is p or owner.baseline != "gp" or owner.gp_shared_with is not None:
+            own_gps = [q.name for q in photometry if q.baseline == "gp" and q.gp_shared_with is None and q is not p]
+            ctx.fail(f"photometry[{i}].gp_shared_with",
+                     f"'{p.gp_shared_with}' is not another photometric dataset with its own GP.",
+                     f"name one of: {', '.join(own_gps) or '(none: give a dataset baseline: gp and its own priors)'}.")
+        p.gp_kernel = owner.gp_kernel
 
 
 def _only_with(ctx, s, key, names, setting):
@@ -622,6 +646,7 @@ def load_config(path, output=None):
     seen = set()
     photometry = [_check_photometry(ctx, i, d, seen)
                   for i, d in enumerate(_check_list(ctx, "photometry", top.take("photometry")))]
+    _check_shared_gps(ctx, photometry)
     rv_activity = _check_rv_activity(ctx, top.take("rv_activity"))
     velocities = [_check_velocities(ctx, i, d, seen, rv_activity is not None)
                   for i, d in enumerate(_check_list(ctx, "velocities", top.take("velocities")))]

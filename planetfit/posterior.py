@@ -107,7 +107,7 @@ def build_layout(config):
         entries.append((f"{d.name}.jitter_ppm", d.jitter_ppm))
         if has_dilution(d):
             entries.append((f"{d.name}.dilution", d.dilution))
-        if d.baseline == "gp":
+        if d.baseline == "gp" and d.gp_shared_with is None:
             entries += [(f"{d.name}.gp_sigma_ppm", d.gp_sigma_ppm), (f"{d.name}.gp_rho_days", d.gp_rho_days)]
             if d.gp_kernel == "sho":
                 entries.append((f"{d.name}.gp_quality", d.gp_quality))
@@ -139,13 +139,17 @@ def decorrelation_name(dataset, column):
 
 
 def photometry_noise(cfg, data, priors):
-    """The noise model a photometric dataset's config chooses: white, or white + a celerite2 GP."""
+    """The noise model a photometric dataset's config chooses: white, or white + a celerite2 GP.
+
+    With ``gp_shared_with`` the GP's hyperparameters are the named dataset's.
+    """
     jitter = f"{cfg.name}.jitter_ppm"
     if cfg.baseline != "gp":
         fixed = priors[jitter]
         return WhiteNoise(data.error, [jitter], PPM, fixed_jitters=[fixed.value] if fixed.fixed else None)
-    sigma, rho = f"{cfg.name}.gp_sigma_ppm", f"{cfg.name}.gp_rho_days"
-    kernel = (SHOKernel(sigma, rho, f"{cfg.name}.gp_quality", PPM) if cfg.gp_kernel == "sho"
+    owner = cfg.gp_shared_with or cfg.name
+    sigma, rho = f"{owner}.gp_sigma_ppm", f"{owner}.gp_rho_days"
+    kernel = (SHOKernel(sigma, rho, f"{owner}.gp_quality", PPM) if cfg.gp_kernel == "sho"
               else Matern32Kernel(sigma, rho, PPM))
     return GaussianProcessNoise(data.time, data.error, kernel, [jitter], PPM)
 

@@ -55,3 +55,24 @@ def test_in_window_photometric_likelihood_equals_the_dense_gaussian(tmp_path):
         dense = float(np.sum(stats.norm.logpdf(d.flux, loc=model, scale=sd)))
         fast = post.photometry_log_likelihoods([values], [orbits], 0)[0]
         assert abs(fast - dense) < 1e-9 * abs(dense), (fast, dense)
+
+
+def test_a_shared_gp_uses_the_other_datasets_hyperparameters(tmp_path):
+    path = write_tiny_system(tmp_path)
+    raw = yaml.safe_load(path.read_text())
+    first = dict(raw["photometry"][0], baseline="gp", gp_sigma_ppm={"loguniform": [1, 1000]}, band="camera")
+    second = dict(first, name="cam-again", gp_shared_with=first["name"])
+    del second["gp_sigma_ppm"]
+    raw["photometry"] = [first, second]
+    path.write_text(yaml.safe_dump(raw))
+    checked = check(path)
+    post = JointPosterior(checked.config, checked.photometry, checked.velocities)
+    assert not [n for n in post.layout.all_names if n.startswith("cam-again.gp_")]
+    theta = prior_draws(post, 1)[0]
+    values = post.layout.values(theta)
+    values["cam-again.flux_level"] = values[f"{first['name']}.flux_level"]
+    orbits = post.orbits(values)
+    one, two = (post.photometry_log_likelihoods([values], [orbits], i)[0] for i in (0, 1))
+    assert one == two  # the same data, level and process
+    values[f"{first['name']}.gp_sigma_ppm"] *= 3
+    assert post.photometry_log_likelihoods([values], [orbits], 1)[0] != two
