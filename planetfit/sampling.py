@@ -86,13 +86,22 @@ def sampler_geometry(layout):
 
 
 def _optimise(log_prob, x0, centre, scale, bounds):
-    """Powell's method from ``x0`` in prior-scaled coordinates; returns (theta, log_prob, evaluations)."""
+    """Powell's method from ``x0`` in prior-scaled coordinates; returns (theta, log_prob, evaluations).
+
+    Powell's bounded line search can end on the plateau the objective gives
+    to impossible parameters (found with a looser line tolerance); the start
+    is returned instead whenever the result is no better.
+    """
     def objective(z):
         v = log_prob(centre + z * scale)
         return -v if math.isfinite(v) else BAD_LOG_PROB
 
-    res = optimize.minimize(objective, (x0 - centre) / scale, method="Powell", bounds=bounds,
-                            options={"xtol": 1e-5, "ftol": 1e-8, "maxfev": 500 * len(x0)})
+    z0 = (x0 - centre) / scale
+    res = optimize.minimize(objective, z0, method="Powell", bounds=bounds,
+                            options={"xtol": 1e-7, "ftol": 1e-8, "maxfev": 500 * len(x0)})
+    start = objective(z0)
+    if not res.fun < start:
+        return x0, -float(start), int(res.nfev)
     return centre + res.x * scale, -float(res.fun), int(res.nfev)
 
 
