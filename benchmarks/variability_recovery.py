@@ -6,7 +6,7 @@ fits it with ``baseline: gp`` and with ``baseline: constant`` (free
 jitter), and prints the radius ratio of each, its distance from the truth
 in posterior sigmas, and the best log-probability of each chain.
 
-Usage: python benchmarks/variability_recovery.py [--seeds 101 102 103 104 105] [--cores 1] [--max-steps 400]
+Usage: python benchmarks/variability_recovery.py [--seeds 101 102 103 104 105] [--cores 1] [--max-steps 8000]
 Prints one JSON object.
 """
 
@@ -44,7 +44,7 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--seeds", type=int, nargs="+", default=[101, 102, 103, 104, 105])
     parser.add_argument("--cores", type=int, default=1)
-    parser.add_argument("--max-steps", type=int, default=400)
+    parser.add_argument("--max-steps", type=int, default=8000, help="upper limit; chains stop when converged")
     args = parser.parse_args()
     out = {"truth_radius_ratio": TRANSITING["radius_ratio"], "max_steps": args.max_steps,
            "load_average_1min_start": os.getloadavg()[0], "seeds": {}}
