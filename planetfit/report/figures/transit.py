@@ -145,8 +145,8 @@ def light_curve_figure(posterior, view, index):
                 ax.plot(part_x, part_y, color=style.MODEL_COLOUR, lw=0.8, label=label)
                 label = None
             ax.legend(loc="lower left", fontsize="small", markerscale=4)
-        top.set_ylabel("Relative flux $-$ 1 [ppm]")
-        bottom.set_ylabel("Detrended / baseline $-$ 1 [ppm]")
+        top.set_ylabel("Flux $-$ 1 [ppm]")
+        bottom.set_ylabel("Detrended [ppm]")
         bottom.set_xlabel(f"Time [BJD$_\\mathrm{{TDB}}$ $-$ {t0:.0f}]")
         fig.suptitle(f"{d.name}: variability (GP) and transits")
     return fig
