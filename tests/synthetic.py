@@ -179,3 +179,15 @@ def write_tiny_system(folder, truth=TINY_TRUTH, seed=1, n_phot=400, n_rv=20, noi
                                                  jitter_ms={"loguniform": [0.01, 10]})]
     config.update(overrides)
     return write_config(folder, config)
+
+
+def tiny_posterior(folder, **photometry):
+    """The posterior of the tiny system written into ``folder``, its photometry entry updated with ``photometry``."""
+    from planetfit.pipeline import check
+    from planetfit.posterior import JointPosterior
+    path = write_tiny_system(folder)
+    raw = yaml.safe_load(path.read_text())
+    raw["photometry"][0].update(photometry)
+    path.write_text(yaml.safe_dump(raw))
+    checked = check(path)
+    return JointPosterior(checked.config, checked.photometry, checked.velocities)

@@ -8,16 +8,7 @@ from scipy import stats
 
 from planetfit.pipeline import check
 from planetfit.posterior import JointPosterior
-from synthetic import write_tiny_system
-
-
-def posterior(tmp_path, **photometry):
-    path = write_tiny_system(tmp_path)
-    raw = yaml.safe_load(path.read_text())
-    raw["photometry"][0].update(photometry)
-    path.write_text(yaml.safe_dump(raw))
-    checked = check(path)
-    return JointPosterior(checked.config, checked.photometry, checked.velocities)
+from synthetic import tiny_posterior, write_tiny_system
 
 
 def prior_draws(post, n, seed=5):
@@ -28,7 +19,7 @@ def prior_draws(post, n, seed=5):
 
 
 def test_batch_equals_one_at_a_time_and_rejects_outside_the_prior(tmp_path):
-    post = posterior(tmp_path)
+    post = tiny_posterior(tmp_path)
     thetas = prior_draws(post, 12)
     lo = np.array([post.layout.priors[n].bounds[0] for n in post.layout.free])
     outside = thetas[0].copy()
@@ -42,7 +33,7 @@ def test_batch_equals_one_at_a_time_and_rejects_outside_the_prior(tmp_path):
 def test_in_window_photometric_likelihood_equals_the_dense_gaussian(tmp_path):
     # A linear baseline, a contaminating flux fraction and a fixed jitter: the case scored from
     # precomputed sums plus the in-transit points only.
-    post = posterior(tmp_path, baseline="linear", slope_per_day={"uniform": [-0.01, 0.01]}, dilution=0.2,
+    post = tiny_posterior(tmp_path, baseline="linear", slope_per_day={"uniform": [-0.01, 0.01]}, dilution=0.2,
                      jitter_ppm=150.0)
     assert post.sparse_noise[0] is not None
     d = post.photometry[0]

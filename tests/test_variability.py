@@ -9,6 +9,7 @@ import emcee
 import numpy as np
 
 from planetfit import pipeline
+from synthetic import tiny_posterior
 from variability import TRANSITING, write_spotted_star
 
 SEED = 101
@@ -34,19 +35,6 @@ def test_gp_baseline_recovers_radius_ratio_under_variability(tmp_path):
     assert abs(flat["median"] - truth) > abs(gp["median"] - truth), (flat, gp, truth)
 
 
-def _posterior(tmp_path, **photometry):
-    import yaml
-    from synthetic import write_tiny_system as write_system
-    from planetfit.pipeline import check
-    from planetfit.posterior import JointPosterior
-    path = write_system(tmp_path)
-    raw = yaml.safe_load(path.read_text())
-    raw["photometry"][0].update(photometry)
-    path.write_text(yaml.safe_dump(raw))
-    checked = check(path)
-    return JointPosterior(checked.config, checked.photometry, checked.velocities)
-
-
 def _values(post):
     from synthetic import TINY_TRUTH as TRUTH
     values = {n: post.layout.priors[n].value if post.layout.priors[n].fixed else None for n in post.layout.all_names}
@@ -58,8 +46,8 @@ def _values(post):
 
 
 def test_dilution_scales_the_transit_depth(tmp_path):
-    clean = _posterior(tmp_path / "a")
-    diluted = _posterior(tmp_path / "b", dilution=0.3)
+    clean = tiny_posterior(tmp_path / "a")
+    diluted = tiny_posterior(tmp_path / "b", dilution=0.3)
     v = _values(clean)
     deficit = 1 - clean.photometry_model(v, clean.orbits(v), 0)
     v["cam.dilution"] = 0.3
@@ -70,7 +58,7 @@ def test_dilution_scales_the_transit_depth(tmp_path):
 
 
 def test_linear_baseline_multiplies_the_transit(tmp_path):
-    post = _posterior(tmp_path, baseline="linear")
+    post = tiny_posterior(tmp_path, baseline="linear")
     v = _values(post)
     v["cam.slope_per_day"] = 2e-3
     model = post.photometry_model(v, post.orbits(v), 0)
