@@ -1,7 +1,7 @@
 """Noise models: the log-likelihood of a dataset's residuals.
 
-Each noise model has ``log_likelihood(residual, values)``,
-``log_likelihood_many(residuals, values_list)`` (a batch of walkers) and
+Each noise model has ``log_likelihood_many(residuals, values_list)`` (the
+log-likelihoods of a batch of walkers' residuals) and
 ``predict(residual, values)`` (the correlated part of the residuals it
 expects: zero for white noise), and is chosen per dataset when the
 posterior is built. Gaussian processes live in :mod:`planetfit.models.gp`.
@@ -44,16 +44,8 @@ class WhiteNoise:
             self.inverse_variance = 1.0 / var
             self.constant = -0.5 * float(np.sum(np.log(var)) + var.size * _LOG_2PI)
 
-    def log_likelihood(self, residual, values):
-        """Sum of Gaussian log-densities of ``residual``."""
-        if self.fixed:
-            return self.constant - 0.5 * float(np.dot(residual * residual, self.inverse_variance))
-        jit = np.array([values[n] for n in self.jitter_names])[self.groups] * self.scale
-        var = self.error2 + jit * jit
-        return -0.5 * float(np.sum(residual * residual / var + np.log(var)) + residual.size * _LOG_2PI)
-
     def log_likelihood_many(self, residuals, values_list):
-        """:meth:`log_likelihood` of each row of ``residuals`` (n, N) with its values, shape (n,)."""
+        """Sum of Gaussian log-densities of each row of ``residuals`` (n, N) with its values, shape (n,)."""
         if self.fixed:
             return self.constant - 0.5 * (residuals * residuals) @ self.inverse_variance
         jit = np.array([[v[n] for n in self.jitter_names] for v in values_list])[:, self.groups] * self.scale
