@@ -138,6 +138,12 @@ def decorrelation_name(dataset, column):
     return f"{dataset} {column}.activity_coefficient"
 
 
+def _fixed_values(priors, names):
+    """The values of parameters ``names`` if every one is fixed, else None."""
+    chosen = [priors[n] for n in names]
+    return [p.value for p in chosen] if all(p.fixed for p in chosen) else None
+
+
 def photometry_noise(cfg, data, priors):
     """The noise model a photometric dataset's config chooses: white, or white + a celerite2 GP.
 
@@ -145,8 +151,7 @@ def photometry_noise(cfg, data, priors):
     """
     jitter = f"{cfg.name}.jitter_ppm"
     if cfg.baseline != "gp":
-        fixed = priors[jitter]
-        return WhiteNoise(data.error, [jitter], PPM, fixed_jitters=[fixed.value] if fixed.fixed else None)
+        return WhiteNoise(data.error, [jitter], PPM, fixed_jitters=_fixed_values(priors, [jitter]))
     owner = cfg.gp_shared_with or cfg.name
     sigma, rho = f"{owner}.gp_sigma_ppm", f"{owner}.gp_rho_days"
     kernel = (SHOKernel(sigma, rho, f"{owner}.gp_quality", PPM) if cfg.gp_kernel == "sho"
@@ -154,26 +159,23 @@ def photometry_noise(cfg, data, priors):
     return GaussianProcessNoise(data.time, data.error, kernel, [jitter], PPM)
 
 
-def velocity_noise(config, velocities, priors):
+def velocity_noise(config, velocities, priors, times, groups):
     """The noise model of all RVs, concatenated in spectrograph order, and the order it wants them in.
 
     Without ``rv_activity``: white noise with a jitter per spectrograph. With
     it, one rotation GP runs over all spectrographs' points in time order,
-    with per-spectrograph amplitudes and jitters.
+    with per-spectrograph amplitudes and jitters. ``times`` and ``groups``
+    (the spectrograph of every point) are the concatenated ones.
 
     Returns
     -------
     (index, noise)
         ``noise`` scores ``residuals[index]``.
     """
-    groups = np.concatenate([np.full(d.time.size, i) for i, d in enumerate(velocities)])
     error = np.concatenate([d.error for d in velocities])
     jitters = [f"{d.name}.jitter_ms" for d in velocities]
     if config.rv_activity is None:
-        fixed = [priors[n] for n in jitters]
-        values = [p.value for p in fixed] if all(p.fixed for p in fixed) else None
-        return slice(None), WhiteNoise(error, jitters, 1.0, groups, fixed_jitters=values)
-    times = np.concatenate([d.time for d in velocities])
+        return slice(None), WhiteNoise(error, jitters, 1.0, groups, fixed_jitters=_fixed_values(priors, jitters))
     order = np.argsort(times, kind="stable")
     kernel = RotationKernel("rv_activity.rotation_period_days", "rv_activity.quality",
                             "rv_activity.quality_difference", "rv_activity.mix")
@@ -275,7 +277,7 @@ class JointPosterior:
             self.rv_times = np.concatenate([d.time for d in velocities])
             self.rv_observed = np.concatenate([d.rv for d in velocities])
             self.rv_group = np.concatenate([np.full(d.time.size, i) for i, d in enumerate(velocities)])
-            self.velocity_noise = velocity_noise(config, velocities, priors)
+            self.velocity_noise = velocity_noise(config, velocities, priors, self.rv_times, self.rv_group)
         if config.rv_trend is not None:
             reference = config.rv_trend.reference_bjd
             if reference is None:
