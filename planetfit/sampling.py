@@ -120,8 +120,8 @@ def find_map(log_prob, layout, rng, starts, processes=None):
     bounds = [tuple(None if not math.isfinite(b) else (b - c) / s for b in (l, h))
               for l, h, c, s in zip(lo, hi, centre, scale)]
     draws = layout.sample_prior(rng, 20 * starts)
-    candidates = [centre] + list(draws[np.isfinite(log_prob.log_prob_many(draws))][: starts - 1])
-    candidates = [x for x in candidates if math.isfinite(log_prob(x))]
+    candidates = ([centre] if math.isfinite(log_prob(centre)) else []) + list(
+        draws[np.isfinite(log_prob.log_prob_many(draws))][: starts - 1])
     if not candidates:
         raise RuntimeError("no start drawn from the prior has a finite probability")
     tasks = [(x0, centre, scale, bounds) for x0 in candidates]
