@@ -225,11 +225,12 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
         self.flush_seconds = flush_seconds
         self._pending = []
         self._last_flush = time.monotonic()
-        self._positions = None  # (capacity, walkers, ndim) copy of the chain, filled up to self.iteration
+        self._positions = None  # (capacity, walkers, ndim) copy of the chain ...
+        self._stored = 0        # ... filled up to here (counted here: reading the file's count opens it)
 
     def reset(self, nwalkers, ndim):
         self._pending = []
-        self._positions = np.empty((0, nwalkers, ndim))
+        self._positions, self._stored = np.empty((0, nwalkers, ndim)), 0
         super().reset(nwalkers, ndim)
 
     def grow(self, ngrow, blobs):
@@ -239,11 +240,11 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
     def save_step(self, state, accepted):
         coords = np.array(state.coords)
         if self._positions is not None:
-            done = self.iteration
-            if done == len(self._positions):  # double the capacity
-                more = np.empty((max(done, 64),) + self._positions.shape[1:])
+            if self._stored == len(self._positions):  # double the capacity
+                more = np.empty((max(self._stored, 64),) + self._positions.shape[1:])
                 self._positions = np.concatenate([self._positions, more])
-            self._positions[done] = coords
+            self._positions[self._stored] = coords
+            self._stored += 1
         self._pending.append((coords, np.array(state.log_prob), np.array(accepted), state.random_state))
         if time.monotonic() - self._last_flush >= self.flush_seconds:
             self.flush()
@@ -285,7 +286,8 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
             return super().get_value(name, flat=flat, thin=thin, discard=discard)
         if self._positions is None:  # a chain continued from the file: read it once
             self._positions = super().get_value("chain")
-        value = self._positions[discard + thin - 1:self.iteration:thin]
+            self._stored = len(self._positions)
+        value = self._positions[discard + thin - 1:self._stored:thin]
         return value.reshape(-1, value.shape[-1]) if flat else value
 
 
