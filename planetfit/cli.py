@@ -239,6 +239,7 @@ def main(argv=None):
     except SystemExit as exc:
         return exc.code if isinstance(exc.code, int) else EXIT_OK
     except Exception:
+        _restore(streams)  # an error while stopping after Ctrl-C must still be seen
         traceback.print_exc()
         print("planetfit: internal error (above); please report it with the config.", file=sys.stderr)
         return EXIT_INTERNAL
