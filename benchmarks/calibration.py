@@ -9,7 +9,10 @@ meets planetfit's convergence rule (50 autocorrelation times, checked every
 falls inside the 68% and 95% central posterior intervals is reported for
 planet mass, radius, K and radius ratio, over all fits and over the
 converged ones. A calibrated posterior covers the truth at the nominal
-rate, within the binomial scatter sqrt(p (1 - p) / N).
+rate, within the binomial scatter sqrt(p (1 - p) / N), and puts the truth
+at a uniformly distributed rank among its samples; the Kolmogorov-Smirnov
+p-value of each quantity's ranks against the uniform distribution is
+reported too.
 
 Usage: python benchmarks/calibration.py [--systems N] [--processes P] [--steps S]
 Prints one JSON object; each system's result goes to stderr as one JSON line.
@@ -28,6 +31,7 @@ from pathlib import Path
 
 import numpy as np
 import yaml
+from scipy import stats
 
 PRIOR = {
     "star": {"mass_msun": {"normal": [0.9, 0.05]}, "radius_rsun": {"normal": [0.85, 0.03]},
@@ -106,7 +110,8 @@ def fit_one(args):
     for q in QUANTITIES:
         p = np.percentile(derived[q], [2.5, 15.865, 84.135, 97.5])
         x = true_values[q]
-        out[q] = {"in_68": bool(p[1] <= x <= p[2]), "in_95": bool(p[0] <= x <= p[3])}
+        out[q] = {"in_68": bool(p[1] <= x <= p[2]), "in_95": bool(p[0] <= x <= p[3]),
+                  "rank": round(float(np.mean(derived[q] < x)), 4)}
     return out
 
 
@@ -147,6 +152,8 @@ def coverage(results, steps, seconds):
     for level in ("68", "95"):
         report[f"coverage_{level}"] = _fractions(results, level)
         report[f"coverage_{level}_converged"] = _fractions(converged, level)
+    report["rank_uniformity_ks_p"] = {
+        q: round(float(stats.kstest([r[q]["rank"] for r in results], "uniform").pvalue), 3) for q in QUANTITIES}
     report["seconds"] = round(seconds, 1)
     return report
 
