@@ -65,43 +65,53 @@ def _write_table(path, columns, header):
     np.savetxt(path, np.column_stack(columns), delimiter=",", header=header, comments="", fmt="%.9f")
 
 
+def simulate_system(seed, folder, steps):
+    """Draw system ``seed`` from the prior and write its data and config into ``folder``.
+
+    Returns
+    -------
+    (config, posterior, values, orbits)
+        The loaded config, the posterior of the simulated data, and the
+        true parameter values and orbits.
+    """
+    from planetfit.config import load_config
+    from planetfit.data import load_all
+    from planetfit.posterior import JointPosterior
+
+    rng = np.random.default_rng(seed)
+    folder = Path(folder)
+    t_phot = PHOT_START_BJD + np.arange(0, PHOT_DAYS, CADENCE_MIN / (24 * 60))
+    t_rv = np.sort(rng.uniform(PHOT_START_BJD - 15, PHOT_START_BJD + 15, N_RV))
+    # Placeholder tables give the posterior the observation times; the model then makes the data.
+    _write_table(folder / "phot.csv", [t_phot, np.ones_like(t_phot), np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
+    _write_table(folder / "rv.csv", [t_rv, np.zeros(N_RV), np.full(N_RV, RV_ERROR_MS)], "t,v,e")
+    (folder / "config.yaml").write_text(yaml.safe_dump(_config(folder / "phot.csv", folder / "rv.csv", steps, seed)))
+    config = load_config(folder / "config.yaml")
+    post = JointPosterior(config, *load_all(config))
+    while True:  # a draw from the prior with a transit and a finite probability
+        values = post.layout.values(post.layout.sample_prior(rng, 1)[0])
+        orbits = post.orbits(values)
+        if orbits is not None and np.any(post.photometry_model(values, orbits, 0) < 1):
+            break
+    flux = post.photometry_model(values, orbits, 0) + rng.normal(0, NOISE_PPM * 1e-6, t_phot.size)
+    rv = values["spec.offset_ms"] + post.velocity_model(values, orbits, 0) + rng.normal(0, RV_ERROR_MS, N_RV)
+    _write_table(folder / "phot.csv", [t_phot, flux, np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
+    _write_table(folder / "rv.csv", [t_rv, rv, np.full(N_RV, RV_ERROR_MS)], "t,v,e")
+    return config, JointPosterior(config, *load_all(config)), values, orbits
+
+
 def fit_one(args):
     """Draw one system from the prior, simulate data, fit it; return truth and posterior intervals."""
     seed, steps = args
     from planetfit import physics
-    from planetfit.config import load_config
-    from planetfit.data import load_all
-    from planetfit.posterior import JointPosterior
     from planetfit.sampling import run_sampler
     from planetfit.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
 
-    rng = np.random.default_rng(seed)
     with tempfile.TemporaryDirectory() as tmp:
-        tmp = Path(tmp)
-        t_phot = PHOT_START_BJD + np.arange(0, PHOT_DAYS, CADENCE_MIN / (24 * 60))
-        t_rv = np.sort(rng.uniform(PHOT_START_BJD - 15, PHOT_START_BJD + 15, N_RV))
-        # Placeholder tables give the posterior the observation times; the model then makes the data.
-        _write_table(tmp / "phot.csv", [t_phot, np.ones_like(t_phot), np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
-        _write_table(tmp / "rv.csv", [t_rv, np.zeros(N_RV), np.full(N_RV, RV_ERROR_MS)], "t,v,e")
-        (tmp / "config.yaml").write_text(yaml.safe_dump(_config(tmp / "phot.csv", tmp / "rv.csv", steps, seed)))
-        config = load_config(tmp / "config.yaml")
-        phot, rvs = load_all(config)
-        post = JointPosterior(config, phot, rvs)
-        layout = post.layout
-        while True:  # a draw from the prior with a transit and a finite probability
-            truth = layout.sample_prior(rng, 1)[0]
-            values = layout.values(truth)
-            orbits = post.orbits(values)
-            if orbits is not None and np.any(post.photometry_model(values, orbits, 0) < 1):
-                break
-        flux = post.photometry_model(values, orbits, 0) + rng.normal(0, NOISE_PPM * 1e-6, t_phot.size)
-        rv = values["spec.offset_ms"] + post.velocity_model(values, orbits, 0) + rng.normal(0, RV_ERROR_MS, N_RV)
-        _write_table(tmp / "phot.csv", [t_phot, flux, np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
-        _write_table(tmp / "rv.csv", [t_rv, rv, np.full(N_RV, RV_ERROR_MS)], "t,v,e")
-        phot, rvs = load_all(config)
-        post = JointPosterior(config, phot, rvs)
-        result = run_sampler(post, layout, config.sampling, tmp / "samples.h5", rng, progress=False)
-        derived = physics.derive(config, layout, result.samples, rng)["planets"]["b"]
+        config, post, values, orbits = simulate_system(seed, tmp, steps)
+        rng = np.random.default_rng(seed + 1_000_000)
+        result = run_sampler(post, post.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
+        derived = physics.derive(config, post.layout, result.samples, rng)["planets"]["b"]
     true_values = {"mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
                    "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
                    "rv_amplitude_ms": values["b.rv_amplitude_ms"], "radius_ratio": values["b.radius_ratio"]}

@@ -10,6 +10,7 @@ import math
 import sys
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "benchmarks"))
@@ -34,3 +35,17 @@ def test_posterior_intervals_cover_the_truth_at_the_nominal_rate():
             assert fraction >= p - 3 * sd, (level, quantity, report)
             if level == "68":
                 assert fraction <= p + 3 * sd, (level, quantity, report)
+
+
+def test_optimiser_finds_the_transit_the_prior_centre_misses(tmp_path):
+    from planetfit.sampling import find_map
+
+    # System 1009: the transit time lies 0.1 d (about a transit duration) from the prior's centre.
+    _, post, values, _ = calibration.simulate_system(1009, tmp_path, steps=100)
+    j = post.layout.free.index("b.transit_bjd")
+    t0 = values["b.transit_bjd"]
+    centre_only, lp_centre = find_map(post, post.layout, np.random.default_rng(1), starts=1)
+    theta, lp = find_map(post, post.layout, np.random.default_rng(1), starts=2)
+    # common practice, no published source: two transits at this depth and noise give T0 to ~1e-3 d.
+    assert abs(centre_only[j] - t0) > 0.05 and lp - lp_centre > 50  # the centre alone stops on a wrong optimum
+    assert abs(theta[j] - t0) < 0.005
