@@ -42,4 +42,3 @@ def test_walkers_drawn_from_the_target_stay_in_it():
     assert abs(pooled_var - 1) < 0.05
     assert abs(np.mean(y[:, 1]) - 1) < 0.06
     assert np.mean(sampler.acceptance_fraction) > 0.1  # the walkers moved
-
