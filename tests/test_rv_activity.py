@@ -17,16 +17,18 @@ def sigmas_off(stat, truth):
     return abs(stat["median"] - truth) / (0.5 * (stat["upper"] - stat["lower"]))
 
 
-def test_activity_gp_recovers_semi_amplitude_and_white_noise_is_biased(tmp_path):
+def test_activity_gp_recovers_semi_amplitude_that_white_noise_blurs_and_biases(tmp_path):
     truth = RV_PLANET["rv_amplitude_ms"]
     gp = fitted(tmp_path, write_active_star(tmp_path / "gp", SEED, activity_gp=True))
     white = fitted(tmp_path, write_active_star(tmp_path / "white", SEED, activity_gp=False))
     k_gp, k_white = gp["planets"]["b"]["rv_amplitude_ms"], white["planets"]["b"]["rv_amplitude_ms"]
     # common practice, no published source: a calibrated posterior holds the truth within 2 sigma
     assert sigmas_off(k_gp, truth) < 2, k_gp
-    # Activity at the rotation period leaks into K when only a white jitter describes it.
-    assert sigmas_off(k_white, truth) > 2, k_white
+    # Activity at the rotation period leaks into K when only a white jitter describes it, and the inflated
+    # jitter widens K's posterior. (Seeds 5-7: white-noise K 0.33-1.22 m/s off the truth against the GP's
+    # 0.01-0.07 m/s, with intervals 3.2-3.8 times wider; 0.5-2.0 of its own sigmas off.)
     assert abs(k_white["median"] - truth) > 3 * abs(k_gp["median"] - truth)
+    assert k_white["upper"] - k_white["lower"] > 2.5 * (k_gp["upper"] - k_gp["lower"])
     # The shared GP finds the injected rotation period (13 d) and the ratio of the spectrographs' amplitudes (0.6).
     period = gp["fitted_parameters"]["rv_activity.rotation_period_days"]
     assert sigmas_off(period, 13.0) < 3, period
