@@ -159,7 +159,9 @@ def find_map(log_prob, layout, rng, starts, processes=None):
     bounds = [tuple(None if not math.isfinite(b) else (b - c) / s for b in (l, h))
               for l, h, c, s in zip(lo, hi, centre, scale)]
     draws = layout.sample_prior(rng, PRIOR_SEARCH_DRAWS)
-    lp = processes(draws) if processes else log_prob.log_prob_many(draws)
+    evaluate = processes if processes else log_prob.log_prob_many
+    # In batches of a walker ensemble's size: one batch of all draws held every draw's transit models at once.
+    lp = np.concatenate([evaluate(batch) for batch in np.array_split(draws, PRIOR_SEARCH_DRAWS // 100)])
     finite = np.flatnonzero(np.isfinite(lp))
     best = finite[np.argsort(-lp[finite])][: starts // 2]
     others = np.setdiff1d(finite, best)[: starts - 1 - best.size]  # draws are in random order
