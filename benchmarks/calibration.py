@@ -109,7 +109,7 @@ def fit_one(args):
 
     with tempfile.TemporaryDirectory() as tmp:
         config, post, values, orbits = simulate_system(seed, tmp, steps)
-        rng = np.random.default_rng(seed + 1_000_000)
+        rng = np.random.default_rng(seed + 1_000_000)  # the fit's own stream, apart from the simulation's
         result = run_sampler(post, post.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
         derived = physics.derive(config, post.layout, result.samples, rng)["planets"]["b"]
     true_values = {"mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,

@@ -160,7 +160,7 @@ def find_map(log_prob, layout, rng, starts, processes=None):
               for l, h, c, s in zip(lo, hi, centre, scale)]
     draws = layout.sample_prior(rng, PRIOR_SEARCH_DRAWS)
     evaluate = processes if processes else log_prob.log_prob_many
-    # In batches of a walker ensemble's size: one batch of all draws held every draw's transit models at once.
+    # In batches of 100: one batch of all draws held every draw's transit models in memory at once.
     lp = np.concatenate([evaluate(batch) for batch in np.array_split(draws, PRIOR_SEARCH_DRAWS // 100)])
     finite = np.flatnonzero(np.isfinite(lp))
     best = finite[np.argsort(-lp[finite])][: starts // 2]

@@ -32,7 +32,7 @@ def _draw(rng, n):
 def test_walkers_drawn_from_the_target_stay_in_it():
     rng = np.random.default_rng(7)
     sampler = emcee.EnsembleSampler(WALKERS, SCALE.size, _log_prob, vectorize=True, moves=walker_moves())
-    sampler._random = np.random.mtrand.RandomState(7)
+    sampler.random_state = np.random.RandomState(7).get_state()
     sampler.run_mcmc(_draw(rng, WALKERS), STEPS, progress=False)
     y = sampler.get_last_sample().coords / SCALE
     # source: the target's moments by construction: Var y0 = Var y2..y5 = 1 and E[y1] = E[y0^2] = 1.
