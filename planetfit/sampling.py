@@ -163,9 +163,10 @@ def find_map(log_prob, layout, rng, starts, processes=None):
     # In batches of 100: one batch of all draws held every draw's transit models in memory at once.
     lp = np.concatenate([evaluate(batch) for batch in np.array_split(draws, PRIOR_SEARCH_DRAWS // 100)])
     finite = np.flatnonzero(np.isfinite(lp))
-    best = finite[np.argsort(-lp[finite])][: starts // 2]
-    others = np.setdiff1d(finite, best)[: starts - 1 - best.size]  # draws are in random order
-    candidates = ([centre] if math.isfinite(log_prob(centre)) else []) + list(draws[np.concatenate([best, others])])
+    most_probable = finite[np.argsort(-lp[finite])][: starts // 2]
+    others = np.setdiff1d(finite, most_probable)[: starts - 1 - most_probable.size]  # draws are in random order
+    chosen = np.concatenate([most_probable, others])
+    candidates = ([centre] if math.isfinite(log_prob(centre)) else []) + list(draws[chosen])
     if not candidates:
         raise RuntimeError("no start drawn from the prior has a finite probability")
     tasks = [(x0, centre, scale, b) for x0 in candidates for b in (bounds, None)]
