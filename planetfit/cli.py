@@ -131,6 +131,8 @@ def _cmd_check(args):
     from .posterior import build_layout
     layout = build_layout(c)
     print(f"  {layout.ndim} free parameters: {', '.join(layout.free)}")
+    for warning in checked.warnings:
+        print(f"  WARNING: {warning}")
 
 
 def _cmd_interior(args):

@@ -14,7 +14,9 @@ from pathlib import Path
 import yaml
 
 from .errors import InputError, reading
+from .fits_io import is_fits
 from .priors import Fixed, LogUniform, Normal, Uniform, make_prior
+from .timesystems import NEEDS_COORDINATES, TIME_SYSTEMS
 
 ORBITS = ("circular", "eccentric")
 LIMB_DARKENING_LAWS = ("quadratic",)
@@ -40,6 +42,8 @@ class StarConfig:
     age_gyr: object = None
     mag_j: float = None
     mag_k: float = None
+    ra_deg: float = None             # ICRS position, for HJD_UTC times
+    dec_deg: float = None
 
 
 @dataclasses.dataclass
@@ -55,6 +59,7 @@ class PlanetConfig:
     sqrt_e_cos_w: object = None
     sqrt_e_sin_w: object = None
     eccentricity_max: float = 0.9
+    inclination_deg: object = None  # prior of a non-transiting planet's inclination (true mass)
 
 
 @dataclasses.dataclass
@@ -87,6 +92,10 @@ class PhotometryConfig:
     gp_rho_days: object = None
     gp_quality: object = None
     gp_shared_with: str = None      # another dataset whose GP hyperparameters this one uses
+    header: bool = True             # False: columns given by 1-based number
+    select: dict = dataclasses.field(default_factory=dict)  # column -> value of the rows to keep
+    time_system: str = "BJD_TDB"
+    section: str = "photometry[0]"  # the dataset's config key, for messages
 
     def __post_init__(self):
         if self.files is None:
@@ -103,6 +112,10 @@ class VelocityConfig:
     jitter_ms: object
     decorrelate: dict = dataclasses.field(default_factory=dict)  # indicator column -> prior (m/s per unit)
     activity_amplitude_ms: object = None
+    header: bool = True
+    select: dict = dataclasses.field(default_factory=dict)
+    time_system: str = "BJD_TDB"
+    section: str = "velocities[0]"
 
 
 @dataclasses.dataclass
@@ -352,7 +365,15 @@ def _check_star(ctx, data):
         age_gyr=s.prior("age_gyr"),
         mag_j=s.number("mag_j"),
         mag_k=s.number("mag_k"),
+        ra_deg=s.number("ra_deg"),
+        dec_deg=s.number("dec_deg"),
     )
+    if star.ra_deg is not None and not 0 <= star.ra_deg < 360:
+        ctx.fail("star.ra_deg", f"right ascension must lie in [0, 360) degrees, got {star.ra_deg}.",
+                 "give the ICRS right ascension in degrees (hours x 15).")
+    if star.dec_deg is not None and not -90 <= star.dec_deg <= 90:
+        ctx.fail("star.dec_deg", f"declination must lie in [-90, 90] degrees, got {star.dec_deg}.",
+                 "give the ICRS declination in degrees.")
     for name in ("mass_msun", "radius_rsun", "teff_k"):
         _positive_prior(ctx, f"star.{name}", getattr(star, name), name)
     s.finish()
@@ -402,6 +423,14 @@ def _check_planet(ctx, name, data):
             if s.has(extra):
                 ctx.fail(f"{key}.{extra}", "this planet has 'transits: false', so it has no transit parameters.",
                          f"remove '{extra}', or set 'transits: true' if it does transit.")
+        planet.inclination_deg = s.prior("inclination_deg")
+        if planet.inclination_deg is not None:
+            lo, hi = planet.inclination_deg.bounds
+            if isinstance(planet.inclination_deg, Normal):
+                lo, hi = (planet.inclination_deg.mean + f * planet.inclination_deg.sd for f in (-5, 5))
+            if lo <= 0 or hi > 180:
+                ctx.fail(f"{key}.inclination_deg", "the inclination must lie in (0, 180] degrees (0 is face-on, "
+                         "where no RV signal exists).", "give e.g. '{normal: [88.5, 0.5]}' from the planet's transits.")
     if orbit == "eccentric":
         planet.eccentricity_max = s.number("eccentricity_max", default=0.9)
         if not 0 < planet.eccentricity_max < 1:
@@ -419,15 +448,58 @@ def _check_planet(ctx, name, data):
             if s.has(extra):
                 ctx.fail(f"{key}.{extra}", "only eccentric orbits take eccentricity parameters.",
                          f"remove '{extra}' or set 'orbit: eccentric'.")
-    s.finish(allowed=("radius_ratio", "impact", "sqrt_e_cos_w", "sqrt_e_sin_w", "eccentricity_max"))
+    if transits and s.has("inclination_deg"):
+        ctx.fail(f"{key}.inclination_deg", "a transiting planet's inclination follows from its impact parameter.",
+                 "remove 'inclination_deg' (it is for planets with 'transits: false').")
+    s.finish(allowed=("radius_ratio", "impact", "sqrt_e_cos_w", "sqrt_e_sin_w", "eccentricity_max",
+                      "inclination_deg"))
     return planet
 
 
-def _check_columns(ctx, key, data, needed):
+def _column(ctx, key, value, header):
+    """A file column as the config names it: a header name, or a 1-based number without a header."""
+    if header:
+        if isinstance(value, str):
+            return value
+        ctx.fail(key, f"columns are named by the file's header here, got {_show(value)}.",
+                 "write the header's name, or set 'header: false' to give columns by number (1 = first field).")
+    if isinstance(value, int) and not isinstance(value, bool) and value >= 1:
+        return value
+    ctx.fail(key, f"with 'header: false' columns are given by number (1 = the first field of a row), got {_show(value)}.",
+             f"write e.g. '{key.rpartition('.')[2]}: 1', or remove 'header: false' if the file has a header line.")
+
+
+def _check_columns(ctx, key, data, needed, header):
     s = _Section(ctx, data, key)
-    cols = {n: s.text(n, default=n) for n in needed}
+    cols = {n: _column(ctx, f"{key}.{n}", s.take(n, required=not header, default=n), header) for n in needed}
     s.finish()
     return cols
+
+
+def _check_select(ctx, key, data, header):
+    """``select: {COLUMN: VALUE}``: rows whose COLUMN equals VALUE (text, or a number compared as a number)."""
+    if data is None:
+        return {}
+    s = _Section(ctx, data, key)
+    if not s.data:
+        ctx.fail(key, "the block names no column.", "write e.g. 'select: {instrument: HARPS}', or remove it.")
+    out = {}
+    for col, value in s.data.items():
+        column = _column(ctx, f"{key}.{col}", col, header)
+        if isinstance(value, bool) or not isinstance(value, (str, int, float)):
+            ctx.fail(f"{key}.{col}", f"expected one value (text or a number), got {_show(value)}.",
+                     f"write e.g. '{col}: HARPS'.")
+        out[column] = value
+    return out
+
+
+def _check_reading(ctx, s, key, needed):
+    """The keys saying how a dataset's table is read: header, columns, select, time_system."""
+    header = s.flag("header", True)
+    return {"header": header,
+            "columns": _check_columns(ctx, f"{key}.columns", s.take("columns", default={}), needed, header),
+            "select": _check_select(ctx, f"{key}.select", s.take("select"), header),
+            "time_system": s.text("time_system", default="BJD_TDB", choices=TIME_SYSTEMS)}
 
 
 def _dataset_name(s, key, seen, ctx):
@@ -445,9 +517,16 @@ def _check_photometry(ctx, i, data, seen):
     exposure = s.number("exposure_min", required=True, positive=True)
     default_ss = max(1, math.ceil(exposure / 2.0 - 1e-9))  # sub-exposures of at most 2 min
     files = s.paths("file")
+    reading = _check_reading(ctx, s, key, ("time", "flux", "error"))
+    header = reading["header"]
+    if any(is_fits(f) for f in files):
+        for name_, default in (("time_system", "BJD_TDB"), ("select", {}), ("header", True)):
+            if reading[name_] != default:
+                ctx.fail(f"{key}.{name_}", f"'{name_}' applies to text tables; FITS light curves carry their "
+                         "columns and time system (TIMESYS) in their headers.", f"remove '{name_}'.")
     phot = PhotometryConfig(
-        name=name, file=files[0], files=files,
-        columns=_check_columns(ctx, f"{key}.columns", s.take("columns", default={}), ("time", "flux", "error")),
+        name=name, section=key, file=files[0], files=files,
+        **reading,
         time_offset_days=s.number("time_offset_days", default=0.0),
         exposure_min=exposure,
         supersample=s.number("supersample", default=default_ss, integer=True, positive=True),
@@ -458,7 +537,8 @@ def _check_photometry(ctx, i, data, seen):
         flux_level=s.prior("flux_level", default=Uniform(0.9, 1.1)),
         jitter_ppm=s.prior("jitter_ppm", default=Fixed(0.0)),
         normalise=s.flag("normalise", True),
-        quality_column=s.text("quality_column"),
+        quality_column=(None if not s.has("quality_column") else
+                        _column(ctx, f"{key}.quality_column", s.take("quality_column"), header)),
         quality_keep_bits=s.integers("quality_keep_bits", 1, 32),
         clip_sigma=s.number("clip_sigma", default=5.0),
         clip_window_days=s.number("clip_window_days", default=0.5, positive=True),
@@ -536,18 +616,19 @@ def _check_velocities(ctx, i, data, seen, activity):
     name = _dataset_name(s, key, seen, ctx)
     raw_decorrelate = s.take("decorrelate", default={})
     ds = _Section(ctx, raw_decorrelate, f"{key}.decorrelate")
-    decorrelate = {str(col): ds.prior(col, required=True) for col in list(ds.data)}
-    columns = _check_columns(ctx, f"{key}.columns", s.take("columns", default={}), ("time", "rv", "error"))
+    reading = _check_reading(ctx, s, key, ("time", "rv", "error"))
+    decorrelate = {_column(ctx, f"{key}.decorrelate.{col}", col, reading["header"]): ds.prior(col, required=True)
+                   for col in list(ds.data)}
     for col in decorrelate:
-        if col in columns.values():
+        if col in reading["columns"].values():
             ctx.fail(f"{key}.decorrelate.{col}", "this column is already the time, RV or error column.",
                      "name an activity-indicator column of the file (e.g. line width or bisector span).")
     rv = VelocityConfig(
-        name=name, file=s.path("file"), columns=columns,
+        name=name, section=key, file=s.path("file"),
         time_offset_days=s.number("time_offset_days", default=0.0),
         offset_ms=s.prior("offset_ms", required=True),
         jitter_ms=s.prior("jitter_ms", default=Fixed(0.0)),
-        decorrelate=decorrelate)
+        decorrelate=decorrelate, **reading)
     if activity:
         rv.activity_amplitude_ms = s.prior("activity_amplitude_ms", default=LogUniform(0.01, 50.0))
         _positive_prior(ctx, f"{key}.activity_amplitude_ms", rv.activity_amplitude_ms, "the activity amplitude")
@@ -655,6 +736,11 @@ def load_config(path, output=None):
         if value is not None and not velocities:
             ctx.fail(block, "this block models radial velocities, and none are given.",
                      f"add a 'velocities' dataset or remove '{block}'.")
+    for section, items in (("photometry", photometry), ("velocities", velocities)):
+        for i, d in enumerate(items):
+            if d.time_system in NEEDS_COORDINATES and (star.ra_deg is None or star.dec_deg is None):
+                ctx.fail(f"{section}[{i}].time_system", f"{d.time_system} times need the star's sky position to "
+                         "become BJD_TDB.", "add 'ra_deg' and 'dec_deg' (ICRS, degrees) to the 'star' block.")
     if not photometry and not velocities:
         ctx.fail("photometry", "the config has no data: neither 'photometry' nor 'velocities' lists a dataset.",
                  "add at least one dataset (see README, config reference).")

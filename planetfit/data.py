@@ -1,11 +1,14 @@
 """Reading photometry and radial-velocity tables into checked arrays.
 
-Tables are CSV or whitespace-separated text with a header line naming the
-columns (lines starting with ``#`` are comments), or, for photometry, FITS
-binary tables (:mod:`planetfit.fits_io`). The config maps our quantities
-(time, flux, error / time, rv, error, plus a quality bitmask and activity
-indicators) to the file's column names. Text times become BJD_TDB by adding
-``time_offset_days``; FITS times by their header's reference date. Rows
+Tables are CSV or whitespace-separated text, with or without a header line
+(:mod:`planetfit.tables`), or, for photometry, FITS binary tables
+(:mod:`planetfit.fits_io`). The config maps our quantities (time, flux,
+error / time, rv, error, plus a quality bitmask and activity indicators) to
+the file's columns, and may keep only the rows of one instrument
+(``select``). Text times become full Julian dates by adding
+``time_offset_days`` and BJD_TDB by their ``time_system``
+(:mod:`planetfit.timesystems`); FITS times by their header's reference
+date. Rows are sorted by time; repeated time stamps are kept. Rows
 flagged in the quality column and rows with NaN are dropped and counted;
 light curves are then normalised per contiguous segment and clipped of
 outliers outside predicted transits (:mod:`planetfit.cleaning`). Everything
@@ -19,22 +22,31 @@ import logging
 import numpy as np
 
 from . import cleaning
-from .errors import DATA_FILE_MISSING_FIX, InputError, reading
+from .errors import InputError
 from .fits_io import is_fits, read_fits_table
+from .tables import read_table
+from .timesystems import check_time_references, to_bjd_tdb
 from .units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 log = logging.getLogger("planetfit")
 
-#: Plausible BJD_TDB range for modern data: JD 2433282.5 is 1950-01-01, JD 2488069.5 is 2100-01-01.
-BJD_PLAUSIBLE = (2433282.5, 2488069.5)
-#: Datasets further apart than this (days, ~30 years) are taken to be in different time systems.
-MAX_ERA_GAP_DAYS = 11000.0
-#: Offsets in common use, tried when suggesting a fix for times outside the plausible range.
-COMMON_OFFSETS = {2457000.0: "mission-relative BJD (BJD - 2457000)",
-                  2454833.0: "mission-relative BJD (BJD - 2454833)",
-                  2400000.5: "Modified Julian Date (JD - 2400000.5)",
-                  2450000.0: "truncated BJD (BJD - 2450000)",
-                  2400000.0: "reduced JD (JD - 2400000)"}
+
+@dataclasses.dataclass
+class Reading:
+    """How a dataset's rows were read: its time system, sorting, repeats, selection and warnings."""
+
+    time_system: str = "BJD_TDB"
+    sorted_by_time: bool = False
+    repeated_times: int = 0
+    rows_read: int = 0
+    rows_selected: int = 0
+    warnings: list = dataclasses.field(default_factory=list)
+
+    def counts(self):
+        """The reading facts of the ``data`` block of summary.json."""
+        return {"time_system": self.time_system, "sorted_by_time": self.sorted_by_time,
+                "repeated_times": self.repeated_times, "rows_read": self.rows_read,
+                "rows_selected": self.rows_selected}
 
 
 @dataclasses.dataclass
@@ -54,13 +66,15 @@ class Photometry:
     dropped_quality: int = 0
     clipped: int = 0
     dropped_far_from_transits: int = 0
+    reading: Reading = dataclasses.field(default_factory=Reading)
 
     def counts(self):
         """Point counts of the cleaning steps (the ``data`` block of summary.json)."""
         return {"points": int(self.time.size), "dropped_nan": self.dropped_nan,
                 "dropped_quality": self.dropped_quality, "clipped": self.clipped,
                 "dropped_far_from_transits": self.dropped_far_from_transits,
-                "segments": int(np.unique(self.segment).size) if self.segment is not None else 1}
+                "segments": int(np.unique(self.segment).size) if self.segment is not None else 1,
+                **self.reading.counts()}
 
 
 @dataclasses.dataclass
@@ -73,67 +87,16 @@ class Velocities:
     error: np.ndarray
     dropped_nan: int = 0
     indicators: dict = dataclasses.field(default_factory=dict)  # column -> values minus their median
+    reading: Reading = dataclasses.field(default_factory=Reading)
 
     def counts(self):
         """Point counts (the ``data`` block of summary.json)."""
-        return {"points": int(self.time.size), "dropped_nan": self.dropped_nan}
+        return {"points": int(self.time.size), "dropped_nan": self.dropped_nan, **self.reading.counts()}
 
 
-def _split(line, sep):
-    return [c.strip() for c in (line.split(",") if sep == "," else line.split())]
-
-
-def read_table(path, columns):
-    """Read the named columns of a CSV or whitespace text table.
-
-    Parameters
-    ----------
-    path : Path
-        File with a header line of column names.
-    columns : dict
-        Our name -> the file's column name.
-
-    Returns
-    -------
-    dict of ndarray
-        Our name -> float array (NaN kept; the caller decides).
-    """
-    with reading(path, "data file", DATA_FILE_MISSING_FIX,
-                 "give a readable CSV or whitespace-separated text file with a header line."):
-        text = path.read_text()
-    rows = [(n + 1, ln) for n, ln in enumerate(text.splitlines()) if ln.strip() and not ln.lstrip().startswith("#")]
-    if not rows:
-        raise InputError("the file is empty.", file=path, fix="give a table with a header line and data rows.")
-    header_line, header = rows[0]
-    sep = "," if "," in header else None
-    names = _split(header, sep)
-    if len(rows) < 2:
-        raise InputError("the table has a header but no data rows.", file=path, line=header_line,
-                         fix="add data rows below the header.")
-    index = {}
-    for ours, theirs in columns.items():
-        if theirs not in names:
-            raise InputError(f"no column named '{theirs}' (for {ours}); the header has: {', '.join(names)}.",
-                             file=path, line=header_line, key=f"columns.{ours}",
-                             fix=f"set 'columns: {{{ours}: <one of those names>}}' in the config.")
-        index[ours] = names.index(theirs)
-    out = {ours: np.empty(len(rows) - 1) for ours in columns}
-    for r, (lineno, line) in enumerate(rows[1:]):
-        cells = _split(line, sep)
-        if len(cells) != len(names):
-            raise InputError(f"the row has {len(cells)} fields but the header has {len(names)}.",
-                             file=path, line=lineno, fix="make every row match the header.")
-        for ours, i in index.items():
-            try:
-                out[ours][r] = float(cells[i])
-            except ValueError:
-                raise InputError(f"'{cells[i]}' in column '{columns[ours]}' is not a number.", file=path,
-                                 line=lineno, fix="remove or correct the row (write NaN for a missing value).") from None
-    return out
-
-
-def _clean(path, table, name):
-    """Drop NaN rows, then reject inf, non-positive errors, duplicated or unsorted times."""
+def _clean(path, table, cfg):
+    """Drop NaN rows, reject inf and non-positive errors, sort by time; return (table, dropped, facts)."""
+    name = cfg.name
     nan_rows = np.any([np.isnan(v) for v in table.values()], axis=0)
     good = ~nan_rows
     dropped = int(nan_rows.sum())
@@ -145,23 +108,21 @@ def _clean(path, table, name):
                          fix="check the columns chosen in 'columns:'.")
     for k, v in t.items():
         if not np.all(np.isfinite(v)):
-            raise InputError(f"column for {k} holds infinite values.", file=path, key=f"columns.{k}",
+            raise InputError(f"column for {k} holds infinite values.", file=path, key=f"{cfg.section}.columns.{k}",
                              fix="remove those rows or replace them by NaN to have them dropped.")
     bad = np.flatnonzero(t["error"] <= 0)
     if bad.size:
         raise InputError(f"{bad.size} rows have zero or negative uncertainties (first at time {t['time'][bad[0]]:.6f}).",
-                         file=path, key="columns.error",
+                         file=path, key=f"{cfg.section}.columns.error",
                          fix="give positive 1-sigma uncertainties, or remove those rows.")
-    dt = np.diff(t["time"])
-    if np.any(dt == 0):
-        i = np.flatnonzero(dt == 0)[0]
-        raise InputError(f"time {t['time'][i]:.6f} appears more than once.", file=path, key="columns.time",
-                         fix="remove duplicated rows, or average them into one.")
-    if np.any(dt < 0):
-        i = np.flatnonzero(dt < 0)[0]
-        raise InputError(f"times are not in increasing order (at {t['time'][i + 1]:.6f} after {t['time'][i]:.6f}).",
-                         file=path, key="columns.time", fix="sort the file by time.")
-    return t, dropped
+    unsorted = bool(np.any(np.diff(t["time"]) < 0))
+    if unsorted:  # published tables are often grouped by instrument or night, not sorted by time
+        order = np.argsort(t["time"], kind="stable")
+        t = {k: v[order] for k, v in t.items()}
+        log.info("%s: rows sorted by time", name)
+    # Two exposures with the same recorded mid-time are two measurements: both are kept.
+    repeated = int(np.sum(np.diff(t["time"]) == 0))
+    return t, dropped, {"sorted_by_time": unsorted, "repeated_times": repeated}
 
 
 def quality_mask(quality, keep_bits):
@@ -171,133 +132,152 @@ def quality_mask(quality, keep_bits):
     return (flags & ~keep) != 0
 
 
+def label_warning(cfg, path, label_columns, what):
+    """The warning for a table whose text column holds several labels (instruments) and no ``select`` picks one."""
+    if cfg.select or not label_columns:
+        return None
+    col, counts = next(iter(label_columns.items()))
+    listed = ", ".join(f"{value} ({n} rows)" for value, n in counts.items())
+    return (f"dataset '{cfg.name}': column '{col}' of {path.name} holds {len(counts)} different labels ({listed}) "
+            f"and no 'select' picks one, so all rows are fitted as one instrument ({what}). Fix: give one dataset "
+            f"per label, each with 'select: {{{col}: <label>}}' (several datasets may name the same file).")
+
+
+def _text_table(cfg, path, columns, what):
+    """Columns of a text table (times in full JD of the dataset's system) and a label warning or None."""
+    table = read_table(path, columns, header=cfg.header, select=cfg.select, key_prefix=f"{cfg.section}.")
+    out = dict(table.columns)
+    out["time"] = out["time"] + cfg.time_offset_days
+    return out, (table.rows_read, table.rows_kept), label_warning(cfg, path, table.label_columns, what)
+
+
+def _to_bjd(cfg, time, star):
+    """Times of a dataset's ``time_system`` in BJD_TDB."""
+    if cfg.time_system == "BJD_TDB":
+        return time
+    return to_bjd_tdb(time, cfg.time_system, getattr(star, "ra_deg", None), getattr(star, "dec_deg", None))
+
+
 def _read_light_curve(cfg, path):
-    """One file's table (times in BJD_TDB) and its count of quality-flagged rows dropped."""
+    """One file's table (full JD times), its quality-flagged rows dropped, (rows read, kept) and a warning."""
     columns = dict(cfg.columns)
     if cfg.quality_column is not None:
         columns["quality"] = cfg.quality_column
+    rows, warning = None, None
     if is_fits(path):
         if cfg.time_offset_days != 0.0:
             raise InputError("FITS light curves carry their own time reference (BJDREFI + BJDREFF); "
-                             "'time_offset_days' would shift them twice.", file=path, key="time_offset_days",
+                             "'time_offset_days' would shift them twice.", file=path, key=f"{cfg.section}.time_offset_days",
                              fix="remove 'time_offset_days' from this dataset.")
         table = read_fits_table(path, columns)
+        rows = (table["time"].size,) * 2
     else:
-        table = read_table(path, columns)
-        table["time"] = table["time"] + cfg.time_offset_days
+        table, rows, warning = _text_table(cfg, path, columns, "one flux level and one jitter")
     flagged = 0
     if "quality" in table:
         quality = np.nan_to_num(table.pop("quality"), nan=0.0)
         bad = quality_mask(quality, cfg.quality_keep_bits)
         flagged = int(bad.sum())
         table = {k: v[~bad] for k, v in table.items()}
-    return table, flagged
+    return table, flagged, rows, warning
 
 
-def load_photometry(cfg, planets=(), star=None):
-    """Read, clean and normalise one photometry dataset.
+def read_photometry(cfg, star=None):
+    """Read one photometry dataset: rows flagged or NaN dropped, times in BJD_TDB, fluxes as in the file.
 
     Parameters
     ----------
     cfg : PhotometryConfig
         Several ``files`` are concatenated in time order.
+    star : StarConfig
+        Its sky position converts HJD_UTC times.
+    """
+    parts, flagged, rows, warnings = [], 0, np.zeros(2, dtype=int), []
+    for path in cfg.files:
+        table, n, counted, warning = _read_light_curve(cfg, path)
+        parts.append(table)
+        flagged += n
+        rows += counted
+        warnings += [warning] if warning else []
+    table = {k: np.concatenate([t[k] for t in parts]) for k in parts[0]}
+    if flagged:
+        log.info("%s: dropped %d rows with quality flags set", cfg.name, flagged)
+    table, dropped, facts = _clean(cfg.file, table, cfg)
+    reading = Reading(time_system=cfg.time_system, rows_read=int(rows[0]), rows_selected=int(rows[1]),
+                      warnings=warnings, **facts)
+    time = _to_bjd(cfg, table["time"], star)
+    return Photometry(name=cfg.name, time=time, flux=table["flux"], error=table["error"],
+                      exposure_days=cfg.exposure_min / MINUTES_PER_DAY, supersample=cfg.supersample,
+                      band=cfg.band, dropped_nan=dropped, segment=cleaning.segment_labels(time, cfg.segment_gap_days),
+                      dropped_quality=flagged, reading=reading)
+
+
+def _normalise(d, cfg):
+    """Divide each segment's flux and errors by its median flux (in place); return the first segment's median."""
+    levels = [float(np.median(d.flux[seg])) for seg in cleaning.segment_slices(d.segment)]
+    if not min(levels) > 0:
+        raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
+                         key=f"{cfg.section}.columns.flux",
+                         fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
+    for seg, level in zip(cleaning.segment_slices(d.segment), levels):
+        d.flux[seg], d.error[seg] = d.flux[seg] / level, d.error[seg] / level
+    return levels[0]  # reported; every segment is normalised to its own
+
+
+def clean_photometry(d, cfg, planets=(), star=None):
+    """Normalise a dataset of :func:`read_photometry` per segment and clip it; return the cleaned dataset.
+
+    Parameters
+    ----------
+    d : Photometry
+    cfg : PhotometryConfig
     planets : list of PlanetConfig
         Their predicted transits are spared by the clipping and, with
         ``near_transits_hours``, alone kept.
     star : StarConfig
         Sets the longest transit the priors allow.
     """
-    parts, flagged = [], 0
-    for path in cfg.files:
-        table, n = _read_light_curve(cfg, path)
-        parts.append(table)
-        flagged += n
-    parts.sort(key=lambda t: np.nanmin(t["time"]) if t["time"].size else 0.0)
-    table = {k: np.concatenate([t[k] for t in parts]) for k in parts[0]}
-    if flagged:
-        log.info("%s: dropped %d rows with quality flags set", cfg.name, flagged)
-    table, dropped = _clean(cfg.file, table, cfg.name)
-    time, flux, error = table["time"], table["flux"], table["error"]
-    segment = cleaning.segment_labels(time, cfg.segment_gap_days)
-    norm = 1.0
     if cfg.normalise:
-        levels = [float(np.median(flux[seg])) for seg in cleaning.segment_slices(segment)]
-        if not min(levels) > 0:
-            raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
-                             key="columns.flux",
-                             fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
-        for seg, level in zip(cleaning.segment_slices(segment), levels):
-            flux[seg], error[seg] = flux[seg] / level, error[seg] / level
-        norm = levels[0]  # the first segment's median (reported; every segment is normalised to its own)
-    keep = np.ones(time.size, dtype=bool)
-    clipped = far = 0
+        d.normalisation = _normalise(d, cfg)
+    keep = np.ones(d.time.size, dtype=bool)
     if planets:
-        in_transit = cleaning.near_transits(time, planets, star)
-        out = cleaning.sigma_clip(time, flux, segment, in_transit, cfg.clip_sigma, cfg.clip_window_days)
-        clipped = int(out.sum())
+        in_transit = cleaning.near_transits(d.time, planets, star)
+        out = cleaning.sigma_clip(d.time, d.flux, d.segment, in_transit, cfg.clip_sigma, cfg.clip_window_days)
+        d.clipped = int(out.sum())
         keep &= ~out
         if cfg.near_transits_hours is not None:
-            near = cleaning.near_transits(time, planets, star, cfg.near_transits_hours / HOURS_PER_DAY)
-            far = int((keep & ~near).sum())
+            near = cleaning.near_transits(d.time, planets, star, cfg.near_transits_hours / HOURS_PER_DAY)
+            d.dropped_far_from_transits = int((keep & ~near).sum())
             keep &= near
-        if clipped or far:
+        if d.clipped or d.dropped_far_from_transits:
             log.info("%s: clipped %d outliers (%.1f sigma), dropped %d points far from predicted transits",
-                     cfg.name, clipped, cfg.clip_sigma, far)
+                     cfg.name, d.clipped, cfg.clip_sigma, d.dropped_far_from_transits)
         if not keep.any():
             raise InputError("no points are left near the predicted transits.", file=cfg.file,
-                             key="near_transits_hours", fix="check the ephemeris priors, or widen the window.")
-    return Photometry(name=cfg.name, time=time[keep], flux=flux[keep], error=error[keep],
-                      exposure_days=cfg.exposure_min / MINUTES_PER_DAY, supersample=cfg.supersample,
-                      band=cfg.band, dropped_nan=dropped, normalisation=norm, segment=segment[keep],
-                      dropped_quality=flagged, clipped=clipped, dropped_far_from_transits=far)
+                             key=f"{cfg.section}.near_transits_hours", fix="check the ephemeris priors, or widen the window.")
+    return dataclasses.replace(d, time=d.time[keep], flux=d.flux[keep], error=d.error[keep], segment=d.segment[keep])
 
 
-def load_velocities(cfg):
+def load_photometry(cfg, planets=(), star=None):
+    """:func:`read_photometry` then :func:`clean_photometry`."""
+    return clean_photometry(read_photometry(cfg, star), cfg, planets, star)
+
+
+def load_velocities(cfg, star=None):
     """Read one RV dataset from its :class:`~planetfit.config.VelocityConfig`.
 
     Activity indicators named in ``decorrelate`` are read as extra columns
-    and centred on their medians.
+    and centred on their medians. ``star`` gives the sky position that
+    HJD_UTC times need.
     """
     columns = dict(cfg.columns, **{f"indicator:{c}": c for c in cfg.decorrelate})
-    table, dropped = _clean(cfg.file, read_table(cfg.file, columns), cfg.name)
+    table, rows, warning = _text_table(cfg, cfg.file, columns, "one offset and one jitter")
+    table, dropped, facts = _clean(cfg.file, table, cfg)
     indicators = {c: table[f"indicator:{c}"] - np.median(table[f"indicator:{c}"]) for c in cfg.decorrelate}
-    return Velocities(name=cfg.name, time=table["time"] + cfg.time_offset_days, rv=table["rv"],
-                      error=table["error"], dropped_nan=dropped, indicators=indicators)
-
-
-def _suggest_offset(times, current):
-    mid = float(np.median(times)) - current
-    fits = [(off, what) for off, what in COMMON_OFFSETS.items()
-            if BJD_PLAUSIBLE[0] < mid + off < BJD_PLAUSIBLE[1] and 2450000 < mid + off < 2470000]
-    if fits:
-        off, what = fits[0]
-        return f"the times look like {what}: set 'time_offset_days: {off}'."
-    return "set 'time_offset_days' so that times become BJD_TDB (about 2.45-2.47 million)."
-
-
-def check_time_systems(config, datasets):
-    """Check every dataset lies in a plausible BJD_TDB range and all share an era.
-
-    Parameters
-    ----------
-    config : Config
-    datasets : list of (dataset config, Photometry or Velocities, section name)
-    """
-    for i, (cfg, data, section) in enumerate(datasets):
-        mid = float(np.median(data.time))
-        if not BJD_PLAUSIBLE[0] < mid < BJD_PLAUSIBLE[1]:
-            raise InputError(f"dataset '{cfg.name}' has times around {mid:.1f} after its offset, "
-                             "which is not a BJD_TDB of the years 1950-2100.", file=config.path,
-                             key=f"{section}.time_offset_days", line=config.lines.get(f"{section}.name"),
-                             fix=_suggest_offset(data.time, cfg.time_offset_days))
-    if len(datasets) > 1:
-        mids = [float(np.median(d.time)) for _, d, _ in datasets]
-        lo, hi = int(np.argmin(mids)), int(np.argmax(mids))
-        if mids[hi] - mids[lo] > MAX_ERA_GAP_DAYS:
-            raise InputError(f"datasets '{datasets[lo][0].name}' and '{datasets[hi][0].name}' are "
-                             f"{mids[hi] - mids[lo]:.0f} days apart, more likely different time systems than different eras.",
-                             file=config.path, key=f"{datasets[lo][2]}.time_offset_days",
-                             fix="check 'time_offset_days' of both so that all times are BJD_TDB.")
+    reading = Reading(time_system=cfg.time_system, rows_read=rows[0], rows_selected=rows[1],
+                      warnings=[warning] if warning else [], **facts)
+    return Velocities(name=cfg.name, time=_to_bjd(cfg, table["time"], star), rv=table["rv"], error=table["error"],
+                      dropped_nan=dropped, indicators=indicators, reading=reading)
 
 
 def load_all(config):
@@ -307,8 +287,10 @@ def load_all(config):
     -------
     (list of Photometry, list of Velocities)
     """
-    phot = [load_photometry(c, config.planets, config.star) for c in config.photometry]
-    rvs = [load_velocities(c) for c in config.velocities]
-    check_time_systems(config, [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
-                       + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))])
+    phot = [read_photometry(c, config.star) for c in config.photometry]
+    rvs = [load_velocities(c, config.star) for c in config.velocities]
+    # Times are checked before the cleaning, which keeps only points near transits predicted in BJD_TDB.
+    check_time_references(config, [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
+                          + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))])
+    phot = [clean_photometry(d, c, config.planets, config.star) for d, c in zip(phot, config.photometry)]
     return phot, rvs

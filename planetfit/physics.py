@@ -12,7 +12,7 @@ per sample. Constants come from :mod:`planetfit.units` (astropy).
 import numpy as np
 
 from .models.geometry import planet_mass_kg, semi_major_axis_m, transit_duration_days
-from .posterior import planet_orbit
+from .posterior import planet_orbit, prior_only_parameters
 from .units import (AU_M, G_SI, HOURS_PER_DAY, KG_M3_TO_G_CM3, M_EARTH_KG, M_JUP_KG, M_SUN_KG, R_EARTH_M,
                     R_JUP_M, R_SUN_M)
 
@@ -37,21 +37,29 @@ def derive(config, layout, samples, rng):
     -------
     dict
         ``"star"`` -> {quantity: array}, ``"planets"`` -> {name: {quantity:
-        array}}, ``"parameters"`` -> {sampled name: array}. Arrays have one
-        value per sample.
+        array}}, ``"parameters"`` -> {parameter name: array} (sampled and
+        prior-only ones), ``"prior_only"`` -> {"star": set of keys,
+        "planets": {name: set of keys}}, the quantities no data constrain.
+        Arrays have one value per sample.
     """
     n = samples.shape[0]
     values = {k: np.broadcast_to(np.asarray(v, dtype=float), (n,)).copy() for k, v in layout.values(samples).items()}
+    prior_only = {name: np.asarray(prior.sample(rng, n), dtype=float) for name, prior in prior_only_parameters(config)}
+    values.update(prior_only)
     mstar, rstar = values["star.mass_msun"], values["star.radius_rsun"]
     star = {"mass_msun": mstar, "radius_rsun": rstar,
             "density_gcc": bulk_density_gcc(mstar * M_SUN_KG, rstar * R_SUN_M),
             "teff_k": np.asarray(config.star.teff_k.sample(rng, n), dtype=float)}
+    flagged = {"star": {"teff_k"} | ({"mass_msun", "radius_rsun", "density_gcc"} if "star.mass_msun" in prior_only
+                                     else set()), "planets": {}}
     if config.star.age_gyr is not None:
         star["age_gyr"] = np.asarray(config.star.age_gyr.sample(rng, n), dtype=float)
+        flagged["star"].add("age_gyr")
     planets = {}
     for p in config.planets:
         planets[p.name] = _planet(p, values, mstar, rstar)
-    return {"star": star, "planets": planets, "parameters": values}
+        flagged["planets"][p.name] = {"inclination_deg"} if f"{p.name}.inclination_deg" in prior_only else set()
+    return {"star": star, "planets": planets, "parameters": values, "prior_only": flagged}
 
 
 def _planet(planet, values, mstar_msun, rstar_rsun):
@@ -77,9 +85,13 @@ def _planet(planet, values, mstar_msun, rstar_rsun):
             transit_duration_hr=transit_duration_days(per, a_r, k, values[f"{n}.impact"], cos_i, e, w)
             * HOURS_PER_DAY)
     else:
-        # No inclination: the mass is the minimum mass M sin i.
-        mass_kg = planet_mass_kg(k_ms, per, e, 1.0, mstar_msun * M_SUN_KG)
+        # Without an inclination prior the mass is the minimum mass M sin i.
+        incl = values.get(f"{n}.inclination_deg")
+        sin_i = 1.0 if incl is None else np.abs(np.sin(np.radians(incl)))
+        mass_kg = planet_mass_kg(k_ms, per, e, sin_i, mstar_msun * M_SUN_KG)
         a_m = semi_major_axis_m(per, mstar_msun * M_SUN_KG + mass_kg)
         out.update(semi_major_axis_au=a_m / AU_M, a_over_rstar=a_m / (rstar_rsun * R_SUN_M))
+        if incl is not None:
+            out["inclination_deg"] = incl
     out.update(mass_earth=mass_kg / M_EARTH_KG, mass_jup=mass_kg / M_JUP_KG)
     return out

@@ -17,7 +17,7 @@ import h5py
 import numpy as np
 import yaml
 
-from . import climate, context, physics
+from . import climate, context, diagnostics, physics
 from .config import load_config
 from .data import load_all
 from .errors import InputError
@@ -26,6 +26,7 @@ from .report import outputs
 from .report import summary as summary_out
 from .report.files import write_text_atomic
 from .sampling import run_sampler
+from .units import PPM
 
 log = logging.getLogger("planetfit")
 
@@ -41,6 +42,11 @@ class Checked:
     photometry: list
     velocities: list
     climate: object
+
+    @property
+    def warnings(self):
+        """Every warning of reading the data, in dataset order."""
+        return [w for d in self.photometry + self.velocities for w in d.reading.warnings]
 
 
 def check(config_path, output=None):
@@ -69,6 +75,19 @@ def check(config_path, output=None):
     return Checked(config, phot, rvs, settings)
 
 
+def _reading_text(d):
+    """How a dataset's rows were read, for the overview: selection, time system, sorting, repeats."""
+    r = d.reading
+    parts = [f"times {r.time_system}" + (" converted to BJD_TDB" if r.time_system != "BJD_TDB" else "")]
+    if r.rows_selected != r.rows_read:
+        parts.append(f"{r.rows_selected} of {r.rows_read} rows selected")
+    if r.sorted_by_time:
+        parts.append("rows sorted by time")
+    if r.repeated_times:
+        parts.append(f"{r.repeated_times} repeated time stamp(s) kept")
+    return ", ".join(parts)
+
+
 def overview(checked):
     """Rows of the data overview printed by ``planetfit check``."""
     rows = []
@@ -80,10 +99,10 @@ def overview(checked):
                      f"supersample x{d.supersample}, {counts['segments']} segment(s), "
                      f"{counts['dropped_quality']} quality-flagged rows dropped, {counts['clipped']} outliers clipped"
                      + (f", {counts['dropped_far_from_transits']} points far from transits left out"
-                        if counts["dropped_far_from_transits"] else "")))
+                        if counts["dropped_far_from_transits"] else "") + f"; {_reading_text(d)}"))
     for d in checked.velocities:
         rows.append((d.name, "velocities", d.time.size, d.dropped_nan, d.time[0], d.time[-1],
-                     f"{np.median(d.error):.2f} m/s median error, rms {np.std(d.rv):.2f} m/s"))
+                     f"{np.median(d.error):.2f} m/s median error, rms {np.std(d.rv):.2f} m/s; {_reading_text(d)}"))
     return rows
 
 
@@ -182,7 +201,9 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
     _logging_to(run_dir, quiet)
     log.info("planetfit run of %s (%s)", config.path, config.system)
     for row in overview(checked):
-        log.info("  %-18s %-10s %6d points (%d NaN rows dropped), BJD %.3f-%.3f, %s", *row)
+        log.info("  %-18s %-10s %6d points (%d NaN rows dropped), BJD_TDB %.3f-%.3f, %s", *row)
+    for warning in checked.warnings:
+        log.warning("WARNING: %s", warning)
     write_text_atomic(run_dir / "config.resolved.yaml", _resolved_config(config))
     post = JointPosterior(config, checked.photometry, checked.velocities)
     rng = np.random.default_rng(config.seed)
@@ -201,6 +222,14 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
     return run_dir
 
 
+def run_warnings(checked, layout, samples):
+    """Warnings about the posterior itself: unconstrained parameters, jitters far above the errors."""
+    jitters = [(d.name, float(np.median(d.error)) / PPM, f"{d.name}.jitter_ppm", "ppm") for d in checked.photometry]
+    jitters += [(d.name, float(np.median(d.error)), f"{d.name}.jitter_ms", "m/s") for d in checked.velocities]
+    return (diagnostics.unconstrained_warnings(layout, samples)
+            + diagnostics.jitter_warnings(layout, samples, jitters))
+
+
 def finish(run_dir, checked, samples, sampling_meta, figures=True, cores=1):
     """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
     config = checked.config
@@ -209,6 +238,10 @@ def finish(run_dir, checked, samples, sampling_meta, figures=True, cores=1):
     derived = physics.derive(config, post.layout, samples, rng)
     derived["parameter_names"] = post.layout.free
     blocks = context.add_context(config, derived, checked.climate, rng)
+    new = run_warnings(checked, post.layout, samples)
+    for warning in new:
+        log.warning("WARNING: %s", warning)
+    sampling_meta = dict(sampling_meta, warnings=checked.warnings + list(sampling_meta.get("warnings", [])) + new)
     summary = summary_out.build_summary(config, derived, blocks, sampling_meta)
     summary["data"] = {d.name: d.counts() for d in checked.photometry + checked.velocities}
     summary_out.write_summary_json(run_dir / "summary.json", summary)

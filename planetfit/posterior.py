@@ -87,9 +87,26 @@ class ParameterLayout:
         return self.to_sampler(np.column_stack([p.sample(rng, size) for p in self._free_priors]))
 
 
+def prior_only_parameters(config):
+    """(name, prior) of the parameters no likelihood term uses: drawn from their priors, never sampled.
+
+    Without a transiting planet the star's mass and radius enter no model
+    (they scale only the derived masses and sizes); a non-transiting
+    planet's inclination prior turns its minimum mass into a true mass.
+    """
+    out = []
+    if not any(p.transits for p in config.planets):
+        out += [("star.mass_msun", config.star.mass_msun), ("star.radius_rsun", config.star.radius_rsun)]
+    out += [(f"{p.name}.inclination_deg", p.inclination_deg) for p in config.planets
+            if not p.transits and p.inclination_deg is not None]
+    return out
+
+
 def build_layout(config):
-    """The parameter layout of a config (fixed and free)."""
-    entries = [("star.mass_msun", config.star.mass_msun), ("star.radius_rsun", config.star.radius_rsun)]
+    """The parameter layout of a config (fixed and free); :func:`prior_only_parameters` are left out."""
+    entries = []
+    if any(p.transits for p in config.planets):
+        entries += [("star.mass_msun", config.star.mass_msun), ("star.radius_rsun", config.star.radius_rsun)]
     for p in config.planets:
         entries += [(f"{p.name}.period_days", p.period_days), (f"{p.name}.transit_bjd", p.transit_bjd)]
         if p.transits:

@@ -34,6 +34,12 @@ class Prior:
         """Short text form for tables, e.g. ``U(0, 1)``."""
         raise NotImplementedError
 
+    @property
+    def centre(self):
+        """A central value: the middle of a bounded support, else the mean."""
+        lo, hi = self.bounds
+        return 0.5 * (lo + hi)
+
     # The sampler works in its own coordinate y; identity unless a subclass
     # has a better-conditioned one (log for scale parameters).
     def to_sampler(self, x):
@@ -169,6 +175,10 @@ class Normal(Prior):
 
     def describe(self):
         return f"N({self.mean:g}, {self.sd:g})"
+
+    @property
+    def centre(self):
+        return self.mean
 
     def as_config(self):
         return {"normal": [self.mean, self.sd]}

@@ -13,6 +13,7 @@ from scipy import optimize
 from planetfit import pipeline
 from planetfit.models.geometry import planet_mass_kg, solve_orbit
 from planetfit.models.transit import TransitLightCurve
+from planetfit.units import M_EARTH_KG, M_SUN_KG
 from synthetic import write_tiny_system as write_system
 
 
@@ -110,6 +111,28 @@ def test_rv_only_fit_reports_minimum_mass(tmp_path, no_figures):
     assert b["mass_is_minimum"] is True and b["transits"] is False
     assert "radius_earth" not in b
     assert _within_3_sigma(b["rv_amplitude_ms"], 8.0)  # the simulated K
+
+
+def test_rv_only_planet_with_an_inclination_prior_gets_its_true_mass(tmp_path):
+    config = write_system(tmp_path, photometry=False, max_steps=300, n_rv=30)
+    text = config.read_text().replace("    radius_ratio:\n      uniform:\n      - 0.005\n      - 0.1\n", "")
+    text = text.replace("    impact:\n      uniform:\n      - 0.0\n      - 1.0\n",
+                        "    transits: false\n    inclination_deg: {normal: [60.0, 0.5]}\n")
+    config.write_text(text)
+    run_dir = pipeline.run(config, quiet=True, figures=False)
+    summary = json.loads((run_dir / "summary.json").read_text())
+    b = summary["planets"]["b"]
+    assert b["mass_is_minimum"] is False
+    assert b["inclination_deg"]["prior_only"] is True
+    # source: M sin i from the mass function, so M = (M sin i) / sin i for Mp << M* (Lovis & Fischer 2010, eq. 14)
+    k, per = b["rv_amplitude_ms"]["median"], b["period_days"]["median"]
+    minimum = planet_mass_kg(k, per, 0.0, 1.0, summary["star"]["mass_msun"]["median"] * M_SUN_KG) / M_EARTH_KG
+    assert abs(b["mass_earth"]["median"] / minimum * np.sin(np.radians(60.0)) - 1) < 0.03
+    # Nothing in an RV-only fit constrains the star: it is drawn from its prior, not sampled, and says so.
+    assert not any(n.startswith("star.") for n in summary["fitted_parameters"])
+    assert all(summary["star"][k]["prior_only"] for k in ("mass_msun", "radius_rsun", "density_gcc"))
+    assert abs(summary["star"]["mass_msun"]["median"] - 0.9) < 0.01  # the prior's mean (tests/synthetic.py)
+    assert "prior only" in (run_dir / "table.tex").read_text()
 
 
 def test_transit_only_fit_reports_no_mass(tmp_path, no_figures):

@@ -5,6 +5,7 @@ import multiprocessing
 import time
 from pathlib import Path
 
+from ..posterior import prior_only_parameters
 from . import tables
 from .figures import figure_builders
 from .files import write_text_atomic
@@ -34,7 +35,8 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
         Processes drawing figures (:func:`draw_figures`).
     """
     run_dir = Path(run_dir)
-    priors = {**posterior.layout.priors, **tables.star_priors(checked.config)}
+    priors = {**posterior.layout.priors, **dict(prior_only_parameters(checked.config)),
+              **tables.star_priors(checked.config)}
     rows = tables.table_rows(summary, priors)
     write_text_atomic(run_dir / "table.tex", tables.latex_table(summary, rows))
     write_text_atomic(run_dir / "summary.md", summary_markdown(summary, rows))

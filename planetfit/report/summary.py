@@ -37,20 +37,25 @@ def build_summary(config, derived, blocks, sampling):
 
     Notes
     -----
+    Quantities that no data constrain (the star's Teff and age always, its
+    mass, radius and density without a transit) carry ``"prior_only": true``.
     Without RVs the semi-amplitude is held fixed, so no mass is measured:
     transit-only fits report ``UNMEASURED_WITHOUT_RVS`` as null with a note,
     not an upper limit (an upper limit would need a free K constrained by data).
     """
-    star = {k: stat(derived["star"][k]) for k in STAR_KEYS if k in derived["star"]}
+    flagged = derived["prior_only"]
+    star = {k: _stat(derived["star"][k], k in flagged["star"]) for k in STAR_KEYS if k in derived["star"]}
     planets = {}
     for p in config.planets:
         q = derived["planets"][p.name]
-        entry = {k: stat(q[k]) for k in PLANET_KEYS if k in q}
+        entry = {k: _stat(q[k], k in flagged["planets"][p.name]) for k in PLANET_KEYS if k in q}
         entry["transits"] = p.transits
         entry["orbit"] = p.orbit
         if not p.transits:
-            entry["mass_is_minimum"] = True
-            entry["note"] = "not transiting: mass_earth and mass_jup are minimum masses (M sin i)"
+            entry["mass_is_minimum"] = p.inclination_deg is None
+            entry["note"] = ("not transiting: mass_earth and mass_jup are minimum masses (M sin i)"
+                             if p.inclination_deg is None else
+                             "not transiting: true mass from the inclination prior (inclination_deg is prior only)")
         if not config.velocities:
             # K is held fixed without RVs: whatever mass follows from it was assumed, not measured.
             entry.update({k: None for k in UNMEASURED_WITHOUT_RVS})
@@ -60,6 +65,14 @@ def build_summary(config, derived, blocks, sampling):
     fitted = {name: stat(derived["parameters"][name]) for name in derived["parameter_names"]}
     return {"system": config.system, "star": star, "planets": planets, "fitted_parameters": fitted,
             "sampling": sampling}
+
+
+def _stat(samples, prior_only):
+    """STAT of samples, with ``"prior_only": true`` for a quantity that no data constrain."""
+    out = stat(samples)
+    if prior_only and out is not None:
+        out["prior_only"] = True
+    return out
 
 
 def _clean_json(obj):

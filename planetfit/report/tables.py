@@ -68,10 +68,16 @@ class Row:
     key: str = ""              # dotted path in summary.json ("" for fixed parameters)
 
     @property
+    def prior_only(self):
+        """Whether no data constrain the quantity (its posterior is its prior)."""
+        return bool(self.stat and self.stat.get("prior_only"))
+
+    @property
     def label(self):
         """Plain-text label, e.g. ``Limb darkening q1 (camera)``."""
         base = f"{self.quantity.label} {self.quantity.symbol_text}".rstrip()
-        return f"{base} ({self.qualifier})" if self.qualifier else base
+        base = f"{base} ({self.qualifier})" if self.qualifier else base
+        return f"{base} (prior only)" if self.prior_only else base
 
 
 def _owner_and_key(name):
@@ -106,7 +112,8 @@ def table_rows(summary, priors):
                                                         "upper": prior.value})
         return Row("", quantity, qualifier, prior, fitted[name], f"fitted_parameters.{name}")
 
-    rows += [fitted_row(f"star.{k}", q.STAR[k]) for k in _STAR_FITTED]
+    sampled_star = [k for k in _STAR_FITTED if not (summary["star"].get(k) or {}).get("prior_only")]
+    rows += [fitted_row(f"star.{k}", q.STAR[k]) for k in sampled_star]
     for pname, p in planets.items():
         rows.append(Row(f"Planet {pname}"))
         rows += [fitted_row(f"{pname}.{k}", q.planet_quantity(k, p["transits"]))
@@ -119,14 +126,16 @@ def table_rows(summary, priors):
             rows.append(fitted_row(name, q.DATASET[key], owner))
     rows += [Row("Derived parameters"), Row("Star")]
     rows += [Row("", q.STAR[k], "", priors.get(f"star.{k}"), summary["star"][k], f"star.{k}")
-             for k in _STAR_DERIVED if k in summary["star"]]
+             for k in _STAR_FITTED + _STAR_DERIVED
+             if k in summary["star"] and k not in sampled_star]
     for pname, p in planets.items():
         heading = f"Planet {pname}" + ("" if p["orbit"] == "eccentric" else " (circular orbit)")
         rows.append(Row(heading))
         for k in _PLANET_DERIVED:
             if k not in p or (p["orbit"] != "eccentric" and k in ("eccentricity", "omega_deg")):
                 continue
-            rows.append(Row("", q.planet_quantity(k, p["transits"]), "", None, p[k], f"planets.{pname}.{k}"))
+            prior = priors.get(f"{pname}.{k}") if (p[k] or {}).get("prior_only") else None
+            rows.append(Row("", q.planet_quantity(k, p["transits"]), "", prior, p[k], f"planets.{pname}.{k}"))
     return rows
 
 
@@ -153,7 +162,7 @@ def _label_tex(row, with_prior):
     qual = f" ({tex_escape(row.qualifier)})" if row.qualifier else ""
     label = f"{row.quantity.label}{qual}, {row.quantity.symbol_tex}"
     if not with_prior and row.prior is not None:
-        label += f" (prior {prior_text(row.prior, tex=True)})"
+        label += f" (prior{' only' if row.prior_only else ''} {prior_text(row.prior, tex=True)})"
     return label
 
 

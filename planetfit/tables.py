@@ -1,0 +1,176 @@
+"""Reading text tables as scientists publish them: CSV or whitespace, with or without a header.
+
+A table is CSV (comma-separated) or whitespace-separated text; lines
+starting with ``#`` are comments. With a header line the config names
+columns by their header names; without one (``header: false``) by their
+1-based position. ``select`` keeps the rows whose column equals a value,
+so one file holding several instruments feeds one dataset per instrument.
+Text columns with a few distinct values (an instrument column, typically)
+are counted, so the caller can warn when no ``select`` picks one of them.
+"""
+
+import dataclasses
+
+import numpy as np
+
+from .errors import DATA_FILE_MISSING_FIX, InputError, reading
+
+#: A text column with this many distinct values or fewer (and at least two) looks like a label column.
+MAX_LABEL_VALUES = 12
+
+
+@dataclasses.dataclass
+class Table:
+    """The columns a dataset asked for, and what the rest of the file holds.
+
+    Attributes
+    ----------
+    columns : dict
+        Our name -> float array of the kept rows (NaN kept; the caller decides).
+    label_columns : dict
+        The file's column name (or number) -> {value: row count} for text columns
+        with 2 to :data:`MAX_LABEL_VALUES` distinct values, counted over all rows.
+    rows_read, rows_kept : int
+        Data rows in the file, and those ``select`` kept.
+    """
+
+    columns: dict
+    label_columns: dict
+    rows_read: int
+    rows_kept: int
+
+
+def _split(line, sep):
+    return [c.strip().strip('"').strip("'").strip() for c in (line.split(",") if sep == "," else line.split())]
+
+
+def _is_number(text):
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def _column_index(path, names, column, key, line, header):
+    """0-based index of the file column a config names (a header name, or a 1-based number) at config ``key``."""
+    if not header:
+        if not 1 <= column <= len(names):
+            raise InputError(f"column {column} does not exist; the rows have {len(names)} fields.",
+                             file=path, line=line, key=key,
+                             fix=f"number the columns from 1 to {len(names)} (1 = the first field of a row).")
+        return column - 1
+    if column not in names:
+        raise InputError(f"no column named '{column}'; the header has: {', '.join(names)}.",
+                         file=path, line=line, key=key, fix=f"set '{key}' to one of those names in the config.")
+    return names.index(column)
+
+
+def _data_rows(path):
+    with reading(path, "data file", DATA_FILE_MISSING_FIX,
+                 "give a readable CSV or whitespace-separated text file."):
+        text = path.read_text()
+    rows = [(n + 1, ln) for n, ln in enumerate(text.splitlines()) if ln.strip() and not ln.lstrip().startswith("#")]
+    if not rows:
+        raise InputError("the file is empty.", file=path, fix="give a table with data rows.")
+    return rows
+
+
+def _header(path, rows, header):
+    """(column names or None, separator, data rows) after checking the first line fits ``header``."""
+    first_line, first = rows[0]
+    sep = "," if "," in first else None
+    cells = _split(first, sep)
+    if header and all(_is_number(c) for c in cells):
+        raise InputError("the first line holds numbers, not column names.", file=path, line=first_line,
+                         fix="set 'header: false' for this dataset and give columns by number, e.g. "
+                             "'columns: {time: 1, rv: 2, error: 3}'.")
+    if not header:
+        if not any(_is_number(c) for c in cells):
+            raise InputError(f"'header: false' is set, but the first line looks like column names ({first.strip()}).",
+                             file=path, line=first_line,
+                             fix="remove 'header: false' and name the columns by the header's names.")
+        return [str(i + 1) for i in range(len(cells))], sep, rows
+    if len(rows) < 2:
+        raise InputError("the table has a header but no data rows.", file=path, line=first_line,
+                         fix="add data rows below the header.")
+    return cells, sep, rows[1:]
+
+
+def _matches(cell, value):
+    """Whether a cell equals a select value: numbers compared as numbers, text after stripping."""
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return _is_number(cell) and float(cell) == float(value)
+    return cell == str(value).strip()
+
+
+def _label_census(names, cells_by_row):
+    """{column: {value: count}} for text columns with a few distinct values."""
+    out = {}
+    for j, name in enumerate(names):
+        values = [cells[j] for cells in cells_by_row]
+        if any(_is_number(v) for v in values):
+            continue
+        distinct = {}
+        for v in values:
+            distinct[v] = distinct.get(v, 0) + 1
+        if 2 <= len(distinct) <= MAX_LABEL_VALUES:
+            out[name] = dict(sorted(distinct.items()))
+    return out
+
+
+def read_table(path, columns, header=True, select=None, key_prefix=""):
+    """Read the named columns of a CSV or whitespace text table.
+
+    Parameters
+    ----------
+    path : Path
+    columns : dict
+        Our name -> the file's column (header name, or 1-based number when ``header`` is False).
+    header : bool
+        Whether the first non-comment line names the columns.
+    select : dict, optional
+        Column -> value: keep only the rows whose column equals the value.
+    key_prefix : str
+        The dataset's config key (``velocities[0].``), put before the keys messages name.
+
+    Returns
+    -------
+    Table
+    """
+    rows = _data_rows(path)
+    names, sep, data = _header(path, rows, header)
+    head_line = rows[0][0]
+    index = {ours: _column_index(path, names, c, f"{key_prefix}columns.{ours}", head_line, header)
+             for ours, c in columns.items()}
+    chosen = {str(c): (_column_index(path, names, c, f"{key_prefix}select.{c}", head_line, header), v)
+              for c, v in (select or {}).items()}
+    cells_by_row, kept = [], []
+    for lineno, line in data:
+        cells = _split(line, sep)
+        if len(cells) != len(names):
+            raise InputError(f"the row has {len(cells)} fields but the {'header' if header else 'first row'} "
+                             f"has {len(names)}.", file=path, line=lineno, fix="make every row have the same fields.")
+        cells_by_row.append(cells)
+        if all(_matches(cells[j], v) for j, v in chosen.values()):
+            kept.append((lineno, cells))
+    census = _label_census(names, cells_by_row)
+    for c, (j, v) in chosen.items():
+        if not any(_matches(cells[j], v) for cells in cells_by_row):
+            present = census.get(names[j])
+            holds = (", ".join(f"{k} ({n} rows)" for k, n in present.items()) if present
+                     else ", ".join(sorted({cells[j] for cells in cells_by_row})[:MAX_LABEL_VALUES]))
+            raise InputError(f"no row has '{v}' in column '{c}'; the column holds: {holds}.", file=path,
+                             key=f"{key_prefix}select.{c}", fix="give one of those values (text is compared exactly, "
+                                                    "after removing surrounding spaces and quotes).")
+    out = {ours: np.empty(len(kept)) for ours in columns}
+    for r, (lineno, cells) in enumerate(kept):
+        for ours, j in index.items():
+            try:
+                out[ours][r] = float(cells[j])
+            except ValueError:
+                raise InputError(f"'{cells[j]}' in column '{columns[ours]}' is not a number.", file=path,
+                                 line=lineno, fix="remove or correct the row (write NaN for a missing value)"
+                                                  + ("" if select else ", or keep only some rows with 'select'")
+                                                  + ".") from None
+    return Table(columns=out, label_columns=census, rows_read=len(data), rows_kept=len(kept))
