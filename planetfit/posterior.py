@@ -445,6 +445,19 @@ class JointPosterior:
         out[index] = noise.predict(resid[index], values)
         return np.split(out, np.cumsum([d.time.size for d in self.velocities])[:-1])
 
+    def activity_prediction(self, values, orbits, times):
+        """The RV activity process at ``times`` given the data: (mean, sd) per spectrograph (m/s), or None.
+
+        The shared process has unit amplitude; each spectrograph sees it times
+        its own ``activity_amplitude_ms``.
+        """
+        if self.config.rv_activity is None:
+            return None
+        index, noise = self.velocity_noise
+        mean, sd = noise.predict(self.velocity_residuals(values, orbits)[index], values, times=times, return_sd=True)
+        return [(values[f"{d.name}.activity_amplitude_ms"] * mean, values[f"{d.name}.activity_amplitude_ms"] * sd)
+                for d in self.velocities]
+
     def log_likelihood_many(self, values_list, orbits_list):
         """Gaussian log-likelihood of all datasets for each set of parameter values and their orbits."""
         total = np.zeros(len(values_list))

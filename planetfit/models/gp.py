@@ -133,16 +133,19 @@ class GaussianProcessNoise:
         """:meth:`log_likelihood` of each row of ``residuals`` with its values (one factorisation each)."""
         return np.array([self.log_likelihood(r, v) for r, v in zip(residuals, values_list)])
 
-    def predict(self, residual, values, times=None):
+    def predict(self, residual, values, times=None, return_sd=False):
         """Conditional mean of the process (data units) at ``times`` (default: the data times).
 
         At the data times, each point's group amplitude is applied; at other
-        times the unit-amplitude process is returned.
+        times the unit-amplitude process is returned. With ``return_sd`` the
+        conditional standard deviation of the process comes too.
         """
         scaled, diag, _ = self._scaled(residual, values)
         gp = GaussianProcess(self.kernel.term(values))
         gp.compute(self.times, diag=diag, quiet=True, check_sorted=False)
-        mean = gp.predict(scaled, t=times)
+        mean, var = gp.predict(scaled, t=times, return_var=True)
+        sd = np.sqrt(np.clip(var, 0.0, None))
         if self.amplitude_names is not None and times is None:
-            mean = mean * np.array([values[n] for n in self.amplitude_names])[self.groups]
-        return mean
+            amplitude = np.array([values[n] for n in self.amplitude_names])[self.groups]
+            mean, sd = mean * amplitude, sd * amplitude
+        return (mean, sd) if return_sd else mean

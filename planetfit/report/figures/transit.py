@@ -105,8 +105,19 @@ def transit_figure(posterior, view, planet, index, duration_hr):
         bottom.set_xlim(-half, half)
         exposure = d.exposure_days * MINUTES_PER_DAY
         fig.legend(*top.get_legend_handles_labels(), loc="outside upper center", ncols=2,
-                   title=f"Planet {planet.name}, {d.name} ({exposure:.0f}-min exposures)")
+                   title=f"Planet {planet.name}, {d.name} ({exposure:.0f}-min exposures)\n"
+                         f"data: {_removed(posterior, index)} removed")
     return fig
+
+
+def _removed(posterior, index):
+    """What the folded points have had subtracted or divided out."""
+    parts = ["baseline"]
+    if posterior.config.photometry[index].baseline == "gp":
+        parts.append("variability (GP mean)")
+    if len(posterior.transiting) > 1:
+        parts.append("other planets")
+    return ", ".join(parts[:-1]) + (" and " if len(parts) > 1 else "") + parts[-1]
 
 
 def _limits(ax, data, model):

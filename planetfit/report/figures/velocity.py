@@ -1,4 +1,8 @@
-"""Radial-velocity figures: each planet phase-folded, and the whole time series."""
+"""Radial-velocity figures: each planet phase-folded, and the whole time series.
+
+Every panel that shows data with signals removed names them in its
+legend title, so a reader never mistakes corrected points for raw ones.
+"""
 
 import numpy as np
 
@@ -27,6 +31,17 @@ def _corrected(posterior, view, index):
     return d, rv, posterior.velocity_model(v, view.median_orbits, index), err
 
 
+def removed_text(posterior, *extra):
+    """Legend title naming what was subtracted from the plotted RVs."""
+    parts = ["offsets", *extra]
+    if posterior.config.rv_activity is not None:
+        parts.append("activity (GP mean)")
+    if any(dec.names for dec in posterior.decorrelations):
+        parts.append("activity-indicator terms")
+    text = ", ".join(parts[:-1]) + (" and " if len(parts) > 1 else "") + parts[-1]
+    return f"data: {text} removed"
+
+
 def _instruments(ax, posterior, draw_one):
     for i, d in enumerate(posterior.velocities):
         x, y, e = draw_one(i)
@@ -34,16 +49,16 @@ def _instruments(ax, posterior, draw_one):
                     ms=3, elinewidth=0.7, label=d.name)
 
 
-def _panels(width_in, height_in):
+def _panels(width_in, height_in, rows=2):
     fig = style.new_figure(width_in, height_in)
-    top, bottom = fig.subplots(2, 1, sharex=True, height_ratios=(3, 1.2))
-    bottom.axhline(0.0, color=style.MODEL_COLOUR)
-    bottom.set_ylabel("Residual [m/s]")
-    return fig, top, bottom
+    axes = fig.subplots(rows, 1, sharex=True, height_ratios=(3,) + (2,) * (rows - 2) + (1.2,))
+    axes[-1].axhline(0.0, color=style.MODEL_COLOUR)
+    axes[-1].set_ylabel("Residual [m/s]")
+    return fig, axes
 
 
 def rv_phase_figure(posterior, view, planet):
-    """RVs folded on ``planet``'s period with offsets and the other planets removed.
+    """RVs folded on ``planet``'s period with offsets, activity and the other planets removed.
 
     Error bars include each spectrograph's median jitter. Phase 0 is the
     transit (inferior conjunction).
@@ -73,8 +88,10 @@ def rv_phase_figure(posterior, view, planet):
     median = planet_rv_ms(v, orbits[name], name, v[f"{name}.transit_bjd"] + grid * period)
     lo, hi = band([planet_rv_ms(val, orb[name], name, val[f"{name}.transit_bjd"] + grid * val[f"{name}.period_days"])
                    for val, orb in view.draws])
+    others = ["other planets"] if len(posterior.planets) > 1 else []
+    others += ["trend"] if posterior.trend is not None else []
     with style.style():
-        fig, top, bottom = _panels(style.COLUMN_WIDTH_IN, 3.3)
+        fig, (top, bottom) = _panels(style.COLUMN_WIDTH_IN, 3.4)
         top.fill_between(grid, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0, label="68% of draws")
         top.plot(grid, median, color=style.MODEL_COLOUR, label="median model")
         _instruments(top, posterior, folded)
@@ -82,26 +99,52 @@ def rv_phase_figure(posterior, view, planet):
         top.set_ylabel("Radial velocity [m/s]")
         bottom.set_xlabel("Phase (0 = conjunction)")
         bottom.set_xlim(-0.5, 0.5)
-        fig.legend(*top.get_legend_handles_labels(), loc="outside upper center", ncols=2, title=f"Planet {name}, P = {period:.4g} d")
+        fig.legend(*top.get_legend_handles_labels(), loc="outside upper center", ncols=2,
+                   title=f"Planet {name}, P = {period:.4g} d\n{removed_text(posterior, *others)}")
     return fig
 
 
-def rv_time_figure(posterior, view):
-    """All RVs against time (offsets removed) with the summed model of every planet.
-
-    Returns
-    -------
-    matplotlib.figure.Figure
-        Two axes: velocity, residuals.
-    """
-    v, orbits = view.median, view.median_orbits
+def _time_grid(posterior, view):
+    """Times of the whole RV series, the plotted range and a model grid resolving the shortest period."""
+    v = view.median
     t_all = np.concatenate([d.time for d in posterior.velocities])
     t0 = float(np.floor(t_all.min() / 100.0) * 100.0)
     span = t_all.max() - t_all.min()
     t_lo, t_hi = t_all.min() - 0.03 * span, t_all.max() + 0.03 * span
     shortest = min(v[f"{p.name}.period_days"] for p in posterior.planets)
     n = int(min(MAX_GRID_POINTS, max(GRID_POINTS, POINTS_PER_PERIOD * (t_hi - t_lo) / shortest)))
-    grid = np.linspace(t_lo, t_hi, n)
+    return t0, t_lo, t_hi, np.linspace(t_lo, t_hi, n)
+
+
+def _activity_panel(ax, posterior, view, grid, t0):
+    """RVs minus offsets, planets and trend, with the activity GP's mean and 68% band per spectrograph."""
+    v = view.median
+    prediction = posterior.activity_prediction(v, view.median_orbits, grid)
+    for i, (mean, sd) in enumerate(prediction):
+        colour = style.CYCLE[i % len(style.CYCLE)]
+        ax.fill_between(grid - t0, mean - sd, mean + sd, color=colour, alpha=0.2, lw=0)
+        ax.plot(grid - t0, mean, color=colour, lw=0.8, label=f"GP mean ± 1σ ({posterior.velocities[i].name})")
+
+    def activity(i):
+        d, rv, model, err = _corrected(posterior, view, i)
+        gp = posterior.velocity_noise_prediction(v, view.median_orbits)[i]
+        return d.time - t0, rv + gp - model, err
+
+    _instruments(ax, posterior, activity)
+    ax.set_ylabel("Activity [m/s]")
+    ax.set_title("data: offsets, planets and trend removed", loc="left", fontsize="small", pad=2)
+
+
+def rv_time_figure(posterior, view):
+    """All RVs against time with the summed model of every planet (and the activity GP, when fitted).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        Velocity, the activity panel (with ``rv_activity``), residuals.
+    """
+    v, orbits = view.median, view.median_orbits
+    t0, t_lo, t_hi, grid = _time_grid(posterior, view)
 
     def total(values, orbs):
         return posterior.trend_ms(values, grid) + sum(planet_rv_ms(values, orbs[p.name], p.name, grid)
@@ -117,15 +160,24 @@ def rv_time_figure(posterior, view):
         d, rv, model, err = _corrected(posterior, view, i)
         return d.time - t0, rv - model, err
 
+    activity = posterior.config.rv_activity is not None
     with style.style():
-        fig, top, bottom = _panels(style.PAGE_WIDTH_IN, 3.3)
+        fig, axes = _panels(style.PAGE_WIDTH_IN, 4.6 if activity else 3.3, rows=3 if activity else 2)
+        top, bottom = axes[0], axes[-1]
         top.fill_between(grid - t0, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0,
                          label="68% of draws")
-        top.plot(grid - t0, total(v, orbits), color=style.MODEL_COLOUR, lw=0.8, label="median model")
+        top.plot(grid - t0, total(v, orbits), color=style.MODEL_COLOUR, lw=0.8, label="median model (planets + trend)")
         _instruments(top, posterior, data)
+        if activity:
+            _activity_panel(axes[1], posterior, view, grid, t0)
         _instruments(bottom, posterior, residual)
         top.set_ylabel("Radial velocity [m/s]")
         bottom.set_xlabel(f"Time [BJD$_\\mathrm{{TDB}}$ $-$ {t0:.0f}]")
         bottom.set_xlim(t_lo - t0, t_hi - t0)
-        fig.legend(*top.get_legend_handles_labels(), loc="outside upper center", ncols=2 + len(posterior.velocities))
+        handles, labels = top.get_legend_handles_labels()
+        if activity:  # the activity curves, not the same instruments' points again
+            more = [(h, lab) for h, lab in zip(*axes[1].get_legend_handles_labels()) if lab.startswith("GP")]
+            handles, labels = handles + [h for h, _ in more], labels + [lab for _, lab in more]
+        fig.legend(handles, labels, loc="outside upper center", ncols=2 + len(posterior.velocities),
+                   title=removed_text(posterior) + " (top panel)" * activity)
     return fig
