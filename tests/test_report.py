@@ -251,8 +251,14 @@ def test_rv_figures_axes_labels_and_amplitude(parts):
         # source: Keplerian RV, v = K [cos(f + w) + e cos w]: peak-to-peak is exactly 2K for any e
         assert k["lower"] < (model.max() - model.min()) / 2 < k["upper"]
     fig = parts["fig"]["rv_time"]
-    assert len(fig.axes) == 2 and fig.axes[1].get_xlabel().startswith("Time [BJD")
-    assert [t.get_text() for t in fig.legends[0].get_texts()][-2:] == ["spectrograph-a", "spectrograph-b"]
+    # The demo has an activity GP: velocity, activity (the GP's prediction over the data), residuals.
+    assert len(fig.axes) == 3 and fig.axes[2].get_xlabel().startswith("Time [BJD")
+    assert fig.axes[1].get_ylabel() == "Activity [m/s]" and "planets and trend removed" in fig.axes[1].get_title("left")
+    labels = [t.get_text() for t in fig.legends[0].get_texts()]
+    assert labels[-4:] == ["spectrograph-a", "spectrograph-b", "GP mean ± 1σ (spectrograph-a)",
+                           "GP mean ± 1σ (spectrograph-b)"]
+    assert "activity (GP mean) removed" in fig.legends[0].get_title().get_text()
+    assert "activity (GP mean) removed" in parts["fig"]["rv_phase_b"].legends[0].get_title().get_text()
 
 
 def test_corner_figures_axes_and_labels(parts):
