@@ -21,6 +21,7 @@ import numpy as np
 from . import cleaning
 from .errors import DATA_FILE_MISSING_FIX, InputError, reading
 from .fits_io import is_fits, read_fits_table
+from .models import exposure
 from .units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 log = logging.getLogger("planetfit")
@@ -46,7 +47,7 @@ class Photometry:
     flux: np.ndarray
     error: np.ndarray
     exposure_days: float
-    supersample: int
+    supersample: int                # sub-exposures per exposure (planetfit.models.exposure)
     band: str
     dropped_nan: int = 0
     normalisation: float = 1.0
@@ -54,13 +55,16 @@ class Photometry:
     dropped_quality: int = 0
     clipped: int = 0
     dropped_far_from_transits: int = 0
+    integration_error_ppm: float = 0.0  # largest exposure-integration error of the sharpest transit allowed
+    exposure_warning: str = None    # set when that error exceeds a tenth of the median flux error
 
     def counts(self):
-        """Point counts of the cleaning steps (the ``data`` block of summary.json)."""
+        """Point counts of the cleaning steps and the exposure integration (the ``data`` block of summary.json)."""
         return {"points": int(self.time.size), "dropped_nan": self.dropped_nan,
                 "dropped_quality": self.dropped_quality, "clipped": self.clipped,
                 "dropped_far_from_transits": self.dropped_far_from_transits,
-                "segments": int(np.unique(self.segment).size) if self.segment is not None else 1}
+                "segments": int(np.unique(self.segment).size) if self.segment is not None else 1,
+                "supersample": self.supersample, "integration_error_ppm": self.integration_error_ppm}
 
 
 @dataclasses.dataclass
@@ -194,8 +198,20 @@ def _read_light_curve(cfg, path):
     return table, flagged
 
 
-def load_photometry(cfg, planets=(), star=None):
-    """Read, clean and normalise one photometry dataset.
+def _normalise(cfg, flux, error, segment):
+    """Divide flux and error of every segment by its median flux, in place; return the first segment's median."""
+    levels = [float(np.median(flux[seg])) for seg in cleaning.segment_slices(segment)]
+    if not min(levels) > 0:
+        raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
+                         key="columns.flux",
+                         fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
+    for seg, level in zip(cleaning.segment_slices(segment), levels):
+        flux[seg], error[seg] = flux[seg] / level, error[seg] / level
+    return levels[0]  # reported; every segment is normalised to its own median
+
+
+def load_photometry(cfg, planets=(), star=None, limb_darkening=None):
+    """Read, clean and normalise one photometry dataset; choose its sub-exposures.
 
     Parameters
     ----------
@@ -206,6 +222,8 @@ def load_photometry(cfg, planets=(), star=None):
         ``near_transits_hours``, alone kept.
     star : StarConfig
         Sets the longest transit the priors allow.
+    limb_darkening : (Prior, Prior), optional
+        The band's q1, q2 priors (those of its first dataset); ``cfg``'s by default.
     """
     parts, flagged = [], 0
     for path in cfg.files:
@@ -219,16 +237,7 @@ def load_photometry(cfg, planets=(), star=None):
     table, dropped = _clean(cfg.file, table, cfg.name)
     time, flux, error = table["time"], table["flux"], table["error"]
     segment = cleaning.segment_labels(time, cfg.segment_gap_days)
-    norm = 1.0
-    if cfg.normalise:
-        levels = [float(np.median(flux[seg])) for seg in cleaning.segment_slices(segment)]
-        if not min(levels) > 0:
-            raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
-                             key="columns.flux",
-                             fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
-        for seg, level in zip(cleaning.segment_slices(segment), levels):
-            flux[seg], error[seg] = flux[seg] / level, error[seg] / level
-        norm = levels[0]  # the first segment's median (reported; every segment is normalised to its own)
+    norm = _normalise(cfg, flux, error, segment) if cfg.normalise else 1.0
     keep = np.ones(time.size, dtype=bool)
     clipped = far = 0
     if planets:
@@ -246,10 +255,17 @@ def load_photometry(cfg, planets=(), star=None):
         if not keep.any():
             raise InputError("no points are left near the predicted transits.", file=cfg.file,
                              key="near_transits_hours", fix="check the ephemeris priors, or widen the window.")
+    q1, q2 = limb_darkening or (cfg.q1, cfg.q2)
+    exposure_days = cfg.exposure_min / MINUTES_PER_DAY
+    sampling = exposure.choose_sampling(cfg.name, exposure_days, float(np.median(error[keep])),
+                                        exposure.sharpest_transits(planets, star, q1, q2), cfg.supersample)
+    if sampling.warning:
+        log.warning(sampling.warning)
     return Photometry(name=cfg.name, time=time[keep], flux=flux[keep], error=error[keep],
-                      exposure_days=cfg.exposure_min / MINUTES_PER_DAY, supersample=cfg.supersample,
+                      exposure_days=exposure_days, supersample=sampling.supersample,
                       band=cfg.band, dropped_nan=dropped, normalisation=norm, segment=segment[keep],
-                      dropped_quality=flagged, clipped=clipped, dropped_far_from_transits=far)
+                      dropped_quality=flagged, clipped=clipped, dropped_far_from_transits=far,
+                      integration_error_ppm=sampling.error_ppm, exposure_warning=sampling.warning)
 
 
 def load_velocities(cfg):
@@ -307,7 +323,10 @@ def load_all(config):
     -------
     (list of Photometry, list of Velocities)
     """
-    phot = [load_photometry(c, config.planets, config.star) for c in config.photometry]
+    bands = {}
+    for c in config.photometry:
+        bands.setdefault(c.band, (c.q1, c.q2))  # a band's limb darkening has its first dataset's priors
+    phot = [load_photometry(c, config.planets, config.star, bands[c.band]) for c in config.photometry]
     rvs = [load_velocities(c) for c in config.velocities]
     check_time_systems(config, [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
                        + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))])
