@@ -128,6 +128,8 @@ def _cmd_check(args):
           f"{len(c.velocities)} RV dataset(s); config OK")
     for row in pipeline.overview(checked):
         print("  {:<18s} {:<10s} {:6d} points ({} NaN rows dropped), BJD_TDB {:.3f} to {:.3f}, {}".format(*row))
+    for warning in pipeline.data_warnings(checked):
+        print(f"  warning: {warning}")
     from .posterior import build_layout
     layout = build_layout(c)
     print(f"  {layout.ndim} free parameters: {', '.join(layout.free)}")

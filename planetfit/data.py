@@ -259,8 +259,6 @@ def load_photometry(cfg, planets=(), star=None, limb_darkening=None):
     exposure_days = cfg.exposure_min / MINUTES_PER_DAY
     sampling = exposure.choose_sampling(cfg.name, exposure_days, float(np.median(error[keep])),
                                         exposure.sharpest_transits(planets, star, q1, q2), cfg.supersample)
-    if sampling.warning:
-        log.warning(sampling.warning)
     return Photometry(name=cfg.name, time=time[keep], flux=flux[keep], error=error[keep],
                       exposure_days=exposure_days, supersample=sampling.supersample,
                       band=cfg.band, dropped_nan=dropped, normalisation=norm, segment=segment[keep],

@@ -88,6 +88,11 @@ def overview(checked):
     return rows
 
 
+def data_warnings(checked):
+    """Warnings about the data found while reading them (too coarse exposure integration)."""
+    return [d.exposure_warning for d in checked.photometry if d.exposure_warning]
+
+
 def _logging_to(run_dir, quiet):
     log.setLevel(logging.INFO)
     for h in list(log.handlers):
@@ -184,6 +189,8 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
     log.info("planetfit run of %s (%s)", config.path, config.system)
     for row in overview(checked):
         log.info("  %-18s %-10s %6d points (%d NaN rows dropped), BJD %.3f-%.3f, %s", *row)
+    for warning in data_warnings(checked):
+        log.warning(warning)
     write_text_atomic(run_dir / "config.resolved.yaml", _resolved_config(config))
     post = JointPosterior(config, checked.photometry, checked.velocities)
     rng = np.random.default_rng(config.seed)

@@ -9,6 +9,7 @@ import yaml
 from astropy import constants, units
 from scipy.integrate import quad_vec
 
+from planetfit.cli import main
 from planetfit.models.exposure import (ERROR_FRACTION, MAX_SUPERSAMPLE, SharpTransit, choose_sampling,
                                        sharpest_transits)
 from planetfit.models.transit import TransitLightCurve
@@ -132,7 +133,7 @@ def test_dataset_without_transits_needs_one_sub_exposure():
     assert (s.supersample, s.error_ppm, s.warning) == (1, 0.0, None)
 
 
-def test_config_sets_the_sharpest_transit_and_reports_the_choice(tmp_path):
+def test_config_sets_the_sharpest_transit_and_reports_the_choice(tmp_path, capsys):
     path = write_tiny_system(tmp_path)
     raw = yaml.safe_load(path.read_text())
     del raw["photometry"][0]["supersample"]
@@ -155,4 +156,8 @@ def test_config_sets_the_sharpest_transit_and_reports_the_choice(tmp_path):
     assert d.counts()["integration_error_ppm"] == pytest.approx(expected.error_ppm)
     assert f"{d.supersample} sub-exposure(s) per exposure" in overview(checked)[0][-1]
     # The tiny system's config asks for one sub-exposure at 10 min: too few, and said so.
-    assert "'supersample: 1' leaves" in check(write_tiny_system(tmp_path / "given")).photometry[0].exposure_warning
+    given = write_tiny_system(tmp_path / "given")
+    warning = check(given).photometry[0].exposure_warning
+    assert warning.startswith("cam: 'supersample: 1' leaves an exposure-integration error")
+    assert main(["check", str(given)]) == 0
+    assert f"  warning: {warning}\n" in capsys.readouterr().out
