@@ -34,7 +34,8 @@ def segment_slices(labels):
     return [slice(a, b) for a, b in zip(edges[:-1], edges[1:])]
 
 
-def _centre_and_half_width(prior):
+def centre_and_half_width(prior):
+    """Centre and half-width of a prior: of its bounds if finite, else mean and 3 sd (normal), else a draw and 0."""
     lo, hi = prior.bounds
     if math.isfinite(lo) and math.isfinite(hi):
         return 0.5 * (lo + hi), 0.5 * (hi - lo)
@@ -64,13 +65,13 @@ def near_transits(times, planets, star, half_width_days=None):
     of the period times the number of orbits from the reference transit.
     """
     mask = np.zeros(times.size, dtype=bool)
-    mass, _ = _centre_and_half_width(star.mass_msun)
-    radius, _ = _centre_and_half_width(star.radius_rsun)
+    mass, _ = centre_and_half_width(star.mass_msun)
+    radius, _ = centre_and_half_width(star.radius_rsun)
     for p in planets:
         if not p.transits:
             continue
-        period, dp = _centre_and_half_width(p.period_days)
-        t0, dt0 = _centre_and_half_width(p.transit_bjd)
+        period, dp = centre_and_half_width(p.period_days)
+        t0, dt0 = centre_and_half_width(p.transit_bjd)
         half = half_width_days
         if half is None:
             a_r = float(solve_orbit(period, 0.0, 0.0, 0.0, math.pi / 2, mass, radius)[0])

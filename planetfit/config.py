@@ -69,7 +69,7 @@ class PhotometryConfig:
     columns: dict
     time_offset_days: float
     exposure_min: float
-    supersample: int
+    supersample: int                # None: chosen from the data (planetfit.models.exposure)
     limb_darkening: str
     band: str
     q1: object
@@ -515,7 +515,6 @@ def _check_photometry(ctx, i, data, seen):
     s = _Section(ctx, data, key)
     name = _dataset_name(s, key, seen, ctx)
     exposure = s.number("exposure_min", required=True, positive=True)
-    default_ss = max(1, math.ceil(exposure / 2.0 - 1e-9))  # sub-exposures of at most 2 min
     files = s.paths("file")
     reading = _check_reading(ctx, s, key, ("time", "flux", "error"))
     header = reading["header"]
@@ -529,7 +528,7 @@ def _check_photometry(ctx, i, data, seen):
         **reading,
         time_offset_days=s.number("time_offset_days", default=0.0),
         exposure_min=exposure,
-        supersample=s.number("supersample", default=default_ss, integer=True, positive=True),
+        supersample=s.number("supersample", integer=True, positive=True),  # None: chosen when the data are read
         limb_darkening=s.text("limb_darkening", default="quadratic", choices=LIMB_DARKENING_LAWS),
         band=s.text("band", default=name),
         q1=s.prior("limb_darkening_q1", default=Uniform(0, 1)),

@@ -26,6 +26,7 @@ from .errors import InputError
 from .fits_io import is_fits, read_fits_table
 from .tables import read_table
 from .timesystems import check_time_references, to_bjd_tdb
+from .models import exposure
 from .units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 log = logging.getLogger("planetfit")
@@ -58,7 +59,7 @@ class Photometry:
     flux: np.ndarray
     error: np.ndarray
     exposure_days: float
-    supersample: int
+    supersample: int                # sub-exposures per exposure (planetfit.models.exposure)
     band: str
     dropped_nan: int = 0
     normalisation: float = 1.0
@@ -67,13 +68,15 @@ class Photometry:
     clipped: int = 0
     dropped_far_from_transits: int = 0
     reading: Reading = dataclasses.field(default_factory=Reading)
+    integration_error_ppm: float = 0.0  # largest exposure-integration error of the sharpest transit allowed
 
     def counts(self):
-        """Point counts of the cleaning steps (the ``data`` block of summary.json)."""
+        """Point counts of the cleaning steps and the exposure integration (the ``data`` block of summary.json)."""
         return {"points": int(self.time.size), "dropped_nan": self.dropped_nan,
                 "dropped_quality": self.dropped_quality, "clipped": self.clipped,
                 "dropped_far_from_transits": self.dropped_far_from_transits,
                 "segments": int(np.unique(self.segment).size) if self.segment is not None else 1,
+                "supersample": self.supersample, "integration_error_ppm": self.integration_error_ppm,
                 **self.reading.counts()}
 
 
@@ -224,7 +227,7 @@ def _normalise(d, cfg):
     return levels[0]  # reported; every segment is normalised to its own
 
 
-def clean_photometry(d, cfg, planets=(), star=None):
+def clean_photometry(d, cfg, planets=(), star=None, limb_darkening=None):
     """Normalise a dataset of :func:`read_photometry` per segment and clip it; return the cleaned dataset.
 
     Parameters
@@ -236,6 +239,8 @@ def clean_photometry(d, cfg, planets=(), star=None):
         ``near_transits_hours``, alone kept.
     star : StarConfig
         Sets the longest transit the priors allow.
+    limb_darkening : (Prior, Prior), optional
+        The band's q1, q2 priors (those of its first dataset); ``cfg``'s by default.
     """
     if cfg.normalise:
         d.normalisation = _normalise(d, cfg)
@@ -255,12 +260,18 @@ def clean_photometry(d, cfg, planets=(), star=None):
         if not keep.any():
             raise InputError("no points are left near the predicted transits.", file=cfg.file,
                              key=f"{cfg.section}.near_transits_hours", fix="check the ephemeris priors, or widen the window.")
-    return dataclasses.replace(d, time=d.time[keep], flux=d.flux[keep], error=d.error[keep], segment=d.segment[keep])
+    q1, q2 = limb_darkening or (cfg.q1, cfg.q2)
+    sampling = exposure.choose_sampling(cfg.name, d.exposure_days, float(np.median(d.error[keep])),
+                                        exposure.sharpest_transits(planets, star, q1, q2), cfg.supersample)
+    if sampling.warning:
+        d.reading.warnings.append(sampling.warning)
+    return dataclasses.replace(d, time=d.time[keep], flux=d.flux[keep], error=d.error[keep], segment=d.segment[keep],
+                               supersample=sampling.supersample, integration_error_ppm=sampling.error_ppm)
 
 
-def load_photometry(cfg, planets=(), star=None):
+def load_photometry(cfg, planets=(), star=None, limb_darkening=None):
     """:func:`read_photometry` then :func:`clean_photometry`."""
-    return clean_photometry(read_photometry(cfg, star), cfg, planets, star)
+    return clean_photometry(read_photometry(cfg, star), cfg, planets, star, limb_darkening)
 
 
 def load_velocities(cfg, star=None):
@@ -287,10 +298,13 @@ def load_all(config):
     -------
     (list of Photometry, list of Velocities)
     """
+    bands = {}
+    for c in config.photometry:
+        bands.setdefault(c.band, (c.q1, c.q2))  # a band's limb darkening has its first dataset's priors
     phot = [read_photometry(c, config.star) for c in config.photometry]
     rvs = [load_velocities(c, config.star) for c in config.velocities]
     # Times are checked before the cleaning, which keeps only points near transits predicted in BJD_TDB.
     check_time_references(config, [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
                           + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))])
-    phot = [clean_photometry(d, c, config.planets, config.star) for d, c in zip(phot, config.photometry)]
+    phot = [clean_photometry(d, c, config.planets, config.star, bands[c.band]) for d, c in zip(phot, config.photometry)]
     return phot, rvs

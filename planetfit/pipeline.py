@@ -96,7 +96,8 @@ def overview(checked):
         counts = d.counts()
         rows.append((d.name, "photometry", d.time.size, d.dropped_nan, d.time[0], d.time[-1],
                      f"{cadence:.1f} min cadence, {np.median(d.error) * 1e6:.0f} ppm median error, "
-                     f"supersample x{d.supersample}, {counts['segments']} segment(s), "
+                     f"{d.supersample} sub-exposure(s) per exposure (integration error <= "
+                     f"{d.integration_error_ppm:.1f} ppm), {counts['segments']} segment(s), "
                      f"{counts['dropped_quality']} quality-flagged rows dropped, {counts['clipped']} outliers clipped"
                      + (f", {counts['dropped_far_from_transits']} points far from transits left out"
                         if counts["dropped_far_from_transits"] else "") + f"; {_reading_text(d)}"))

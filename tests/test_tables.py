@@ -59,7 +59,7 @@ def test_one_dataset_per_instrument_from_one_file(system):
     assert harps.time.size == 12 and coralie.time.size == 8
     assert np.allclose(np.sort(harps.rv), np.sort([v for _, v, _, i in rows if i == "HARPS"]))
     assert harps.reading.rows_read == 20 and harps.reading.rows_selected == 12
-    assert checked.warnings == []
+    assert not [w for w in checked.warnings if "labels" in w]
 
 
 def test_a_file_of_several_instruments_without_select_is_warned_about(system, capsys):
@@ -67,7 +67,7 @@ def test_a_file_of_several_instruments_without_select_is_warned_about(system, ca
     _two_instrument_file(folder)
     raw["velocities"][0].update(file="all_rv.txt", columns={"time": "time", "rv": "rv", "error": "err"})
     checked = _check(folder, raw)
-    (warning,) = checked.warnings
+    (warning,) = [w for w in checked.warnings if "labels" in w]
     for text in ("column 'inst'", "CORALIE (8 rows)", "HARPS (12 rows)", "select: {inst: <label>}"):
         assert text in warning
     # Grouped by instrument, the rows are out of time order: sorted, not refused.

@@ -5,10 +5,13 @@ quadratic limb darkening. We call its two compiled kernels directly -- the
 sky-projected separation and the quadratic-law flux -- on the points inside
 a window around each predicted transit, so a model costs time in proportion
 to the in-transit points, not the whole light curve. Outside the window the
-flux is exactly 1. Long exposures are integrated by supersampling: each
-exposure is averaged over ``supersample`` sub-exposures spread evenly over
-it (Kipping 2010, MNRAS 408, 1758), the grid of offsets built once per
-dataset.
+flux is exactly 1. Long exposures are integrated by supersampling (Kipping
+2010, MNRAS 408, 1758): each exposure is averaged over ``supersample``
+sub-exposures at the centres of equal slices of it -- the composite midpoint
+rule, whose error falls as 1 / supersample^2 (an equal-weight average that
+includes the exposure's end points falls only as 1 / supersample) -- the
+grid of offsets built once per dataset. How many sub-exposures a dataset
+needs is decided by :mod:`planetfit.models.exposure`.
 """
 
 import math
@@ -20,6 +23,11 @@ from batman import _quadratic_ld, _rsky
 _PRIMARY = 1
 #: Safety margin on the half-window beyond half the longest possible duration.
 WINDOW_MARGIN = 1.25
+
+
+def midpoint_offsets(exposure_days, n):
+    """Offsets from mid-exposure of the centres of ``n`` equal slices of the exposure (composite midpoint rule)."""
+    return exposure_days * ((np.arange(n) + 0.5) / n - 0.5)
 
 
 def quadratic_coefficients(q1, q2):
@@ -38,17 +46,14 @@ class TransitLightCurve:
     exposure_days : float
         Exposure length; used when ``supersample > 1``.
     supersample : int
-        Sub-exposures per exposure (1: no integration).
+        Sub-exposures per exposure, at the centres of equal slices
+        (1: the flux at mid-exposure).
     """
 
     def __init__(self, times_bjd, exposure_days, supersample):
         self.times = np.ascontiguousarray(times_bjd, dtype=float)
         self.supersample = int(supersample)
-        if self.supersample > 1:
-            # Sub-exposure centres, as in batman's own TransitModel.
-            self.offsets = np.linspace(-exposure_days / 2, exposure_days / 2, self.supersample)
-        else:
-            self.offsets = np.zeros(1)
+        self.offsets = midpoint_offsets(exposure_days, self.supersample)
         self.pad_days = exposure_days / 2
 
     def window(self, period_days, transit_bjd, half_width_days):
