@@ -74,9 +74,9 @@ def simulate_system(seed, folder, steps):
         The loaded config, the posterior of the simulated data, and the
         true parameter values and orbits.
     """
-    from planetfit.config import load_config
-    from planetfit.data import load_all
-    from planetfit.posterior import JointPosterior
+    from planetfit.inputs.oldconfig import load_config
+    from planetfit.inputs.datasets import load_all
+    from planetfit.fitting.posterior import JointPosterior
 
     rng = np.random.default_rng(seed)
     folder = Path(folder)
@@ -103,9 +103,9 @@ def simulate_system(seed, folder, steps):
 def fit_one(args):
     """Draw one system from the prior, simulate data, fit it; return truth and posterior intervals."""
     seed, steps = args
-    from planetfit import physics
-    from planetfit.sampling import run_sampler
-    from planetfit.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
+    from planetfit.context import derived as physics
+    from planetfit.fitting.sampling import run_sampler
+    from planetfit.core.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
 
     with tempfile.TemporaryDirectory() as tmp:
         config, post, values, orbits = simulate_system(seed, tmp, steps)

@@ -23,9 +23,9 @@ import yaml
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
-from planetfit import pipeline  # noqa: E402
+from planetfit import pipeline
 from planetfit.demo.generate import quasi_periodic, sector_times  # noqa: E402
-from planetfit.units import PPM  # noqa: E402
+from planetfit.core.units import PPM  # noqa: E402
 from synthetic import STAR, light_curve, planet_truth  # noqa: E402
 
 PLANET = planet_truth(5.3, 2460001.7, 0.0, radius_ratio=0.03, impact=0.2)

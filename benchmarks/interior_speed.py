@@ -7,7 +7,7 @@ import time
 
 import numpy as np
 
-from planetfit.interior import composition, quick_verdict, reference_radius_earth, solve_structure
+from planetfit.context.interior import composition, quick_verdict, reference_radius_earth, solve_structure
 
 
 def classify_speed(n=100_000):

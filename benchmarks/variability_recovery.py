@@ -22,7 +22,7 @@ import emcee
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
-from planetfit import pipeline  # noqa: E402
+from planetfit import pipeline
 from variability import TRANSITING, write_spotted_star  # noqa: E402
 
 

@@ -19,7 +19,7 @@ import time
 import traceback
 from pathlib import Path
 
-from .errors import InputError
+from planetfit.core.errors import InputError
 
 STATUS_OK, STATUS_INPUT, STATUS_INTERNAL = "ok", "input error", "internal error"
 QUANTITIES = ("mass_earth", "radius_earth", "density_gcc")
@@ -67,7 +67,7 @@ def fit_system(config_path, output=None, figures=False, force=False):
     list of dict
         Rows of ``batch_summary.csv`` (keys of :data:`COLUMNS`).
     """
-    from . import pipeline
+    from planetfit import pipeline
     start = time.perf_counter()
     base = {"config": str(config_path)}
     try:

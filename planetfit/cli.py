@@ -12,7 +12,7 @@ import sys
 import traceback
 from pathlib import Path
 
-from .errors import InputError
+from planetfit.core.errors import InputError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
 #: Seconds between repeated KeyboardInterrupts after Ctrl-C or SIGTERM, until the run has stopped.
@@ -94,7 +94,7 @@ def _print_summary(run_dir):
 
 
 def _cmd_run(args, config):
-    from . import pipeline
+    from planetfit import pipeline
     if args.cores < 1:
         raise InputError(f"--cores must be at least 1, got {args.cores}.", fix="use e.g. --cores 2.")
     run_dir = pipeline.run(config, output=args.out, resume=args.resume, force=args.force, cores=args.cores,
@@ -104,7 +104,7 @@ def _cmd_run(args, config):
 
 def _cmd_batch(args):
     """Exit code: 0 if every system succeeded, else 2 (a bad input) or 1 (an internal failure)."""
-    from .batch import STATUS_INPUT, STATUS_OK, run_batch
+    from planetfit.batch import STATUS_INPUT, STATUS_OK, run_batch
 
     def show(rows):
         r = rows[0]
@@ -121,14 +121,14 @@ def _cmd_batch(args):
 
 
 def _cmd_check(args):
-    from . import pipeline
+    from planetfit import pipeline
     checked = pipeline.check(args.config)
     c = checked.config
     print(f"{c.system}: {len(c.planets)} planet(s), {len(c.photometry)} photometric and "
           f"{len(c.velocities)} RV dataset(s); config OK")
     for row in pipeline.overview(checked):
         print("  {:<18s} {:<10s} {:6d} points ({} NaN rows dropped), BJD_TDB {:.3f} to {:.3f}, {}".format(*row))
-    from .posterior import build_layout
+    from planetfit.fitting.posterior import build_layout
     layout = build_layout(c)
     print(f"  {layout.ndim} free parameters: {', '.join(layout.free)}")
     for warning in checked.warnings:
@@ -136,7 +136,7 @@ def _cmd_check(args):
 
 
 def _cmd_interior(args):
-    from .interior import quick_verdict
+    from planetfit.context.interior import quick_verdict
     for name, (value, sig) in (("--mass", args.mass), ("--radius", args.radius)):
         if not value > 0 or not sig >= 0:
             raise InputError(f"{name} needs a positive value and a non-negative uncertainty, got {value} {sig}.",
@@ -153,7 +153,7 @@ def _cmd_interior(args):
 
 
 def _cmd_climate(args):
-    from .climate import quick_climate
+    from planetfit.context.climate import quick_climate
     try:
         result = quick_climate(args.teff, args.radius_rsun, args.a_au, albedo=args.albedo, tau=args.tau)
     except ValueError as exc:
@@ -215,7 +215,7 @@ def main(argv=None):
         if args.command == "run":
             _cmd_run(args, args.config)
         elif args.command == "demo":
-            from .demo import DEMO_CONFIG
+            from planetfit.demo import DEMO_CONFIG
             if args.out is None:
                 args.out = "planetfit-demo"
             _cmd_run(args, DEMO_CONFIG)
@@ -224,7 +224,7 @@ def main(argv=None):
         elif args.command == "check":
             _cmd_check(args)
         elif args.command == "redraw":
-            from . import pipeline
+            from planetfit import pipeline
             pipeline.redraw(args.rundir, cores=args.cores)
             print(f"figures and tables rebuilt in {args.rundir}")
         elif args.command == "interior":

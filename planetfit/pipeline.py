@@ -17,16 +17,16 @@ import h5py
 import numpy as np
 import yaml
 
-from . import climate, context, diagnostics, physics
-from .config import load_config
-from .data import load_all
-from .errors import InputError
-from .posterior import JointPosterior, build_layout
-from .report import outputs
-from .report import summary as summary_out
-from .report.files import write_text_atomic
-from .sampling import run_sampler
-from .units import PPM
+from planetfit.context import climate, blocks as context, diagnostics, derived as physics
+from planetfit.inputs.oldconfig import load_config
+from planetfit.inputs.datasets import load_all
+from planetfit.core.errors import InputError
+from planetfit.fitting.posterior import JointPosterior, build_layout
+from planetfit.report import outputs
+from planetfit.report import summary as summary_out
+from planetfit.report.files import write_text_atomic
+from planetfit.fitting.sampling import run_sampler
+from planetfit.core.units import PPM
 
 log = logging.getLogger("planetfit")
 

@@ -16,8 +16,8 @@ import numpy as np
 import yaml
 from radvel import kepler, orbit
 
-from planetfit.models.geometry import solve_orbit
-from planetfit.units import M_EARTH_KG, MINUTES_PER_DAY, R_EARTH_M, R_SUN_M, SECONDS_PER_DAY
+from planetfit.core.geometry import solve_orbit
+from planetfit.core.units import M_EARTH_KG, MINUTES_PER_DAY, R_EARTH_M, R_SUN_M, SECONDS_PER_DAY
 
 STAR = {"mass_msun": 0.92, "radius_rsun": 0.88}
 BTJD = 2457000.0
@@ -203,7 +203,7 @@ def write_tiny_system(folder, truth=TINY_TRUTH, seed=1, n_phot=400, n_rv=20, noi
 def tiny_posterior(folder, **photometry):
     """The posterior of the tiny system written into ``folder``, its photometry entry updated with ``photometry``."""
     from planetfit.pipeline import check
-    from planetfit.posterior import JointPosterior
+    from planetfit.fitting.posterior import JointPosterior
     path = write_tiny_system(folder)
     raw = yaml.safe_load(path.read_text())
     raw["photometry"][0].update(photometry)

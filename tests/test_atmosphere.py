@@ -1,10 +1,10 @@
-"""Tests of planetfit.atmosphere against hand computations and physical laws."""
+"""Tests of planetfit.context.atmosphere against hand computations and physical laws."""
 
 import numpy as np
 import pytest
 from scipy.integrate import quad
 
-from planetfit.atmosphere import (
+from planetfit.context.atmosphere import (
     atmosphere_block,
     esm,
     planck_radiance,
@@ -14,7 +14,7 @@ from planetfit.atmosphere import (
     tsm,
     tsm_threshold,
 )
-from planetfit.units import (
+from planetfit.core.units import (
     C_SI,
     G_SI,
     H_SI,

@@ -9,9 +9,9 @@ import pytest
 
 from planetfit.batch import COLUMNS, run_batch, run_directories
 from planetfit.cli import EXIT_INPUT, main
-from planetfit.errors import InputError
-from planetfit.models.geometry import solve_orbit
-from planetfit.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
+from planetfit.core.errors import InputError
+from planetfit.core.geometry import solve_orbit
+from planetfit.core.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
 from synthetic import TINY_TRUTH as TRUTH, write_tiny_system as write_system
 
 pytest.importorskip("distributed")

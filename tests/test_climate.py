@@ -1,11 +1,11 @@
-"""Tests of planetfit.climate against Solar System values and published limits."""
+"""Tests of planetfit.context.climate against Solar System values and published limits."""
 
 import json
 
 import numpy as np
 import pytest
 
-from planetfit.climate import (
+from planetfit.context.climate import (
     ClimateSettings,
     climate_block,
     equilibrium_temp_k,
@@ -15,7 +15,7 @@ from planetfit.climate import (
     quick_climate,
     surface_temp_k,
 )
-from planetfit.units import S_EARTH_W_M2, T_EFF_SUN_K
+from planetfit.core.units import S_EARTH_W_M2, T_EFF_SUN_K
 
 SUN_RADIUS_RSUN = 1.0  # nominal solar radius, IAU 2015 Resolution B3
 

@@ -11,9 +11,9 @@ from radvel import kepler
 from scipy import optimize
 
 from planetfit import pipeline
-from planetfit.models.geometry import planet_mass_kg, solve_orbit
-from planetfit.models.transit import TransitLightCurve
-from planetfit.units import M_EARTH_KG, M_SUN_KG
+from planetfit.core.geometry import planet_mass_kg, solve_orbit
+from planetfit.fitting.models.transit import TransitLightCurve
+from planetfit.core.units import M_EARTH_KG, M_SUN_KG
 from synthetic import write_tiny_system as write_system
 
 

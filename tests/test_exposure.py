@@ -10,11 +10,11 @@ from astropy import constants, units
 from scipy.integrate import quad_vec
 
 from planetfit.cli import main
-from planetfit.models.exposure import (ERROR_FRACTION, MAX_SUPERSAMPLE, SharpTransit, choose_sampling,
+from planetfit.fitting.models.exposure import (ERROR_FRACTION, MAX_SUPERSAMPLE, SharpTransit, choose_sampling,
                                        sharpest_transits)
-from planetfit.models.transit import TransitLightCurve
+from planetfit.fitting.models.transit import TransitLightCurve
 from planetfit.pipeline import check, overview
-from planetfit.units import MINUTES_PER_DAY
+from planetfit.core.units import MINUTES_PER_DAY
 from synthetic import exposure_average, write_tiny_system
 
 # A close-in giant: k = 0.1, P = 3 d around a 1.0 Msun, 1.1 Rsun star (a/R* = 7.98), central transit.

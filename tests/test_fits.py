@@ -8,10 +8,10 @@ import yaml
 from astropy.io import fits
 
 from planetfit import pipeline
-from planetfit.cleaning import near_transits
-from planetfit.config import load_config
-from planetfit.data import load_photometry, quality_mask
-from planetfit.errors import InputError
+from planetfit.inputs.cleaning import near_transits
+from planetfit.inputs.oldconfig import load_config
+from planetfit.inputs.datasets import load_photometry, quality_mask
+from planetfit.core.errors import InputError
 from synthetic import TINY_TRUTH as TRUTH, tiny_light_curve as light_curve, write_tiny_system as write_system
 
 BJDREFI, BJDREFF = 2457000, 0.25

@@ -10,9 +10,9 @@ import yaml
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from planetfit import data
-from planetfit.config import load_config
-from planetfit.errors import InputError
+from planetfit.inputs import datasets as data
+from planetfit.inputs.oldconfig import load_config
+from planetfit.core.errors import InputError
 
 FUZZ = settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 

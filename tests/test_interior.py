@@ -6,10 +6,10 @@ import json
 import numpy as np
 import pytest
 
-from planetfit.interior import (REFERENCE_CURVES, composition, load_grid, quick_verdict,
+from planetfit.context.interior import (REFERENCE_CURVES, composition, load_grid, quick_verdict,
                                 reference_curve, reference_radius_earth, solve_structure)
-from planetfit.interior.eos import IRON, IRON_EPSILON, PEROVSKITE, SILICATE, WATER
-from planetfit.units import KG_M3_TO_G_CM3
+from planetfit.context.interior.eos import IRON, IRON_EPSILON, PEROVSKITE, SILICATE, WATER
+from planetfit.core.units import KG_M3_TO_G_CM3
 
 # Solar-system bodies, 2 % mass and 1 % radius uncertainty for the samples.
 # source: NASA Planetary Fact Sheet (Williams, NSSDCA): Venus 0.815 M_E, 0.950 R_E (volumetric

@@ -7,9 +7,9 @@ import numpy as np
 import pytest
 from radvel import kepler
 
-from planetfit.models.geometry import solve_orbit, transit_duration_days
-from planetfit.models.keplerian import periastron_bjd, radial_velocity_ms
-from planetfit.models.transit import TransitLightCurve, quadratic_coefficients
+from planetfit.core.geometry import solve_orbit, transit_duration_days
+from planetfit.fitting.models.keplerian import periastron_bjd, radial_velocity_ms
+from planetfit.fitting.models.transit import TransitLightCurve, quadratic_coefficients
 
 
 def test_kepler_equation_meeus_example_30a():

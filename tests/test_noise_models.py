@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from planetfit.models.gp import GaussianProcessNoise, Matern32Kernel, RotationKernel, SHOKernel
-from planetfit.models.noise import WhiteNoise
+from planetfit.fitting.models.gp import GaussianProcessNoise, Matern32Kernel, RotationKernel, SHOKernel
+from planetfit.fitting.models.noise import WhiteNoise
 
 
 def sho_covariance(tau, sigma, rho, q):

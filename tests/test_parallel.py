@@ -7,7 +7,8 @@ import emcee
 import numpy as np
 import pytest
 
-from planetfit import pipeline, sampling
+from planetfit import pipeline
+from planetfit.fitting import sampling
 from synthetic import write_tiny_system as write_system
 
 QUANTITIES = ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms", "mass_earth", "radius_earth")

@@ -7,7 +7,7 @@ import yaml
 from scipy import stats
 
 from planetfit.pipeline import check
-from planetfit.posterior import JointPosterior
+from planetfit.fitting.posterior import JointPosterior
 from synthetic import tiny_posterior, write_tiny_system
 
 

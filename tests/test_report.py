@@ -97,7 +97,7 @@ def test_rounding_rule_worked_cases(value, plus, minus, expected):
 
 
 def test_prior_text_keeps_every_digit():
-    from planetfit.priors import Fixed, TruncNormal, Uniform
+    from planetfit.inputs.priors import Fixed, TruncNormal, Uniform
     assert tables.prior_text(Uniform(2460003.35, 2460003.48)) == "U(2460003.35, 2460003.48)"
     assert tables.prior_text(TruncNormal(0.45, 0.1, 0, 1), tex=True) == r"$\mathcal{N}(0.45, 0.1)$ on $[0, 1]$"
     assert tables.prior_text(Fixed(0.0)) == "fixed"

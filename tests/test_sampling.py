@@ -9,7 +9,7 @@ drift of the walkers' moments within a few dozen steps.
 import emcee
 import numpy as np
 
-from planetfit.sampling import walker_moves
+from planetfit.fitting.sampling import walker_moves
 
 # Six parameters on scales from 1e-3 to 1, like a transit + RV fit. In scaled
 # units y = x / SCALE: y0 ~ N(0, 1); y1 | y0 ~ N(y0^2, 0.3^2) (a curved

@@ -14,7 +14,7 @@ from astropy.coordinates import EarthLocation, SkyCoord
 from astropy.time import Time
 
 from planetfit import pipeline
-from planetfit.errors import InputError
+from planetfit.core.errors import InputError
 from synthetic import write_tiny_system
 
 RA_DEG, DEC_DEG = 201.3, -23.7  # an invented star's position

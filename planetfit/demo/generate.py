@@ -19,8 +19,8 @@ import numpy as np
 from radvel import kepler, orbit
 from scipy.interpolate import CubicSpline
 
-from ..models.geometry import solve_orbit
-from ..units import M_EARTH_KG, MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M
+from planetfit.core.geometry import solve_orbit
+from planetfit.core.units import M_EARTH_KG, MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M
 
 SEED = 20261201
 BTJD_OFFSET = 2457000.0

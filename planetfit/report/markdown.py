@@ -1,7 +1,7 @@
 """summary.md: the parameter table of table.tex as Markdown, plus the run's context in words."""
 
-from .rounding import number_text, value_text
-from .tables import NOTE_TEXT, prior_text
+from planetfit.report.rounding import number_text, value_text
+from planetfit.report.tables import NOTE_TEXT, prior_text
 
 _HEADER = ["| Parameter | Prior | Value | Unit | summary.json key |", "|---|---|---|---|---|"]
 

@@ -5,12 +5,12 @@ import multiprocessing
 import time
 from pathlib import Path
 
-from ..posterior import prior_only_parameters
-from . import tables
-from .figures import figure_builders
-from .files import write_text_atomic
-from .markdown import summary_markdown
-from .style import save_figure
+from planetfit.fitting.posterior import prior_only_parameters
+from planetfit.report import tables
+from planetfit.report.figures import figure_builders
+from planetfit.report.files import write_text_atomic
+from planetfit.report.markdown import summary_markdown
+from planetfit.report.style import save_figure
 
 log = logging.getLogger("planetfit")
 
@@ -26,7 +26,7 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
     samples : ndarray, shape (n, ndim)
         Flat posterior samples (burn-in discarded, thinned).
     derived : dict
-        :func:`planetfit.physics.derive` output after context.
+        :func:`planetfit.context.derived.derive` output after context.
     summary : dict
         summary.json content.
     figures : bool

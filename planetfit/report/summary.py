@@ -9,8 +9,8 @@ import json
 
 import numpy as np
 
-from ..stats import stat
-from .files import write_text_atomic
+from planetfit.core.stats import stat
+from planetfit.report.files import write_text_atomic
 
 STAR_KEYS = ("mass_msun", "radius_rsun", "density_gcc", "teff_k", "age_gyr")
 PLANET_KEYS = ("period_days", "transit_bjd", "radius_ratio", "impact", "inclination_deg", "a_over_rstar",
@@ -29,9 +29,9 @@ def build_summary(config, derived, blocks, sampling):
     ----------
     config : Config
     derived : dict
-        Output of :func:`planetfit.physics.derive` after context.
+        Output of :func:`planetfit.context.derived.derive` after context.
     blocks : dict
-        Output of :func:`planetfit.context.add_context`.
+        Output of :func:`planetfit.context.blocks.add_context`.
     sampling : dict
         ``SamplingResult.summary()`` plus run facts.
 

@@ -6,8 +6,8 @@ Numbers follow the rounding rule of :mod:`planetfit.report.rounding`.
 
 import dataclasses
 
-from . import quantities as q
-from .rounding import number_text, value_tex
+from planetfit.report import quantities as q
+from planetfit.report.rounding import number_text, value_tex
 
 # Parameter keys of the sampled vector, in the order they appear in the table.
 _PLANET_FITTED = ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms",

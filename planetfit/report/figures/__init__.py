@@ -8,13 +8,13 @@ from functools import partial
 
 import numpy as np
 
-from .common import PosteriorView, file_stem
-from .convergence import convergence_figure, read_chain
-from .corners import physical_corner, sampled_corner
-from .habitable_zone import habitable_zone_figure
-from .mass_radius import mass_radius_figure
-from .transit import light_curve_figure, transit_figure
-from .velocity import rv_phase_figure, rv_time_figure
+from planetfit.report.figures.common import PosteriorView, file_stem
+from planetfit.report.figures.convergence import convergence_figure, read_chain
+from planetfit.report.figures.corners import physical_corner, sampled_corner
+from planetfit.report.figures.habitable_zone import habitable_zone_figure
+from planetfit.report.figures.mass_radius import mass_radius_figure
+from planetfit.report.figures.transit import light_curve_figure, transit_figure
+from planetfit.report.figures.velocity import rv_phase_figure, rv_time_figure
 
 
 def _convergence(run_dir, posterior, summary, target_factor):

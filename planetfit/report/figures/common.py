@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from ...stats import LOWER_PERCENTILE, UPPER_PERCENTILE
+from planetfit.core.stats import LOWER_PERCENTILE, UPPER_PERCENTILE
 
 #: Posterior draws behind every model band (enough for a smooth 68% band, fast to evaluate).
 N_DRAWS = 200

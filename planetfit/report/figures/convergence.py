@@ -4,7 +4,7 @@ import emcee
 import h5py
 import numpy as np
 
-from .. import style
+from planetfit.report import style
 
 N_TRACES = 3
 #: Steps drawn per walker trace (longer chains are thinned for display only).

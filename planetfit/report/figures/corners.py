@@ -5,11 +5,11 @@ import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.ticker import ScalarFormatter
 
-from ...stats import LOWER_PERCENTILE, UPPER_PERCENTILE
-from .. import quantities as q
-from .. import style
-from ..rounding import number_text
-from .common import LEVELS_2D, offset_for_display
+from planetfit.core.stats import LOWER_PERCENTILE, UPPER_PERCENTILE
+from planetfit.report import quantities as q
+from planetfit.report import style
+from planetfit.report.rounding import number_text
+from planetfit.report.figures.common import LEVELS_2D, offset_for_display
 
 #: Enough points for smooth 2D histograms; more only costs time.
 MAX_POINTS = 4000

@@ -3,11 +3,11 @@
 import corner
 import numpy as np
 
-from ...climate import HZ_TEFF_RANGE_K, hz_insolation_earth
-from ...units import T_EFF_SUN_K
-from .. import style
-from . import solar_system
-from .common import LEVELS_2D
+from planetfit.context.climate import HZ_TEFF_RANGE_K, hz_insolation_earth
+from planetfit.core.units import T_EFF_SUN_K
+from planetfit.report import style
+from planetfit.report.figures import solar_system
+from planetfit.report.figures.common import LEVELS_2D
 
 # (inner limit, outer limit, legend text, colour, opacity); Kopparapu et al. (2014) names.
 ZONES = (("recent_venus", "early_mars", "optimistic HZ", style.GREEN, 0.18),
@@ -24,7 +24,7 @@ def habitable_zone_figure(derived, planets):
     Parameters
     ----------
     derived : dict
-        Output of :func:`planetfit.physics.derive` after context (with ``insolation_earth``).
+        Output of :func:`planetfit.context.derived.derive` after context (with ``insolation_earth``).
     planets : list of PlanetConfig
 
     Returns

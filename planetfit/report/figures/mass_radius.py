@@ -4,10 +4,10 @@ import corner
 import numpy as np
 from matplotlib.ticker import FixedLocator, FormatStrFormatter, NullFormatter
 
-from ...interior import REFERENCE_CURVES, reference_curve
-from .. import style
-from . import solar_system
-from .common import LEVELS_2D
+from planetfit.context.interior import REFERENCE_CURVES, reference_curve
+from planetfit.report import style
+from planetfit.report.figures import solar_system
+from planetfit.report.figures.common import LEVELS_2D
 
 CURVE_STYLES = {  # name -> (legend text, colour, line style)
     "iron": ("100% iron", style.BLACK, "-"),
@@ -28,13 +28,13 @@ _LABEL_PLACES = {"Mercury": ((4, -2), "left"), "Venus": ((-4, 2), "right"), "Ear
 def mass_radius_figure(derived, planets):
     """The transiting planets' mass–radius posteriors (1 and 2 sigma contours) on log axes.
 
-    With the four reference compositions of :mod:`planetfit.interior` and
+    With the four reference compositions of :mod:`planetfit.context.interior` and
     the Solar System's rocky planets and ice giants.
 
     Parameters
     ----------
     derived : dict
-        Output of :func:`planetfit.physics.derive`.
+        Output of :func:`planetfit.context.derived.derive`.
     planets : list of PlanetConfig
         Transiting planets only (the others have no radius).
 

@@ -4,10 +4,10 @@ import math
 
 import numpy as np
 
-from ...models.transit import TransitLightCurve, quadratic_coefficients
-from ...units import HOURS_PER_DAY, MINUTES_PER_DAY, PPM
-from .. import style
-from .common import band, bin_points, phase_days
+from planetfit.fitting.models.transit import TransitLightCurve, quadratic_coefficients
+from planetfit.core.units import HOURS_PER_DAY, MINUTES_PER_DAY, PPM
+from planetfit.report import style
+from planetfit.report.figures.common import band, bin_points, phase_days
 
 #: Half-width of the plotted window in transit durations, and its floor in hours.
 WINDOW_DURATIONS = 1.5

@@ -6,9 +6,9 @@ legend title, so a reader never mistakes corrected points for raw ones.
 
 import numpy as np
 
-from ...models.keplerian import radial_velocity_ms
-from .. import style
-from .common import band, phase_days
+from planetfit.fitting.models.keplerian import radial_velocity_ms
+from planetfit.report import style
+from planetfit.report.figures.common import band, phase_days
 
 GRID_POINTS = 600
 #: The time-series model grid resolves the shortest period with this many points.

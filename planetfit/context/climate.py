@@ -9,15 +9,9 @@ from numbers import Real
 
 import numpy as np
 
-from planetfit.atmosphere import resolve_mean_molecular_weight
-from planetfit.stats import stat
-from planetfit.units import (
-    AU_M,
-    L_SUN_W,
-    R_SUN_M,
-    S_EARTH_W_M2,
-    SIGMA_SB_SI,
-)
+from planetfit.context.atmosphere import resolve_mean_molecular_weight
+from planetfit.core.stats import stat
+from planetfit.core.units import AU_M, L_SUN_W, R_SUN_M, S_EARTH_W_M2, SIGMA_SB_SI
 
 # Heat redistribution factor f in T_eq^4 = f (1 - A) S / sigma.
 REDISTRIBUTION_FACTORS = {"full": 0.25, "dayside": 0.5}
@@ -201,7 +195,7 @@ class ClimateSettings:
         per posterior sample.  Default 0.94 (Earth-like).
     mean_molecular_weight : float or str
         Atomic mass units or a preset name of
-        :data:`planetfit.atmosphere.MEAN_MOLECULAR_WEIGHTS`.  Default 2.3
+        :data:`planetfit.context.atmosphere.MEAN_MOLECULAR_WEIGHTS`.  Default 2.3
         (H2-rich, the most favourable case for transmission spectroscopy).
     """
 

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from planetfit.units import KG_M3_TO_G_CM3
+from planetfit.core.units import KG_M3_TO_G_CM3
 
 # Table range for the density inversion, GPa. The upper end lies far above
 # the central pressure of a 30 Earth-mass iron planet (~1e4 GPa).

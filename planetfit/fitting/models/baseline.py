@@ -6,7 +6,7 @@ the first basis column being all ones. A baseline is a small class with
 ``coefficients(values)``, the fixed ``basis`` (N, k) and ``flux(values)``
 (the baseline at the data times, a scalar or an array). ``baseline: gp``
 uses the constant baseline with a Gaussian-process noise model
-(:mod:`planetfit.models.gp`).
+(:mod:`planetfit.fitting.models.gp`).
 """
 
 import numpy as np

@@ -8,16 +8,8 @@ Candidates Most Amenable to Atmospheric Characterization").
 
 import numpy as np
 
-from planetfit.stats import stat
-from planetfit.units import (
-    C_SI,
-    H_SI,
-    K_B_SI,
-    M_U_SI,
-    PPM,
-    R_EARTH_M,
-    R_SUN_M,
-)
+from planetfit.core.stats import stat
+from planetfit.core.units import C_SI, H_SI, K_B_SI, M_U_SI, PPM, R_EARTH_M, R_SUN_M
 
 # Mean molecular weights (atomic mass units) of typical atmospheres.
 MEAN_MOLECULAR_WEIGHTS = {

@@ -11,9 +11,8 @@ counted and left out, never extrapolated.
 import numpy as np
 from scipy.stats import truncnorm
 
-from planetfit.interior.grid import (EARTH_LIKE_IRON_FRACTION, REFERENCE_CURVES,
-                                     load_grid)
-from planetfit.stats import stat
+from planetfit.context.interior.grid import EARTH_LIKE_IRON_FRACTION, REFERENCE_CURVES, load_grid
+from planetfit.core.stats import stat
 
 ASSUMPTIONS = (
     "Cold (room-temperature isotherms), fully differentiated planet without atmosphere: "

@@ -12,6 +12,10 @@ import numpy as np
 from scipy import special, stats
 
 
+#: An unbounded normal prior's span: mean +- this many standard deviations.
+NORMAL_SPAN_SD = 3.0
+
+
 class Prior:
     """Base class: a one-dimensional prior."""
 
@@ -35,10 +39,35 @@ class Prior:
         raise NotImplementedError
 
     @property
+    def span(self):
+        """(lower, upper) physical range holding the prior's mass: the support, or mean +- 3 sd if unbounded."""
+        return self.bounds
+
+    @property
     def centre(self):
-        """A central value: the middle of a bounded support, else the mean."""
-        lo, hi = self.bounds
-        return 0.5 * (lo + hi)
+        """The centre of :attr:`span` in the sampler coordinate, as a physical value (geometric mean for ln x)."""
+        lo, hi = self.span
+        return float(self.from_sampler(0.5 * (self.to_sampler(lo) + self.to_sampler(hi))))
+
+    @property
+    def half_width(self):
+        """Half the physical width of :attr:`span`."""
+        lo, hi = self.span
+        return 0.5 * (hi - lo)
+
+    @property
+    def sampler_width(self):
+        """Width of :attr:`span` in the sampler coordinate (the optimiser's scale)."""
+        lo, hi = self.span
+        return float(self.to_sampler(hi) - self.to_sampler(lo))
+
+    def sampler_label(self, name):
+        """Name of the sampler coordinate of parameter ``name``: ``ln(name)`` where log-transformed."""
+        return f"ln({name})" if type(self).to_sampler is not Prior.to_sampler else name
+
+    def from_unit(self, u):
+        """Inverse cumulative distribution: the physical value at quantile ``u`` in [0, 1] (arrays too)."""
+        raise NotImplementedError
 
     # The sampler works in its own coordinate y; identity unless a subclass
     # has a better-conditioned one (log for scale parameters).
@@ -86,6 +115,9 @@ class Fixed(Prior):
     def describe(self):
         return f"fixed {self.value:g}"
 
+    def from_unit(self, u):
+        return np.full(np.shape(u), self.value) if np.ndim(u) else self.value
+
     def as_config(self):
         return self.value
 
@@ -112,6 +144,9 @@ class Uniform(Prior):
 
     def describe(self):
         return f"U({self.lo:g}, {self.hi:g})"
+
+    def from_unit(self, u):
+        return self.lo + np.asarray(u) * (self.hi - self.lo)
 
     def as_config(self):
         return {"uniform": [self.lo, self.hi]}
@@ -140,6 +175,9 @@ class LogUniform(Prior):
 
     def describe(self):
         return f"logU({self.lo:g}, {self.hi:g})"
+
+    def from_unit(self, u):
+        return np.exp(self._ylo + np.asarray(u) * (self._yhi - self._ylo))
 
     # Sampled as y = ln x, where the density is flat: scale parameters such
     # as jitters then mix as well near the lower bound as near the upper.
@@ -177,8 +215,11 @@ class Normal(Prior):
         return f"N({self.mean:g}, {self.sd:g})"
 
     @property
-    def centre(self):
-        return self.mean
+    def span(self):
+        return (self.mean - NORMAL_SPAN_SD * self.sd, self.mean + NORMAL_SPAN_SD * self.sd)
+
+    def from_unit(self, u):
+        return self.mean + self.sd * special.ndtri(u)
 
     def as_config(self):
         return {"normal": [self.mean, self.sd]}
@@ -216,6 +257,10 @@ class TruncNormal(Prior):
 
     def describe(self):
         return f"N({self.mean:g}, {self.sd:g}) in [{self.lo:g}, {self.hi:g}]"
+
+    def from_unit(self, u):
+        lo, hi = special.ndtr(self._a), special.ndtr(self._b)
+        return np.clip(self.mean + self.sd * special.ndtri(lo + np.asarray(u) * (hi - lo)), self.lo, self.hi)
 
     def as_config(self):
         return {"truncnormal": [self.mean, self.sd, self.lo, self.hi]}

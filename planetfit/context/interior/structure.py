@@ -20,8 +20,8 @@ import numpy as np
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
-from planetfit.interior.eos import IRON, SILICATE, WATER
-from planetfit.units import G_SI, M_EARTH_KG, PA_TO_GPA, R_EARTH_M
+from planetfit.context.interior.eos import IRON, SILICATE, WATER
+from planetfit.core.units import G_SI, M_EARTH_KG, PA_TO_GPA, R_EARTH_M
 
 # Scaled units: mass in Earth masses, u = (r / R_earth)^3, pressure in GPa.
 _DU_DM = 3.0 * M_EARTH_KG / (4.0 * np.pi * R_EARTH_M**3)          # times 1/rho[kg m^-3]

@@ -11,7 +11,7 @@ sub-exposures at the centres of equal slices of it -- the composite midpoint
 rule, whose error falls as 1 / supersample^2 (an equal-weight average that
 includes the exposure's end points falls only as 1 / supersample) -- the
 grid of offsets built once per dataset. How many sub-exposures a dataset
-needs is decided by :mod:`planetfit.models.exposure`.
+needs is decided by :mod:`planetfit.fitting.models.exposure`.
 """
 
 import math

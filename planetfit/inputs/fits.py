@@ -5,13 +5,13 @@ extension: a time column in days relative to a reference Julian date given
 by the header keywords BJDREFI (integer part) and BJDREFF (fraction), the
 time scale in TIMESYS, and flux, flux-error and quality-bitmask columns.
 Times are returned as absolute BJD_TDB; a time scale other than TDB stops
-with an :class:`~planetfit.errors.InputError`.
+with an :class:`~planetfit.core.errors.InputError`.
 """
 
 import numpy as np
 from astropy.io import fits
 
-from .errors import DATA_FILE_MISSING_FIX, InputError, reading
+from planetfit.core.errors import DATA_FILE_MISSING_FIX, InputError, reading
 
 #: File name endings read as FITS.
 FITS_SUFFIXES = (".fits", ".fit", ".fts", ".fits.gz", ".fit.gz")

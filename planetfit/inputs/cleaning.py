@@ -11,8 +11,8 @@ import math
 import numpy as np
 from scipy import ndimage
 
-from .models.geometry import solve_orbit
-from .priors import Normal
+from planetfit.core.geometry import solve_orbit
+from planetfit.inputs.priors import Normal
 
 #: Margin on the longest transit a circular orbit allows (eccentric orbits can be slower).
 DURATION_MARGIN = 1.5

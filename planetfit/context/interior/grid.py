@@ -1,7 +1,7 @@
 """Mass–radius grid of cold three-layer planets, and the named reference curves.
 
 The shipped file ``planetfit/data/interior_grid.npz`` holds the radius (Earth
-radii) computed by :func:`planetfit.interior.structure.solve_structure` on
+radii) computed by :func:`planetfit.context.interior.structure.solve_structure` on
 
 * mass 0.01–30 Earth masses, 40 log-spaced values;
 * iron fraction (iron core / iron + silicate interior) 0–1 in steps of 0.05,
@@ -10,7 +10,7 @@ radii) computed by :func:`planetfit.interior.structure.solve_structure` on
 
 Regenerate it (about 6 minutes on 2 cores) with::
 
-    python -m planetfit.interior.grid [--processes N]
+    python -m planetfit.context.interior.grid [--processes N]
 
 Between grid masses the radius is interpolated linearly in log mass and log
 radius; outside the mass range nothing is extrapolated (NaN).
@@ -24,9 +24,9 @@ from pathlib import Path
 
 import numpy as np
 
-from planetfit.interior.structure import solve_structure
+from planetfit.context.interior.structure import solve_structure
 
-GRID_PATH = Path(__file__).resolve().parent.parent / "data" / "interior_grid.npz"
+GRID_PATH = Path(__file__).resolve().parents[2] / "data" / "interior_grid.npz"
 
 EARTH_LIKE_IRON_FRACTION = 0.325    # source: Earth's core mass fraction, as in the issue brief
 

@@ -8,7 +8,7 @@ summary.json.
 
 import numpy as np
 
-from . import atmosphere, climate, interior
+from planetfit.context import atmosphere, climate, interior
 
 
 def add_context(config, derived, settings, rng):
@@ -18,7 +18,7 @@ def add_context(config, derived, settings, rng):
     ----------
     config : Config
     derived : dict
-        Output of :func:`planetfit.physics.derive`.
+        Output of :func:`planetfit.context.derived.derive`.
     settings : climate.ClimateSettings
     rng : numpy.random.Generator
 

@@ -13,7 +13,7 @@ import dataclasses
 
 import numpy as np
 
-from .errors import DATA_FILE_MISSING_FIX, InputError, reading
+from planetfit.core.errors import DATA_FILE_MISSING_FIX, InputError, reading
 
 #: A text column with this many distinct values or fewer (and at least two) looks like a label column.
 MAX_LABEL_VALUES = 12

@@ -24,15 +24,15 @@ import math
 
 import numpy as np
 
-from .models.baseline import BASELINES
-from .models.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
-from .models.gp import GaussianProcessNoise, Matern32Kernel, RotationKernel, SHOKernel
-from .models.keplerian import periastron_bjd, radial_velocity_ms
-from .models.noise import SparseResidualWhiteNoise, WhiteNoise
-from .models.transit import TransitLightCurve, quadratic_coefficients
-from .models.trend import LinearDecorrelation, PolynomialTrend
-from .priors import Prior
-from .units import PPM
+from planetfit.fitting.models.baseline import BASELINES
+from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
+from planetfit.fitting.models.gp import GaussianProcessNoise, Matern32Kernel, RotationKernel, SHOKernel
+from planetfit.fitting.models.keplerian import periastron_bjd, radial_velocity_ms
+from planetfit.fitting.models.noise import SparseResidualWhiteNoise, WhiteNoise
+from planetfit.fitting.models.transit import TransitLightCurve, quadratic_coefficients
+from planetfit.fitting.models.trend import LinearDecorrelation, PolynomialTrend
+from planetfit.inputs.priors import Prior
+from planetfit.core.units import PPM
 
 class ParameterLayout:
     """Names and priors of every model parameter, fixed or free.
@@ -266,7 +266,7 @@ class JointPosterior:
     for a transiting planet, periastron inside the star, e above the
     planet's cap). Photometry with white noise of fixed jitter is scored in
     time proportional to its in-transit points
-    (:class:`~planetfit.models.noise.SparseResidualWhiteNoise`).
+    (:class:`~planetfit.fitting.models.noise.SparseResidualWhiteNoise`).
     """
 
     def __init__(self, config, photometry, velocities):

@@ -14,7 +14,7 @@ from astropy import units as u
 from astropy.coordinates import EarthLocation, SkyCoord
 from astropy.time import Time
 
-from .errors import InputError
+from planetfit.core.errors import InputError
 
 #: Time systems a dataset may declare.
 TIME_SYSTEMS = ("BJD_TDB", "BJD_UTC", "HJD_UTC")

@@ -18,10 +18,10 @@ import math
 
 import numpy as np
 
-from ..cleaning import centre_and_half_width
-from ..units import MINUTES_PER_DAY, PPM
-from .geometry import CIRCULAR_OMEGA_RAD, solve_orbit
-from .transit import TransitLightCurve, quadratic_coefficients
+from planetfit.inputs.cleaning import centre_and_half_width
+from planetfit.core.units import MINUTES_PER_DAY, PPM
+from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, solve_orbit
+from planetfit.fitting.models.transit import TransitLightCurve, quadratic_coefficients
 
 #: Bound on the integration error, as a fraction of the dataset's median flux error.
 ERROR_FRACTION = 0.1

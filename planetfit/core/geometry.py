@@ -9,7 +9,7 @@ pi/2 - omega and the star's velocity is K [cos(f + omega) + e cos omega]
 
 import numpy as np
 
-from ..units import G_SI, M_SUN_KG, R_SUN_M, SECONDS_PER_DAY
+from planetfit.core.units import G_SI, M_SUN_KG, R_SUN_M, SECONDS_PER_DAY
 
 #: Argument of periastron used for circular orbits (transit at periastron; any value works).
 CIRCULAR_OMEGA_RAD = np.pi / 2

@@ -13,10 +13,10 @@ from pathlib import Path
 
 import yaml
 
-from .errors import InputError, reading
-from .fits_io import is_fits
-from .priors import Fixed, LogUniform, Normal, Uniform, make_prior
-from .timesystems import NEEDS_COORDINATES, TIME_SYSTEMS
+from planetfit.core.errors import InputError, reading
+from planetfit.inputs.fits import is_fits
+from planetfit.inputs.priors import Fixed, LogUniform, Normal, Uniform, make_prior
+from planetfit.inputs.timesystems import NEEDS_COORDINATES, TIME_SYSTEMS
 
 ORBITS = ("circular", "eccentric")
 LIMB_DARKENING_LAWS = ("quadratic",)
@@ -69,7 +69,7 @@ class PhotometryConfig:
     columns: dict
     time_offset_days: float
     exposure_min: float
-    supersample: int                # None: chosen from the data (planetfit.models.exposure)
+    supersample: int                # None: chosen from the data (planetfit.fitting.models.exposure)
     limb_darkening: str
     band: str
     q1: object

@@ -1,18 +1,18 @@
 """Reading photometry and radial-velocity tables into checked arrays.
 
 Tables are CSV or whitespace-separated text, with or without a header line
-(:mod:`planetfit.tables`), or, for photometry, FITS binary tables
-(:mod:`planetfit.fits_io`). The config maps our quantities (time, flux,
+(:mod:`planetfit.inputs.tables`), or, for photometry, FITS binary tables
+(:mod:`planetfit.inputs.fits`). The config maps our quantities (time, flux,
 error / time, rv, error, plus a quality bitmask and activity indicators) to
 the file's columns, and may keep only the rows of one instrument
 (``select``). Text times become full Julian dates by adding
 ``time_offset_days`` and BJD_TDB by their ``time_system``
-(:mod:`planetfit.timesystems`); FITS times by their header's reference
+(:mod:`planetfit.inputs.timesystems`); FITS times by their header's reference
 date. Rows are sorted by time; repeated time stamps are kept. Rows
 flagged in the quality column and rows with NaN are dropped and counted;
 light curves are then normalised per contiguous segment and clipped of
-outliers outside predicted transits (:mod:`planetfit.cleaning`). Everything
-else that is wrong stops with an :class:`~planetfit.errors.InputError`
+outliers outside predicted transits (:mod:`planetfit.inputs.cleaning`). Everything
+else that is wrong stops with an :class:`~planetfit.core.errors.InputError`
 naming the file, column or line.
 """
 
@@ -21,13 +21,13 @@ import logging
 
 import numpy as np
 
-from . import cleaning
-from .errors import InputError
-from .fits_io import is_fits, read_fits_table
-from .tables import read_table
-from .timesystems import check_time_references, to_bjd_tdb
-from .models import exposure
-from .units import HOURS_PER_DAY, MINUTES_PER_DAY
+from planetfit.inputs import cleaning
+from planetfit.core.errors import InputError
+from planetfit.inputs.fits import is_fits, read_fits_table
+from planetfit.inputs.tables import read_table
+from planetfit.inputs.timesystems import check_time_references, to_bjd_tdb
+from planetfit.fitting.models import exposure
+from planetfit.core.units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 log = logging.getLogger("planetfit")
 
@@ -59,7 +59,7 @@ class Photometry:
     flux: np.ndarray
     error: np.ndarray
     exposure_days: float
-    supersample: int                # sub-exposures per exposure (planetfit.models.exposure)
+    supersample: int                # sub-exposures per exposure (planetfit.fitting.models.exposure)
     band: str
     dropped_nan: int = 0
     normalisation: float = 1.0
@@ -275,7 +275,7 @@ def load_photometry(cfg, planets=(), star=None, limb_darkening=None):
 
 
 def load_velocities(cfg, star=None):
-    """Read one RV dataset from its :class:`~planetfit.config.VelocityConfig`.
+    """Read one RV dataset from its :class:`~planetfit.inputs.oldconfig.VelocityConfig`.
 
     Activity indicators named in ``decorrelate`` are read as extra columns
     and centred on their medians. ``star`` gives the sky position that

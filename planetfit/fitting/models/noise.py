@@ -4,7 +4,7 @@ Each noise model has ``log_likelihood_many(residuals, values_list)`` (the
 log-likelihoods of a batch of walkers' residuals) and
 ``predict(residual, values)`` (the correlated part of the residuals it
 expects: zero for white noise), and is chosen per dataset when the
-posterior is built. Gaussian processes live in :mod:`planetfit.models.gp`.
+posterior is built. Gaussian processes live in :mod:`planetfit.fitting.models.gp`.
 """
 
 import math

@@ -6,15 +6,14 @@ radius ratio and the sampled stellar radius, bulk density, surface gravity,
 a in au and in stellar radii, inclination, eccentricity, total transit
 duration, stellar density. Teff and age do not enter the likelihood, so
 their posterior is their prior: they are drawn from it here, independently
-per sample. Constants come from :mod:`planetfit.units` (astropy).
+per sample. Constants come from :mod:`planetfit.core.units` (astropy).
 """
 
 import numpy as np
 
-from .models.geometry import planet_mass_kg, semi_major_axis_m, transit_duration_days
-from .posterior import planet_orbit, prior_only_parameters
-from .units import (AU_M, G_SI, HOURS_PER_DAY, KG_M3_TO_G_CM3, M_EARTH_KG, M_JUP_KG, M_SUN_KG, R_EARTH_M,
-                    R_JUP_M, R_SUN_M)
+from planetfit.core.geometry import planet_mass_kg, semi_major_axis_m, transit_duration_days
+from planetfit.fitting.posterior import planet_orbit, prior_only_parameters
+from planetfit.core.units import AU_M, G_SI, HOURS_PER_DAY, KG_M3_TO_G_CM3, M_EARTH_KG, M_JUP_KG, M_SUN_KG, R_EARTH_M, R_JUP_M, R_SUN_M
 
 
 def bulk_density_gcc(mass_kg, radius_m):
