@@ -74,8 +74,9 @@ def simulate_system(seed, folder, steps):
         The loaded config, the posterior of the simulated data, and the
         true parameter values and orbits.
     """
-    from planetfit.inputs.oldconfig import load_config
+    from planetfit.inputs.config import load_config
     from planetfit.inputs.datasets import load_all
+    from planetfit.fitting import predictions
     from planetfit.fitting.posterior import JointPosterior
 
     rng = np.random.default_rng(seed)
@@ -91,10 +92,10 @@ def simulate_system(seed, folder, steps):
     while True:  # a draw from the prior with a transit and a finite probability
         values = post.layout.values(post.layout.sample_prior(rng, 1)[0])
         orbits = post.orbits(values)
-        if orbits is not None and np.any(post.photometry_model(values, orbits, 0) < 1):
+        if orbits is not None and np.any(predictions.photometry_model(post, values, orbits, 0) < 1):
             break
-    flux = post.photometry_model(values, orbits, 0) + rng.normal(0, NOISE_PPM * 1e-6, t_phot.size)
-    rv = values["spec.offset_ms"] + post.velocity_model(values, orbits, 0) + rng.normal(0, RV_ERROR_MS, N_RV)
+    flux = predictions.photometry_model(post, values, orbits, 0) + rng.normal(0, NOISE_PPM * 1e-6, t_phot.size)
+    rv = values["spec.offset_ms"] + predictions.velocity_model(post, values, orbits, 0) + rng.normal(0, RV_ERROR_MS, N_RV)
     _write_table(folder / "phot.csv", [t_phot, flux, np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
     _write_table(folder / "rv.csv", [t_rv, rv, np.full(N_RV, RV_ERROR_MS)], "t,v,e")
     return config, JointPosterior(config, *load_all(config)), values, orbits
@@ -104,14 +105,14 @@ def fit_one(args):
     """Draw one system from the prior, simulate data, fit it; return truth and posterior intervals."""
     seed, steps = args
     from planetfit.context import derived as physics
-    from planetfit.fitting.sampling import run_sampler
+    from planetfit.fitting.mcmc import run_sampler
     from planetfit.core.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
 
     with tempfile.TemporaryDirectory() as tmp:
         config, post, values, orbits = simulate_system(seed, tmp, steps)
         rng = np.random.default_rng(seed + 1_000_000)  # the fit's own stream, apart from the simulation's
         result = run_sampler(post, post.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
-        derived = physics.derive(config, post.layout, result.samples, rng)["planets"]["b"]
+        derived = physics.derive(config, post.model, result.samples, rng)["planets"]["b"]
     true_values = {"mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
                    "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
                    "rv_amplitude_ms": values["b.rv_amplitude_ms"], "radius_ratio": values["b.radius_ratio"]}

@@ -6,7 +6,7 @@ with the demo generator's true system: two 27-day sectors at 2-min cadence,
 one at 30-min cadence, 60 RVs from two spectrographs, one transiting planet
 and one seen only in RVs, white noise. Everything is measured in one process, the
 contenders interleaved round by round (best round kept), with BLAS limited to
-one thread as :func:`planetfit.fitting.sampling.run_sampler` does.
+one thread as :func:`planetfit.fitting.mcmc.run_sampler` does.
 
 Figures
 -------
@@ -48,7 +48,7 @@ from threadpoolctl import threadpool_limits
 from planetfit import pipeline
 from planetfit.demo import generate
 from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
-from planetfit.fitting.models.transit import quadratic_coefficients
+from planetfit.fitting.components.transit import quadratic_coefficients
 from planetfit.fitting.posterior import JointPosterior
 from planetfit.fitting.sampling import sampler_geometry
 from planetfit.core.units import MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M

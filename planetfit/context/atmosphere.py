@@ -11,14 +11,6 @@ import numpy as np
 from planetfit.core.stats import stat
 from planetfit.core.units import C_SI, H_SI, K_B_SI, M_U_SI, PPM, R_EARTH_M, R_SUN_M
 
-# Mean molecular weights (atomic mass units) of typical atmospheres.
-MEAN_MOLECULAR_WEIGHTS = {
-    "h2_rich": 2.3,   # solar-composition H2/He envelope
-    "water": 18.0,
-    "n2": 28.0,
-    "co2": 44.0,
-}
-
 METERS_PER_KM = 1e3
 
 # Kempton et al. (2018), eq. (1) and Table 1: TSM scale factor and suggested
@@ -37,36 +29,6 @@ ESM_DAYSIDE_FACTOR = 1.10
 ESM_WAVELENGTH_M = 7.5e-6
 ESM_THRESHOLD_TERRESTRIAL = 7.5
 TERRESTRIAL_RADIUS_EARTH = 1.5
-
-
-def resolve_mean_molecular_weight(value):
-    """Mean molecular weight from a number or a preset name.
-
-    Parameters
-    ----------
-    value : float or str
-        Atomic mass units, or one of ``MEAN_MOLECULAR_WEIGHTS``' names.
-
-    Returns
-    -------
-    float
-
-    Raises
-    ------
-    ValueError
-        Unknown preset name, or a value that is not a positive number.
-    """
-    if isinstance(value, str):
-        if value not in MEAN_MOLECULAR_WEIGHTS:
-            raise ValueError(
-                f"mean_molecular_weight: unknown preset {value!r}; use a number "
-                f"in atomic mass units or one of {sorted(MEAN_MOLECULAR_WEIGHTS)}")
-        return MEAN_MOLECULAR_WEIGHTS[value]
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not value > 0:
-        raise ValueError(
-            f"mean_molecular_weight: expected a positive number (atomic mass "
-            f"units) or a preset name, got {value!r}")
-    return float(value)
 
 
 def scale_height_km(temp_k, mean_molecular_weight, surface_gravity_ms2):
@@ -187,9 +149,25 @@ def tsm_threshold(planet_radius_earth):
     return TSM_THRESHOLDS[index] if index >= 0 else None
 
 
-def atmosphere_block(planet_radius_earth, planet_mass_earth, surface_gravity_ms2,
-                     equilibrium_temp_k, star_radius_rsun, star_teff_k, mag_j=None,
-                     mag_k=None, mean_molecular_weight=2.3, n_scale_heights=2):
+def _metrics(planet_radius_earth, planet_mass_earth, equilibrium_temp_k, star_radius_rsun, star_teff_k, mag_j, mag_k):
+    """TSM and ESM STATs (None without the magnitude they need) and the notes on why one is missing."""
+    notes, tsm_stat, esm_stat = [], None, None
+    if mag_j is None:
+        notes.append("TSM not computed: no J magnitude given.")
+    else:
+        tsm_stat = stat(tsm(planet_radius_earth, planet_mass_earth, equilibrium_temp_k, star_radius_rsun, mag_j))
+        if tsm_stat is None:
+            notes.append("TSM undefined: the TSM applies to planets under 10 Earth radii.")
+    if mag_k is None:
+        notes.append("ESM not computed: no K magnitude given.")
+    else:
+        esm_stat = stat(esm(planet_radius_earth, equilibrium_temp_k, star_radius_rsun, star_teff_k, mag_k))
+    return tsm_stat, esm_stat, notes
+
+
+def atmosphere_block(planet_radius_earth, planet_mass_earth, surface_gravity_ms2, equilibrium_temp_k,
+                     star_radius_rsun, star_teff_k, mag_j=None, mag_k=None, mean_molecular_weight=2.3,
+                     n_scale_heights=2):
     """Observability summary of one planet from posterior samples.
 
     Parameters
@@ -202,8 +180,8 @@ def atmosphere_block(planet_radius_earth, planet_mass_earth, surface_gravity_ms2
         Stellar radius (solar radii) and effective temperature (K) samples.
     mag_j, mag_k : float, optional
         Host J and K magnitudes; TSM (ESM) is ``None`` without J (K).
-    mean_molecular_weight : float or str
-        Atomic mass units or a ``MEAN_MOLECULAR_WEIGHTS`` preset name.
+    mean_molecular_weight : float
+        Atomic mass units.
     n_scale_heights : float
         Scale heights spanned by a strong transmission feature.
 
@@ -214,39 +192,23 @@ def atmosphere_block(planet_radius_earth, planet_mass_earth, surface_gravity_ms2
         (STATs or ``None``), ``tsm_threshold``, ``esm_threshold``,
         ``mean_molecular_weight``, ``n_scale_heights``, ``notes``.
     """
-    mu = resolve_mean_molecular_weight(mean_molecular_weight)
+    mu = float(mean_molecular_weight)
     height = scale_height_km(equilibrium_temp_k, mu, surface_gravity_ms2)
-    signal = transmission_signal_ppm(height, planet_radius_earth, star_radius_rsun,
-                                     n_scale_heights)
+    signal = transmission_signal_ppm(height, planet_radius_earth, star_radius_rsun, n_scale_heights)
     median_radius = float(np.nanmedian(np.asarray(planet_radius_earth, dtype=float)))
-    notes = [
-        f"Scale height for mean molecular weight {mu:g} at the equilibrium "
-        f"temperature; transmission signal for {n_scale_heights:g} scale heights.",
-        "TSM and ESM follow Kempton et al. (2018, PASP 130, 114401); they define "
-        "T_eq for zero albedo and full redistribution, so compare thresholds "
-        "with that in mind.",
-    ]
-    tsm_stat = esm_stat = None
-    if mag_j is None:
-        notes.append("TSM not computed: no J magnitude given.")
-    else:
-        tsm_stat = stat(tsm(planet_radius_earth, planet_mass_earth, equilibrium_temp_k,
-                            star_radius_rsun, mag_j))
-        if tsm_stat is None:
-            notes.append("TSM undefined: the TSM applies to planets under 10 Earth radii.")
-    if mag_k is None:
-        notes.append("ESM not computed: no K magnitude given.")
-    else:
-        esm_stat = stat(esm(planet_radius_earth, equilibrium_temp_k, star_radius_rsun,
-                            star_teff_k, mag_k))
+    tsm_stat, esm_stat, missing = _metrics(planet_radius_earth, planet_mass_earth, equilibrium_temp_k,
+                                           star_radius_rsun, star_teff_k, mag_j, mag_k)
+    notes = [f"Scale height for mean molecular weight {mu:g} at the equilibrium temperature; transmission signal for "
+             f"{n_scale_heights:g} scale heights.",
+             "TSM and ESM follow Kempton et al. (2018, PASP 130, 114401); they define T_eq for zero albedo and full "
+             "redistribution, so compare thresholds with that in mind."] + missing
     return {
         "scale_height_km": stat(height),
         "transmission_signal_ppm": stat(signal),
         "tsm": tsm_stat,
         "esm": esm_stat,
         "tsm_threshold": tsm_threshold(median_radius),
-        "esm_threshold": (ESM_THRESHOLD_TERRESTRIAL
-                          if 0 < median_radius < TERRESTRIAL_RADIUS_EARTH else None),
+        "esm_threshold": ESM_THRESHOLD_TERRESTRIAL if 0 < median_radius < TERRESTRIAL_RADIUS_EARTH else None,
         "mean_molecular_weight": mu,
         "n_scale_heights": float(n_scale_heights),
         "notes": notes,

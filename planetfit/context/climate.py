@@ -4,20 +4,12 @@ Every function is vectorised over numpy arrays of posterior samples (one
 value per sample).  This is first-order screening, not a climate model.
 """
 
-from dataclasses import asdict, dataclass
-from numbers import Real
-
 import numpy as np
 
-from planetfit.context.atmosphere import resolve_mean_molecular_weight
 from planetfit.core.stats import stat
 from planetfit.core.units import AU_M, L_SUN_W, R_SUN_M, S_EARTH_W_M2, SIGMA_SB_SI
-
-# Heat redistribution factor f in T_eq^4 = f (1 - A) S / sigma.
-REDISTRIBUTION_FACTORS = {"full": 0.25, "dayside": 0.5}
-# Largest meaningful factor: instantaneous re-radiation, no redistribution.
-# value from memory: Cowan & Agol (2011, ApJ 729, 54), f = 2/3 for epsilon = 0
-MAX_REDISTRIBUTION_FACTOR = 2.0 / 3.0
+from planetfit.inputs.schema import Climate
+from planetfit.inputs.schema.settings import FULL_REDISTRIBUTION
 
 # Habitable-zone limits of Kopparapu et al. (2014, ApJL 787, L29), Table 1:
 # S_eff = S_eff_sun + a T + b T^2 + c T^3 + d T^4 with T = Teff - 5780 K,
@@ -88,29 +80,7 @@ def insolation_earth(radius_rsun, teff_k, a_au, eccentricity=None):
     return flux / S_EARTH_W_M2
 
 
-def redistribution_factor(redistribution):
-    """Heat-redistribution factor f from ``"full"``, ``"dayside"`` or a number.
-
-    Raises
-    ------
-    ValueError
-        Unknown name, or a number outside 0 < f <= 2/3.
-    """
-    if isinstance(redistribution, str):
-        if redistribution not in REDISTRIBUTION_FACTORS:
-            raise ValueError(
-                f"redistribution: unknown value {redistribution!r}; use 'full' "
-                f"(f = 1/4), 'dayside' (f = 1/2) or a number 0 < f <= 2/3")
-        return REDISTRIBUTION_FACTORS[redistribution]
-    if (isinstance(redistribution, bool) or not isinstance(redistribution, Real)
-            or not 0.0 < redistribution <= MAX_REDISTRIBUTION_FACTOR):
-        raise ValueError(
-            f"redistribution: expected 'full', 'dayside' or a number "
-            f"0 < f <= 2/3, got {redistribution!r}")
-    return float(redistribution)
-
-
-def equilibrium_temp_k(insolation_earth, albedo=0.3, redistribution="full"):
+def equilibrium_temp_k(insolation_earth, albedo=0.3, factor=FULL_REDISTRIBUTION):
     """Equilibrium temperature T_eq = (f (1 - A) S / sigma)^(1/4).
 
     For a circular orbit this equals T_eff sqrt(R*/a) (f (1 - A))^(1/4).
@@ -121,15 +91,15 @@ def equilibrium_temp_k(insolation_earth, albedo=0.3, redistribution="full"):
         Insolation, Earth units.
     albedo : float or array_like
         Bond albedo A.
-    redistribution : str or float
-        ``"full"`` (f = 1/4), ``"dayside"`` (f = 1/2) or a factor f.
+    factor : float
+        Heat-redistribution factor f: 1/4 for heat spread over the whole
+        planet (the default), 1/2 for the dayside only.
 
     Returns
     -------
     ndarray
     """
     flux = np.asarray(insolation_earth, dtype=float) * S_EARTH_W_M2
-    factor = redistribution_factor(redistribution)
     return (factor * (1.0 - np.asarray(albedo, dtype=float)) * flux / SIGMA_SB_SI) ** 0.25
 
 
@@ -180,84 +150,63 @@ def hz_distance_au(s_eff, luminosity_lsun):
     return np.sqrt(np.asarray(luminosity_lsun, dtype=float) / np.asarray(s_eff, dtype=float))
 
 
-@dataclass(frozen=True)
-class ClimateSettings:
-    """Assumptions of the climate screening (the config's ``climate:`` block).
-
-    Attributes
-    ----------
-    albedo : float
-        Bond albedo, 0 <= A < 1.  Default 0.3 (close to Earth's 0.306).
-    redistribution : str or float
-        ``"full"`` (default), ``"dayside"`` or a factor 0 < f <= 2/3.
-    tau : float or tuple of float
-        Grey infrared optical depth, or a ``(lo, hi)`` range sampled uniformly
-        per posterior sample.  Default 0.94 (Earth-like).
-    mean_molecular_weight : float or str
-        Atomic mass units or a preset name of
-        :data:`planetfit.context.atmosphere.MEAN_MOLECULAR_WEIGHTS`.  Default 2.3
-        (H2-rich, the most favourable case for transmission spectroscopy).
-    """
-
-    albedo: float = 0.3
-    redistribution: object = "full"
-    tau: object = 0.94
-    mean_molecular_weight: object = 2.3
-
-    def __post_init__(self):
-        if (isinstance(self.albedo, bool) or not isinstance(self.albedo, Real)
-                or not 0.0 <= self.albedo < 1.0):
-            raise ValueError(f"albedo: expected a number 0 <= A < 1, got {self.albedo!r}")
-        redistribution_factor(self.redistribution)
-        resolve_mean_molecular_weight(self.mean_molecular_weight)
-        object.__setattr__(self, "tau", _checked_tau(self.tau))
-
-    @classmethod
-    def from_mapping(cls, mapping):
-        """Settings from a config mapping; unknown keys raise ValueError."""
-        mapping = dict(mapping or {})
-        unknown = sorted(set(mapping) - set(cls.__dataclass_fields__))
-        if unknown:
-            raise ValueError(
-                f"{unknown[0]}: unknown key in the climate block; allowed keys are "
-                f"{sorted(cls.__dataclass_fields__)}")
-        return cls(**mapping)
-
-    @property
-    def tau_range(self):
-        """``(lo, hi)`` optical-depth range; lo == hi for a single value."""
-        return self.tau if isinstance(self.tau, tuple) else (self.tau, self.tau)
-
-    def as_dict(self):
-        """JSON-ready copy (a tau range as a list)."""
-        out = asdict(self)
-        if isinstance(self.tau, tuple):
-            out["tau"] = list(self.tau)
-        return out
-
-
-def _checked_tau(tau):
-    """A non-negative tau, or a ``(lo, hi)`` tuple with 0 <= lo <= hi."""
-    def ok(x):
-        return not isinstance(x, bool) and isinstance(x, Real) and x >= 0.0
-
-    if isinstance(tau, (list, tuple)):
-        if len(tau) == 2 and ok(tau[0]) and ok(tau[1]) and tau[0] <= tau[1]:
-            return (float(tau[0]), float(tau[1]))
-    elif ok(tau):
-        return float(tau)
-    raise ValueError(
-        f"tau: expected a number >= 0 or a range [lo, hi] with 0 <= lo <= hi, got {tau!r}")
-
-
 def _fraction(mask, defined):
     """Fraction of defined samples where ``mask`` holds; None if none is defined."""
     n = int(np.count_nonzero(defined))
     return float(np.count_nonzero(mask & defined)) / n if n else None
 
 
-def climate_block(star_radius_rsun, star_teff_k, a_au, eccentricity, settings,
-                  star_age_gyr=None, rng=None):
+def _temperatures(insolation, settings, rng):
+    """Equilibrium and grey-greenhouse surface temperatures, and the caution on how."""
+    t_eq = equilibrium_temp_k(insolation, settings.albedo, settings.redistribution_factor)
+    tau_lo, tau_hi = settings.tau_range
+    tau = rng.uniform(tau_lo, tau_hi, size=t_eq.shape) if tau_hi > tau_lo else tau_lo
+    tau_text = f"tau uniform in [{tau_lo:g}, {tau_hi:g}]" if tau_hi > tau_lo else f"tau = {tau_lo:g}"
+    caution = (f"p_surface_liquid_water: grey greenhouse with Bond albedo {settings.albedo:g} and {tau_text}; "
+               "0-65 C, above which a runaway greenhouse is expected. Says nothing about whether water or an "
+               "atmosphere is present.")
+    return t_eq, surface_temp_k(t_eq, tau), caution
+
+
+def _habitable_zone(insolation, radius, teff):
+    """Conservative and optimistic habitable-zone fractions, limits (au) and cautions."""
+    limits = hz_insolation_earth(teff)
+    defined = np.isfinite(limits["recent_venus"])
+    conservative = (insolation <= limits["runaway_greenhouse_1_earth_mass"]) & (insolation >= limits["maximum_greenhouse"])
+    optimistic = (insolation <= limits["recent_venus"]) & (insolation >= limits["early_mars"])
+    cautions = ["p_conservative_hz / p_optimistic_hz: Kopparapu et al. (2014) 1-D cloud-free limits (runaway "
+                "greenhouse for 1 Earth mass to maximum greenhouse; recent Venus to early Mars); clouds and slow "
+                "rotation can move the inner edge."]
+    outside = 1.0 - float(np.mean(defined))
+    if outside > 0:
+        cautions.append(
+            f"Host Teff outside {HZ_TEFF_RANGE_K[0]:.0f}-{HZ_TEFF_RANGE_K[1]:.0f} K for {100 * outside:.1f}% of "
+            "samples: no habitable-zone limits there (never extrapolated); "
+            + ("habitable-zone probabilities use the other samples." if defined.any()
+               else "habitable-zone limits and probabilities are undefined."))
+    luminosity = luminosity_lsun(radius, teff)
+    hz_limits = ({name: stat(hz_distance_au(s_eff, luminosity)) for name, s_eff in limits.items()}
+                 if defined.any() else None)
+    return {"p_conservative_hz": _fraction(conservative, defined), "p_optimistic_hz": _fraction(optimistic, defined),
+            "hz_limits_au": hz_limits}, cautions
+
+
+def _host_flags(teff, star_age_gyr):
+    """Host age and Teff screening fractions, and their cautions."""
+    cautions, p_age = [], None
+    if star_age_gyr is not None:
+        age = np.asarray(star_age_gyr, dtype=float)
+        p_age = _fraction(age > MIN_HOST_AGE_GYR, np.isfinite(age))
+        cautions.append(f"p_host_older_than_0p6_gyr: young hosts are active; an age above {MIN_HOST_AGE_GYR:g} Gyr "
+                        "does not mean the planet kept its atmosphere.")
+    in_survey = (teff >= SURVEY_TEFF_RANGE_K[0]) & (teff <= SURVEY_TEFF_RANGE_K[1])
+    cautions.append(f"p_host_teff_in_survey_range: {SURVEY_TEFF_RANGE_K[0]:.0f}-{SURVEY_TEFF_RANGE_K[1]:.0f} K, "
+                    "roughly late F to early L dwarfs; a screening range, not a physical limit.")
+    return {"p_host_older_than_0p6_gyr": p_age,
+            "p_host_teff_in_survey_range": _fraction(in_survey, np.isfinite(teff))}, cautions
+
+
+def climate_block(star_radius_rsun, star_teff_k, a_au, eccentricity, settings, star_age_gyr=None, rng=None):
     """Climate screening of one planet from posterior samples.
 
     Parameters
@@ -266,7 +215,7 @@ def climate_block(star_radius_rsun, star_teff_k, a_au, eccentricity, settings,
         Samples of stellar radius (solar radii), Teff (K), semi-major axis (au).
     eccentricity : array_like or None
         Eccentricity samples (``None`` for circular orbits).
-    settings : ClimateSettings
+    settings : planetfit.inputs.schema.Climate
     star_age_gyr : array_like, optional
         Host age samples, Gyr.
     rng : numpy.random.Generator, optional
@@ -285,78 +234,22 @@ def climate_block(star_radius_rsun, star_teff_k, a_au, eccentricity, settings,
     radius, teff, a = np.broadcast_arrays(*(np.atleast_1d(np.asarray(x, dtype=float))
                                             for x in (star_radius_rsun, star_teff_k, a_au)))
     rng = np.random.default_rng(0) if rng is None else rng
-    cautions = [GENERAL_CAUTION]
-
     insolation = insolation_earth(radius, teff, a, eccentricity)
-    t_eq = equilibrium_temp_k(insolation, settings.albedo, settings.redistribution)
-    tau_lo, tau_hi = settings.tau_range
-    tau = rng.uniform(tau_lo, tau_hi, size=t_eq.shape) if tau_hi > tau_lo else tau_lo
-    t_surface = surface_temp_k(t_eq, tau)
-    if eccentricity is not None:
-        cautions.append("Insolation and temperatures use the orbit-averaged flux, "
-                        "(1 - e^2)^(-1/2) times the flux at distance a.")
-
-    limits = hz_insolation_earth(teff)
-    defined = np.isfinite(limits["recent_venus"])
-    conservative = ((insolation <= limits["runaway_greenhouse_1_earth_mass"])
-                    & (insolation >= limits["maximum_greenhouse"]))
-    optimistic = ((insolation <= limits["recent_venus"])
-                  & (insolation >= limits["early_mars"]))
-    cautions.append(
-        "p_conservative_hz / p_optimistic_hz: Kopparapu et al. (2014) 1-D cloud-free "
-        "limits (runaway greenhouse for 1 Earth mass to maximum greenhouse; recent "
-        "Venus to early Mars); clouds and slow rotation can move the inner edge.")
-    outside = 1.0 - float(np.mean(defined))
-    if outside > 0:
-        cautions.append(
-            f"Host Teff outside {HZ_TEFF_RANGE_K[0]:.0f}-{HZ_TEFF_RANGE_K[1]:.0f} K "
-            f"for {100 * outside:.1f}% of samples: no habitable-zone limits there "
-            "(never extrapolated); "
-            + ("habitable-zone probabilities use the other samples." if defined.any()
-               else "habitable-zone limits and probabilities are undefined."))
-    luminosity = luminosity_lsun(radius, teff)
-    hz_limits = None
-    if defined.any():
-        hz_limits = {name: stat(hz_distance_au(s_eff, luminosity))
-                     for name, s_eff in limits.items()}
-
+    t_eq, t_surface, temperature_caution = _temperatures(insolation, settings, rng)
+    hz, hz_cautions = _habitable_zone(insolation, radius, teff)
+    host, host_cautions = _host_flags(teff, star_age_gyr)
+    orbit_caution = ["Insolation and temperatures use the orbit-averaged flux, (1 - e^2)^(-1/2) times the flux at "
+                     "distance a."] if eccentricity is not None else []
     liquid = (t_surface >= LIQUID_WATER_RANGE_K[0]) & (t_surface <= LIQUID_WATER_RANGE_K[1])
-    tau_text = (f"tau uniform in [{tau_lo:g}, {tau_hi:g}]" if tau_hi > tau_lo
-                else f"tau = {tau_lo:g}")
-    cautions.append(
-        f"p_surface_liquid_water: grey greenhouse with Bond albedo {settings.albedo:g} "
-        f"and {tau_text}; 0-65 C, above which a runaway greenhouse is expected. "
-        "Says nothing about whether water or an atmosphere is present.")
-
-    p_age = None
-    if star_age_gyr is not None:
-        age = np.asarray(star_age_gyr, dtype=float)
-        p_age = _fraction(age > MIN_HOST_AGE_GYR, np.isfinite(age))
-        cautions.append(
-            f"p_host_older_than_0p6_gyr: young hosts are active; an age above "
-            f"{MIN_HOST_AGE_GYR:g} Gyr does not mean the planet kept its atmosphere.")
-    in_survey = (teff >= SURVEY_TEFF_RANGE_K[0]) & (teff <= SURVEY_TEFF_RANGE_K[1])
-    cautions.append(
-        f"p_host_teff_in_survey_range: {SURVEY_TEFF_RANGE_K[0]:.0f}-"
-        f"{SURVEY_TEFF_RANGE_K[1]:.0f} K, roughly late F to early L dwarfs; "
-        "a screening range, not a physical limit.")
-
-    return {
-        "equilibrium_temp_k": stat(t_eq),
-        "surface_temp_k": stat(t_surface),
-        "insolation_earth": stat(insolation),
-        "p_conservative_hz": _fraction(conservative, defined),
-        "p_optimistic_hz": _fraction(optimistic, defined),
-        "p_surface_liquid_water": _fraction(liquid, np.isfinite(t_surface)),
-        "p_host_older_than_0p6_gyr": p_age,
-        "p_host_teff_in_survey_range": _fraction(in_survey, np.isfinite(teff)),
-        "hz_limits_au": hz_limits,
-        "cautions": cautions,
-        "settings": settings.as_dict(),
-    }
+    return {"equilibrium_temp_k": stat(t_eq), "surface_temp_k": stat(t_surface), "insolation_earth": stat(insolation),
+            "p_conservative_hz": hz["p_conservative_hz"], "p_optimistic_hz": hz["p_optimistic_hz"],
+            "p_surface_liquid_water": _fraction(liquid, np.isfinite(t_surface)), **host,
+            "hz_limits_au": hz["hz_limits_au"],
+            "cautions": [GENERAL_CAUTION] + orbit_caution + hz_cautions + [temperature_caution] + host_cautions,
+            "settings": settings.model_dump()}
 
 
-def quick_climate(teff_k, radius_rsun, a_au, albedo=0.3, tau=0.94, redistribution="full"):
+def quick_climate(teff_k, radius_rsun, a_au, albedo=0.3, tau=0.94):
     """Climate screening for single values (the ``planetfit climate`` command).
 
     Returns
@@ -364,17 +257,10 @@ def quick_climate(teff_k, radius_rsun, a_au, albedo=0.3, tau=0.94, redistributio
     dict
         The keys of :func:`climate_block`, with plain numbers in place of
         STATs (probabilities are 0.0 or 1.0).
-
-    Raises
-    ------
-    ValueError
-        Invalid albedo, tau or redistribution (the message names the key).
     """
-    settings = ClimateSettings(albedo=albedo, redistribution=redistribution, tau=tau)
-    block = climate_block(radius_rsun, teff_k, a_au, None, settings)
+    block = climate_block(radius_rsun, teff_k, a_au, None, Climate(albedo=albedo, tau=tau))
     for key in ("equilibrium_temp_k", "surface_temp_k", "insolation_earth"):
         block[key] = block[key]["median"]
     if block["hz_limits_au"] is not None:
-        block["hz_limits_au"] = {name: value["median"]
-                                 for name, value in block["hz_limits_au"].items()}
+        block["hz_limits_au"] = {name: value["median"] for name, value in block["hz_limits_au"].items()}
     return block

@@ -79,7 +79,8 @@ def light_curve(t_bjd, cadence_min):
     p = batman.TransitParams()
     p.t0, p.per, p.rp, p.a = b["transit_bjd"], b["period_days"], k, a_r
     p.inc, p.ecc, p.w = np.degrees(np.arccos(cos_i)), 0.0, 90.0
-    p.u, p.limb_dark = list(TRUTH["limb_darkening_u"]), "quadratic"
+    p.u = list(TRUTH["limb_darkening_u"])
+    p.limb_dark = "quadratic"
     ss = max(1, int(np.ceil(cadence_min / 2.0)))
     model = batman.TransitModel(p, t_bjd, supersample_factor=ss, exp_time=cadence_min / MINUTES_PER_DAY)
     return model.light_curve(p)

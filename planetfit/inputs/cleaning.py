@@ -12,12 +12,9 @@ import numpy as np
 from scipy import ndimage
 
 from planetfit.core.geometry import solve_orbit
-from planetfit.inputs.priors import Normal
 
 #: Margin on the longest transit a circular orbit allows (eccentric orbits can be slower).
 DURATION_MARGIN = 1.5
-#: Normal priors count this many standard deviations as their half-width.
-NORMAL_HALF_WIDTH_SD = 3.0
 #: Scale from the median absolute deviation to a Gaussian sigma (1 / Phi^-1(3/4)).
 MAD_TO_SIGMA = 1.4826
 MAX_CLIP_ITERATIONS = 10
@@ -32,16 +29,6 @@ def segment_slices(labels):
     """Slices of the contiguous runs of equal ``labels`` (segments of time-sorted data)."""
     edges = np.concatenate(([0], np.flatnonzero(np.diff(labels)) + 1, [labels.size]))
     return [slice(a, b) for a, b in zip(edges[:-1], edges[1:])]
-
-
-def centre_and_half_width(prior):
-    """Centre and half-width of a prior: of its bounds if finite, else mean and 3 sd (normal), else a draw and 0."""
-    lo, hi = prior.bounds
-    if math.isfinite(lo) and math.isfinite(hi):
-        return 0.5 * (lo + hi), 0.5 * (hi - lo)
-    if isinstance(prior, Normal):
-        return prior.mean, NORMAL_HALF_WIDTH_SD * prior.sd
-    return prior.sample(np.random.default_rng(0)), 0.0
 
 
 def near_transits(times, planets, star, half_width_days=None):
@@ -65,13 +52,13 @@ def near_transits(times, planets, star, half_width_days=None):
     of the period times the number of orbits from the reference transit.
     """
     mask = np.zeros(times.size, dtype=bool)
-    mass, _ = centre_and_half_width(star.mass_msun)
-    radius, _ = centre_and_half_width(star.radius_rsun)
+    mass = star.mass_msun.centre
+    radius = star.radius_rsun.centre
     for p in planets:
         if not p.transits:
             continue
-        period, dp = centre_and_half_width(p.period_days)
-        t0, dt0 = centre_and_half_width(p.transit_bjd)
+        period, dp = p.period_days.centre, p.period_days.half_width
+        t0, dt0 = p.transit_bjd.centre, p.transit_bjd.half_width
         half = half_width_days
         if half is None:
             a_r = float(solve_orbit(period, 0.0, 0.0, 0.0, math.pi / 2, mass, radius)[0])

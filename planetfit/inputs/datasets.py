@@ -26,7 +26,6 @@ from planetfit.core.errors import InputError
 from planetfit.inputs.fits import is_fits, read_fits_table
 from planetfit.inputs.tables import read_table
 from planetfit.inputs.timesystems import check_time_references, to_bjd_tdb
-from planetfit.fitting.models import exposure
 from planetfit.core.units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 log = logging.getLogger("planetfit")
@@ -59,7 +58,6 @@ class Photometry:
     flux: np.ndarray
     error: np.ndarray
     exposure_days: float
-    supersample: int                # sub-exposures per exposure (planetfit.fitting.models.exposure)
     band: str
     dropped_nan: int = 0
     normalisation: float = 1.0
@@ -68,15 +66,13 @@ class Photometry:
     clipped: int = 0
     dropped_far_from_transits: int = 0
     reading: Reading = dataclasses.field(default_factory=Reading)
-    integration_error_ppm: float = 0.0  # largest exposure-integration error of the sharpest transit allowed
 
     def counts(self):
-        """Point counts of the cleaning steps and the exposure integration (the ``data`` block of summary.json)."""
+        """Point counts of the cleaning steps and how the rows were read (the ``data`` block of summary.json)."""
         return {"points": int(self.time.size), "dropped_nan": self.dropped_nan,
                 "dropped_quality": self.dropped_quality, "clipped": self.clipped,
                 "dropped_far_from_transits": self.dropped_far_from_transits,
                 "segments": int(np.unique(self.segment).size) if self.segment is not None else 1,
-                "supersample": self.supersample, "integration_error_ppm": self.integration_error_ppm,
                 **self.reading.counts()}
 
 
@@ -163,7 +159,7 @@ def _to_bjd(cfg, time, star):
 
 def _read_light_curve(cfg, path):
     """One file's table (full JD times), its quality-flagged rows dropped, (rows read, kept) and a warning."""
-    columns = dict(cfg.columns)
+    columns = cfg.columns.model_dump()
     if cfg.quality_column is not None:
         columns["quality"] = cfg.quality_column
     rows, warning = None, None
@@ -205,13 +201,13 @@ def read_photometry(cfg, star=None):
     table = {k: np.concatenate([t[k] for t in parts]) for k in parts[0]}
     if flagged:
         log.info("%s: dropped %d rows with quality flags set", cfg.name, flagged)
-    table, dropped, facts = _clean(cfg.file, table, cfg)
+    table, dropped, facts = _clean(cfg.path, table, cfg)
     reading = Reading(time_system=cfg.time_system, rows_read=int(rows[0]), rows_selected=int(rows[1]),
                       warnings=warnings, **facts)
     time = _to_bjd(cfg, table["time"], star)
     return Photometry(name=cfg.name, time=time, flux=table["flux"], error=table["error"],
-                      exposure_days=cfg.exposure_min / MINUTES_PER_DAY, supersample=cfg.supersample,
-                      band=cfg.band, dropped_nan=dropped, segment=cleaning.segment_labels(time, cfg.segment_gap_days),
+                      exposure_days=cfg.exposure_min / MINUTES_PER_DAY,
+                      band=cfg.band_name, dropped_nan=dropped, segment=cleaning.segment_labels(time, cfg.segment_gap_days),
                       dropped_quality=flagged, reading=reading)
 
 
@@ -219,7 +215,7 @@ def _normalise(d, cfg):
     """Divide each segment's flux and errors by its median flux (in place); return the first segment's median."""
     levels = [float(np.median(d.flux[seg])) for seg in cleaning.segment_slices(d.segment)]
     if not min(levels) > 0:
-        raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.file,
+        raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.path,
                          key=f"{cfg.section}.columns.flux",
                          fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
     for seg, level in zip(cleaning.segment_slices(d.segment), levels):
@@ -227,7 +223,7 @@ def _normalise(d, cfg):
     return levels[0]  # reported; every segment is normalised to its own
 
 
-def clean_photometry(d, cfg, planets=(), star=None, limb_darkening=None):
+def clean_photometry(d, cfg, planets=(), star=None):
     """Normalise a dataset of :func:`read_photometry` per segment and clip it; return the cleaned dataset.
 
     Parameters
@@ -239,8 +235,6 @@ def clean_photometry(d, cfg, planets=(), star=None, limb_darkening=None):
         ``near_transits_hours``, alone kept.
     star : StarConfig
         Sets the longest transit the priors allow.
-    limb_darkening : (Prior, Prior), optional
-        The band's q1, q2 priors (those of its first dataset); ``cfg``'s by default.
     """
     if cfg.normalise:
         d.normalisation = _normalise(d, cfg)
@@ -258,32 +252,26 @@ def clean_photometry(d, cfg, planets=(), star=None, limb_darkening=None):
             log.info("%s: clipped %d outliers (%.1f sigma), dropped %d points far from predicted transits",
                      cfg.name, d.clipped, cfg.clip_sigma, d.dropped_far_from_transits)
         if not keep.any():
-            raise InputError("no points are left near the predicted transits.", file=cfg.file,
+            raise InputError("no points are left near the predicted transits.", file=cfg.path,
                              key=f"{cfg.section}.near_transits_hours", fix="check the ephemeris priors, or widen the window.")
-    q1, q2 = limb_darkening or (cfg.q1, cfg.q2)
-    sampling = exposure.choose_sampling(cfg.name, d.exposure_days, float(np.median(d.error[keep])),
-                                        exposure.sharpest_transits(planets, star, q1, q2), cfg.supersample)
-    if sampling.warning:
-        d.reading.warnings.append(sampling.warning)
-    return dataclasses.replace(d, time=d.time[keep], flux=d.flux[keep], error=d.error[keep], segment=d.segment[keep],
-                               supersample=sampling.supersample, integration_error_ppm=sampling.error_ppm)
+    return dataclasses.replace(d, time=d.time[keep], flux=d.flux[keep], error=d.error[keep], segment=d.segment[keep])
 
 
-def load_photometry(cfg, planets=(), star=None, limb_darkening=None):
+def load_photometry(cfg, planets=(), star=None):
     """:func:`read_photometry` then :func:`clean_photometry`."""
-    return clean_photometry(read_photometry(cfg, star), cfg, planets, star, limb_darkening)
+    return clean_photometry(read_photometry(cfg, star), cfg, planets, star)
 
 
 def load_velocities(cfg, star=None):
-    """Read one RV dataset from its :class:`~planetfit.inputs.oldconfig.VelocityConfig`.
+    """Read one RV dataset from its :class:`~planetfit.inputs.config.VelocityConfig`.
 
     Activity indicators named in ``decorrelate`` are read as extra columns
     and centred on their medians. ``star`` gives the sky position that
     HJD_UTC times need.
     """
-    columns = dict(cfg.columns, **{f"indicator:{c}": c for c in cfg.decorrelate})
-    table, rows, warning = _text_table(cfg, cfg.file, columns, "one offset and one jitter")
-    table, dropped, facts = _clean(cfg.file, table, cfg)
+    columns = dict(cfg.columns.model_dump(), **{f"indicator:{c}": c for c in cfg.decorrelate})
+    table, rows, warning = _text_table(cfg, cfg.path, columns, "one offset and one jitter")
+    table, dropped, facts = _clean(cfg.path, table, cfg)
     indicators = {c: table[f"indicator:{c}"] - np.median(table[f"indicator:{c}"]) for c in cfg.decorrelate}
     reading = Reading(time_system=cfg.time_system, rows_read=rows[0], rows_selected=rows[1],
                       warnings=[warning] if warning else [], **facts)
@@ -298,13 +286,10 @@ def load_all(config):
     -------
     (list of Photometry, list of Velocities)
     """
-    bands = {}
-    for c in config.photometry:
-        bands.setdefault(c.band, (c.q1, c.q2))  # a band's limb darkening has its first dataset's priors
     phot = [read_photometry(c, config.star) for c in config.photometry]
     rvs = [load_velocities(c, config.star) for c in config.velocities]
     # Times are checked before the cleaning, which keeps only points near transits predicted in BJD_TDB.
     check_time_references(config, [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
                           + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))])
-    phot = [clean_photometry(d, c, config.planets, config.star, bands[c.band]) for d, c in zip(phot, config.photometry)]
+    phot = [clean_photometry(d, c, config.planets, config.star) for d, c in zip(phot, config.photometry)]
     return phot, rvs

@@ -51,9 +51,9 @@ class Prior:
 
     @property
     def half_width(self):
-        """Half the physical width of :attr:`span`."""
+        """The largest distance from :attr:`centre` to an end of :attr:`span`: centre +- half_width covers it."""
         lo, hi = self.span
-        return 0.5 * (hi - lo)
+        return max(hi - self.centre, self.centre - lo)
 
     @property
     def sampler_width(self):

@@ -5,7 +5,6 @@ import multiprocessing
 import time
 from pathlib import Path
 
-from planetfit.fitting.posterior import prior_only_parameters
 from planetfit.report import tables
 from planetfit.report.figures import figure_builders
 from planetfit.report.files import write_text_atomic
@@ -35,9 +34,7 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
         Processes drawing figures (:func:`draw_figures`).
     """
     run_dir = Path(run_dir)
-    priors = {**posterior.layout.priors, **dict(prior_only_parameters(checked.config)),
-              **tables.star_priors(checked.config)}
-    rows = tables.table_rows(summary, priors)
+    rows = tables.table_rows(summary, posterior.model, checked.config.star)
     write_text_atomic(run_dir / "table.tex", tables.latex_table(summary, rows))
     write_text_atomic(run_dir / "summary.md", summary_markdown(summary, rows))
     if not figures:

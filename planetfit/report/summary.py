@@ -22,12 +22,13 @@ PLANET_KEYS = ("period_days", "transit_bjd", "radius_ratio", "impact", "inclinat
 UNMEASURED_WITHOUT_RVS = ("rv_amplitude_ms", "mass_earth", "mass_jup", "density_gcc", "surface_gravity_ms2")
 
 
-def build_summary(config, derived, blocks, sampling):
+def build_summary(config, model, derived, blocks, sampling):
     """The summary.json content.
 
     Parameters
     ----------
     config : Config
+    model : Model
     derived : dict
         Output of :func:`planetfit.context.derived.derive` after context.
     blocks : dict
@@ -46,15 +47,15 @@ def build_summary(config, derived, blocks, sampling):
     flagged = derived["prior_only"]
     star = {k: _stat(derived["star"][k], k in flagged["star"]) for k in STAR_KEYS if k in derived["star"]}
     planets = {}
-    for p in config.planets:
+    for p, block in zip(model.planets, config.planets):
         q = derived["planets"][p.name]
         entry = {k: _stat(q[k], k in flagged["planets"][p.name]) for k in PLANET_KEYS if k in q}
         entry["transits"] = p.transits
-        entry["orbit"] = p.orbit
+        entry["orbit"] = block.orbit  # the config's word, echoed
         if not p.transits:
-            entry["mass_is_minimum"] = p.inclination_deg is None
+            entry["mass_is_minimum"] = p.inclination is None
             entry["note"] = ("not transiting: mass_earth and mass_jup are minimum masses (M sin i)"
-                             if p.inclination_deg is None else
+                             if p.inclination is None else
                              "not transiting: true mass from the inclination prior (inclination_deg is prior only)")
         if not config.velocities:
             # K is held fixed without RVs: whatever mass follows from it was assumed, not measured.

@@ -6,12 +6,9 @@ Numbers follow the rounding rule of :mod:`planetfit.report.rounding`.
 
 import dataclasses
 
-from planetfit.report import quantities as q
+from planetfit.core import quantities as q
 from planetfit.report.rounding import number_text, value_tex
 
-# Parameter keys of the sampled vector, in the order they appear in the table.
-_PLANET_FITTED = ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms",
-                  "sqrt_e_cos_w", "sqrt_e_sin_w")
 _PLANET_DERIVED = ("inclination_deg", "a_over_rstar", "semi_major_axis_au", "eccentricity", "omega_deg",
                    "mass_earth", "mass_jup", "radius_earth", "radius_jup", "density_gcc",
                    "surface_gravity_ms2", "transit_duration_hr", "equilibrium_temp_k", "insolation_earth")
@@ -80,70 +77,66 @@ class Row:
         return f"{base} (prior only)" if self.prior_only else base
 
 
-def _owner_and_key(name):
-    owner, _, key = name.rpartition(".")
-    return owner, key
-
-
-def table_rows(summary, priors):
-    """Rows of the parameter table.
-
-    Parameters
-    ----------
-    summary : dict
-        summary.json content.
-    priors : dict
-        Parameter name -> Prior for every model parameter, fixed or free
-        (``ParameterLayout.priors``, in layout order), plus the star's
-        Teff and age priors (:func:`star_priors`).
-
-    Returns
-    -------
-    list of Row
-    """
+def _fitted_rows(summary, parameters):
+    """Rows of the fitted parameters, by group: the star, each planet, the instruments and bands."""
     fitted = summary["fitted_parameters"]
-    planets = summary["planets"]
-    rows = [Row("Fitted parameters"), Row("Star")]
 
-    def fitted_row(name, quantity, qualifier=""):
-        prior = priors[name]
-        if prior.fixed:
-            return Row("", quantity, qualifier, prior, {"median": prior.value, "lower": prior.value,
-                                                        "upper": prior.value})
-        return Row("", quantity, qualifier, prior, fitted[name], f"fitted_parameters.{name}")
+    def row(p):
+        if p.prior.fixed:
+            v = p.prior.value
+            return Row("", p.quantity, p.qualifier, p.prior, {"median": v, "lower": v, "upper": v})
+        return Row("", p.quantity, p.qualifier, p.prior, fitted[p.name], f"fitted_parameters.{p.name}")
 
-    sampled_star = [k for k in _STAR_FITTED if not (summary["star"].get(k) or {}).get("prior_only")]
-    rows += [fitted_row(f"star.{k}", q.STAR[k]) for k in sampled_star]
-    for pname, p in planets.items():
+    rows = [Row("Fitted parameters"), Row("Star")] + [row(p) for p in parameters if p.group == "star"]
+    for pname in summary["planets"]:
         rows.append(Row(f"Planet {pname}"))
-        rows += [fitted_row(f"{pname}.{k}", q.planet_quantity(k, p["transits"]))
-                 for k in _PLANET_FITTED if f"{pname}.{k}" in priors]
-    datasets = [n for n in priors if _owner_and_key(n)[0] not in planets and not n.startswith("star.")]
-    if datasets:
-        rows.append(Row("Instruments"))
-        for name in datasets:
-            owner, key = _owner_and_key(name)
-            rows.append(fitted_row(name, q.DATASET[key], owner))
-    rows += [Row("Derived parameters"), Row("Star")]
-    rows += [Row("", q.STAR[k], "", priors.get(f"star.{k}"), summary["star"][k], f"star.{k}")
-             for k in _STAR_FITTED + _STAR_DERIVED
-             if k in summary["star"] and k not in sampled_star]
-    for pname, p in planets.items():
-        heading = f"Planet {pname}" + ("" if p["orbit"] == "eccentric" else " (circular orbit)")
-        rows.append(Row(heading))
+        rows += [row(p) for p in parameters if p.group == "planet" and p.owner == pname]
+    instruments = [row(p) for p in parameters if p.group == "instrument"]
+    return rows + ([Row("Instruments")] + instruments if instruments else [])
+
+
+def _derived_rows(summary, priors, eccentric):
+    """Rows of the derived quantities (and of the prior-only ones, with their priors)."""
+    rows = [Row("Derived parameters"), Row("Star")]
+    star = summary["star"]
+    rows += [Row("", q.STAR[k], "", priors.get(f"star.{k}"), star[k], f"star.{k}") for k in _STAR_FITTED + _STAR_DERIVED
+             if k in star and (k in _STAR_DERIVED or (star[k] or {}).get("prior_only"))]
+    for pname, p in summary["planets"].items():
+        rows.append(Row(f"Planet {pname}" + ("" if eccentric[pname] else " (circular orbit)")))
         for k in _PLANET_DERIVED:
-            if k not in p or (p["orbit"] != "eccentric" and k in ("eccentricity", "omega_deg")):
+            if k not in p or (not eccentric[pname] and k in ("eccentricity", "omega_deg")):
                 continue
             prior = priors.get(f"{pname}.{k}") if (p[k] or {}).get("prior_only") else None
             rows.append(Row("", q.planet_quantity(k, p["transits"]), "", prior, p[k], f"planets.{pname}.{k}"))
     return rows
 
 
-def star_priors(config):
+def table_rows(summary, model, star):
+    """Rows of the parameter table.
+
+    Parameters
+    ----------
+    summary : dict
+        summary.json content.
+    model : Model
+        Its parameters (fixed and free, in layout order) and prior-only parameters give labels and priors.
+    star : schema.Star
+        The star's Teff and age priors.
+
+    Returns
+    -------
+    list of Row
+    """
+    priors = {p.name: p.prior for p in model.prior_only} | star_priors(star)
+    eccentric = {p.name: p.orbit.eccentric for p in model.planets}
+    return _fitted_rows(summary, list(model.layout.parameters.values())) + _derived_rows(summary, priors, eccentric)
+
+
+def star_priors(star):
     """Star Teff and age priors by the names :func:`table_rows` looks up."""
-    out = {"star.teff_k": config.star.teff_k}
-    if config.star.age_gyr is not None:
-        out["star.age_gyr"] = config.star.age_gyr
+    out = {"star.teff_k": star.teff_k}
+    if star.age_gyr is not None:
+        out["star.age_gyr"] = star.age_gyr
     return out
 
 

@@ -72,6 +72,24 @@ def _verdict(out, p_rocky):
     return f"{text}; {_CAVEAT}."
 
 
+def _radii_at_median_mass(grid, mass_earth):
+    """The reference curves' radii at the median of the finite masses (None off the grid)."""
+    m = np.asarray(mass_earth, dtype=float).ravel()
+    median = np.median(m[np.isfinite(m)]) if np.isfinite(m).any() else np.nan
+    radii = {name: grid.radius_at_mass([median], *grid.node_index(*nodes))[0] for name, nodes in REFERENCE_CURVES.items()}
+    return {name: (float(value) if np.isfinite(value) else None) for name, value in radii.items()}
+
+
+def _fractions(grid, m, r, rocky, between):
+    """Iron fractions of the rocky samples (water-free grid) and minimum water fractions of those ``between``
+    the silicate and water-world curves (over an Earth-like interior)."""
+    i_earth, j_dry = grid.node_index(EARTH_LIKE_IRON_FRACTION, 0.0)
+    iron = _fraction_from_curves(r[rocky], grid.radius_at_mass(m[rocky], slice(None), j_dry), grid.iron_fraction)
+    water = _fraction_from_curves(r[between], grid.radius_at_mass(m[between], i_earth, slice(None)),
+                                  grid.water_fraction)
+    return iron, water
+
+
 def composition(mass_earth, radius_earth):
     """Composition verdict from joint mass and radius samples.
 
@@ -101,29 +119,18 @@ def composition(mass_earth, radius_earth):
     grid = load_grid()
     usable = grid.inside(m) & np.isfinite(r) & (r > 0)
     m, r = m[usable], r[usable]
-    i_earth, j_dry = grid.node_index(EARTH_LIKE_IRON_FRACTION, 0.0)
     curves = {name: grid.radius_at_mass(m, *grid.node_index(*nodes))
               for name, nodes in REFERENCE_CURVES.items()}
 
     rocky = r <= curves["silicate"]
-    between = ~rocky & (r <= curves["water_world"])
     above = r > curves["water_world"]
-    iron = _fraction_from_curves(r[rocky], grid.radius_at_mass(m[rocky], slice(None), j_dry),
-                                 grid.iron_fraction)
-    water = _fraction_from_curves(r[between],
-                                  grid.radius_at_mass(m[between], i_earth, slice(None)),
-                                  grid.water_fraction)
+    iron, water = _fractions(grid, m, r, rocky, ~rocky & ~above)
 
     def mean(flags):
         return float(flags.mean()) if m.size else None
 
     p_rocky = mean(rocky)
     p_above = mean(above)
-    all_mass = np.asarray(mass_earth, dtype=float).ravel()
-    median_mass = np.median(all_mass[np.isfinite(all_mass)]) if np.isfinite(all_mass).any() \
-        else np.nan
-    at_median = {name: grid.radius_at_mass([median_mass], *grid.node_index(*nodes))[0]
-                 for name, nodes in REFERENCE_CURVES.items()}
     out = {
         "p_rocky": p_rocky,
         "p_volatile_rich": None if p_rocky is None else 1.0 - p_rocky,
@@ -136,8 +143,7 @@ def composition(mass_earth, radius_earth):
         "gas_envelope_required": bool(p_above is not None and p_above > _MAJORITY),
         "fraction_outside_grid": float(1.0 - usable.mean()),
         "grid_mass_range_earth": list(grid.mass_range_earth),
-        "reference_radii_earth": {name: (float(value) if np.isfinite(value) else None)
-                                  for name, value in at_median.items()},
+        "reference_radii_earth": _radii_at_median_mass(grid, mass_earth),
         "assumptions": ASSUMPTIONS,
     }
     out["verdict"] = _verdict(out, p_rocky)

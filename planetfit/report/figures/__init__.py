@@ -9,7 +9,9 @@ from functools import partial
 import numpy as np
 
 from planetfit.report.figures.common import PosteriorView, file_stem
-from planetfit.report.figures.convergence import convergence_figure, read_chain
+from planetfit.fitting import predictions
+from planetfit.fitting.chainfile import read_chain
+from planetfit.report.figures.convergence import convergence_figure, physical_chain
 from planetfit.report.figures.corners import physical_corner, sampled_corner
 from planetfit.report.figures.habitable_zone import habitable_zone_figure
 from planetfit.report.figures.mass_radius import mass_radius_figure
@@ -18,7 +20,8 @@ from planetfit.report.figures.velocity import rv_phase_figure, rv_time_figure
 
 
 def _convergence(run_dir, posterior, summary, target_factor):
-    history, chain = read_chain(run_dir / "samples.h5", posterior.layout)
+    history, raw = read_chain(run_dir / "samples.h5")
+    chain = physical_chain(raw, posterior.layout)
     return convergence_figure(history, chain, posterior.layout.free, summary["sampling"]["discard"], target_factor)
 
 
@@ -37,7 +40,7 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
             out.append((f"transit_{file_stem(p.name)}_{file_stem(d.name)}",
                         partial(transit_figure, posterior, view, p, i, duration_hr)))
     for i, c in enumerate(checked.config.photometry):
-        if c.baseline == "gp":
+        if predictions.has_variability_model(posterior, i):
             out.append((f"light_curve_{file_stem(c.name)}", partial(light_curve_figure, posterior, view, i)))
     if posterior.velocities:
         out += [(f"rv_phase_{file_stem(p.name)}", partial(rv_phase_figure, posterior, view, p)) for p in planets]

@@ -1,7 +1,6 @@
 """Convergence figure: autocorrelation time against steps, and walker traces."""
 
 import emcee
-import h5py
 import numpy as np
 
 from planetfit.report import style
@@ -11,21 +10,11 @@ N_TRACES = 3
 MAX_TRACE_POINTS = 1500
 
 
-def read_chain(h5_path, layout):
-    """Autocorrelation history and the full chain in physical values from a run's samples.h5.
-
-    Returns
-    -------
-    history : ndarray, shape (k, 2)
-        (step, largest autocorrelation time estimate) rows.
-    chain : ndarray, shape (steps, walkers, ndim)
-    """
-    with h5py.File(h5_path, "r") as fh:
-        history = np.asarray(fh["planetfit"]["autocorr_history"], dtype=float).reshape(-1, 2)
-    raw = emcee.backends.HDFBackend(str(h5_path), name="chain", read_only=True).get_chain()
+def physical_chain(raw, layout):
+    """The chain (steps, walkers, ndim) of sampler coordinates in physical values."""
     values = layout.values(raw.reshape(-1, raw.shape[-1]))
     chain = np.stack([np.broadcast_to(values[n], raw.shape[0] * raw.shape[1]) for n in layout.free], axis=-1)
-    return history, chain.reshape(raw.shape)
+    return chain.reshape(raw.shape)
 
 
 def convergence_figure(history, chain, names, discard, target_factor):

@@ -6,7 +6,7 @@ from matplotlib.figure import Figure
 from matplotlib.ticker import ScalarFormatter
 
 from planetfit.core.stats import LOWER_PERCENTILE, UPPER_PERCENTILE
-from planetfit.report import quantities as q
+from planetfit.core import quantities as q
 from planetfit.report import style
 from planetfit.report.rounding import number_text
 from planetfit.report.figures.common import LEVELS_2D, offset_for_display
@@ -65,7 +65,7 @@ def physical_corner(derived, planet):
     """
     values = derived["planets"][planet.name]
     keys = list(_TRANSITING if planet.transits else _RV_ONLY)
-    if planet.orbit == "eccentric":
+    if planet.orbit.eccentric:
         keys.append("eccentricity")
     # A quantity held fixed (K = 0 in a transit-only fit, and the mass with it) has nothing to show.
     keys = [k for k in keys if np.all(np.isfinite(values[k])) and np.ptp(values[k]) > 0]

@@ -4,8 +4,9 @@ import math
 
 import numpy as np
 
-from planetfit.fitting.models.transit import TransitLightCurve, quadratic_coefficients
 from planetfit.core.units import HOURS_PER_DAY, MINUTES_PER_DAY, PPM
+from planetfit.fitting import predictions
+from planetfit.fitting.components.transit import TransitLightCurve
 from planetfit.report import style
 from planetfit.report.figures.common import band, bin_points, phase_days
 
@@ -19,22 +20,47 @@ GRID_POINTS = 400
 DENSE_POINTS = 1000
 
 
-def _model_ppm(lc, values, orbit, planet, band_name, dilution_name=None):
-    """One planet's (diluted) transit (relative flux - 1, ppm) on ``lc``'s times, measured from mid-transit."""
-    n = planet.name
-    dilution = values[dilution_name] if dilution_name else 0.0
-    u1, u2 = quadratic_coefficients(values[f"{band_name}.limb_darkening_q1"],
-                                    values[f"{band_name}.limb_darkening_q2"])
-    f = lc.flux(np.arange(lc.times.size), values[f"{n}.period_days"], 0.0, orbit["a_over_rstar"],
-                math.acos(orbit["cos_i"]), orbit["e"], orbit["omega_rad"], values[f"{n}.radius_ratio"], u1, u2)
+def _model_ppm(lc, values, orbit, planet, model, limb_darkening):
+    """One planet's (diluted) transit (relative flux - 1, ppm) on ``lc``'s times, measured from mid-transit.
+
+    ``model`` is the dataset's PhotometryModel (for its dilution), ``limb_darkening`` its band's.
+    """
+    dilution = values[model.dilution.name] if model.dilution else 0.0
+    u1, u2 = limb_darkening.coefficients(values)
+    f = lc.flux(np.arange(lc.times.size), values[planet.period.name], 0.0, orbit["a_over_rstar"],
+                math.acos(orbit["cos_i"]), orbit["e"], orbit["omega_rad"], values[planet.radius_ratio.name], u1, u2)
     return (f - 1.0) * (1 - dilution) / PPM
 
 
 def detrended(posterior, values, orbits, index):
     """Dataset ``index``'s flux with the noise model's prediction (GP variability) removed, and its baseline."""
     d = posterior.photometry[index]
-    flux = d.flux - posterior.photometry_noise_prediction(values, orbits, index)
-    return flux, np.broadcast_to(posterior.baselines[index].flux(values), d.time.shape)
+    flux = d.flux - predictions.photometry_noise_prediction(posterior, values, orbits, index)
+    return flux, predictions.baseline_flux(posterior, values, index)
+
+
+def _folded_data(posterior, view, planet, index, half_hr):
+    """Times from mid-transit (h) within ``half_hr``, the planet's own transit signal and the residuals (ppm)."""
+    d = posterior.photometry[index]
+    v, orbits = view.median, view.median_orbits
+    flux, level = detrended(posterior, v, orbits, index)
+    full = predictions.photometry_model(posterior, v, orbits, index)
+    own = predictions.photometry_model(posterior, v, orbits, index, planets=[planet.name])
+    x_hr = phase_days(d.time, v[planet.period.name], v[planet.transit_time.name]) * HOURS_PER_DAY
+    sel = np.abs(x_hr) <= half_hr
+    return (x_hr[sel], ((flux - (full - own))[sel] / level[sel] - 1.0) / PPM,
+            (flux - full)[sel] / level[sel] / PPM)
+
+
+def _model_curves(posterior, view, planet, index, half_hr):
+    """A time grid (h from mid-transit), the median model and the 68% band of the draws on it (ppm)."""
+    d = posterior.photometry[index]
+    grid_hr = np.linspace(-half_hr, half_hr, GRID_POINTS)
+    lc = TransitLightCurve(grid_hr / HOURS_PER_DAY, d.exposure_days, posterior.model.exposures[d.name].supersample)
+    model, ld = posterior.model.photometry[index], posterior.model.bands[d.band]
+    median = _model_ppm(lc, view.median, view.median_orbits[planet.name], planet, model, ld)
+    lo, hi = band([_model_ppm(lc, val, orb[planet.name], planet, model, ld) for val, orb in view.draws])
+    return grid_hr, median, lo, hi
 
 
 def transit_figure(posterior, view, planet, index, duration_hr):
@@ -62,22 +88,9 @@ def transit_figure(posterior, view, planet, index, duration_hr):
         Two axes: flux, residuals.
     """
     d = posterior.photometry[index]
-    v, orbits = view.median, view.median_orbits
-    flux, level = detrended(posterior, v, orbits, index)
-    full = posterior.photometry_model(v, orbits, index)
-    own = posterior.photometry_model(v, orbits, index, planets=[planet.name])
-    x_hr = phase_days(d.time, v[f"{planet.name}.period_days"], v[f"{planet.name}.transit_bjd"]) * HOURS_PER_DAY
     half = max(WINDOW_DURATIONS * duration_hr, MIN_HALF_WINDOW_HR)
-    sel = np.abs(x_hr) <= half
-    x_hr = x_hr[sel]
-    flux_ppm = ((flux - (full - own))[sel] / level[sel] - 1.0) / PPM
-    resid_ppm = (flux - full)[sel] / level[sel] / PPM
-
-    grid_hr = np.linspace(-half, half, GRID_POINTS)
-    lc = TransitLightCurve(grid_hr / HOURS_PER_DAY, d.exposure_days, d.supersample)
-    dilution = posterior.dilution_names[index]
-    median_model = _model_ppm(lc, v, orbits[planet.name], planet, d.band, dilution)
-    lo, hi = band([_model_ppm(lc, val, orb[planet.name], planet, d.band, dilution) for val, orb in view.draws])
+    x_hr, flux_ppm, resid_ppm = _folded_data(posterior, view, planet, index, half)
+    grid_hr, median_model, lo, hi = _model_curves(posterior, view, planet, index, half)
     width_hr = max(duration_hr / BINS_PER_DURATION, d.exposure_days * HOURS_PER_DAY)
 
     with style.style():
@@ -113,9 +126,9 @@ def transit_figure(posterior, view, planet, index, duration_hr):
 def _removed(posterior, index):
     """What the folded points have had subtracted or divided out."""
     parts = ["baseline"]
-    if posterior.config.photometry[index].baseline == "gp":
+    if predictions.has_variability_model(posterior, index):
         parts.append("variability (GP mean)")
-    if len(posterior.transiting) > 1:
+    if len(posterior.model.transiting) > 1:
         parts.append("other planets")
     return ", ".join(parts[:-1]) + (" and " if len(parts) > 1 else "") + parts[-1]
 
@@ -139,9 +152,9 @@ def light_curve_figure(posterior, view, index):
     """
     d = posterior.photometry[index]
     v, orbits = view.median, view.median_orbits
-    model = posterior.photometry_model(v, orbits, index)
-    gp = posterior.photometry_noise_prediction(v, orbits, index)
-    base = posterior.baselines[index].flux(v)
+    model = predictions.photometry_model(posterior, v, orbits, index)
+    gp = predictions.photometry_noise_prediction(posterior, v, orbits, index)
+    base = predictions.baseline_flux(posterior, v, index)
     t0 = float(np.floor(d.time.min()))
     x = d.time - t0
     gaps = np.flatnonzero(np.diff(d.time) > 10 * np.median(np.diff(d.time))) + 1

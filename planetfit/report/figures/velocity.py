@@ -6,7 +6,8 @@ legend title, so a reader never mistakes corrected points for raw ones.
 
 import numpy as np
 
-from planetfit.fitting.models.keplerian import radial_velocity_ms
+from planetfit.fitting import predictions
+from planetfit.fitting.keplerian import radial_velocity_ms
 from planetfit.report import style
 from planetfit.report.figures.common import band, phase_days
 
@@ -16,27 +17,27 @@ POINTS_PER_PERIOD = 40
 MAX_GRID_POINTS = 20000
 
 
-def planet_rv_ms(values, orbit, name, times):
+def planet_rv_ms(values, orbit, planet, times):
     """One planet's Keplerian RV (m/s) at ``times``."""
-    return radial_velocity_ms(times, values[f"{name}.period_days"], orbit["periastron_bjd"], orbit["e"],
-                              orbit["omega_rad"], values[f"{name}.rv_amplitude_ms"])
+    return radial_velocity_ms(times, values[planet.period.name], orbit["periastron_bjd"], orbit["e"],
+                              orbit["omega_rad"], values[planet.amplitude.name])
 
 
 def _corrected(posterior, view, index):
     """RVs without offset and activity-GP prediction, the model (planets, trend, decorrelation), jitter-inflated errors."""
-    d = posterior.velocities[index]
+    d, s = posterior.velocities[index], posterior.model.velocity.spectrographs[index]
     v = view.median
-    rv = d.rv - v[f"{d.name}.offset_ms"] - posterior.velocity_noise_prediction(v, view.median_orbits)[index]
-    err = np.hypot(d.error, v[f"{d.name}.jitter_ms"])
-    return d, rv, posterior.velocity_model(v, view.median_orbits, index), err
+    rv = d.rv - v[s.offset.name] - predictions.velocity_noise_prediction(posterior, v, view.median_orbits)[index]
+    err = np.hypot(d.error, v[s.jitter.name])
+    return d, rv, predictions.velocity_model(posterior, v, view.median_orbits, index), err
 
 
 def removed_text(posterior, *extra):
     """Legend title naming what was subtracted from the plotted RVs."""
     parts = ["offsets", *extra]
-    if posterior.config.rv_activity is not None:
+    if predictions.has_activity_model(posterior):
         parts.append("activity (GP mean)")
-    if any(dec.names for dec in posterior.decorrelations):
+    if posterior.model.velocity.has_indicators:
         parts.append("activity-indicator terms")
     text = ", ".join(parts[:-1]) + (" and " if len(parts) > 1 else "") + parts[-1]
     return f"data: {text} removed"
@@ -70,14 +71,14 @@ def rv_phase_figure(posterior, view, planet):
     """
     name = planet.name
     v, orbits = view.median, view.median_orbits
-    period = v[f"{name}.period_days"]
+    period = v[planet.period.name]
 
     def phase(times):
-        return phase_days(times, period, v[f"{name}.transit_bjd"]) / period
+        return phase_days(times, period, v[planet.transit_time.name]) / period
 
     def folded(i):
         d, rv, model, err = _corrected(posterior, view, i)
-        own = planet_rv_ms(v, orbits[name], name, d.time)
+        own = planet_rv_ms(v, orbits[name], planet, d.time)
         return phase(d.time), rv - (model - own), err
 
     def residual(i):
@@ -85,11 +86,11 @@ def rv_phase_figure(posterior, view, planet):
         return phase(d.time), rv - model, err
 
     grid = np.linspace(-0.5, 0.5, GRID_POINTS)
-    median = planet_rv_ms(v, orbits[name], name, v[f"{name}.transit_bjd"] + grid * period)
-    lo, hi = band([planet_rv_ms(val, orb[name], name, val[f"{name}.transit_bjd"] + grid * val[f"{name}.period_days"])
+    median = planet_rv_ms(v, orbits[name], planet, v[planet.transit_time.name] + grid * period)
+    lo, hi = band([planet_rv_ms(val, orb[name], planet, val[planet.transit_time.name] + grid * val[planet.period.name])
                    for val, orb in view.draws])
     others = ["other planets"] if len(posterior.planets) > 1 else []
-    others += ["trend"] if posterior.trend is not None else []
+    others += ["trend"] if posterior.model.velocity.trend is not None else []
     with style.style():
         fig, (top, bottom) = _panels(style.COLUMN_WIDTH_IN, 3.4)
         top.fill_between(grid, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0, label="68% of draws")
@@ -111,7 +112,7 @@ def _time_grid(posterior, view):
     t0 = float(np.floor(t_all.min() / 100.0) * 100.0)
     span = t_all.max() - t_all.min()
     t_lo, t_hi = t_all.min() - 0.03 * span, t_all.max() + 0.03 * span
-    shortest = min(v[f"{p.name}.period_days"] for p in posterior.planets)
+    shortest = min(v[p.period.name] for p in posterior.planets)
     n = int(min(MAX_GRID_POINTS, max(GRID_POINTS, POINTS_PER_PERIOD * (t_hi - t_lo) / shortest)))
     return t0, t_lo, t_hi, np.linspace(t_lo, t_hi, n)
 
@@ -119,7 +120,7 @@ def _time_grid(posterior, view):
 def _activity_panel(ax, posterior, view, grid, t0):
     """RVs minus offsets, planets and trend, with the activity GP's mean and 68% band per spectrograph."""
     v = view.median
-    prediction = posterior.activity_prediction(v, view.median_orbits, grid)
+    prediction = predictions.activity_prediction(posterior, v, view.median_orbits, grid)
     for i, (mean, sd) in enumerate(prediction):
         colour = style.CYCLE[i % len(style.CYCLE)]
         ax.fill_between(grid - t0, mean - sd, mean + sd, color=colour, alpha=0.2, lw=0)
@@ -127,7 +128,7 @@ def _activity_panel(ax, posterior, view, grid, t0):
 
     def activity(i):
         d, rv, model, err = _corrected(posterior, view, i)
-        gp = posterior.velocity_noise_prediction(v, view.median_orbits)[i]
+        gp = predictions.velocity_noise_prediction(posterior, v, view.median_orbits)[i]
         return d.time - t0, rv + gp - model, err
 
     _instruments(ax, posterior, activity)
@@ -147,20 +148,20 @@ def rv_time_figure(posterior, view):
     t0, t_lo, t_hi, grid = _time_grid(posterior, view)
 
     def total(values, orbs):
-        return posterior.trend_ms(values, grid) + sum(planet_rv_ms(values, orbs[p.name], p.name, grid)
-                                                      for p in posterior.planets)
+        return predictions.trend_ms(posterior, values, grid) + sum(planet_rv_ms(values, orbs[p.name], p, grid)
+                                                                   for p in posterior.planets)
 
     lo, hi = band([total(val, orb) for val, orb in view.draws])
 
     def data(i):
         d, rv, _, err = _corrected(posterior, view, i)
-        return d.time - t0, rv - posterior.decorrelations[i].velocity_ms(v), err
+        return d.time - t0, rv - posterior.model.velocity.spectrographs[i].indicator_ms(v), err
 
     def residual(i):
         d, rv, model, err = _corrected(posterior, view, i)
         return d.time - t0, rv - model, err
 
-    activity = posterior.config.rv_activity is not None
+    activity = predictions.has_activity_model(posterior)
     with style.style():
         fig, axes = _panels(style.PAGE_WIDTH_IN, 4.6 if activity else 3.3, rows=3 if activity else 2)
         top, bottom = axes[0], axes[-1]

@@ -1,0 +1,87 @@
+"""The ``planetfit`` command line: parses, calls the pipeline, prints.
+
+Exit codes: 0 success, 2 bad input (one paragraph naming what is wrong and
+the fix), 1 internal failure, 130 interrupted (resumable).
+"""
+
+import os
+import signal
+import sys
+import traceback
+
+from planetfit.core.errors import InputError
+
+EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
+#: Seconds between repeated KeyboardInterrupts after Ctrl-C or SIGTERM, until the run has stopped.
+REPEAT_INTERRUPT_S = 0.5
+
+
+def _resume_hint(args):
+    """The command that continues an interrupted run."""
+    if getattr(args, "command", None) not in ("run", "demo"):
+        return "run the command again."
+    out = f" --out {args.out}" if args.out else ""
+    target = f"run {args.config}" if args.command == "run" else "demo"
+    return f"the chain is saved in samples.h5 up to the last step; continue with 'planetfit {target} --resume{out}'."
+
+
+def _interrupted(signum, frame, main_pid=os.getpid()):
+    """SIGINT and SIGTERM handler: stop the main process with KeyboardInterrupt; worker processes just end.
+
+    Libraries print tracebacks of exceptions passing through them (emcee does
+    for every log-probability call), so output is silenced until ``main``
+    restores it and prints how to resume. Code that swallows the exception
+    (a callback from compiled code) cannot keep the run going: a timer
+    raises it again every half second until ``main`` has stopped.
+    """
+    if os.getpid() != main_pid:
+        signal.signal(signum, signal.SIG_DFL)
+        os.kill(os.getpid(), signum)
+    if signum != signal.SIGALRM:
+        sys.stdout = sys.stderr = open(os.devnull, "w")
+        signal.setitimer(signal.ITIMER_REAL, REPEAT_INTERRUPT_S, REPEAT_INTERRUPT_S)
+    raise KeyboardInterrupt
+
+
+def _restore(streams):
+    signal.setitimer(signal.ITIMER_REAL, 0)
+    if sys.stderr is not streams[1]:
+        sys.stderr.close()
+    sys.stdout, sys.stderr = streams
+
+
+def main(argv=None):
+    """Entry point of the ``planetfit`` console script."""
+    args = None
+    streams = sys.stdout, sys.stderr
+    previous = {sig: signal.signal(sig, _interrupted) for sig in (signal.SIGINT, signal.SIGTERM, signal.SIGALRM)}
+    try:
+        from planetfit.cli.parser import build_parser
+
+        args = build_parser().parse_args(argv)
+        code = args.func(args)
+        if code is not None:
+            return code
+    except InputError as exc:
+        print(f"planetfit: {exc.message()}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        _restore(streams)
+        print(f"\nplanetfit: interrupted; {_resume_hint(args)}", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    except SystemExit as exc:
+        return exc.code if isinstance(exc.code, int) else EXIT_OK
+    except Exception:
+        _restore(streams)  # an error while stopping after Ctrl-C must still be seen
+        traceback.print_exc()
+        print("planetfit: internal error (above); please report it with the config.", file=sys.stderr)
+        return EXIT_INTERNAL
+    finally:
+        _restore(streams)
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)
+    return EXIT_OK
+
+
+if __name__ == "__main__":
+    sys.exit(main())

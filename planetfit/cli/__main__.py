@@ -1,0 +1,4 @@
+from planetfit.cli import main
+import sys
+
+sys.exit(main())

@@ -1,0 +1,52 @@
+"""Orbit shapes: circular, or eccentric sampled as sqrt(e) cos w, sqrt(e) sin w.
+
+Each variant gives the eccentricity and argument of periastron of a batch of
+parameter values (:meth:`shape`) and says which are allowed (:meth:`allowed`).
+Sampling sqrt(e) cos w and sqrt(e) sin w with uniform priors gives uniform
+priors on e and w (Eastman, Gaudi & Agol 2013, PASP 125, 83, section 3.3.1).
+"""
+
+import numpy as np
+
+from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega
+from planetfit.core.quantities import PLANET
+from planetfit.fitting.parameters import Parameter
+from planetfit.inputs import schema
+
+
+class CircularOrbit:
+    """e = 0 (w is then arbitrary: pi/2, so transit happens at periastron)."""
+
+    eccentric = False
+
+    def __init__(self, block):
+        self.parameters = []
+
+    def shape(self, values):
+        """(e, omega_rad) of parameter values (scalars or arrays)."""
+        return 0.0, CIRCULAR_OMEGA_RAD
+
+    def allowed(self, e):
+        """Whether eccentricities ``e`` are allowed (always, here)."""
+        return np.ones(np.shape(e), dtype=bool)
+
+
+class EccentricOrbit:
+    """e and w from sqrt(e) cos w and sqrt(e) sin w, with e below the planet's ``eccentricity_max``."""
+
+    eccentric = True
+
+    def __init__(self, block):
+        self.sqrt_e_cos_w = Parameter(block.name, "sqrt_e_cos_w", block.sqrt_e_cos_w, PLANET["sqrt_e_cos_w"], "planet")
+        self.sqrt_e_sin_w = Parameter(block.name, "sqrt_e_sin_w", block.sqrt_e_sin_w, PLANET["sqrt_e_sin_w"], "planet")
+        self.parameters = [self.sqrt_e_cos_w, self.sqrt_e_sin_w]
+        self.eccentricity_max = block.eccentricity_max
+
+    def shape(self, values):
+        return eccentricity_omega(values[self.sqrt_e_cos_w.name], values[self.sqrt_e_sin_w.name])
+
+    def allowed(self, e):
+        return np.asarray(e) < self.eccentricity_max
+
+
+ORBITS = {schema.CircularKeys: CircularOrbit, schema.EccentricKeys: EccentricOrbit}

@@ -1,0 +1,149 @@
+"""Assembling the model of a config from its components: parameters declared once, structures built once.
+
+:func:`build_model` turns the validated config and the data into the star,
+the planets, each band's limb darkening, one likelihood per photometric
+dataset and one for all RVs, and the :class:`ParameterLayout` of every
+parameter the likelihoods use (in a fixed order: star, planets, bands,
+photometric datasets, spectrographs, RV trend, RV activity). Parameters
+no likelihood uses are ``prior_only``: drawn from their priors after the
+fit, never sampled.
+"""
+
+import dataclasses
+
+import numpy as np
+
+from planetfit.core.quantities import DATASET
+from planetfit.core.units import PPM
+from planetfit.fitting.components import exposure
+from planetfit.fitting.components.baselines import BASELINES
+from planetfit.fitting.components.gp import KERNELS, GaussianProcessNoise, RotationKernel
+from planetfit.fitting.components.noise import SumsOfSquares, WhiteNoise
+from planetfit.fitting.components.planets import Planet, Star
+from planetfit.fitting.components.registry import component_for
+from planetfit.fitting.components.transit import LIMB_DARKENING, TransitLightCurve, TransitTerm
+from planetfit.fitting.components.velocity import TRENDS, Spectrograph
+from planetfit.fitting.likelihoods import PhotometryModel, SummedPhotometryModel, VelocityModel
+from planetfit.fitting.parameters import Parameter, ParameterLayout
+from planetfit.inputs import schema
+
+
+@dataclasses.dataclass
+class Model:
+    """Every component of a config's model, its likelihoods and its parameter layout."""
+
+    star: Star
+    planets: list
+    bands: dict             # band name -> limb-darkening component
+    photometry: list        # one PhotometryModel per photometric dataset
+    velocity: VelocityModel  # all RVs, or None
+    layout: ParameterLayout
+    prior_only: list        # Parameters drawn from their priors, never sampled
+    exposures: dict         # photometric dataset -> its sub-exposure choice (supersample, error_ppm, warning)
+    warnings: list          # of building the model (too few sub-exposures)
+
+    @property
+    def likelihoods(self):
+        """Every likelihood, photometry first."""
+        return self.photometry + ([self.velocity] if self.velocity is not None else [])
+
+    @property
+    def transiting(self):
+        return [p for p in self.planets if p.transits]
+
+
+def _light_curve(config, block, data, limb_darkening):
+    """The dataset's transit light curve (times and sub-exposures, shared by its planets) and its choice."""
+    q = (limb_darkening.q1.prior, limb_darkening.q2.prior)
+    sharpest = exposure.sharpest_transits([p for p in config.planets if p.transits], config.star, *q)
+    choice = exposure.choose_sampling(block.name, data.exposure_days, float(np.median(data.error)), sharpest,
+                                      block.supersample)
+    return TransitLightCurve(data.time, data.exposure_days, choice.supersample), choice
+
+
+def _photometry(block, data, baseline, terms, kernel, owns_kernel):
+    """One light curve's likelihood and its own parameters (baseline, jitter, dilution, kernel if it owns it).
+
+    Fixed white noise with sparse terms is scored from sums.
+    """
+    jitter = Parameter(block.name, "jitter_ppm", block.jitter_ppm, DATASET["jitter_ppm"])
+    diluted = not (block.dilution.fixed and block.dilution.value == 0.0)
+    dilution = Parameter(block.name, "dilution", block.dilution, DATASET["dilution"]) if diluted else None
+    params = baseline.parameters + [jitter] + ([dilution] if diluted else [])
+    if kernel is not None:
+        noise = GaussianProcessNoise(data.time, data.error, kernel, [jitter], PPM)
+        return PhotometryModel(data, baseline, terms, dilution, noise), params + (kernel.parameters if owns_kernel
+                                                                                  else [])
+    noise = WhiteNoise(data.error, [jitter], PPM)
+    if noise.fixed and all(t.sparse for t in terms):
+        sums = SumsOfSquares(data.flux, baseline.basis, noise)
+        return SummedPhotometryModel(data, baseline, terms, dilution, noise, sums), params
+    return PhotometryModel(data, baseline, terms, dilution, noise), params
+
+
+def _kernel(block, kernels):
+    """(kernel, owned) of a photometric dataset: its own GP kernel, another dataset's, or (None, False)."""
+    if isinstance(block, schema.SharedGP):
+        return kernels[block.gp_shared_with], False
+    if isinstance(block, tuple(KERNELS)):
+        kernels[block.name] = component_for(block, KERNELS)(block)
+        return kernels[block.name], True
+    return None, False
+
+
+def _photometry_models(config, photometry, planets):
+    """Limb darkening per band; per dataset its likelihood, own parameters and sub-exposure choice."""
+    transiting = [p for p in planets if p.transits]
+    bands, kernels, out = {}, {}, []
+    for block, data in zip(config.photometry, photometry):
+        if block.band_name not in bands:
+            bands[block.band_name] = component_for(block.limb_darkening, LIMB_DARKENING)(
+                block.band_name, block.limb_darkening_q1, block.limb_darkening_q2)
+        ld = bands[block.band_name]
+        curve, choice = _light_curve(config, block, data, ld)
+        terms = [TransitTerm(p, curve, ld) for p in transiting]
+        baseline = component_for(block, BASELINES)(block, data.time)
+        model, params = _photometry(block, data, baseline, terms, *_kernel(block, kernels))
+        out.append((model, params, choice))
+    return bands, out
+
+
+def _velocity_model(config, velocities, planets):
+    """The likelihood of every RV, or None without RVs."""
+    if not velocities:
+        return None
+    spectrographs = [Spectrograph(b, d) for b, d in zip(config.velocities, velocities)]
+    times = np.concatenate([d.time for d in velocities])
+    groups = np.concatenate([np.full(d.time.size, i) for i, d in enumerate(velocities)])
+    error = np.concatenate([d.error for d in velocities])
+    trend = None if config.rv_trend is None else component_for(config.rv_trend, TRENDS)(config.rv_trend, times)
+    jitters = [s.jitter for s in spectrographs]
+    if config.rv_activity is None:
+        noise, order = WhiteNoise(error, jitters, 1.0, groups), slice(None)
+    else:
+        order = np.argsort(times, kind="stable")
+        noise = GaussianProcessNoise(times[order], error[order], RotationKernel(config.rv_activity), jitters, 1.0,
+                                     groups=groups[order], amplitudes=[s.activity_amplitude for s in spectrographs])
+    return VelocityModel(velocities, spectrographs, planets, trend, noise, order)
+
+
+def build_model(config, photometry, velocities):
+    """The :class:`Model` of a validated config and its datasets."""
+    star = Star(config.star)
+    planets = [Planet(b) for b in config.planets]
+    bands, phot = _photometry_models(config, photometry, planets)
+    rv = _velocity_model(config, velocities, planets)
+    transits = any(p.transits for p in planets)
+    params = list(star.parameters) if transits else []
+    params += [q for p in planets for q in p.parameters]
+    params += [q for ld in bands.values() for q in ld.parameters]
+    params += [q for _, own, _ in phot for q in own]
+    if rv is not None:
+        params += [q for s in rv.spectrographs for q in s.parameters]
+        params += list(rv.trend.parameters) if rv.trend is not None else []
+        params += list(rv.noise.kernel.parameters) if config.rv_activity is not None else []
+    prior_only = ([] if transits else list(star.parameters)) + [q for p in planets for q in p.prior_only]
+    exposures = {m.data.name: c for m, _, c in phot}
+    warnings = [c.warning for c in exposures.values() if c.warning]
+    return Model(star, planets, bands, [m for m, _, _ in phot], rv, ParameterLayout(params), prior_only, exposures,
+                 warnings)

@@ -1,1 +1,0 @@
-"""Forward models: orbit geometry, transit light curves, Keplerian velocities."""

@@ -1,0 +1,223 @@
+"""The ``photometry`` and ``velocities`` dataset blocks.
+
+A photometric dataset is one of five variants by its baseline and noise:
+``baseline: constant`` or ``linear`` (white noise), or ``baseline: gp``
+with its own damped-oscillator (``gp_kernel: sho``) or Matern-3/2 kernel,
+or with the kernel of another dataset (``gp_shared_with``).
+"""
+
+import math
+from pathlib import Path
+from typing import Annotated, Literal, Optional, Union
+
+from pydantic import BeforeValidator, Field, PrivateAttr, WithJsonSchema, model_validator
+
+from ..priors import Fixed, LogUniform, Uniform
+from ..timesystems import TIME_SYSTEMS
+from .base import Block, variants
+from .fields import Column, Count, Number, PositiveNumber, PriorSpec, fail, positive_prior, prior_within
+
+#: Quality factor of a stochastically driven damped oscillator whose power spectrum resembles
+#: granulation-type variability (Foreman-Mackey et al. 2017, AJ 154, 220, section 4.1).
+SHO_QUALITY_DEFAULT = 1 / math.sqrt(2)
+BASELINES = Literal["constant", "linear", "gp"]
+GP_KERNELS = Literal["sho", "matern32"]
+
+NonNegativeJitter = prior_within(0.0, math.inf, "a jitter cannot be negative.", "use a lower bound of 0 or above.")
+UnitInterval = prior_within(0.0, 1.0, "Kipping's q1 and q2 live in [0, 1].", "keep the prior inside [0, 1].")
+
+
+class QuadraticLaw(Block):
+    """Quadratic limb darkening, sampled as Kipping's (2013) q1, q2."""
+
+
+def _law(value):
+    if value == "quadratic":
+        return QuadraticLaw()
+    if isinstance(value, QuadraticLaw):
+        return value
+    fail(f"'{value}' is not a limb-darkening law planetfit knows.", "use 'limb_darkening: quadratic'.")
+
+
+LimbDarkeningLaw = Annotated[QuadraticLaw, BeforeValidator(_law), WithJsonSchema({"enum": ["quadratic"]})]
+
+
+class Columns(Block):
+    """Which file column holds each quantity (header names, or 1-based numbers with ``header: false``)."""
+
+    time: Column = "time"
+    error: Column = "error"
+
+
+class PhotometryColumns(Columns):
+    flux: Column = "flux"
+
+
+class VelocityColumns(Columns):
+    rv: Column = "rv"
+
+
+class Dataset(Block):
+    """What every dataset has: a name, a table and how to read it."""
+
+    name: str
+    file: Union[str, Annotated[list[str], Field(min_length=1)]]
+    time_offset_days: Number = 0.0
+    time_system: Literal[TIME_SYSTEMS] = "BJD_TDB"
+    header: bool = True
+    select: Optional[Annotated[dict[Column, Union[str, int, float]], Field(min_length=1)]] = None
+    _files: list = PrivateAttr(default_factory=list)
+    _section: str = PrivateAttr("")
+
+    @property
+    def files(self):
+        """Every file of the dataset, as absolute paths."""
+        return self._files
+
+    @property
+    def path(self):
+        """The (first) file, for messages."""
+        return self._files[0]
+
+    @property
+    def section(self):
+        """The dataset's dotted config key, e.g. ``velocities[0]``."""
+        return self._section
+
+    def resolve(self, folder, section):
+        """Set the files relative to ``folder`` and the dataset's config key (after validation)."""
+        names = [self.file] if isinstance(self.file, str) else self.file
+        self._files = [(Path(folder) / n).resolve() for n in names]
+        self._section = section
+
+    def columns_used(self):
+        """(key, column) of every file column the dataset names."""
+        out = [(f"columns.{k}", v) for k, v in self.columns.model_dump().items()]
+        return out + [(f"select.{k}", k) for k in (self.select or {})]
+
+    @model_validator(mode="after")
+    def _columns_fit_header(self):
+        for key, column in self.columns_used():
+            by_number = isinstance(column, int) and not isinstance(column, bool)
+            if self.header and by_number:
+                fail(f"columns are named by the file's header here, got {column}.",
+                     "write the header's name, or set 'header: false' to give columns by number (1 = first field).",
+                     key=key)
+            if not self.header and not (by_number and column >= 1):
+                fail(f"with 'header: false' columns are given by number (1 = the first field of a row), got "
+                     f"'{column}'.", f"write e.g. '{key.rpartition('.')[2]}: 1', or remove 'header: false' if the "
+                                     "file has a header line.", key=key)
+        return self
+
+
+class Photometry(Dataset):
+    """A light curve (text table or FITS), its cleaning, limb darkening, baseline level, jitter and dilution."""
+
+    columns: PhotometryColumns = PhotometryColumns()
+    exposure_min: PositiveNumber
+    supersample: Optional[Count] = None
+    band: Optional[str] = None
+    limb_darkening: LimbDarkeningLaw = "quadratic"
+    limb_darkening_q1: Annotated[PriorSpec, UnitInterval] = Uniform(0, 1)
+    limb_darkening_q2: Annotated[PriorSpec, UnitInterval] = Uniform(0, 1)
+    flux_level: PriorSpec = Uniform(0.9, 1.1)
+    jitter_ppm: Annotated[PriorSpec, NonNegativeJitter] = Fixed(0.0)
+    dilution: Annotated[PriorSpec, prior_within(0.0, 1.0 - 1e-12, "the contaminating flux fraction must lie in "
+                                                "[0, 1).", "give e.g. 0.05, or '{uniform: [0, 0.2]}'.")] = Fixed(0.0)
+    normalise: bool = True
+    quality_column: Optional[Column] = None
+    quality_keep_bits: list[Annotated[int, Field(ge=1, le=32)]] = []
+    clip_sigma: Annotated[Number, Field(ge=0)] = 5.0
+    clip_window_days: PositiveNumber = 0.5
+    segment_gap_days: PositiveNumber = 0.5
+    near_transits_hours: Optional[PositiveNumber] = None
+    baseline: BASELINES = "constant"
+
+    def columns_used(self):
+        extra = [("quality_column", self.quality_column)] if self.quality_column is not None else []
+        return super().columns_used() + extra
+
+    @model_validator(mode="after")
+    def _keep_bits_need_a_column(self):
+        if self.quality_keep_bits and self.quality_column is None:
+            fail("bits to keep need a quality column.", "add 'quality_column: <column name>' or remove "
+                 "'quality_keep_bits'.", key="quality_keep_bits")
+        return self
+
+    @property
+    def band_name(self):
+        """The band whose limb darkening this dataset shares (its own name unless ``band`` is given)."""
+        return self.band or self.name
+
+
+class ConstantBaseline(Photometry):
+    variant = {"baseline": "constant"}
+
+
+class LinearBaseline(Photometry):
+    variant = {"baseline": "linear"}
+    baseline: BASELINES
+    slope_per_day: PriorSpec = Uniform(-0.01, 0.01)
+
+
+class _OwnGP(Photometry):
+    baseline: BASELINES
+    gp_kernel: GP_KERNELS = "sho"
+    gp_sigma_ppm: Annotated[PriorSpec, positive_prior("gp_sigma_ppm")] = LogUniform(1.0, 1e5)
+    gp_rho_days: Annotated[PriorSpec, positive_prior("gp_rho_days")] = LogUniform(0.1, 50.0)
+
+
+class OscillatorGP(_OwnGP):
+    """Variability as a stochastically driven damped oscillator (Foreman-Mackey et al. 2017, eq. 20)."""
+
+    variant = {"baseline": "gp", "gp_kernel": "sho"}
+    gp_quality: Annotated[PriorSpec, positive_prior("the quality factor")] = Fixed(SHO_QUALITY_DEFAULT)
+
+
+class Matern32GP(_OwnGP):
+    """Variability as a Matern-3/2 process (celerite2's approximation)."""
+
+    variant = {"baseline": "gp", "gp_kernel": "matern32"}
+    gp_kernel: GP_KERNELS
+
+
+class SharedGP(Photometry):
+    """The GP kernel and hyperparameters of another dataset (same star and band); own level and jitter."""
+
+    variant = {"baseline": "gp", "gp_shared_with": "<another dataset>"}
+    baseline: BASELINES
+    gp_shared_with: str
+
+
+def _photometry_variant(raw):
+    if raw.get("baseline") == "gp":
+        if "gp_shared_with" in raw:
+            return "SharedGP"
+        return "Matern32GP" if raw.get("gp_kernel") == "matern32" else "OscillatorGP"
+    return "LinearBaseline" if raw.get("baseline") == "linear" else "ConstantBaseline"
+
+
+PHOTOMETRY_VARIANTS = (ConstantBaseline, LinearBaseline, OscillatorGP, Matern32GP, SharedGP)
+PhotometryDataset = variants(_photometry_variant, *PHOTOMETRY_VARIANTS)
+
+
+class Velocities(Dataset):
+    """One spectrograph's RVs: offset, jitter, activity-indicator coefficients and activity amplitude."""
+
+    columns: VelocityColumns = VelocityColumns()
+    offset_ms: PriorSpec
+    jitter_ms: Annotated[PriorSpec, NonNegativeJitter] = Fixed(0.0)
+    decorrelate: dict[Column, PriorSpec] = {}
+    activity_amplitude_ms: Optional[Annotated[PriorSpec, positive_prior("the activity amplitude")]] = None
+
+    def columns_used(self):
+        return super().columns_used() + [(f"decorrelate.{c}", c) for c in self.decorrelate]
+
+    @model_validator(mode="after")
+    def _indicators_are_other_columns(self):
+        for column in self.decorrelate:
+            if column in self.columns.model_dump().values():
+                fail("this column is already the time, RV or error column.",
+                     "name an activity-indicator column of the file (e.g. line width or bisector span).",
+                     key=f"decorrelate.{column}")
+        return self

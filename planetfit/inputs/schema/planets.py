@@ -1,0 +1,129 @@
+"""The ``star`` and ``planets`` blocks.
+
+A planet is one of four variants: transiting or seen only in RVs
+(``transits``), on a circular or eccentric orbit (``orbit``). The
+eccentric variants take sqrt(e) cos w and sqrt(e) sin w; the transiting
+ones the radius ratio and impact parameter; the others an optional
+inclination prior (for a true mass).
+"""
+
+from typing import Annotated, Literal, Optional
+
+from pydantic import AfterValidator, Field, PrivateAttr, model_validator
+
+from ..priors import Uniform
+from .base import Block, variants
+from .fields import Number, PriorSpec, fail, lowest, positive_prior, prior_within
+
+ORBITS = Literal["circular", "eccentric"]
+
+Unbound = prior_within(-1.0, 1.0, "the prior reaches beyond [-1, 1], that is e > 1 (an unbound orbit).",
+                       "keep it inside [-1, 1], e.g. '{uniform: [-1, 1]}' (eccentricity_max caps e further).")
+
+
+class Star(Block):
+    """The host star: priors on mass, radius, Teff (age optional), magnitudes and sky position."""
+
+    mass_msun: Annotated[PriorSpec, positive_prior("mass_msun")]
+    radius_rsun: Annotated[PriorSpec, positive_prior("radius_rsun")]
+    teff_k: Annotated[PriorSpec, positive_prior("teff_k")]
+    age_gyr: Optional[PriorSpec] = None
+    mag_j: Optional[Number] = None
+    mag_k: Optional[Number] = None
+    ra_deg: Optional[Annotated[Number, Field(ge=0, lt=360)]] = None
+    dec_deg: Optional[Annotated[Number, Field(ge=-90, le=90)]] = None
+
+
+def _non_negative_amplitude(prior):
+    if lowest(prior) < 0:
+        fail("the prior allows negative semi-amplitudes.", "use a lower bound of 0 or above.")
+    return prior
+
+
+class PlanetBlock(Block):
+    """What every planet has: its ephemeris and RV semi-amplitude."""
+
+    period_days: Annotated[PriorSpec, positive_prior("the period")]
+    transit_bjd: PriorSpec
+    rv_amplitude_ms: Annotated[PriorSpec, AfterValidator(_non_negative_amplitude)]
+    _name: str = PrivateAttr("")
+
+    @property
+    def name(self):
+        """The planet's key in the ``planets`` block."""
+        return self._name
+
+
+class CircularKeys(Block):
+    """A circular orbit (e = 0)."""
+
+    orbit: ORBITS = "circular"
+
+
+class EccentricKeys(Block):
+    """An eccentric orbit, sampled as sqrt(e) cos w, sqrt(e) sin w, with e capped at ``eccentricity_max``."""
+
+    orbit: ORBITS
+    sqrt_e_cos_w: Annotated[PriorSpec, Unbound] = Uniform(-1, 1)
+    sqrt_e_sin_w: Annotated[PriorSpec, Unbound] = Uniform(-1, 1)
+    eccentricity_max: Annotated[Number, Field(gt=0, lt=1)] = 0.9
+
+
+class TransitKeys(Block):
+    """A transiting planet: radius ratio and impact parameter."""
+
+    transits: Literal[True] = True
+    radius_ratio: Annotated[PriorSpec, positive_prior("the radius ratio")]
+    impact: PriorSpec
+
+    @model_validator(mode="after")
+    def _transit_possible(self):
+        k_hi = min(self.radius_ratio.bounds[1], 1.0)
+        lo, hi = self.impact.bounds
+        if lo < 0:
+            fail("the impact parameter cannot be negative.", "use a lower bound of 0.", key="impact")
+        if lo >= 1 + k_hi:
+            fail(f"the whole prior lies beyond 1 + radius ratio ({1 + k_hi:g}): no transit is possible.",
+                 "use e.g. '{uniform: [0, 1]}'.", key="impact")
+        if hi > 1 + k_hi:
+            fail(f"the prior reaches {hi:g}, beyond 1 + the largest radius ratio ({1 + k_hi:g}), where the planet "
+                 "would not transit.", f"cap the upper bound at {1 + k_hi:g} or below, e.g. '{{uniform: [0, 1]}}'.",
+                 key="impact")
+        return self
+
+
+class RvOnlyKeys(Block):
+    """A planet seen only in RVs; an inclination prior (e.g. from transits seen elsewhere) gives its true mass."""
+
+    transits: Literal[False]
+    inclination_deg: Optional[Annotated[PriorSpec, prior_within(
+        1e-9, 180.0, "the inclination must lie in (0, 180] degrees (0 is face-on, where no RV signal exists).",
+        "give e.g. '{normal: [88.5, 0.5]}' from the planet's transits.")]] = None
+
+
+class TransitingCircular(PlanetBlock, TransitKeys, CircularKeys):
+    variant = {"transits": True, "orbit": "circular"}
+
+
+class TransitingEccentric(PlanetBlock, TransitKeys, EccentricKeys):
+    variant = {"transits": True, "orbit": "eccentric"}
+
+
+class RvOnlyCircular(PlanetBlock, RvOnlyKeys, CircularKeys):
+    variant = {"transits": False, "orbit": "circular"}
+
+
+class RvOnlyEccentric(PlanetBlock, RvOnlyKeys, EccentricKeys):
+    variant = {"transits": False, "orbit": "eccentric"}
+
+
+def _planet_variant(raw):
+    transiting = raw.get("transits", True) is not False
+    eccentric = raw.get("orbit") == "eccentric"
+    return {(True, False): "TransitingCircular", (True, True): "TransitingEccentric",
+            (False, False): "RvOnlyCircular", (False, True): "RvOnlyEccentric"}[(transiting, eccentric)]
+
+
+#: One planet, its variant chosen by ``transits`` and ``orbit``.
+Planet = variants(_planet_variant, TransitingCircular, TransitingEccentric, RvOnlyCircular, RvOnlyEccentric)
+PLANET_VARIANTS = (TransitingCircular, TransitingEccentric, RvOnlyCircular, RvOnlyEccentric)

@@ -1,0 +1,107 @@
+"""The run-wide blocks: RV trend, RV activity process, climate assumptions, sampling settings."""
+
+import math
+from typing import Annotated, Literal, Optional, Union
+
+from pydantic import BeforeValidator, Field, model_validator
+
+from ..priors import Fixed, LogUniform, Uniform
+from .base import Block, variants
+from .fields import Count, Number, PositiveNumber, PriorSpec, fail, positive_prior, prior_within
+
+TRENDS = Literal["none", "linear", "quadratic"]
+
+
+class NoTrend(Block):
+    variant = {"kind": "none"}
+    kind: TRENDS = "none"
+
+
+class LinearTrend(Block):
+    """An RV trend c1 (t - t_ref), for a long-period companion; t_ref defaults to the middle of the RVs."""
+
+    variant = {"kind": "linear"}
+    kind: TRENDS
+    slope_ms_per_day: PriorSpec = Uniform(-1.0, 1.0)
+    reference_bjd: Optional[Number] = None
+
+
+class QuadraticTrend(LinearTrend):
+    """c1 (t - t_ref) + c2 (t - t_ref)^2."""
+
+    variant = {"kind": "quadratic"}
+    curvature_ms_per_day2: PriorSpec = Uniform(-0.01, 0.01)
+
+
+def _trend_block(value):
+    """``rv_trend: linear`` is short for ``rv_trend: {kind: linear}``."""
+    return {"kind": value} if isinstance(value, str) else value
+
+
+RvTrend = Annotated[variants(lambda raw: {"linear": "LinearTrend", "quadratic": "QuadraticTrend"}.get(
+    raw.get("kind"), "NoTrend"), NoTrend, LinearTrend, QuadraticTrend), BeforeValidator(_trend_block)]
+
+
+class RvActivity(Block):
+    """Spot activity shared by all spectrographs: a rotation GP (celerite2 RotationTerm), amplitudes per spectrograph."""
+
+    rotation_period_days: Annotated[PriorSpec, positive_prior("rotation_period_days")]
+    quality: Annotated[PriorSpec, positive_prior("quality")] = LogUniform(0.5, 50.0)
+    quality_difference: Annotated[PriorSpec, prior_within(0.0, math.inf, "must not be negative.",
+                                                          "use a lower bound of 0 or above.")] = Fixed(1.0)
+    mix: Annotated[PriorSpec, prior_within(0.0, 1.0, "the fraction of power at half the period lies in [0, 1].",
+                                           "keep the prior inside [0, 1].")] = Fixed(0.5)
+
+
+#: Heat-redistribution factor f in T_eq^4 = f (1 - A) S / sigma, by name.
+REDISTRIBUTION_FACTORS = {"full": 0.25, "dayside": 0.5}
+#: f for heat spread over the whole planet (the convention of discovery papers' T_eq).
+FULL_REDISTRIBUTION = REDISTRIBUTION_FACTORS["full"]
+#: Largest meaningful factor: instantaneous re-radiation, no redistribution (Cowan & Agol 2011, ApJ 729, 54: f = 2/3).
+MAX_REDISTRIBUTION_FACTOR = 2.0 / 3.0
+#: Mean molecular weights (atomic mass units) of typical atmospheres, by name.
+MEAN_MOLECULAR_WEIGHTS = {"h2_rich": 2.3, "water": 18.0, "n2": 28.0, "co2": 44.0}
+
+
+class Climate(Block):
+    """Assumptions of the climate and atmosphere screening (a Bond albedo, redistribution, grey optical depth)."""
+
+    albedo: Annotated[Number, Field(ge=0, lt=1)] = 0.3
+    redistribution: Union[Literal["full", "dayside"], Annotated[Number, Field(gt=0, le=MAX_REDISTRIBUTION_FACTOR)]] \
+        = "full"
+    tau: Union[Annotated[Number, Field(ge=0)], Annotated[list[Annotated[Number, Field(ge=0)]],
+                                                          Field(min_length=2, max_length=2)]] = 0.94
+    mean_molecular_weight: Union[Literal[tuple(MEAN_MOLECULAR_WEIGHTS)], PositiveNumber] = 2.3
+
+    @model_validator(mode="after")
+    def _tau_range_ordered(self):
+        if isinstance(self.tau, list) and self.tau[0] > self.tau[1]:
+            fail(f"the range [{self.tau[0]:g}, {self.tau[1]:g}] is reversed.", "write it as [lo, hi] with lo <= hi.",
+                 key="tau")
+        return self
+
+    @property
+    def redistribution_factor(self):
+        """f: 1/4 for full redistribution, 1/2 for the dayside only, or the given number."""
+        return REDISTRIBUTION_FACTORS.get(self.redistribution, self.redistribution)
+
+    @property
+    def tau_range(self):
+        """(lo, hi) optical depth, drawn uniformly per sample; lo == hi for one value."""
+        return tuple(self.tau) if isinstance(self.tau, list) else (self.tau, self.tau)
+
+    @property
+    def mu(self):
+        """Mean molecular weight, atomic mass units."""
+        return MEAN_MOLECULAR_WEIGHTS.get(self.mean_molecular_weight, self.mean_molecular_weight)
+
+
+class Sampling(Block):
+    """How the posterior is sampled and when the chain counts as converged."""
+
+    walkers: Count = 48
+    max_steps: Count = 20000
+    check_every: Count = 200
+    autocorr_factor: PositiveNumber = 50.0
+    autocorr_tolerance: PositiveNumber = 0.01
+    optimiser_starts: Count = 4

@@ -1,0 +1,44 @@
+"""The MCMC moves keep the target distribution.
+
+An ensemble drawn exactly from a known distribution must still follow it
+after any number of steps of a valid Markov chain: its stationary
+distribution is the target. A move that breaks detailed balance shows as a
+drift of the walkers' moments within a few dozen steps.
+"""
+
+import emcee
+import numpy as np
+
+from planetfit.fitting.mcmc import walker_moves
+
+# Six parameters on scales from 1e-3 to 1, like a transit + RV fit. In scaled
+# units y = x / SCALE: y0 ~ N(0, 1); y1 | y0 ~ N(y0^2, 0.3^2) (a curved
+# degeneracy); y2..y5 ~ N(0, 1).
+SCALE = np.array([1e-2, 1e-2, 1e-3, 1e-1, 1.0, 1e-2])
+WALKERS, STEPS = 4000, 100
+
+
+def _log_prob(x):
+    y = x / SCALE
+    return -0.5 * (y[:, 0] ** 2 + ((y[:, 1] - y[:, 0] ** 2) / 0.3) ** 2 + np.sum(y[:, 2:] ** 2, axis=1))
+
+
+def _draw(rng, n):
+    y = rng.normal(size=(n, SCALE.size))
+    y[:, 1] = y[:, 0] ** 2 + 0.3 * y[:, 1]
+    return y * SCALE
+
+
+def test_walkers_drawn_from_the_target_stay_in_it():
+    rng = np.random.default_rng(7)
+    sampler = emcee.EnsembleSampler(WALKERS, SCALE.size, _log_prob, vectorize=True, moves=walker_moves())
+    sampler.random_state = np.random.RandomState(7).get_state()
+    sampler.run_mcmc(_draw(rng, WALKERS), STEPS, progress=False)
+    y = sampler.get_last_sample().coords / SCALE
+    # source: the target's moments by construction: Var y0 = Var y2..y5 = 1 and E[y1] = E[y0^2] = 1.
+    # Over five seeds these moves end within 0.03 of both; emcee 3.1.6's snooker move, mixed in
+    # at 20%, ends at pooled variance 0.84-0.91 and E[y1] 0.87-0.91 after these 100 steps.
+    pooled_var = np.mean(np.var(y[:, [0, 2, 3, 4, 5]], axis=0))
+    assert abs(pooled_var - 1) < 0.05
+    assert abs(np.mean(y[:, 1]) - 1) < 0.06
+    assert np.mean(sampler.acceptance_fraction) > 0.1  # the walkers moved
