@@ -109,7 +109,8 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
         result = run_sampler(post, post.layout, config.sampling, h5, rng, cores=cores, progress=not quiet,
                              resume=resume)
         facts = result.summary()
-        facts.update(discard=result.discard, thin=result.thin, cores=cores)
+        facts.update(discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings),
+                     modes=result.modes)
         chainfile.write_facts(h5, post.layout.free, facts, result.autocorr_history)
         finish(run_dir, checked, result.samples, facts, figures=figures, cores=cores)
     finally:

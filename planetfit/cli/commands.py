@@ -25,6 +25,8 @@ def print_summary(run_dir):
         print(f"  {name}: " + ", ".join(parts))
         if p.get("composition"):
             print(f"     {p['composition']['verdict']}")
+    for warning in s.get("warnings", []):
+        print(f"WARNING: {warning}")
     print(f"outputs in {run_dir}")
 
 

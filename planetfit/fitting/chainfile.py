@@ -13,9 +13,10 @@ import h5py
 import numpy as np
 
 from planetfit.core.errors import InputError
+from planetfit.fitting.modes import Mode
 
 #: The chain's group (emcee's) and planetfit's group in samples.h5.
-CHAIN_GROUP, FACTS_GROUP = "chain", "planetfit"
+CHAIN_GROUP, FACTS_GROUP, MODES_GROUP = "chain", "planetfit", "modes"
 _RESUME_FIX = ("move samples.h5 away (it is never overwritten silently) and run again, or use --force to start a new "
                "fit in this folder.")
 
@@ -179,3 +180,23 @@ def read_chain(h5_path):
     with h5py.File(h5_path, "r") as fh:
         history = np.asarray(fh[FACTS_GROUP]["autocorr_history"], dtype=float).reshape(-1, 2)
     return history, emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True).get_chain()
+
+
+def save_modes(path, modes):
+    """Write the optimiser's modes (position, log-probability, Laplace covariance) into the chain file."""
+    with h5py.File(path, "a") as f:
+        if MODES_GROUP in f:
+            del f[MODES_GROUP]
+        g = f.create_group(MODES_GROUP)
+        g["theta"] = np.array([m.theta for m in modes])
+        g["log_prob"] = np.array([m.log_prob for m in modes])
+        g["cov"] = np.array([m.cov for m in modes])
+
+
+def load_modes(path):
+    """The modes :func:`save_modes` wrote (none for a chain file written without them)."""
+    with h5py.File(path, "r") as f:
+        if MODES_GROUP not in f:
+            return []
+        g = f[MODES_GROUP]
+        return [Mode(theta, float(lp), cov) for theta, lp, cov in zip(g["theta"][()], g["log_prob"][()], g["cov"][()])]

@@ -14,6 +14,14 @@ Checks come every ``check_every`` steps, skipping those that the last
 estimate says are too early to pass (Goodman & Weare 2010; emcee's
 documented practice). Burn-in of two autocorrelation times is discarded
 and the chain thinned by half the shortest one.
+
+With several modes among the optimiser's end points, walkers start in each
+in proportion to its Laplace evidence and a tenth of the moves take the
+full difference of two walkers, which jumps between modes. Every sample is
+assigned to a mode; a run whose walkers did not move between its modes
+often enough to measure their weights is not converged, and separated
+modes in single parameters that the optimiser missed are looked for in the
+samples. Each finding is a warning.
 """
 
 import dataclasses
@@ -24,14 +32,25 @@ import emcee
 import numpy as np
 from threadpoolctl import threadpool_limits
 
-from planetfit.fitting.chainfile import open_chain
+from planetfit.fitting import modes as mode_finding
+from planetfit.fitting.chainfile import load_modes, open_chain, save_modes
 from planetfit.fitting.optimiser import find_map, initial_walkers
+from planetfit.fitting.periodogram import periodogram_starts
 from planetfit.fitting.workers import WorkerProcesses
 
 log = logging.getLogger("planetfit")
 
-def walker_moves():
-    """The emcee moves of every planetfit chain: differential evolution only.
+#: Fraction of the moves of a several-mode chain that take the full difference of two walkers.
+JUMP_MOVE_WEIGHT = 0.1
+
+def walker_moves(several_modes=False):
+    """The emcee moves of a planetfit chain: differential evolution only.
+
+    With ``several_modes``, a mixture: ``DEMove()`` and, with weight
+    :data:`JUMP_MOVE_WEIGHT`, ``DEMove(gamma0=1.0)``: with gamma = 1 a
+    walker moves by the whole difference of two others, from one mode to
+    another when they lie in different modes (ter Braak 2006, Stat. Comput.
+    16, 239, sect. 3). Single-mode chains keep the plain move.
 
     Notes
     -----
@@ -41,6 +60,8 @@ def walker_moves():
     drifted to 9-16% lower variances within 100 steps
     (``tests/test_sampling.py``).
     """
+    if several_modes:
+        return [(emcee.moves.DEMove(), 1 - JUMP_MOVE_WEIGHT), (emcee.moves.DEMove(gamma0=1.0), JUMP_MOVE_WEIGHT)]
     return [emcee.moves.DEMove()]
 
 
@@ -60,6 +81,8 @@ class SamplingResult:
     discard: int
     thin: int
     autocorr_history: list     # [(step, max tau)]
+    warnings: list = dataclasses.field(default_factory=list)   # every warning of the sampling stage
+    modes: list = dataclasses.field(default_factory=list)      # {parameter, location, ln_p, fraction} per mode
 
     def summary(self):
         """The ``sampling`` block of summary.json."""
@@ -113,18 +136,36 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
             initial = backend.get_last_sample()
             log.info("resuming from step %d in %s", backend.iteration, h5_path)
             nwalkers = backend.shape[0]
+            modes = load_modes(h5_path)
         else:
             backend.reset(nwalkers, ndim)
-            theta, best = find_map(log_prob, layout, rng, settings.optimiser_starts, workers)
-            log.info("maximum a posteriori log-probability %.3f", best)
-            initial = initial_walkers(workers, layout, theta, nwalkers, rng)
+            modes = _find_modes(log_prob, layout, settings, rng, workers)
+            save_modes(h5_path, modes)
+            counts = mode_finding.walker_counts(modes, nwalkers)
+            if len(modes) > 1:
+                log.info("walkers per mode: %s", ", ".join(str(n) for n in counts))
+            initial = np.concatenate([initial_walkers(workers, layout, m, n, rng)
+                                      for m, n in zip(modes, counts) if n > 0])
         sampler = emcee.EnsembleSampler(nwalkers, ndim, workers, vectorize=True, backend=backend,
-                                        moves=walker_moves())
+                                        moves=walker_moves(several_modes=len(modes) > 1))
         try:
             converged, history = _sample(sampler, backend, initial, settings, rng, progress)
         finally:  # also on Ctrl-C: every step taken is saved for --resume
             backend.flush()
-    return _result(backend, settings, nwalkers, converged, history, time.perf_counter() - start)
+    return _result(backend, settings, nwalkers, converged, history, time.perf_counter() - start, modes, layout)
+
+
+def _find_modes(log_prob, layout, settings, rng, evaluate):
+    """The distinct modes among the optimiser's end points (:func:`planetfit.fitting.modes.distinct_modes`)."""
+    centre, scale, _, _ = layout.geometry()
+    ends = find_map(log_prob, layout, rng, settings.optimiser_starts, evaluate,
+                    seeds=periodogram_starts(log_prob, layout, centre))
+    log.info("maximum a posteriori log-probability %.3f", ends[0][1])
+    modes = mode_finding.distinct_modes(evaluate, ends, scale)
+    if len(modes) > 1:
+        log.info("%d separated modes: log-probability %s, Laplace log-evidence %s", len(modes),
+                 ", ".join(f"{m.log_prob:.2f}" for m in modes), ", ".join(f"{m.log_evidence:.2f}" for m in modes))
+    return modes
 
 
 def _sample(sampler, backend, initial, settings, rng, progress):
@@ -165,8 +206,8 @@ def _sample(sampler, backend, initial, settings, rng, progress):
     return converged, history
 
 
-def _result(backend, settings, nwalkers, converged, history, seconds):
-    """Burn-in discarded, thinned samples and the facts of the run."""
+def _result(backend, settings, nwalkers, converged, history, seconds, modes, layout):
+    """Burn-in discarded, thinned samples and the facts of the run, its modes and warnings."""
     tau = autocorr_estimate(backend)
     steps = backend.iteration
     discard = int(min(2 * np.max(tau), steps // 2))
@@ -175,12 +216,20 @@ def _result(backend, settings, nwalkers, converged, history, seconds):
     lp = backend.get_log_prob(discard=discard, thin=thin, flat=True)
     tmax = float(np.max(tau))
     n_indep = int((steps - discard) * nwalkers / tmax) if tmax > 0 else 0
+    warnings = []
     if not converged:
-        log.warning("NOT CONVERGED: %d steps reach %.1f autocorrelation times (target %.0f); "
-                    "treat the uncertainties with caution and raise sampling.max_steps.",
-                    steps, steps / tmax, settings.autocorr_factor)
+        warnings.append(f"NOT CONVERGED: {steps} steps reach {steps / tmax:.1f} autocorrelation times (target "
+                        f"{settings.autocorr_factor:.0f}); treat the uncertainties with caution and raise "
+                        "sampling.max_steps.")
+        log.warning("%s", warnings[-1])
+    groups = mode_finding.describe(backend.get_chain(discard=discard), backend.get_log_prob(discard=discard), thin,
+                                   modes, layout)
+    for group in groups:
+        warnings.append(group.warning())
+        log.warning("WARNING: %s", warnings[-1])
     return SamplingResult(samples=samples, log_prob=lp, walkers=nwalkers, steps=steps, autocorr_steps=tmax,
                           independent_samples=n_indep,
                           acceptance_fraction=float(np.mean(backend.accepted / max(steps, 1))),
-                          converged=converged, seconds=seconds, discard=discard, thin=thin,
-                          autocorr_history=history)
+                          converged=converged and all(g.mixed for g in groups), seconds=seconds, discard=discard,
+                          thin=thin, autocorr_history=history, warnings=warnings,
+                          modes=[entry for g in groups for entry in g.entries()])

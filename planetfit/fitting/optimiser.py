@@ -1,10 +1,13 @@
-"""Where the chain starts: the maximum a posteriori and walkers drawn from the Laplace approximation around it.
+"""Where the chain starts: the posterior's maxima, and walkers drawn from the Laplace approximation of each.
 
-1. Maximum a posteriori: bounded and local Powell searches from the
-   prior's centre, the most probable of 2,000 draws from the prior and
-   random ones of them; the best optimum wins.
-2. Walkers start from the Laplace approximation around that optimum
-   (covariance from a finite-difference Hessian), so burn-in is short.
+1. Maxima: bounded and local Powell searches from the prior's centre, the
+   most probable of 2,000 draws from the prior, random ones of them and,
+   for planets fitted from RVs with a wide period prior, the highest
+   periodogram peaks (:mod:`planetfit.fitting.periodogram`). Every search's
+   end point is kept; :mod:`planetfit.fitting.modes` tells which are
+   distinct modes.
+2. Walkers start from the Laplace approximation around each mode
+   (:mod:`planetfit.fitting.laplace`), so burn-in is short.
 """
 
 import logging
@@ -51,12 +54,13 @@ def _optimise(log_prob, x0, centre, scale, bounds):
     return centre + res.x * scale, -float(res.fun), int(res.nfev)
 
 
-def find_map(log_prob, layout, rng, starts, processes=None):
-    """Maximum a posteriori by Powell's method from several starts.
+def find_map(log_prob, layout, rng, starts, processes=None, seeds=()):
+    """Maxima of the posterior by Powell's method from several starts.
 
     The starts are the prior's centre and ``starts - 1`` of
     :data:`PRIOR_SEARCH_DRAWS` draws from the prior: half of them (rounded
-    up) the most probable draws, the rest random ones. Ranking alone can
+    up) the most probable draws, the rest random ones; then every one of
+    ``seeds`` (sampler vectors) with a finite probability. Ranking alone can
     mislead where the data have gaps: a transit hidden in a gap costs less
     than a visible one with a wrong depth. From each start both a bounded
     and a local Powell search run (:func:`_optimise`); neither alone found
@@ -67,7 +71,8 @@ def find_map(log_prob, layout, rng, starts, processes=None):
 
     Returns
     -------
-    (theta, log_prob_value)
+    list of (theta, log_prob_value)
+        Every search's end point, the most probable first.
     """
     centre, scale, lo, hi = layout.geometry()
     bounds = [tuple(None if not math.isfinite(b) else (b - c) / s for b in (l, h))
@@ -83,72 +88,23 @@ def find_map(log_prob, layout, rng, starts, processes=None):
     candidates = ([centre] if math.isfinite(log_prob(centre)) else []) + list(draws[chosen])
     if not candidates:
         raise RuntimeError("no start drawn from the prior has a finite probability")
-    tasks = [(x0, centre, scale, b) for x0 in candidates for b in (bounds, None)]
+    seeded = [x for x in seeds if math.isfinite(log_prob(x))]
+    tasks = [(x0, centre, scale, b) for x0 in candidates + seeded for b in (bounds, None)]
     results = processes.map(_optimise, tasks) if processes else [_optimise(log_prob, *t) for t in tasks]
     for n, ((_, val, nfev), task) in enumerate(zip(results, tasks), 1):
-        log.info("optimiser search %d of %d (%s): log-probability %.3f after %d evaluations", n, len(results),
-                 "bounded" if task[3] else "local", val, nfev)
-    best, best_val, _ = max(results, key=lambda r: r[1])
-    return best, best_val
+        log.info("optimiser search %d of %d (%s%s): log-probability %.3f after %d evaluations", n, len(results),
+                 "bounded" if task[3] else "local", ", periodogram seed" if n > 2 * len(candidates) else "",
+                 val, nfev)
+    return [(theta, val) for theta, val, _ in sorted(results, key=lambda r: -r[1])]
 
 
-def _hessian(evaluate, theta, h):
-    """Central-difference Hessian of -log_prob with steps ``h``; ``evaluate`` maps (n, ndim) to (n,)."""
-    n = theta.size
-    steps = np.diag(h)
-    points = [theta]
-    for i in range(n):
-        points += [theta + steps[i], theta - steps[i]]
-    pairs = [(i, j) for i in range(n) for j in range(i + 1, n)]
-    for i, j in pairs:
-        points += [theta + steps[i] + steps[j], theta + steps[i] - steps[j],
-                   theta - steps[i] + steps[j], theta - steps[i] - steps[j]]
-    f = evaluate(np.array(points))
-    f0, single, double = f[0], f[1:1 + 2 * n].reshape(n, 2), f[1 + 2 * n:].reshape(-1, 4)
-    hess = np.diag(-(single[:, 0] - 2 * f0 + single[:, 1]) / h**2)
-    for (i, j), (pp, pm, mp, mm) in zip(pairs, double):
-        hess[i, j] = hess[j, i] = -(pp - pm - mp + mm) / (4 * h[i] * h[j])
-    return hess
+def initial_walkers(evaluate, layout, mode, nwalkers, rng):
+    """Walker positions drawn from a mode's Laplace approximation, each with finite probability.
 
-
-def laplace_covariance(evaluate, theta, widths):
-    """Covariance of the Laplace approximation around the optimum ``theta``.
-
-    Inverse of a central-difference Hessian of -log_prob, with each step
-    a tenth of that parameter's curvature scale (from a first pass at 1e-4
-    of the prior width). Parameters whose stencil leaves the prior support
-    (an optimum on a bound) or whose curvature is not positive get no
-    correlations and a standard deviation of 1e-3 of the prior width;
-    negative eigenvalues are raised so the result is positive definite.
-    ``evaluate`` maps an (n, ndim) batch to its log-probabilities.
+    ``mode`` is a :class:`planetfit.fitting.modes.Mode`; ``evaluate`` maps an (n, ndim) batch to its log-probabilities.
     """
-    h = 1e-4 * widths
-    n = theta.size
-    stencil = np.concatenate([theta[None], theta + np.diag(h), theta - np.diag(h)])
-    f = evaluate(stencil)
-    curvature = -(f[1:1 + n] - 2 * f[0] + f[1 + n:]) / h**2
-    ok = np.isfinite(curvature) & (curvature > 0)
-    h = np.where(ok, 0.1 / np.sqrt(np.where(ok, curvature, 1.0)), h)
-    hess = _hessian(evaluate, theta, h)
-    floor = (1e-3 * widths) ** -2
-    bad = ~np.isfinite(np.diag(hess)) | (np.diag(hess) <= 0)
-    hess[~np.isfinite(hess)] = 0.0
-    hess[bad, :] = 0.0
-    hess[:, bad] = 0.0
-    hess[bad, bad] = floor[bad]
-    # Work in units of each parameter's own curvature scale: a correlation matrix.
-    d = np.sqrt(np.diag(hess))
-    corr = hess / np.outer(d, d)
-    vals, vecs = np.linalg.eigh(corr)
-    vals = np.clip(vals, 1e-3, None)
-    return ((vecs / vals) @ vecs.T) / np.outer(d, d)
-
-
-def initial_walkers(evaluate, layout, theta, nwalkers, rng):
-    """Walker positions drawn around ``theta``, each with finite probability (``evaluate``: batch log-prob)."""
-    _, scale, lo, hi = layout.geometry()
-    with np.errstate(invalid="ignore", over="ignore"):  # stencils that leave the support are handled
-        cov = laplace_covariance(evaluate, theta, scale)
+    _, _, lo, hi = layout.geometry()
+    theta, cov = mode.theta, mode.cov
     out = []
     for scale in (1.0, 0.1, 0.01):
         draws = rng.multivariate_normal(theta, cov * scale, size=20 * nwalkers)

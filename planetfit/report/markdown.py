@@ -69,5 +69,7 @@ def summary_markdown(summary, rows):
     out += ["", "## Sampling", "",
             f"{s['walkers']} walkers x {s['steps']} steps; autocorrelation time {s['autocorr_steps']:.1f} steps; "
             f"{s['independent_samples']} independent samples; acceptance fraction {s['acceptance_fraction']:.3f}; "
-            f"converged: {'yes' if s['converged'] else 'NO (raise sampling.max_steps)'}; {s['seconds']:.0f} s."]
+            f"converged: {'yes' if s['converged'] else 'NO (see the warnings)'}; {s['seconds']:.0f} s."]
+    if s.get("warnings"):
+        out += ["", "Warnings:", ""] + [f"- {w}" for w in s["warnings"]]
     return "\n".join(out) + "\n"

@@ -44,8 +44,8 @@ def test_optimiser_finds_the_transit_the_prior_centre_misses(tmp_path):
     _, post, values, _ = calibration.simulate_system(1009, tmp_path, steps=100)
     j = post.layout.free.index("b.transit_bjd")
     t0 = values["b.transit_bjd"]
-    centre_only, lp_centre = find_map(post, post.layout, np.random.default_rng(1), starts=1)
-    theta, lp = find_map(post, post.layout, np.random.default_rng(1), starts=2)
+    centre_only, lp_centre = find_map(post, post.layout, np.random.default_rng(1), starts=1)[0]
+    theta, lp = find_map(post, post.layout, np.random.default_rng(1), starts=2)[0]
     # common practice, no published source: two transits at this depth and noise give T0 to ~1e-3 d.
     assert abs(centre_only[j] - t0) > 0.05 and lp - lp_centre > 50  # the centre alone stops on a wrong optimum
     assert abs(theta[j] - t0) < 0.005

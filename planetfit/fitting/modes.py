@@ -1,0 +1,398 @@
+"""Separated modes of a posterior: found among the optimiser's end points, described, and assigned after sampling.
+
+1. Each optimum is described by its Laplace approximation (covariance and
+   evidence, :mod:`planetfit.fitting.laplace`).
+2. Two optima are distinct modes when some parameter differs by more than
+   :data:`SEPARATION_WIDTHS` Laplace standard deviations (the larger of the
+   two optima's) and the log-probability along the straight line between
+   them dips more than :data:`VALLEY_DEPTH` below the lower one (a flat
+   direction, such as a jitter near zero, is one mode however far apart its
+   end points lie). An optimum counts when its log-probability is within
+   :data:`LOG_PROB_RANGE` of the best.
+3. After sampling every sample is assigned to the nearest mode
+   (Mahalanobis distance in the parameters that separate the modes); walker
+   moves between modes after burn-in are counted, and each mode's fraction
+   of the samples is reported (:func:`describe`).
+4. :func:`sample_modes` finds separated modes in one parameter's samples (a
+   kernel-density valley test), for modes the optimiser did not find.
+"""
+
+import dataclasses
+import math
+
+import numpy as np
+from scipy import ndimage, signal
+
+from planetfit.fitting.laplace import laplace_covariance, log_evidence
+
+#: Two optima are distinct when some parameter differs by more than this many Laplace widths (sd).
+SEPARATION_WIDTHS = 5.0
+#: ... and the log-probability between them dips by more than this below the lower one (two equal Gaussians
+#: 5 sd apart dip by 2.5^2 / 2 = 3.1 at the midpoint).
+VALLEY_DEPTH = 2.0
+#: An optimum is a mode when its log-probability is within this of the best: a mode of the same width this
+#: much lower holds e^-5 = 0.7% of the probability.
+LOG_PROB_RANGE = 5.0
+VALLEY_POINTS = 9  # points between two optima at which the log-probability is evaluated
+#: Walkers placed in each mode at least (fewer only when there are not enough walkers).
+MIN_WALKERS_PER_MODE = 4
+#: Largest standard deviation of a mode's fraction for the walkers' moves to show mixing. For a two-state
+#: Markov chain that J moves into or out of a mode, sd(f) = 2 f (1 - f) / sqrt(J) (0.05 at f = 0.5 needs J = 100).
+MAX_FRACTION_SD = 0.05
+#: ... and at least this many moves into or out of every mode.
+MIN_JUMPS = 10
+#: A kernel-density valley deeper than this fraction of the lower neighbouring peak separates two modes of one
+#: parameter's samples (two equal Gaussians about 5 sd apart, after the kernel's smoothing).
+VALLEY_RATIO = 0.1
+MIN_SAMPLE_FRACTION = 0.02  # a mode of one parameter's samples holds at least this fraction of them
+MIN_SAMPLES = 50  # fewest (effective) samples for the density test
+
+
+@dataclasses.dataclass
+class Mode:
+    """One optimum: its position (sampler coordinates), log-probability and Laplace covariance."""
+
+    theta: np.ndarray
+    log_prob: float
+    cov: np.ndarray
+
+    @property
+    def sd(self):
+        return np.sqrt(np.diag(self.cov))
+
+    @property
+    def log_evidence(self):
+        """Laplace evidence of the mode (:func:`planetfit.fitting.laplace.log_evidence`)."""
+        return log_evidence(self.log_prob, self.cov)
+
+
+def _apart(a, b, sd):
+    """Whether positions ``a`` and ``b`` differ by more than :data:`SEPARATION_WIDTHS` of ``sd`` in some parameter."""
+    return bool(np.any(np.abs(a - b) > SEPARATION_WIDTHS * sd))
+
+
+def _valley_between(evaluate, a, b):
+    """Whether the log-probability on the segment between modes ``a`` and ``b`` dips below both by VALLEY_DEPTH."""
+    s = np.linspace(0, 1, VALLEY_POINTS + 2)[1:-1, None]
+    lp = evaluate(a.theta + s * (b.theta - a.theta))
+    return bool(np.min(lp) < min(a.log_prob, b.log_prob) - VALLEY_DEPTH)
+
+
+def distinct_modes(evaluate, end_points, widths):
+    """The distinct modes among the optimiser's end points, best first.
+
+    Parameters
+    ----------
+    evaluate : callable
+        (n, ndim) sampler vectors -> (n,) log-probabilities.
+    end_points : list of (theta, log_prob)
+        Best first.
+    widths : ndarray
+        Each parameter's natural scale (prior width), for the Hessian's steps.
+
+    Returns
+    -------
+    list of Mode
+        The best optimum first; a Laplace covariance is computed only for
+        end points that are not already within the widths of a kept mode.
+    """
+    best = end_points[0][1]
+    modes = []
+    for theta, lp in end_points:
+        if lp < best - LOG_PROB_RANGE:
+            break
+        if any(not _apart(theta, m.theta, m.sd) for m in modes):
+            continue
+        with np.errstate(invalid="ignore", over="ignore"):  # stencils that leave the support are handled
+            mode = Mode(np.asarray(theta, dtype=float), float(lp), laplace_covariance(evaluate, theta, widths))
+        if all(_apart(theta, m.theta, np.maximum(m.sd, mode.sd)) and _valley_between(evaluate, m, mode)
+               for m in modes):
+            modes.append(mode)
+    return modes
+
+
+def walker_counts(modes, nwalkers):
+    """Walkers per mode, in proportion to its Laplace evidence, at least MIN_WALKERS_PER_MODE (if enough walkers)."""
+    lnz = np.array([m.log_evidence for m in modes])
+    share = np.exp(lnz - lnz.max())
+    share = nwalkers * share / share.sum()
+    floor = min(MIN_WALKERS_PER_MODE, nwalkers // len(modes))
+    counts = np.maximum(floor, np.floor(share)).astype(int)
+    while counts.sum() < nwalkers:
+        counts[np.argmax(share - counts)] += 1
+    while counts.sum() > nwalkers:
+        counts[np.argmax(np.where(counts > floor, counts - share, -np.inf))] -= 1
+    return counts
+
+
+def separating_parameters(modes):
+    """Indices of the parameters in which some pair of modes is apart, the most separated first."""
+    score = np.zeros(modes[0].theta.size)
+    for i, a in enumerate(modes):
+        for b in modes[i + 1:]:
+            score = np.maximum(score, np.abs(a.theta - b.theta) / np.maximum(a.sd, b.sd))
+    order = np.argsort(-score, kind="stable")
+    return order[score[order] > SEPARATION_WIDTHS]
+
+
+def assign(points, modes, parameters):
+    """Index of the nearest mode of each point (..., ndim): Mahalanobis distance in ``parameters``."""
+    distances = []
+    for m in modes:
+        precision = np.linalg.inv(m.cov[np.ix_(parameters, parameters)])
+        diff = points[..., parameters] - m.theta[parameters]
+        distances.append(np.einsum("...i,ij,...j->...", diff, precision, diff))
+    return np.argmin(distances, axis=0)
+
+
+@dataclasses.dataclass
+class SampleModes:
+    """Separated modes of one parameter's samples: their medians, the valleys between them, their fractions."""
+
+    locations: np.ndarray
+    splits: np.ndarray
+    fractions: np.ndarray
+
+    def label(self, x):
+        """Index of the mode of each value."""
+        return np.searchsorted(self.splits, x)
+
+
+def _weighted_quantiles(x, w, q):
+    order = np.argsort(x)
+    cdf = (np.cumsum(w[order]) - 0.5 * w[order]) / np.sum(w)
+    return np.interp(q, cdf, x[order])
+
+
+def _merge_peaks(density, mass, peaks):
+    """Drop peaks until every valley is deeper than VALLEY_RATIO and every mode holds MIN_SAMPLE_FRACTION."""
+    while len(peaks) > 1:
+        valleys = [a + int(np.argmin(density[a:b + 1])) for a, b in zip(peaks[:-1], peaks[1:])]
+        ratios = np.array([density[v] / min(density[a], density[b])
+                           for v, a, b in zip(valleys, peaks[:-1], peaks[1:])])
+        masses = np.diff(np.concatenate([[0.0], np.cumsum(mass)[valleys], [1.0]]))
+        i = int(np.argmax(ratios))
+        if ratios[i] >= VALLEY_RATIO:  # too shallow: the lower peak is part of its neighbour
+            peaks.pop(i if density[peaks[i]] < density[peaks[i + 1]] else i + 1)
+        elif masses.min() < MIN_SAMPLE_FRACTION:  # too small: merged across its shallower valley
+            k = int(np.argmin(masses))
+            peaks.pop(k)
+        else:
+            return peaks, valleys, masses
+    return peaks, [], np.ones(1)
+
+
+def sample_modes(x, weights=None):
+    """Separated modes in the samples of one parameter: a kernel-density valley test.
+
+    The density is a Gaussian kernel estimate (binned) with Silverman's
+    (1986, eq. 3.31) bandwidth 0.9 min(sd, IQR / 1.34) n^(-1/5). Two
+    neighbouring peaks are separate modes when the density between them
+    falls below :data:`VALLEY_RATIO` of the lower peak and each holds at
+    least :data:`MIN_SAMPLE_FRACTION` of the samples; otherwise the lower
+    (or smaller) one is merged into its neighbour.
+
+    Parameters
+    ----------
+    x : ndarray
+        Samples of one parameter.
+    weights : ndarray, optional
+        Sample weights (e.g. nested sampling's importance weights); the
+        effective number of samples is (sum w)^2 / sum w^2.
+
+    Returns
+    -------
+    SampleModes
+    """
+    x = np.asarray(x, dtype=float)
+    w = np.full(x.size, 1.0 / max(x.size, 1)) if weights is None else np.asarray(weights, float) / np.sum(weights)
+    if x.size == 0:
+        return SampleModes(np.full(1, np.nan), np.empty(0), np.ones(1))
+    single = SampleModes(_weighted_quantiles(x, w, [0.5]), np.empty(0), np.ones(1))
+    q25, q75 = _weighted_quantiles(x, w, [0.25, 0.75])
+    sd = math.sqrt(np.sum(w * (x - np.sum(w * x)) ** 2))
+    spread = min(sd, (q75 - q25) / 1.34) or sd
+    n_eff = 1.0 / np.sum(w**2)
+    if n_eff < MIN_SAMPLES or not spread > 0:
+        return single
+    h = 0.9 * spread * n_eff ** -0.2
+    lo, hi = x.min() - 3 * h, x.max() + 3 * h
+    bins = int(min(4096, max(64, math.ceil(4 * (hi - lo) / h))))
+    mass, edges = np.histogram(x, bins=bins, range=(lo, hi), weights=w)
+    density = ndimage.gaussian_filter1d(mass, h / (edges[1] - edges[0]), mode="constant")
+    peaks = list(signal.find_peaks(np.concatenate([[0.0], density, [0.0]]))[0] - 1)
+    peaks, valleys, masses = _merge_peaks(density, mass, peaks)
+    if len(peaks) < 2:
+        return single
+    splits = 0.5 * (edges[1:] + edges[:-1])[valleys]
+    labels = np.searchsorted(splits, x)
+    medians = [_weighted_quantiles(x[labels == k], w[labels == k], [0.5])[0] for k in range(len(peaks))]
+    return SampleModes(np.array(medians), splits, masses)
+
+
+#: Unit text of a parameter from the end of its name.
+_UNITS = {"days": " d", "bjd": " BJD_TDB", "ms": " m/s", "ppm": " ppm", "msun": " M_sun", "rsun": " R_sun"}
+
+
+def _value_text(name, value, sd):
+    """``value`` with two significant digits of ``sd`` and the unit its name carries."""
+    places = max(0, 1 - math.floor(math.log10(sd))) if sd > 0 and math.isfinite(sd) else 4
+    return f"{value:.{places}f}{_UNITS.get(name.rsplit('_', 1)[-1], '')}"
+
+
+def _moves(labels, k=None):
+    """Walker moves from one step to the next between labels (those into or out of ``k`` if given)."""
+    change = labels[1:] != labels[:-1]
+    if k is not None:
+        change &= (labels[1:] == k) | (labels[:-1] == k)
+    return int(np.sum(change))
+
+
+@dataclasses.dataclass
+class ModeGroup:
+    """Separated modes of the posterior, as the chain sampled them.
+
+    ``names``: the parameters that separate them, the most separated first.
+    Per mode: ``locations`` and ``sds`` (physical, in ``names[0]``),
+    ``log_probs`` (the optimum's, or the best sample's), ``fractions`` of
+    the samples, ``jumps`` (walker moves into or out of it after burn-in);
+    ``moves``: every move between them.
+    """
+
+    names: list
+    locations: list
+    sds: list
+    log_probs: list
+    fractions: list
+    jumps: list
+    moves: int
+    found_by: str  # "optimiser" or "samples"
+
+    @property
+    def mixed(self):
+        """Whether every mode's fraction is measured: at least MIN_JUMPS moves and sd(f) <= MAX_FRACTION_SD."""
+        return all(j >= MIN_JUMPS and 2 * f * (1 - f) / math.sqrt(j) <= MAX_FRACTION_SD
+                   for f, j in zip(self.fractions, self.jumps))
+
+    def warning(self):
+        """The sentence naming the parameters, each mode's location, height and fraction, and the mixing."""
+        name = self.names[0]
+        listed = [f"{_value_text(name, x, sd)} (ln p {lp:.1f}, {100 * f:.0f}%{' of samples' if i == 0 else ''})"
+                  for i, (x, sd, lp, f) in enumerate(zip(self.locations, self.sds, self.log_probs, self.fractions))]
+        text = f"{name} has {len(listed)} separated modes"
+        if self.found_by == "samples":
+            text += " in the posterior samples that the optimiser did not find"
+        if len(self.names) > 1:
+            text += f" (also separated in {', '.join(self.names[1:])})"
+        text += ": " + (", ".join(listed[:-1]) + " and " + listed[-1])
+        if self.mixed:
+            return text + f"; walkers moved between them {self.moves} times"
+        if self.moves == 0:
+            return text + ("; walkers never moved between them, so their relative weight is not measured: "
+                           "the run is reported as not converged")
+        return text + (f"; walkers moved between them only {self.moves} times, too few to measure their "
+                       f"relative weight (each mode's fraction to within {MAX_FRACTION_SD}): the run is reported as "
+                       "not converged")
+
+    def entries(self):
+        """One dict per mode for summary.json: parameter, location, ln_p, fraction."""
+        return [{"parameter": self.names[0], "location": float(x), "ln_p": round(float(lp), 2), "fraction": round(f, 4)}
+                for x, lp, f in zip(self.locations, self.log_probs, self.fractions)]
+
+
+def _physical_sd(prior, theta, sd):
+    return abs(float(prior.from_sampler(theta + sd)) - float(prior.from_sampler(theta)))
+
+
+def _optimiser_group(chain, thin, modes, layout):
+    """The optimiser's modes as sampled: (group, labels of every chain position)."""
+    separating = separating_parameters(modes)
+    labels = assign(chain, modes, separating)
+    flat = labels[thin - 1::thin].ravel()
+    j = separating[0]
+    prior = layout.priors[layout.free[j]]
+    group = ModeGroup(names=[layout.free[i] for i in separating],
+                      locations=[float(prior.from_sampler(m.theta[j])) for m in modes],
+                      sds=[_physical_sd(prior, m.theta[j], m.sd[j]) for m in modes],
+                      log_probs=[m.log_prob for m in modes],
+                      fractions=[float(np.mean(flat == k)) for k in range(len(modes))],
+                      jumps=[_moves(labels, k) for k in range(len(modes))], moves=_moves(labels),
+                      found_by="optimiser")
+    return group, labels
+
+
+def _same_partition(a, b):
+    """Whether two labellings of the same samples split them alike (95% agreement up to renaming)."""
+    if a.max() != b.max():
+        return False
+    table = np.zeros((a.max() + 1, b.max() + 1))
+    np.add.at(table, (a, b), 1)
+    return table.max(axis=1).sum() >= 0.95 * a.size
+
+
+def _sample_group(chain, log_prob, thin, labels, k, params, split, layout):
+    """The modes ``split`` of parameters ``params`` within the optimiser's mode ``k``, as sampled."""
+    j, prior = params[0], layout.priors[layout.free[params[0]]]
+    sub = np.where(labels == k, split.label(chain[..., j]), -1)  # -1: in another of the optimiser's modes
+    flat_sub, flat_lp = sub[thin - 1::thin].ravel(), log_prob[thin - 1::thin].ravel()
+    values = prior.from_sampler(chain[thin - 1::thin, :, j].ravel())
+    indices = range(split.locations.size)
+    return ModeGroup(names=[layout.free[i] for i in params],
+                     locations=[float(prior.from_sampler(x)) for x in split.locations],
+                     sds=[float(np.std(values[flat_sub == m])) for m in indices],
+                     log_probs=[float(np.max(flat_lp[flat_sub == m])) for m in indices],
+                     fractions=[float(np.mean(flat_sub == m)) for m in indices],
+                     jumps=[_moves(sub, m) for m in indices], moves=_moves(sub), found_by="samples")
+
+
+def _sample_groups(chain, log_prob, thin, labels, layout):
+    """Modes of single parameters within each of the optimiser's modes: the groups the optimiser did not find.
+
+    Parameters whose modes split the samples alike are one group.
+    """
+    samples = chain[thin - 1::thin].reshape(-1, chain.shape[-1])
+    flat_labels = labels[thin - 1::thin].ravel()
+    groups = []
+    for k in np.unique(flat_labels):
+        inside = flat_labels == k
+        found = []  # (parameter indices, SampleModes of the first, its labels of the samples inside)
+        for j in range(chain.shape[-1]):
+            split = sample_modes(samples[inside, j])
+            if split.splits.size:
+                own = split.label(samples[inside, j])
+                same = [f for f in found if _same_partition(f[2], own)]
+                if same:
+                    same[0][0].append(j)
+                else:
+                    found.append(([j], split, own))
+        groups += [_sample_group(chain, log_prob, thin, labels, k, params, split, layout)
+                   for params, split, _ in found]
+    return groups
+
+
+def describe(chain, log_prob, thin, modes, layout):
+    """Every group of separated modes in a chain after burn-in.
+
+    Parameters
+    ----------
+    chain : ndarray, shape (steps, walkers, ndim)
+        Sampler coordinates after burn-in, not thinned.
+    log_prob : ndarray, shape (steps, walkers)
+    thin : int
+        The posterior samples are ``chain[thin - 1::thin]``.
+    modes : list of Mode
+        The optimiser's distinct modes (one or more).
+    layout : ParameterLayout
+
+    Returns
+    -------
+    list of ModeGroup
+        The optimiser's modes first (when there are several), then modes
+        of single parameters found in the samples of any one of them.
+    """
+    if len(modes) > 1:
+        group, labels = _optimiser_group(chain, thin, modes, layout)
+        groups = [group]
+    else:
+        groups, labels = [], np.zeros(chain.shape[:2], dtype=int)
+    return groups + _sample_groups(chain, log_prob, thin, labels, layout)

@@ -1,0 +1,296 @@
+"""Separated posterior modes: found among the optimiser's end points and periodogram seeds, sampled, reported.
+
+The pipeline tests fit an RV-only circular planet observed in two seasons
+200 d apart: the cycle count across the gap is ambiguous, so the period
+posterior has aliases 0.11 d apart, two of them of nearly equal weight.
+"""
+
+import json
+import math
+
+import emcee
+import numpy as np
+import pytest
+import yaml
+from astropy.timeseries import LombScargle
+from scipy import signal
+from scipy.special import erf, logsumexp
+
+from planetfit import pipeline
+from planetfit.core.quantities import DATASET, PLANET
+from planetfit.fitting import mcmc as sampling
+from planetfit.fitting import modes
+from planetfit.fitting.parameters import Parameter, ParameterLayout
+from planetfit.fitting.periodogram import periodogram_starts, sinusoid
+from planetfit.fitting.posterior import JointPosterior
+from planetfit.inputs.priors import Uniform
+from synthetic import planet_truth, radial_velocity, write_config, write_tiny_system, write_velocities
+
+T0, GAP_DAYS, SEASON_DAYS, PER_SEASON = 2460000.0, 200.0, 18.0, 12
+PERIOD, K_MS, SIGMA_MS, OFFSET_MS = 4.75, 5.0, 1.5, 3.0
+TC = T0 + SEASON_DAYS / 2
+PERIOD_PRIOR, TC_HALF_WIDTH, K_MAX = (4.6, 5.0), 2.3, 30.0  # the Tc prior is 4.6 d wide: each phase once at most
+
+
+def write_two_season_system(folder, seed=11, noise=True, walkers=32, max_steps=8000):
+    """RVs of one circular planet in two 18-d seasons 200 d apart, and a config fitting them; returns its path.
+
+    Jitter is fixed at zero and the star's mass and radius are fixed (they enter no RV-only circular fit),
+    so the posterior is the one :func:`alias_weights` integrates.
+    """
+    folder.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng(seed)
+    t = np.sort(np.concatenate([s + rng.uniform(0, SEASON_DAYS, PER_SEASON) for s in (T0, T0 + GAP_DAYS)]))
+    rv = radial_velocity(t, {"b": planet_truth(PERIOD, TC, K_MS)}) + OFFSET_MS
+    if noise:
+        rv += rng.normal(0, SIGMA_MS, t.size)
+    entry = write_velocities(folder, "spec", "rv.txt", t, rv, SIGMA_MS, offset_ms={"uniform": [-50, 50]},
+                             jitter_ms=0.0)
+    return write_config(folder, {
+        "system": "Twoseason-1", "seed": 5, "output": "run",
+        "star": {"mass_msun": 0.9, "radius_rsun": 0.85, "teff_k": {"normal": [5300, 80]}},
+        "planets": {"b": {"transits": False, "period_days": {"uniform": list(PERIOD_PRIOR)},
+                          "transit_bjd": {"uniform": [TC - TC_HALF_WIDTH, TC + TC_HALF_WIDTH]},
+                          "rv_amplitude_ms": {"uniform": [0.0, K_MAX]}}},
+        "velocities": [entry],
+        "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 100, "optimiser_starts": 4}})
+
+
+def alias_weights(folder):
+    """Posterior weight of each period alias, by brute-force integration: [(period of its peak, weight)].
+
+    On a grid of period (2e-4 d) x conjunction time (0.004 d; halving both steps changes no weight by more than
+    0.001) over the whole prior. The model RV = -K sin(2 pi (t - Tc) / P) + c is linear in K and the offset c,
+    whose integrals are analytic: c's uniform prior (100 m/s wide) holds its whole Gaussian (sd 0.3 m/s), and
+    K's uniform prior [0, 30] m/s is integrated with the error function. The aliases are split at the minima
+    of the period marginal between its peaks.
+    """
+    t, y, err = np.loadtxt(folder / "rv.txt", skiprows=1, unpack=True)
+    w = 1 / err**2
+    y = y - np.sum(w * y) / np.sum(w)
+    periods = np.arange(PERIOD_PRIOR[0] + 1e-4, PERIOD_PRIOR[1], 2e-4)
+    tcs = np.arange(TC - TC_HALF_WIDTH + 2e-3, TC + TC_HALF_WIDTH, 4e-3)
+    marginal = np.empty(periods.size)
+    with np.errstate(divide="ignore"):  # the erf terms cancel to 0 for phases whose best K is far below 0
+        for i, p in enumerate(periods):
+            s = -np.sin(2 * np.pi * (t - tcs[:, None]) / p)
+            s -= (s @ w)[:, None] / np.sum(w)            # the offset marginalised
+            sss, sys_ = (s**2) @ w, (s * y) @ w
+            k_best, root = sys_ / sss, np.sqrt(sss / 2)
+            log_k_integral = 0.5 * np.log(np.pi / (2 * sss)) + np.log(erf((K_MAX - k_best) * root) + erf(k_best * root))
+            marginal[i] = logsumexp(0.5 * sys_**2 / sss + log_k_integral)
+    density = np.exp(marginal - marginal.max())
+    peaks = signal.find_peaks(density)[0]
+    edges = [0] + [a + int(np.argmin(density[a:b])) for a, b in zip(peaks[:-1], peaks[1:])] + [periods.size]
+    return [(periods[p], density[lo:hi].sum() / density.sum()) for p, lo, hi in zip(peaks, edges[:-1], edges[1:])]
+
+
+def _sampling(run_dir):
+    return json.loads((run_dir / "summary.json").read_text())["sampling"]
+
+
+def _mode_warnings(sampling_block):
+    return [w for w in sampling_block["warnings"] if "separated modes" in w]
+
+
+@pytest.fixture
+def no_figures(monkeypatch):
+    """Skip figures and tables (the report's job); summary.json is still written."""
+    monkeypatch.setattr(pipeline.outputs, "write_all", lambda *args, **kwargs: None)
+
+
+def test_two_period_aliases_are_both_sampled_with_their_weights(tmp_path):
+    config = write_two_season_system(tmp_path)
+    run_dir = pipeline.run(config, quiet=True, figures=False)
+    s = _sampling(run_dir)
+    grid = alias_weights(tmp_path)
+    found = _mode_warnings(s)
+    assert len(found) == 1 and found[0].startswith("b.period_days has "), s["warnings"]
+    if "reported as not converged" in found[0]:
+        assert not s["converged"]
+        return
+    # source: brute-force integration of the same posterior on a grid (alias_weights). With at least 100
+    # walker moves between modes a fraction near 0.5 scatters by <= 0.05 (two-state Markov chain), so 0.1.
+    runs = {round(m["location"], 2): m["fraction"] for m in s["modes"] if m["parameter"] == "b.period_days"}
+    for period, weight in grid:
+        match = [f for p, f in runs.items() if abs(p - period) < 0.01]
+        if weight > 0.2:
+            assert match, (grid, s["modes"])
+        if match:
+            assert abs(match[0] - weight) < 0.1, (grid, s["modes"])
+    assert sum(w for _, w in grid if w > 0.2) > 0.9  # the data have two aliases of comparable weight
+
+
+def test_walkers_that_never_jump_make_the_run_not_converged(tmp_path, monkeypatch):
+    # Metropolis steps about a quarter of each alias's width (period, conjunction time, K, offset) mix the
+    # walkers within the alias they start in and never reach another 0.11 d away.
+    steps = np.array([1e-3, 1e-2, 0.2, 0.1]) ** 2
+    monkeypatch.setattr(sampling, "walker_moves", lambda several_modes=False: [emcee.moves.GaussianMove(steps)])
+    config = write_two_season_system(tmp_path, max_steps=1000)
+    s = _sampling(pipeline.run(config, quiet=True, figures=False))
+    found = _mode_warnings(s)
+    assert not s["converged"]
+    assert len(found) == 1 and found[0].startswith("b.period_days has ")
+    assert found[0].endswith("walkers never moved between them, so their relative weight is not measured: "
+                             "the run is reported as not converged")
+
+
+def test_redraw_and_resume_keep_the_modes(tmp_path, no_figures):
+    config = write_two_season_system(tmp_path, max_steps=1500)
+    run_dir = pipeline.run(config, quiet=True, figures=False)
+    first = _sampling(run_dir)
+    assert _mode_warnings(first)
+    pipeline.redraw(run_dir)
+    assert _sampling(run_dir)["warnings"] == first["warnings"]
+    raw = yaml.safe_load(config.read_text())
+    raw["sampling"]["max_steps"] = 3000
+    config.write_text(yaml.safe_dump(raw, sort_keys=False))
+    resumed = _sampling(pipeline.run(config, resume=True, quiet=True, figures=False))
+    assert resumed["steps"] > first["steps"]
+    # The modes come from samples.h5: the resumed chain is assigned to the optimiser's same modes.
+    assert [round(m["location"], 4) for m in resumed["modes"]] == [round(m["location"], 4) for m in first["modes"]]
+    assert len(_mode_warnings(resumed)) == 1
+
+
+def test_a_one_mode_system_has_no_mode_warning(tmp_path):
+    s = _sampling(pipeline.run(write_tiny_system(tmp_path), quiet=True, figures=False))
+    assert not _mode_warnings(s) and s["modes"] == []
+
+
+# ----------------------------------------------------------------- units
+
+def _gaussian_mixture(weights, centres, sd):
+    """The batch log-density of a mixture of isotropic Gaussians of standard deviation ``sd``, each normalised."""
+    def evaluate(x):
+        x = np.atleast_2d(x)
+        norm = x.shape[1] * math.log(sd * math.sqrt(2 * math.pi))
+        terms = [math.log(w) - 0.5 * np.sum(((x - c) / sd) ** 2, axis=1) - norm for w, c in zip(weights, centres)]
+        return logsumexp(terms, axis=0)
+    return evaluate
+
+
+def test_end_points_cluster_into_modes_with_their_laplace_evidence():
+    sd, centres = 0.1, [np.array([0.0, 0.0]), np.array([3.0, 1.0])]
+    evaluate = _gaussian_mixture([0.7, 0.3], centres, sd)
+    ends = [centres[0], centres[0] + 1e-4, centres[1], np.array([-3.0, 0.0])]
+    ends = sorted([(x, float(evaluate(x)[0])) for x in ends], key=lambda e: -e[1])
+    found = modes.distinct_modes(evaluate, ends, widths=np.array([10.0, 10.0]))
+    # The copy 1e-4 away is the same mode; (-3, 0) is 450 below the best, no mode.
+    assert [tuple(np.round(m.theta, 3)) for m in found] == [(0.0, 0.0), (3.0, 1.0)]
+    # source: the integral of a normalised Gaussian component of weight w is w.
+    assert [round(math.exp(m.log_evidence), 3) for m in found] == [0.7, 0.3]
+    assert np.allclose([m.sd for m in found], sd, rtol=1e-3)
+    assert list(modes.walker_counts(found, 40)) == [28, 12]
+    assert list(modes.walker_counts([found[0], modes.Mode(centres[1], found[1].log_prob - 8, found[1].cov)], 40)) \
+        == [36, 4]  # at least MIN_WALKERS_PER_MODE
+    assert list(modes.separating_parameters(found)) == [0, 1]
+
+
+def test_end_points_along_a_flat_direction_are_one_mode():
+    # Gaussian in x0, flat in x1 (a jitter far below the errors): end points far apart in x1, no valley.
+    def evaluate(x):
+        x = np.atleast_2d(x)
+        return np.where(np.abs(x[:, 1]) < 5, -0.5 * (x[:, 0] / 0.1) ** 2, -np.inf)
+    ends = [(np.array([0.0, -4.999]), 0.0), (np.array([0.0, 2.0]), 0.0)]
+    assert len(modes.distinct_modes(evaluate, ends, widths=np.array([10.0, 10.0]))) == 1
+
+
+def test_mixing_rule_needs_the_fraction_measured_to_five_percent():
+    def group(fractions, jumps):
+        return modes.ModeGroup(["b.period_days"], [4.64, 4.75], [0.004, 0.004], [-48.7, -48.7], fractions, jumps,
+                               max(jumps), "optimiser")
+    # 2 f (1 - f) / sqrt(J) <= 0.05: J >= 100 at f = 0.5; at f = 0.1, J >= 13 (and never fewer than 10).
+    assert group([0.5, 0.5], [100, 100]).mixed and not group([0.5, 0.5], [99, 99]).mixed
+    assert group([0.9, 0.1], [13, 13]).mixed and not group([0.9, 0.1], [12, 12]).mixed
+    assert not group([0.99, 0.01], [9, 9]).mixed
+    text = group([0.55, 0.45], [312, 312]).warning()
+    assert text == ("b.period_days has 2 separated modes: 4.6400 d (ln p -48.7, 55% of samples) and "
+                    "4.7500 d (ln p -48.7, 45%); walkers moved between them 312 times")
+
+
+def test_sample_modes_finds_valleys_not_bumps():
+    rng = np.random.default_rng(3)
+    two = np.concatenate([rng.normal(0, 1, 7000), rng.normal(8, 1, 3000)])
+    found = modes.sample_modes(two)
+    # source: the mixture's weights and centres by construction.
+    assert found.splits.size == 1 and 2 < found.splits[0] < 6
+    assert np.allclose(found.fractions, [0.7, 0.3], atol=0.01) and np.allclose(found.locations, [0, 8], atol=0.1)
+    for one in (rng.normal(size=10000), rng.exponential(size=10000), rng.uniform(size=10000),
+                np.concatenate([rng.uniform(-5, 0, 3000), rng.normal(0, 0.3, 7000)]),   # a plateau and a peak
+                np.concatenate([rng.normal(0, 1, 5000), rng.normal(3, 1, 5000)]),       # 3 sd apart: one mode
+                np.concatenate([rng.normal(0, 1, 9900), rng.normal(50, 1, 100)])):      # 1% of the samples
+        assert modes.sample_modes(one).splits.size == 0
+    # Weighted samples (as a nested sampler gives): uniform draws weighted by the mixture's density.
+    x = rng.uniform(-5, 13, 20000)
+    weights = 0.7 * np.exp(-0.5 * x**2) + 0.3 * np.exp(-0.5 * (x - 8) ** 2)
+    assert np.allclose(modes.sample_modes(x, weights).fractions, [0.7, 0.3], atol=0.02)
+
+
+def test_a_mode_only_the_samples_show_is_reported():
+    # 24 walkers, one optimiser mode; half the walkers sample x0 ~ N(0, 1), half N(10, 1), none moves between.
+    rng = np.random.default_rng(4)
+    chain = rng.normal(size=(400, 24, 2))
+    chain[:, 12:, 0] += 10
+    layout = ParameterLayout([Parameter("b", "period_days", Uniform(-20, 30), PLANET["period_days"], "planet"),
+                              Parameter("spec", "offset_ms", Uniform(-5, 5), DATASET["offset_ms"])])
+    one = [modes.Mode(np.zeros(2), 0.0, np.eye(2))]
+    groups = modes.describe(chain, -0.5 * np.sum(chain**2, axis=2), 1, one, layout)
+    assert len(groups) == 1 and groups[0].found_by == "samples" and groups[0].names == ["b.period_days"]
+    assert groups[0].fractions == [0.5, 0.5] and groups[0].moves == 0 and not groups[0].mixed
+    assert "in the posterior samples that the optimiser did not find" in groups[0].warning()
+
+
+def _noise_free_posterior(tmp_path):
+    config = write_two_season_system(tmp_path, noise=False)
+    checked = pipeline.check(config)
+    return JointPosterior(checked.config, checked.photometry, checked.velocities)
+
+
+def test_periodogram_seed_of_a_noise_free_sinusoid_is_its_orbit(tmp_path):
+    post = _noise_free_posterior(tmp_path)
+    layout = post.layout
+    centre = layout.geometry()[0]
+    starts = periodogram_starts(post, layout, centre)
+    assert len(starts) == 3
+    best = layout.values(starts[0])
+    # source: the RVs are radvel's circular orbit (synthetic.radial_velocity) of this period, conjunction
+    # time and semi-amplitude; a noise-free sinusoid peaks at its own frequency.
+    assert abs(best["b.period_days"] - PERIOD) < 1e-5
+    assert abs(best["b.transit_bjd"] - TC) < 1e-3 and abs(best["b.rv_amplitude_ms"] - K_MS) < 0.01
+    assert best["spec.offset_ms"] == pytest.approx(np.median(post.velocities[0].rv))
+    # The other two starts are the next aliases (1 / 200 d apart in frequency), inside the priors.
+    others = sorted(abs(1 / layout.values(s)["b.period_days"] - 1 / PERIOD) * GAP_DAYS for s in starts[1:])
+    assert np.allclose(others, [1, 1], atol=0.05)
+    for s in starts:
+        assert abs(layout.values(s)["b.transit_bjd"] - TC) <= TC_HALF_WIDTH
+    # source: astropy's LombScargle (the reference): its highest peak of these data is the seed's, to half
+    # a step of its own frequency grid.
+    t, rv = post.velocities[0].time, post.velocities[0].rv
+    frequency, power = LombScargle(t, rv, post.velocities[0].error).autopower(
+        minimum_frequency=1 / PERIOD_PRIOR[1], maximum_frequency=1 / PERIOD_PRIOR[0], samples_per_peak=50)
+    assert abs(frequency[np.argmax(power)] - 1 / best["b.period_days"]) <= 0.5 * (frequency[1] - frequency[0])
+
+
+def test_sinusoid_follows_the_conjunction_convention():
+    # source: planetfit's convention (DEVELOPERS.md, transit at true anomaly pi/2 - omega), here through
+    # radvel's circular RV curve: RV = -K sin(2 pi (t - Tc) / P).
+    t = np.linspace(0, 30, 40)
+    rv = radial_velocity(t, {"b": planet_truth(7.3, 2.1, 4.0)}) + 10.0
+    tc, k = sinusoid(t, rv, np.ones_like(t), 1 / 7.3)
+    assert abs(tc - 2.1) < 1e-6 and abs(k - 4.0) < 1e-6
+
+
+def test_no_seeds_for_transiting_planets_or_narrow_priors(tmp_path):
+    post = JointPosterior(*_checked_parts(write_tiny_system(tmp_path / "tiny")))
+    assert periodogram_starts(post, post.layout, post.layout.geometry()[0]) == []
+    config = write_two_season_system(tmp_path / "narrow")
+    raw = yaml.safe_load(config.read_text())
+    raw["planets"]["b"]["period_days"] = {"uniform": [4.745, 4.755]}  # 0.00044 / d wide, 1 / span = 0.0046 / d
+    config.write_text(yaml.safe_dump(raw))
+    post = JointPosterior(*_checked_parts(config))
+    assert periodogram_starts(post, post.layout, post.layout.geometry()[0]) == []
+
+
+def _checked_parts(config):
+    checked = pipeline.check(config)
+    return checked.config, checked.photometry, checked.velocities
