@@ -34,11 +34,18 @@ import yaml
 from scipy import stats
 
 PRIOR = {
-    "star": {"mass_msun": {"normal": [0.9, 0.05]}, "radius_rsun": {"normal": [0.85, 0.03]},
-             "teff_k": {"normal": [5300, 80]}},
-    "planet": {"period_days": {"uniform": [2.9, 3.1]}, "transit_bjd": {"uniform": [2460001.0, 2460001.2]},
-               "radius_ratio": {"uniform": [0.02, 0.08]}, "impact": {"uniform": [0.0, 0.8]},
-               "rv_amplitude_ms": {"uniform": [1.0, 20.0]}},
+    "star": {
+        "mass_msun": {"normal": [0.9, 0.05]},
+        "radius_rsun": {"normal": [0.85, 0.03]},
+        "teff_k": {"normal": [5300, 80]},
+    },
+    "planet": {
+        "period_days": {"uniform": [2.9, 3.1]},
+        "transit_bjd": {"uniform": [2460001.0, 2460001.2]},
+        "radius_ratio": {"uniform": [0.02, 0.08]},
+        "impact": {"uniform": [0.0, 0.8]},
+        "rv_amplitude_ms": {"uniform": [1.0, 20.0]},
+    },
     "offset_ms": {"uniform": [-20.0, 20.0]},
 }
 PHOT_START_BJD, PHOT_DAYS, CADENCE_MIN, NOISE_PPM = 2460000.9, 6.0, 10.0, 500.0
@@ -50,13 +57,32 @@ QUANTITIES = ("mass_earth", "radius_earth", "rv_amplitude_ms", "radius_ratio")
 def _config(phot_file, rv_file, steps, seed):
     """A config dict whose priors are PRIOR (limb darkening, flux level and jitters fixed)."""
     return {
-        "system": "Calibration", "seed": seed, "output": "run", "star": PRIOR["star"],
+        "system": "Calibration",
+        "seed": seed,
+        "output": "run",
+        "star": PRIOR["star"],
         "planets": {"b": dict(PRIOR["planet"], orbit="circular")},
-        "photometry": [{"name": "cam", "file": str(phot_file), "columns": {"time": "t", "flux": "f", "error": "e"},
-                        "exposure_min": CADENCE_MIN, "supersample": 1, "limb_darkening_q1": 0.36,
-                        "limb_darkening_q2": 0.3, "flux_level": 1.0, "normalise": False}],
-        "velocities": [{"name": "spec", "file": str(rv_file), "columns": {"time": "t", "rv": "v", "error": "e"},
-                        "offset_ms": PRIOR["offset_ms"]}],
+        "photometry": [
+            {
+                "name": "cam",
+                "file": str(phot_file),
+                "columns": {"time": "t", "flux": "f", "error": "e"},
+                "exposure_min": CADENCE_MIN,
+                "supersample": 1,
+                "limb_darkening_q1": 0.36,
+                "limb_darkening_q2": 0.3,
+                "flux_level": 1.0,
+                "normalise": False,
+            }
+        ],
+        "velocities": [
+            {
+                "name": "spec",
+                "file": str(rv_file),
+                "columns": {"time": "t", "rv": "v", "error": "e"},
+                "offset_ms": PRIOR["offset_ms"],
+            }
+        ],
         "sampling": {"walkers": 24, "max_steps": steps, "check_every": CHECK_EVERY, "optimiser_starts": 2},
     }
 
@@ -74,10 +100,10 @@ def simulate_system(seed, folder, steps):
         The loaded config, the posterior of the simulated data, and the
         true parameter values and orbits.
     """
-    from planetfit.inputs.config import load_config
-    from planetfit.inputs.datasets import load_all
     from planetfit.fitting import predictions
     from planetfit.fitting.posterior import JointPosterior
+    from planetfit.inputs.config import load_config
+    from planetfit.inputs.datasets import load_all
 
     rng = np.random.default_rng(seed)
     folder = Path(folder)
@@ -95,7 +121,11 @@ def simulate_system(seed, folder, steps):
         if orbits is not None and np.any(predictions.photometry_model(post, values, orbits, 0) < 1):
             break
     flux = predictions.photometry_model(post, values, orbits, 0) + rng.normal(0, NOISE_PPM * 1e-6, t_phot.size)
-    rv = values["spec.offset_ms"] + predictions.velocity_model(post, values, orbits, 0) + rng.normal(0, RV_ERROR_MS, N_RV)
+    rv = (
+        values["spec.offset_ms"]
+        + predictions.velocity_model(post, values, orbits, 0)
+        + rng.normal(0, RV_ERROR_MS, N_RV)
+    )
     _write_table(folder / "phot.csv", [t_phot, flux, np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
     _write_table(folder / "rv.csv", [t_rv, rv, np.full(N_RV, RV_ERROR_MS)], "t,v,e")
     return config, JointPosterior(config, *load_all(config)), values, orbits
@@ -105,24 +135,34 @@ def fit_one(args):
     """Draw one system from the prior, simulate data, fit it; return truth and posterior intervals."""
     seed, steps = args
     from planetfit.context import derived as physics
-    from planetfit.fitting.mcmc import run_sampler
     from planetfit.core.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
+    from planetfit.fitting.mcmc import run_sampler
 
     with tempfile.TemporaryDirectory() as tmp:
         config, post, values, orbits = simulate_system(seed, tmp, steps)
         rng = np.random.default_rng(seed + 1_000_000)  # the fit's own stream, apart from the simulation's
         result = run_sampler(post, post.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
         derived = physics.derive(config, post.model, result.samples, rng)["planets"]["b"]
-    true_values = {"mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
-                   "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
-                   "rv_amplitude_ms": values["b.rv_amplitude_ms"], "radius_ratio": values["b.radius_ratio"]}
-    out = {"seed": seed, "steps": int(result.steps), "converged": bool(result.converged),
-           "autocorr_steps": round(result.autocorr_steps, 1)}
+    true_values = {
+        "mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
+        "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
+        "rv_amplitude_ms": values["b.rv_amplitude_ms"],
+        "radius_ratio": values["b.radius_ratio"],
+    }
+    out = {
+        "seed": seed,
+        "steps": int(result.steps),
+        "converged": bool(result.converged),
+        "autocorr_steps": round(result.autocorr_steps, 1),
+    }
     for q in QUANTITIES:
         p = np.percentile(derived[q], [2.5, 15.865, 84.135, 97.5])
         x = true_values[q]
-        out[q] = {"in_68": bool(p[1] <= x <= p[2]), "in_95": bool(p[0] <= x <= p[3]),
-                  "rank": round(float(np.mean(derived[q] < x)), 4)}
+        out[q] = {
+            "in_68": bool(p[1] <= x <= p[2]),
+            "in_95": bool(p[0] <= x <= p[3]),
+            "rank": round(float(np.mean(derived[q] < x)), 4),
+        }
     return out
 
 
@@ -146,25 +186,30 @@ def calibrate(systems, processes, steps, first_seed=1000):
 
 def _fractions(results, level):
     """Fraction of ``results`` whose truth lies in the ``level`` (68 or 95) interval, per quantity."""
-    return {q: round(sum(r[q][f"in_{level}"] for r in results) / len(results), 3) if results else None
-            for q in QUANTITIES}
+    return {
+        q: round(sum(r[q][f"in_{level}"] for r in results) / len(results), 3) if results else None for q in QUANTITIES
+    }
 
 
 def coverage(results, steps, seconds):
     """Coverage report from per-system results (the dicts ``fit_one`` returns)."""
     n = len(results)
     converged = [r for r in results if r["converged"]]
-    report = {"systems": n, "max_steps": steps,
-              "converged_fraction": round(len(converged) / n, 3),
-              "median_steps": float(np.median([r["steps"] for r in results])),
-              "median_autocorr_steps": float(np.median([r["autocorr_steps"] for r in results])),
-              "binomial_sd_68": round(math.sqrt(0.68 * 0.32 / n), 3),
-              "binomial_sd_95": round(math.sqrt(0.95 * 0.05 / n), 3)}
+    report = {
+        "systems": n,
+        "max_steps": steps,
+        "converged_fraction": round(len(converged) / n, 3),
+        "median_steps": float(np.median([r["steps"] for r in results])),
+        "median_autocorr_steps": float(np.median([r["autocorr_steps"] for r in results])),
+        "binomial_sd_68": round(math.sqrt(0.68 * 0.32 / n), 3),
+        "binomial_sd_95": round(math.sqrt(0.95 * 0.05 / n), 3),
+    }
     for level in ("68", "95"):
         report[f"coverage_{level}"] = _fractions(results, level)
         report[f"coverage_{level}_converged"] = _fractions(converged, level)
     report["rank_uniformity_ks_p"] = {
-        q: round(float(stats.kstest([r[q]["rank"] for r in results], "uniform").pvalue), 3) for q in QUANTITIES}
+        q: round(float(stats.kstest([r[q]["rank"] for r in results], "uniform").pvalue), 3) for q in QUANTITIES
+    }
     report["seconds"] = round(seconds, 1)
     return report
 

@@ -14,7 +14,7 @@ def classify_speed(n=100_000):
     rng = np.random.default_rng(0)
     mass = rng.normal(4.0, 0.6, n)
     radius = rng.normal(1.6, 0.08, n)
-    composition(mass[:100], radius[:100])           # load the grid outside the timing
+    composition(mass[:100], radius[:100])  # load the grid outside the timing
     start = time.perf_counter()
     result = composition(mass, radius)
     seconds = time.perf_counter() - start
@@ -37,16 +37,19 @@ def zeng_table():
 def solar_system():
     print("\nSolar System (2 % mass, 1 % radius uncertainty)")
     earth = solve_structure(1.0, 0.325)
-    print(f"  Earth-like at 1 M_E: R = {earth.radius_earth:.4f} R_E, core radius "
-          f"{earth.boundary_radii_earth['core']:.3f} R_E, P_c = {earth.central_pressure_gpa:.0f} GPa")
-    for name, mass, radius in (("Earth", 1.0, 1.0), ("Venus", 0.815, 0.950),
-                               ("Mercury", 0.0553, 0.383)):
+    print(
+        f"  Earth-like at 1 M_E: R = {earth.radius_earth:.4f} R_E, core radius "
+        f"{earth.boundary_radii_earth['core']:.3f} R_E, P_c = {earth.central_pressure_gpa:.0f} GPa"
+    )
+    for name, mass, radius in (("Earth", 1.0, 1.0), ("Venus", 0.815, 0.950), ("Mercury", 0.0553, 0.383)):
         r = quick_verdict(mass, 0.02 * mass, radius, 0.01 * radius, seed=1)
         iron = r["iron_fraction"]
-        print(f"  {name:8s} p_rocky {r['p_rocky']:.3f}  p_denser_than_earth_like "
-              f"{r['p_denser_than_earth_like']:.3f}  iron fraction {iron['median']:.3f} "
-              f"({iron['lower']:.3f}-{iron['upper']:.3f})  earth_like R "
-              f"{reference_radius_earth('earth_like', mass):.4f}")
+        print(
+            f"  {name:8s} p_rocky {r['p_rocky']:.3f}  p_denser_than_earth_like "
+            f"{r['p_denser_than_earth_like']:.3f}  iron fraction {iron['median']:.3f} "
+            f"({iron['lower']:.3f}-{iron['upper']:.3f})  earth_like R "
+            f"{reference_radius_earth('earth_like', mass):.4f}"
+        )
     print(f"  verdict (Venus): {quick_verdict(0.815, 0.0163, 0.950, 0.0095, seed=1)['verdict']}")
 
 

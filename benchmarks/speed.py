@@ -46,16 +46,16 @@ from radvel import kepler, orbit
 from threadpoolctl import threadpool_limits
 
 from planetfit import pipeline
-from planetfit.demo import generate
 from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solve_orbit
+from planetfit.core.units import MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M
+from planetfit.demo import generate
 from planetfit.fitting.components.transit import quadratic_coefficients
 from planetfit.fitting.posterior import JointPosterior
 from planetfit.fitting.sampling import sampler_geometry
-from planetfit.core.units import MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M
 
-POSITIONS = 28          # parameter vectors per batch: half of 56 walkers, as emcee's moves propose them
-ROUNDS = 7              # interleaved rounds; the best is kept
-MIN_ROUND_S = 0.3       # each contender repeats its positions until a round lasts this long
+POSITIONS = 28  # parameter vectors per batch: half of 56 walkers, as emcee's moves propose them
+ROUNDS = 7  # interleaved rounds; the best is kept
+MIN_ROUND_S = 0.3  # each contender repeats its positions until a round lasts this long
 NAIVE_SUPERSAMPLE = 15  # sub-exposures of the plain reference, everywhere
 NAIVE_EXPOSURE_MIN = 30.0
 MEMORY_SECTORS = 10
@@ -63,8 +63,11 @@ SEED = 20261201
 SECTOR_DAYS = 27.0
 # Sectors: (dataset, start BTJD, cadence min, white noise ppm); spectrographs: (name, points, error,
 # jitter, offset; m/s). The transit and orbits are the demo generator's TRUTH.
-SECTORS = [("camera-30min", 2400.0, 30.0, 110.0), ("camera-2min", 3000.0, 2.0, 420.0),
-           ("camera-2min", 3027.4, 2.0, 420.0)]
+SECTORS = [
+    ("camera-30min", 2400.0, 30.0, 110.0),
+    ("camera-2min", 3000.0, 2.0, 420.0),
+    ("camera-2min", 3027.4, 2.0, 420.0),
+]
 SPECTROGRAPHS = [("spectrograph-a", 35, 1.2, 1.5, -12.3), ("spectrograph-b", 25, 1.8, 2.4, 31.0)]
 _LOG_2PI = math.log(2 * math.pi)
 
@@ -77,8 +80,14 @@ def machine():
             if line.startswith("model name"):
                 model = line.split(":", 1)[1].strip()
                 break
-    return {"cpu": model, "cores": os.cpu_count(), "load_average_1_5_15_min": [round(x, 2) for x in os.getloadavg()],
-            "python": sys.version.split()[0], "numpy": np.__version__, "batman": batman.__version__}
+    return {
+        "cpu": model,
+        "cores": os.cpu_count(),
+        "load_average_1_5_15_min": [round(x, 2) for x in os.getloadavg()],
+        "python": sys.version.split()[0],
+        "numpy": np.__version__,
+        "batman": batman.__version__,
+    }
 
 
 def write_dataset(folder, sectors=SECTORS, sampling=None):
@@ -96,35 +105,78 @@ def write_dataset(folder, sectors=SECTORS, sampling=None):
         flux = generate.light_curve(t + generate.BTJD_OFFSET, cadence_min) + rng.normal(0, noise_ppm * PPM, t.size)
         tables.setdefault(name, []).append(np.column_stack([t, flux, np.full(t.size, noise_ppm * PPM)]))
         if len(tables[name]) == 1:
-            photometry.append({"name": name, "file": f"{name}.csv", "columns": columns,
-                               "time_offset_days": generate.BTJD_OFFSET, "exposure_min": cadence_min,
-                               "band": "camera", "jitter_ppm": 0})
+            photometry.append(
+                {
+                    "name": name,
+                    "file": f"{name}.csv",
+                    "columns": columns,
+                    "time_offset_days": generate.BTJD_OFFSET,
+                    "exposure_min": cadence_min,
+                    "band": "camera",
+                    "jitter_ppm": 0,
+                }
+            )
     for name, parts in tables.items():
-        np.savetxt(folder / f"{name}.csv", np.concatenate(parts), delimiter=",", fmt="%.8f",
-                   header="time,flux,flux_err", comments="")
-    photometry[0].update(limb_darkening_q1={"truncnormal": [0.45, 0.1, 0.0, 1.0]},
-                         limb_darkening_q2={"truncnormal": [0.37, 0.1, 0.0, 1.0]})
+        np.savetxt(
+            folder / f"{name}.csv",
+            np.concatenate(parts),
+            delimiter=",",
+            fmt="%.8f",
+            header="time,flux,flux_err",
+            comments="",
+        )
+    photometry[0].update(
+        limb_darkening_q1={"truncnormal": [0.45, 0.1, 0.0, 1.0]},
+        limb_darkening_q2={"truncnormal": [0.37, 0.1, 0.0, 1.0]},
+    )
     velocities = []
     for name, n, error_ms, jitter_ms, offset_ms in SPECTROGRAPHS:
         t = np.sort(rng.uniform(*generate.RV_SPAN_BJD, n))
         rv = generate.radial_velocity(t) + offset_ms + rng.normal(0, np.hypot(error_ms, jitter_ms), n)
-        np.savetxt(folder / f"{name}.txt", np.column_stack([t, rv, np.full(n, error_ms)]), fmt="%.6f",
-                   header="time rv error", comments="")
-        velocities.append({"name": name, "file": f"{name}.txt", "columns": {"time": "time", "rv": "rv", "error": "error"},
-                           "offset_ms": {"uniform": [offset_ms - 50, offset_ms + 50]},
-                           "jitter_ms": {"loguniform": [0.01, 20]}})
+        np.savetxt(
+            folder / f"{name}.txt",
+            np.column_stack([t, rv, np.full(n, error_ms)]),
+            fmt="%.6f",
+            header="time rv error",
+            comments="",
+        )
+        velocities.append(
+            {
+                "name": name,
+                "file": f"{name}.txt",
+                "columns": {"time": "time", "rv": "rv", "error": "error"},
+                "offset_ms": {"uniform": [offset_ms - 50, offset_ms + 50]},
+                "jitter_ms": {"loguniform": [0.01, 20]},
+            }
+        )
     config = {
-        "system": "Speed-1", "seed": 7, "output": "run",
-        "star": {"mass_msun": {"normal": [0.78, 0.03]}, "radius_rsun": {"normal": [0.74, 0.02]},
-                 "teff_k": {"normal": [4900, 80]}},
+        "system": "Speed-1",
+        "seed": 7,
+        "output": "run",
+        "star": {
+            "mass_msun": {"normal": [0.78, 0.03]},
+            "radius_rsun": {"normal": [0.74, 0.02]},
+            "teff_k": {"normal": [4900, 80]},
+        },
         "planets": {
-            "b": {"period_days": {"uniform": [6.134, 6.140]}, "transit_bjd": {"uniform": [2460003.35, 2460003.48]},
-                  "radius_ratio": {"uniform": [0.005, 0.06]}, "impact": {"uniform": [0.0, 1.0]},
-                  "rv_amplitude_ms": {"uniform": [0.0, 10.0]}, "orbit": "circular"},
-            "c": {"transits": False, "period_days": {"uniform": [41.0, 44.0]},
-                  "transit_bjd": {"uniform": [2460015.0, 2460028.0]}, "rv_amplitude_ms": {"uniform": [0.0, 15.0]},
-                  "orbit": "eccentric"}},
-        "photometry": photometry, "velocities": velocities,
+            "b": {
+                "period_days": {"uniform": [6.134, 6.140]},
+                "transit_bjd": {"uniform": [2460003.35, 2460003.48]},
+                "radius_ratio": {"uniform": [0.005, 0.06]},
+                "impact": {"uniform": [0.0, 1.0]},
+                "rv_amplitude_ms": {"uniform": [0.0, 10.0]},
+                "orbit": "circular",
+            },
+            "c": {
+                "transits": False,
+                "period_days": {"uniform": [41.0, 44.0]},
+                "transit_bjd": {"uniform": [2460015.0, 2460028.0]},
+                "rv_amplitude_ms": {"uniform": [0.0, 15.0]},
+                "orbit": "eccentric",
+            },
+        },
+        "photometry": photometry,
+        "velocities": velocities,
         "sampling": sampling or {"walkers": 56, "max_steps": 15000},
     }
     path = folder / "config.yaml"
@@ -137,11 +189,16 @@ def true_values(post):
     t = generate.TRUTH
     u1, u2 = t["limb_darkening_u"]
     e, w = t["c"]["e"], math.radians(t["c"]["omega_deg"])
-    values = {"star.mass_msun": t["star"]["mass_msun"], "star.radius_rsun": t["star"]["radius_rsun"],
-              "b.radius_ratio": t["b"]["radius_earth"] * R_EARTH_M / (t["star"]["radius_rsun"] * R_SUN_M),
-              "b.impact": t["b"]["impact"], "c.sqrt_e_cos_w": math.sqrt(e) * math.cos(w),
-              "c.sqrt_e_sin_w": math.sqrt(e) * math.sin(w),
-              "camera.limb_darkening_q1": (u1 + u2) ** 2, "camera.limb_darkening_q2": u1 / (2 * (u1 + u2))}
+    values = {
+        "star.mass_msun": t["star"]["mass_msun"],
+        "star.radius_rsun": t["star"]["radius_rsun"],
+        "b.radius_ratio": t["b"]["radius_earth"] * R_EARTH_M / (t["star"]["radius_rsun"] * R_SUN_M),
+        "b.impact": t["b"]["impact"],
+        "c.sqrt_e_cos_w": math.sqrt(e) * math.cos(w),
+        "c.sqrt_e_sin_w": math.sqrt(e) * math.sin(w),
+        "camera.limb_darkening_q1": (u1 + u2) ** 2,
+        "camera.limb_darkening_q2": u1 / (2 * (u1 + u2)),
+    }
     for p in ("b", "c"):
         for key in ("period_days", "transit_bjd", "rv_amplitude_ms"):
             values[f"{p}.{key}"] = t[p][key]
@@ -190,8 +247,15 @@ class PlainPosterior:
             data = [post.photometry[i] for i in idx]
             t = np.concatenate([d.time for d in data])
             model = batman.TransitModel(p, t, supersample_factor=supersample, exp_time=exposure)
-            self.groups.append((model, np.concatenate([d.flux for d in data]),
-                                np.concatenate([d.error for d in data]) ** 2, data, [d.time.size for d in data]))
+            self.groups.append(
+                (
+                    model,
+                    np.concatenate([d.flux for d in data]),
+                    np.concatenate([d.error for d in data]) ** 2,
+                    data,
+                    [d.time.size for d in data],
+                )
+            )
 
     def __call__(self, theta):
         lp = self.layout.log_prior(theta)
@@ -203,8 +267,15 @@ class PlainPosterior:
             if planet.transits:
                 n = planet.name
                 k = v[f"{n}.radius_ratio"]
-                a_r, cos_i, _ = solve_orbit(v[f"{n}.period_days"], v[f"{n}.rv_amplitude_ms"], v[f"{n}.impact"], 0.0,
-                                            CIRCULAR_OMEGA_RAD, v["star.mass_msun"], v["star.radius_rsun"])
+                a_r, cos_i, _ = solve_orbit(
+                    v[f"{n}.period_days"],
+                    v[f"{n}.rv_amplitude_ms"],
+                    v[f"{n}.impact"],
+                    0.0,
+                    CIRCULAR_OMEGA_RAD,
+                    v["star.mass_msun"],
+                    v["star.radius_rsun"],
+                )
                 if v[f"{n}.impact"] >= 1 + k or a_r <= 1 + k:
                     return -math.inf
                 p.t0, p.per, p.rp, p.a = v[f"{n}.transit_bjd"], v[f"{n}.period_days"], k, a_r
@@ -295,8 +366,13 @@ def evaluation_figures(config_path):
     def one_at_a_time(fn):
         return lambda: [fn(x) for x in thetas]
 
-    contenders = {"planetfit": lambda: post.log_prob_many(thetas), "planetfit_one_at_a_time": one_at_a_time(post),
-                  "plain": one_at_a_time(naive), "plain_per_dataset": one_at_a_time(per_dataset), "floor": floor}
+    contenders = {
+        "planetfit": lambda: post.log_prob_many(thetas),
+        "planetfit_one_at_a_time": one_at_a_time(post),
+        "plain": one_at_a_time(naive),
+        "plain_per_dataset": one_at_a_time(per_dataset),
+        "floor": floor,
+    }
     default_threads = race({"planetfit": contenders["planetfit"]}, len(thetas))["planetfit"]
     with threadpool_limits(limits=1):
         t = race(contenders, len(thetas))
@@ -313,8 +389,9 @@ def evaluation_figures(config_path):
         "floor_microseconds_per_evaluation": round(t["floor"] * 1e6, 1),
         "overhead_vs_floor": round(t["planetfit"] / t["floor"], 2),
         "planetfit_microseconds_per_evaluation_default_blas_threads": round(default_threads * 1e6, 1),
-        "max_abs_logprob_difference_vs_plain_per_dataset": float(np.max(np.abs(
-            planetfit_lp - [per_dataset(x) for x in thetas]))),
+        "max_abs_logprob_difference_vs_plain_per_dataset": float(
+            np.max(np.abs(planetfit_lp - [per_dataset(x) for x in thetas]))
+        ),
     }
 
 
@@ -326,20 +403,28 @@ def fit_figures(config_path, cores):
     start = time.perf_counter()
     pipeline.redraw(run_dir)
     redraw = time.perf_counter() - start
-    return {"cores": cores, "walkers": s["walkers"], "steps": s["steps"], "converged": s["converged"],
-            "autocorr_steps": s["autocorr_steps"], "independent_samples": s["independent_samples"],
-            "sampling_seconds": s["seconds"], "fit_wall_seconds_no_figures": round(wall, 1),
-            "independent_samples_per_second": round(s["independent_samples"] / s["seconds"], 2),
-            "independent_samples_per_wall_second": round(s["independent_samples"] / wall, 2),
-            "redraw_seconds_figures_and_tables": round(redraw, 1),
-            "demo_wall_seconds": round(wall + redraw, 1)}
+    return {
+        "cores": cores,
+        "walkers": s["walkers"],
+        "steps": s["steps"],
+        "converged": s["converged"],
+        "autocorr_steps": s["autocorr_steps"],
+        "independent_samples": s["independent_samples"],
+        "sampling_seconds": s["seconds"],
+        "fit_wall_seconds_no_figures": round(wall, 1),
+        "independent_samples_per_second": round(s["independent_samples"] / s["seconds"], 2),
+        "independent_samples_per_wall_second": round(s["independent_samples"] / wall, 2),
+        "redraw_seconds_figures_and_tables": round(redraw, 1),
+        "demo_wall_seconds": round(wall + redraw, 1),
+    }
 
 
 def write_memory_system(folder, max_steps):
     """Ten 2-min sectors and the benchmark RVs, a short chain; returns the config path and the photometry points."""
     sectors = [("ten-sectors", 3000.0 + 27.4 * i, 2.0, 420.0) for i in range(MEMORY_SECTORS)]
-    path = write_dataset(folder, sectors, {"walkers": 40, "max_steps": max_steps, "check_every": 100,
-                                           "optimiser_starts": 1})
+    path = write_dataset(
+        folder, sectors, {"walkers": 40, "max_steps": max_steps, "check_every": 100, "optimiser_starts": 1}
+    )
     return path, sum(generate.sector_times(start, SECTOR_DAYS, cadence).size for _, start, cadence, _ in sectors)
 
 
@@ -348,14 +433,21 @@ def memory_child(config_path):
     start = time.perf_counter()
     run_dir = pipeline.run(config_path, quiet=True, figures=False)
     s = json.loads((Path(run_dir) / "summary.json").read_text())["sampling"]
-    print(json.dumps({"peak_rss_mb": round(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024, 1),
-                      "steps": s["steps"], "walkers": s["walkers"], "wall_seconds": round(time.perf_counter() - start, 1)}))
+    print(
+        json.dumps(
+            {
+                "peak_rss_mb": round(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024, 1),
+                "steps": s["steps"],
+                "walkers": s["walkers"],
+                "wall_seconds": round(time.perf_counter() - start, 1),
+            }
+        )
+    )
 
 
 def memory_figures(folder, max_steps):
     config_path, points = write_memory_system(folder, max_steps)
-    out = subprocess.run([sys.executable, __file__, "--memory-child", str(config_path)], capture_output=True,
-                         text=True)
+    out = subprocess.run([sys.executable, __file__, "--memory-child", str(config_path)], capture_output=True, text=True)
     if out.returncode:
         return {"error": out.stderr.strip().splitlines()[-10:]}
     result = json.loads(out.stdout.strip().splitlines()[-1])

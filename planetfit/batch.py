@@ -23,10 +23,11 @@ from planetfit.core.errors import InputError
 
 STATUS_OK, STATUS_INPUT, STATUS_INTERNAL = "ok", "input error", "internal error"
 QUANTITIES = ("mass_earth", "radius_earth", "density_gcc")
-COLUMNS = (["config", "system", "status", "error", "planet"]
-           + [f"{q}_{s}" for q in QUANTITIES for s in ("median", "lower", "upper")]
-           + ["mass_is_minimum", "p_rocky", "p_volatile_rich", "converged", "independent_samples", "seconds",
-              "run_dir"])
+COLUMNS = (
+    ["config", "system", "status", "error", "planet"]
+    + [f"{q}_{s}" for q in QUANTITIES for s in ("median", "lower", "upper")]
+    + ["mass_is_minimum", "p_rocky", "p_volatile_rich", "converged", "independent_samples", "seconds", "run_dir"]
+)
 SUMMARY_FILE = "batch_summary.csv"
 
 
@@ -34,8 +35,10 @@ def _import_distributed():
     try:
         import distributed
     except ImportError:
-        raise InputError("'planetfit batch' needs Dask's distributed scheduler, which is not installed.",
-                         fix='pip install -e ".[cluster]" (or pip install "dask[distributed]").') from None
+        raise InputError(
+            "'planetfit batch' needs Dask's distributed scheduler, which is not installed.",
+            fix='pip install -e ".[cluster]" (or pip install "dask[distributed]").',
+        ) from None
     return distributed
 
 
@@ -68,6 +71,7 @@ def fit_system(config_path, output=None, figures=False, force=False):
         Rows of ``batch_summary.csv`` (keys of :data:`COLUMNS`).
     """
     from planetfit import pipeline
+
     start = time.perf_counter()
     base = {"config": str(config_path)}
     try:
@@ -76,8 +80,14 @@ def fit_system(config_path, output=None, figures=False, force=False):
         return [dict(base, status=STATUS_INPUT, error=exc.message(), seconds=round(time.perf_counter() - start, 1))]
     except Exception as exc:  # one system's failure must not stop the catalogue
         where = traceback.extract_tb(exc.__traceback__)[-1]
-        return [dict(base, status=STATUS_INTERNAL, error=f"{type(exc).__name__}: {exc} ({where.filename}, line "
-                     f"{where.lineno})", seconds=round(time.perf_counter() - start, 1))]
+        return [
+            dict(
+                base,
+                status=STATUS_INTERNAL,
+                error=f"{type(exc).__name__}: {exc} ({where.filename}, line {where.lineno})",
+                seconds=round(time.perf_counter() - start, 1),
+            )
+        ]
     return summary_rows(run_dir, base, round(time.perf_counter() - start, 1))
 
 
@@ -85,8 +95,16 @@ def summary_rows(run_dir, base, seconds):
     """One row per planet from a finished run's ``summary.json``."""
     summary = json.loads((Path(run_dir) / "summary.json").read_text())
     s = summary["sampling"]
-    common = dict(base, system=summary["system"], status=STATUS_OK, error="", converged=s["converged"],
-                  independent_samples=s["independent_samples"], seconds=seconds, run_dir=str(run_dir))
+    common = dict(
+        base,
+        system=summary["system"],
+        status=STATUS_OK,
+        error="",
+        converged=s["converged"],
+        independent_samples=s["independent_samples"],
+        seconds=seconds,
+        run_dir=str(run_dir),
+    )
     rows = []
     for name, planet in summary["planets"].items():
         row = dict(common, planet=name, mass_is_minimum=bool(planet.get("mass_is_minimum", False)))
@@ -114,16 +132,18 @@ def _client(distributed, workers, scheduler):
         try:
             return distributed.Client(scheduler, timeout="20s"), None
         except (OSError, TimeoutError) as exc:
-            raise InputError(f"cannot reach a Dask scheduler at '{scheduler}' ({exc}).",
-                             fix="check the address (e.g. tcp://10.0.0.5:8786) and that the scheduler runs, or "
-                                 "leave out --scheduler for a local cluster.") from None
-    cluster = distributed.LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
-                                       host="127.0.0.1", dashboard_address=None)
+            raise InputError(
+                f"cannot reach a Dask scheduler at '{scheduler}' ({exc}).",
+                fix="check the address (e.g. tcp://10.0.0.5:8786) and that the scheduler runs, or "
+                "leave out --scheduler for a local cluster.",
+            ) from None
+    cluster = distributed.LocalCluster(
+        n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1", dashboard_address=None
+    )
     return distributed.Client(cluster), cluster
 
 
-def run_batch(config_paths, out_dir=None, workers=None, scheduler=None, figures=False, force=False,
-              on_result=None):
+def run_batch(config_paths, out_dir=None, workers=None, scheduler=None, figures=False, force=False, on_result=None):
     """Fit every config as one Dask task; write ``batch_summary.csv``.
 
     Parameters
@@ -160,20 +180,7 @@ def run_batch(config_paths, out_dir=None, workers=None, scheduler=None, figures=
     distributed = _import_distributed()
     client, cluster = _client(distributed, workers or os.cpu_count(), scheduler)
     try:
-        futures = [client.submit(fit_system, str(p), None if o is None else str(o), figures, force, pure=False,
-                                 key=f"planetfit-{i}-{p.stem}") for i, (p, o) in enumerate(zip(paths, outputs))]
-        order = {f.key: i for i, f in enumerate(futures)}
-        results = [None] * len(futures)
-        for future in distributed.as_completed(futures):
-            i = order[future.key]
-            try:
-                rows = future.result()
-            except Exception as exc:  # the worker died (memory, signal): report it as this system's failure
-                rows = [{"config": str(paths[i]), "status": STATUS_INTERNAL,
-                         "error": f"the task failed on its worker: {type(exc).__name__}: {exc}"}]
-            results[i] = rows
-            if on_result is not None:
-                on_result(rows)
+        results = _collect(distributed, client, paths, outputs, figures, force, on_result)
     finally:
         client.close()
         if cluster is not None:
@@ -182,3 +189,31 @@ def run_batch(config_paths, out_dir=None, workers=None, scheduler=None, figures=
     path = summary_dir / SUMMARY_FILE
     write_summary_csv(path, rows)
     return path, rows
+
+
+def _collect(distributed, client, paths, outputs, figures, force, on_result):
+    """Submit one task per config and gather their rows in config order, as each finishes."""
+    futures = [
+        client.submit(
+            fit_system, str(p), None if o is None else str(o), figures, force, pure=False, key=f"planetfit-{i}-{p.stem}"
+        )
+        for i, (p, o) in enumerate(zip(paths, outputs))
+    ]
+    order = {f.key: i for i, f in enumerate(futures)}
+    results = [None] * len(futures)
+    for future in distributed.as_completed(futures):
+        i = order[future.key]
+        try:
+            rows = future.result()
+        except Exception as exc:  # the worker died (memory, signal): report it as this system's failure
+            rows = [
+                {
+                    "config": str(paths[i]),
+                    "status": STATUS_INTERNAL,
+                    "error": f"the task failed on its worker: {type(exc).__name__}: {exc}",
+                }
+            ]
+        results[i] = rows
+        if on_result is not None:
+            on_result(rows)
+    return results

@@ -38,8 +38,9 @@ class Checked:
     @property
     def warnings(self):
         """Every warning of reading the data and building the model, in dataset order."""
-        return [w for d in self.photometry + self.velocities for w in d.reading.warnings] + \
-            self.posterior.model.warnings
+        return [
+            w for d in self.photometry + self.velocities for w in d.reading.warnings
+        ] + self.posterior.model.warnings
 
     def data_counts(self):
         """The ``data`` block of summary.json: each dataset's counts, with its sub-exposures for light curves."""
@@ -75,16 +76,38 @@ def overview(checked):
     for d in checked.photometry:
         cadence = np.median(np.diff(d.time)) * 1440 if d.time.size > 1 else float("nan")
         c = counts[d.name]
-        rows.append((d.name, "photometry", d.time.size, d.dropped_nan, d.time[0], d.time[-1],
-                     f"{cadence:.1f} min cadence, {np.median(d.error) / PPM:.0f} ppm median error, "
-                     f"{c['supersample']} sub-exposure(s) per exposure (integration error <= "
-                     f"{c['integration_error_ppm']:.1f} ppm), {c['segments']} segment(s), "
-                     f"{c['dropped_quality']} quality-flagged rows dropped, {c['clipped']} outliers clipped"
-                     + (f", {c['dropped_far_from_transits']} points far from transits left out"
-                        if c["dropped_far_from_transits"] else "") + f"; {_reading_text(d)}"))
+        rows.append(
+            (
+                d.name,
+                "photometry",
+                d.time.size,
+                d.dropped_nan,
+                d.time[0],
+                d.time[-1],
+                f"{cadence:.1f} min cadence, {np.median(d.error) / PPM:.0f} ppm median error, "
+                f"{c['supersample']} sub-exposure(s) per exposure (integration error <= "
+                f"{c['integration_error_ppm']:.1f} ppm), {c['segments']} segment(s), "
+                f"{c['dropped_quality']} quality-flagged rows dropped, {c['clipped']} outliers clipped"
+                + (
+                    f", {c['dropped_far_from_transits']} points far from transits left out"
+                    if c["dropped_far_from_transits"]
+                    else ""
+                )
+                + f"; {_reading_text(d)}",
+            )
+        )
     for d in checked.velocities:
-        rows.append((d.name, "velocities", d.time.size, d.dropped_nan, d.time[0], d.time[-1],
-                     f"{np.median(d.error):.2f} m/s median error, rms {np.std(d.rv):.2f} m/s; {_reading_text(d)}"))
+        rows.append(
+            (
+                d.name,
+                "velocities",
+                d.time.size,
+                d.dropped_nan,
+                d.time[0],
+                d.time[-1],
+                f"{np.median(d.error):.2f} m/s median error, rms {np.std(d.rv):.2f} m/s; {_reading_text(d)}",
+            )
+        )
     return rows
 
 
@@ -106,11 +129,13 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
             log.warning("WARNING: %s", warning)
         write_text_atomic(run_dir / "config.resolved.yaml", rundir.resolved_config(config))
         rng = np.random.default_rng(config.seed)
-        result = run_sampler(post, post.layout, config.sampling, h5, rng, cores=cores, progress=not quiet,
-                             resume=resume)
+        result = run_sampler(
+            post, post.layout, config.sampling, h5, rng, cores=cores, progress=not quiet, resume=resume
+        )
         facts = result.summary()
-        facts.update(discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings),
-                     modes=result.modes)
+        facts.update(
+            discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings), modes=result.modes
+        )
         chainfile.write_facts(h5, post.layout.free, facts, result.autocorr_history)
         finish(run_dir, checked, result.samples, facts, figures=figures, cores=cores)
     finally:
@@ -137,7 +162,9 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     for warning in new:
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new
-    summary = summary_out.build_summary(config, post.model, quantities, context, dict(sampling_facts, warnings=warnings))
+    summary = summary_out.build_summary(
+        config, post.model, quantities, context, dict(sampling_facts, warnings=warnings)
+    )
     summary["data"] = checked.data_counts()
     summary_out.write_summary_json(run_dir / "summary.json", summary)
     summary_out.write_posterior_csv(run_dir / "posterior.csv", quantities)

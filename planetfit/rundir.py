@@ -10,8 +10,15 @@ from planetfit.core.errors import InputError
 
 log = logging.getLogger("planetfit")
 
-RUN_FILES = ("summary.json", "summary.md", "table.tex", "samples.h5", "posterior.csv", "run.log",
-             "config.resolved.yaml")
+RUN_FILES = (
+    "summary.json",
+    "summary.md",
+    "table.tex",
+    "samples.h5",
+    "posterior.csv",
+    "run.log",
+    "config.resolved.yaml",
+)
 
 
 def start_logging(run_dir, quiet):
@@ -32,29 +39,44 @@ def start_logging(run_dir, quiet):
 def prepare(run_dir, resume, force):
     """Make ``run_dir`` ready: new, emptied of an earlier run's outputs (``force``), or holding a chain to resume."""
     if run_dir.exists() and not run_dir.is_dir():
-        raise InputError("the run directory path exists and is not a folder.", file=run_dir,
-                         fix="choose another folder with --out (or the config's 'output'), or move the file away.")
+        raise InputError(
+            "the run directory path exists and is not a folder.",
+            file=run_dir,
+            fix="choose another folder with --out (or the config's 'output'), or move the file away.",
+        )
     if run_dir.exists() and any(run_dir.iterdir()):
         if resume:
             if not (run_dir / "samples.h5").exists():
-                raise InputError("there is no samples.h5 to resume from.", file=run_dir,
-                                 fix="run without --resume to start a new fit.")
+                raise InputError(
+                    "there is no samples.h5 to resume from.",
+                    file=run_dir,
+                    fix="run without --resume to start a new fit.",
+                )
             return
         if not force:
-            raise InputError("the run directory already holds files.", file=run_dir,
-                             fix="use --resume to continue that run, --force to replace it, or --out for a new folder.")
+            raise InputError(
+                "the run directory already holds files.",
+                file=run_dir,
+                fix="use --resume to continue that run, --force to replace it, or --out for a new folder.",
+            )
         for name in RUN_FILES:
             with contextlib.suppress(FileNotFoundError):
                 (run_dir / name).unlink()
         shutil.rmtree(run_dir / "figures", ignore_errors=True)
     elif resume:
-        raise InputError("the run directory does not exist, so there is nothing to resume.", file=run_dir,
-                         fix="run without --resume to start a new fit.")
+        raise InputError(
+            "the run directory does not exist, so there is nothing to resume.",
+            file=run_dir,
+            fix="run without --resume to start a new fit.",
+        )
     try:
         run_dir.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise InputError(f"cannot create the run directory ({exc.strerror}).", file=run_dir,
-                         fix="choose a writable folder with --out (or the config's 'output').") from None
+        raise InputError(
+            f"cannot create the run directory ({exc.strerror}).",
+            file=run_dir,
+            fix="choose a writable folder with --out (or the config's 'output').",
+        ) from None
 
 
 def stop_logging():
@@ -69,8 +91,8 @@ def resolved_config(config):
     raw = dict(config.raw)
     raw["output"] = str(config.output)
     for section, items in (("photometry", config.photometry), ("velocities", config.velocities)):
-        raw[section] = [dict(entry, file=[str(f) for f in c.files] if isinstance(entry.get("file"), list) else str(c.path))
-                        for entry, c in zip(raw.get(section) or [], items)]
+        raw[section] = [
+            dict(entry, file=[str(f) for f in c.files] if isinstance(entry.get("file"), list) else str(c.path))
+            for entry, c in zip(raw.get(section) or [], items)
+        ]
     return yaml.safe_dump(raw, sort_keys=False)
-
-

@@ -25,14 +25,28 @@ BTJD = 2457000.0
 
 def planet_truth(period_days, transit_bjd, rv_amplitude_ms, radius_ratio=None, impact=None, e=0.0, omega_deg=90.0):
     """One planet's true parameters (radius ratio and impact only for transiting planets)."""
-    return {"period_days": period_days, "transit_bjd": transit_bjd, "rv_amplitude_ms": rv_amplitude_ms,
-            "radius_ratio": radius_ratio, "impact": impact, "e": e, "omega_deg": omega_deg}
+    return {
+        "period_days": period_days,
+        "transit_bjd": transit_bjd,
+        "rv_amplitude_ms": rv_amplitude_ms,
+        "radius_ratio": radius_ratio,
+        "impact": impact,
+        "e": e,
+        "omega_deg": omega_deg,
+    }
 
 
 def true_mass_radius(p, star=STAR):
     """True planet mass and radius (Earth units) implied by the truth."""
-    a_r, cos_i, m = solve_orbit(p["period_days"], p["rv_amplitude_ms"], p["impact"], p["e"],
-                                np.radians(p["omega_deg"]), star["mass_msun"], star["radius_rsun"])
+    a_r, cos_i, m = solve_orbit(
+        p["period_days"],
+        p["rv_amplitude_ms"],
+        p["impact"],
+        p["e"],
+        np.radians(p["omega_deg"]),
+        star["mass_msun"],
+        star["radius_rsun"],
+    )
     return m / M_EARTH_KG, p["radius_ratio"] * star["radius_rsun"] * R_SUN_M / R_EARTH_M
 
 
@@ -43,8 +57,9 @@ def light_curve(times, planets, exposure_min, star=STAR, u=(0.45, 0.2)):
         if p["radius_ratio"] is None:
             continue
         w = np.radians(p["omega_deg"])
-        a_r, cos_i, _ = solve_orbit(p["period_days"], p["rv_amplitude_ms"], p["impact"], p["e"], w,
-                                    star["mass_msun"], star["radius_rsun"])
+        a_r, cos_i, _ = solve_orbit(
+            p["period_days"], p["rv_amplitude_ms"], p["impact"], p["e"], w, star["mass_msun"], star["radius_rsun"]
+        )
         tp = batman.TransitParams()
         tp.t0, tp.per, tp.rp, tp.a = p["transit_bjd"], p["period_days"], p["radius_ratio"], float(a_r)
         tp.inc, tp.ecc, tp.w = float(np.degrees(np.arccos(cos_i))), p["e"], p["omega_deg"]
@@ -84,24 +99,45 @@ def radial_velocity(times, planets):
 
 # ----------------------------------------------------------------- tables and config
 
+
 def star_priors(star, teff_k):
     """The config's star: normal priors around ``star`` and ``teff_k`` (0.03 Msun, 0.02 Rsun, 80 K wide)."""
-    return {"mass_msun": {"normal": [star["mass_msun"], 0.03]},
-            "radius_rsun": {"normal": [star["radius_rsun"], 0.02]}, "teff_k": {"normal": [teff_k, 80]}}
+    return {
+        "mass_msun": {"normal": [star["mass_msun"], 0.03]},
+        "radius_rsun": {"normal": [star["radius_rsun"], 0.02]},
+        "teff_k": {"normal": [teff_k, 80]},
+    }
 
 
 def write_photometry(folder, times_bjd, flux, error, exposure_min, fmt="%.8f", **entry):
     """Write ``phot.csv`` (times as BJD - ``BTJD``) and return its config entry, with ``entry``'s keys added."""
-    np.savetxt(folder / "phot.csv", np.column_stack([times_bjd - BTJD, flux, np.full(times_bjd.size, error)]),
-               delimiter=",", header="time,flux,flux_err", comments="", fmt=fmt)
-    return {"name": "cam", "file": "phot.csv", "columns": {"time": "time", "flux": "flux", "error": "flux_err"},
-            "time_offset_days": BTJD, "exposure_min": exposure_min, **entry}
+    np.savetxt(
+        folder / "phot.csv",
+        np.column_stack([times_bjd - BTJD, flux, np.full(times_bjd.size, error)]),
+        delimiter=",",
+        header="time,flux,flux_err",
+        comments="",
+        fmt=fmt,
+    )
+    return {
+        "name": "cam",
+        "file": "phot.csv",
+        "columns": {"time": "time", "flux": "flux", "error": "flux_err"},
+        "time_offset_days": BTJD,
+        "exposure_min": exposure_min,
+        **entry,
+    }
 
 
 def write_velocities(folder, name, file, times_bjd, rv_ms, error_ms, **priors):
     """Write an RV table ``file`` and return its config entry ``name``, with ``priors``' keys added."""
-    np.savetxt(folder / file, np.column_stack([times_bjd, rv_ms, np.full(times_bjd.size, error_ms)]),
-               header="bjd rv err", comments="", fmt="%.6f")
+    np.savetxt(
+        folder / file,
+        np.column_stack([times_bjd, rv_ms, np.full(times_bjd.size, error_ms)]),
+        header="bjd rv err",
+        comments="",
+        fmt="%.6f",
+    )
     return {"name": name, "file": file, "columns": {"time": "bjd", "rv": "rv", "error": "err"}, **priors}
 
 
@@ -114,8 +150,20 @@ def write_config(folder, config):
 
 # ----------------------------------------------------------------- any set of planets
 
-def write_system(folder, planets, seed, days=20.0, cadence_min=10.0, noise_ppm=300.0, n_rv=40, rv_error_ms=1.5,
-                 rv_offset_ms=5.0, walkers=40, max_steps=2000):
+
+def write_system(
+    folder,
+    planets,
+    seed,
+    days=20.0,
+    cadence_min=10.0,
+    noise_ppm=300.0,
+    n_rv=40,
+    rv_error_ms=1.5,
+    rv_offset_ms=5.0,
+    walkers=40,
+    max_steps=2000,
+):
     """Write photometry, RVs and ``config.yaml`` for ``planets`` into ``folder``; return the config path."""
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
@@ -126,38 +174,70 @@ def write_system(folder, planets, seed, days=20.0, cadence_min=10.0, noise_ppm=3
     photometry = write_photometry(folder, t_phot, flux, noise_ppm * 1e-6, cadence_min)
     t_rv = np.sort(rng.uniform(t0, t0 + 4 * max(p["period_days"] for p in planets.values()), n_rv))
     rv = radial_velocity(t_rv, planets) + rv_offset_ms + rng.normal(0, rv_error_ms, n_rv)
-    velocities = write_velocities(folder, "spec", "rv.txt", t_rv, rv, rv_error_ms,
-                                  offset_ms={"uniform": [-30, 30]}, jitter_ms={"loguniform": [0.01, 10]})
+    velocities = write_velocities(
+        folder,
+        "spec",
+        "rv.txt",
+        t_rv,
+        rv,
+        rv_error_ms,
+        offset_ms={"uniform": [-30, 30]},
+        jitter_ms={"loguniform": [0.01, 10]},
+    )
     config_planets = {}
     for name, p in planets.items():
-        entry = {"period_days": {"uniform": [p["period_days"] * 0.998, p["period_days"] * 1.002]},
-                 "transit_bjd": {"uniform": [p["transit_bjd"] - 0.08, p["transit_bjd"] + 0.08]},
-                 "rv_amplitude_ms": {"uniform": [0.0, 4 * p["rv_amplitude_ms"]]},
-                 "orbit": "eccentric" if p["e"] > 0 else "circular"}
+        entry = {
+            "period_days": {"uniform": [p["period_days"] * 0.998, p["period_days"] * 1.002]},
+            "transit_bjd": {"uniform": [p["transit_bjd"] - 0.08, p["transit_bjd"] + 0.08]},
+            "rv_amplitude_ms": {"uniform": [0.0, 4 * p["rv_amplitude_ms"]]},
+            "orbit": "eccentric" if p["e"] > 0 else "circular",
+        }
         if p["radius_ratio"] is None:
             entry["transits"] = False
             entry["transit_bjd"] = {"uniform": [p["transit_bjd"] - 2.0, p["transit_bjd"] + 2.0]}
         else:
             entry.update(radius_ratio={"uniform": [0.005, 0.2]}, impact={"uniform": [0.0, 1.0]})
         config_planets[name] = entry
-    return write_config(folder, {
-        "system": f"Synthetic-{seed}", "seed": seed, "output": "run", "star": star_priors(STAR, 5400),
-        "planets": config_planets, "photometry": [photometry], "velocities": [velocities],
-        "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 200, "optimiser_starts": 3},
-    })
+    return write_config(
+        folder,
+        {
+            "system": f"Synthetic-{seed}",
+            "seed": seed,
+            "output": "run",
+            "star": star_priors(STAR, 5400),
+            "planets": config_planets,
+            "photometry": [photometry],
+            "velocities": [velocities],
+            "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 200, "optimiser_starts": 3},
+        },
+    )
 
 
 # ----------------------------------------------------------------- a tiny system that fits in seconds
 
-TINY_TRUTH = {"mass_msun": 0.9, "radius_rsun": 0.85, "period_days": 3.0, "transit_bjd": 2460001.5,
-              "radius_ratio": 0.04, "impact": 0.3, "rv_amplitude_ms": 8.0}
+TINY_TRUTH = {
+    "mass_msun": 0.9,
+    "radius_rsun": 0.85,
+    "period_days": 3.0,
+    "transit_bjd": 2460001.5,
+    "radius_ratio": 0.04,
+    "impact": 0.3,
+    "rv_amplitude_ms": 8.0,
+}
 TINY_EXPOSURE_MIN = 10.0
 
 
 def _tiny_planets(truth):
     """The tiny system's one circular planet, as :func:`planet_truth` gives it."""
-    return {"b": planet_truth(truth["period_days"], truth["transit_bjd"], truth["rv_amplitude_ms"],
-                              radius_ratio=truth["radius_ratio"], impact=truth["impact"])}
+    return {
+        "b": planet_truth(
+            truth["period_days"],
+            truth["transit_bjd"],
+            truth["rv_amplitude_ms"],
+            radius_ratio=truth["radius_ratio"],
+            impact=truth["impact"],
+        )
+    }
 
 
 def tiny_light_curve(times, truth=TINY_TRUTH):
@@ -165,8 +245,20 @@ def tiny_light_curve(times, truth=TINY_TRUTH):
     return light_curve(times, _tiny_planets(truth), 0.0, star=truth, u=(0.4, 0.2))
 
 
-def write_tiny_system(folder, truth=TINY_TRUTH, seed=1, n_phot=400, n_rv=20, noise_ppm=400.0, rv_error_ms=1.5,
-                      max_steps=300, walkers=24, photometry=True, velocities=True, **overrides):
+def write_tiny_system(
+    folder,
+    truth=TINY_TRUTH,
+    seed=1,
+    n_phot=400,
+    n_rv=20,
+    noise_ppm=400.0,
+    rv_error_ms=1.5,
+    max_steps=300,
+    walkers=24,
+    photometry=True,
+    velocities=True,
+    **overrides,
+):
     """Write the tiny system (one transiting planet, a few hundred photometry points, 20 RVs) into ``folder``.
 
     Data tables and ``config.yaml``; ``overrides`` replace top-level config keys. Returns the config path.
@@ -182,28 +274,47 @@ def write_tiny_system(folder, truth=TINY_TRUTH, seed=1, n_phot=400, n_rv=20, noi
     t_rv = np.sort(rng.uniform(t0 - 20, t0 + 20, n_rv))
     rv = radial_velocity(t_rv, _tiny_planets(truth)) + rng.normal(0, rv_error_ms, n_rv)
     config = {
-        "system": "Tiny-1", "seed": 3, "output": "run", "star": star_priors(truth, 5300),
-        "planets": {"b": {"period_days": {"uniform": [P - 0.01, P + 0.01]},
-                          "transit_bjd": {"uniform": [t0 - 0.05, t0 + 0.05]},
-                          "radius_ratio": {"uniform": [0.005, 0.1]}, "impact": {"uniform": [0.0, 1.0]},
-                          "rv_amplitude_ms": {"uniform": [0.0, 30.0]} if velocities else 0.0}},
+        "system": "Tiny-1",
+        "seed": 3,
+        "output": "run",
+        "star": star_priors(truth, 5300),
+        "planets": {
+            "b": {
+                "period_days": {"uniform": [P - 0.01, P + 0.01]},
+                "transit_bjd": {"uniform": [t0 - 0.05, t0 + 0.05]},
+                "radius_ratio": {"uniform": [0.005, 0.1]},
+                "impact": {"uniform": [0.0, 1.0]},
+                "rv_amplitude_ms": {"uniform": [0.0, 30.0]} if velocities else 0.0,
+            }
+        },
         "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 100, "optimiser_starts": 2},
     }
     if photometry:
-        config["photometry"] = [write_photometry(folder, t_phot, flux, noise_ppm * 1e-6, TINY_EXPOSURE_MIN,
-                                                 fmt="%.7f", supersample=1)]
+        config["photometry"] = [
+            write_photometry(folder, t_phot, flux, noise_ppm * 1e-6, TINY_EXPOSURE_MIN, fmt="%.7f", supersample=1)
+        ]
     if velocities:
-        config["velocities"] = [write_velocities(folder, "spec", "rv.txt", t_rv, rv, rv_error_ms,
-                                                 offset_ms={"uniform": [-20, 20]},
-                                                 jitter_ms={"loguniform": [0.01, 10]})]
+        config["velocities"] = [
+            write_velocities(
+                folder,
+                "spec",
+                "rv.txt",
+                t_rv,
+                rv,
+                rv_error_ms,
+                offset_ms={"uniform": [-20, 20]},
+                jitter_ms={"loguniform": [0.01, 10]},
+            )
+        ]
     config.update(overrides)
     return write_config(folder, config)
 
 
 def tiny_posterior(folder, **photometry):
     """The posterior of the tiny system written into ``folder``, its photometry entry updated with ``photometry``."""
-    from planetfit.pipeline import check
     from planetfit.fitting.posterior import JointPosterior
+    from planetfit.pipeline import check
+
     path = write_tiny_system(folder)
     raw = yaml.safe_load(path.read_text())
     raw["photometry"][0].update(photometry)

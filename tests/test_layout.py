@@ -15,8 +15,18 @@ import planetfit
 
 ROOT = Path(planetfit.__file__).parent
 #: Stage of each top-level package or module; a module may import its own stage and earlier ones only.
-STAGES = {"core": 0, "inputs": 1, "fitting": 2, "context": 3, "report": 4, "rundir": 5, "pipeline": 5, "batch": 6,
-          "demo": 6, "cli": 7}
+STAGES = {
+    "core": 0,
+    "inputs": 1,
+    "fitting": 2,
+    "context": 3,
+    "report": 4,
+    "rundir": 5,
+    "pipeline": 5,
+    "batch": 6,
+    "demo": 6,
+    "cli": 7,
+}
 MAX_MODULE_LINES = 400
 MAX_FUNCTION_LINES = 60
 
@@ -80,6 +90,9 @@ def test_modules_and_functions_are_small():
 @pytest.mark.parametrize("word", ["eccentric", "circular", "gp", "sho", "matern32", "quadratic", "full", "dayside"])
 def test_mode_strings_are_decoded_only_in_the_schema(word):
     # batman's own argument (limb_dark = "quadratic", in the demo's data generator) is batman's word, not ours.
-    places = {str(p.relative_to(ROOT)) for p in ROOT.rglob("*.py")
-              if re.search(f"(?<!limb_dark = )[\"']{word}[\"']", p.read_text())}
+    places = {
+        str(p.relative_to(ROOT))
+        for p in ROOT.rglob("*.py")
+        if re.search(f"(?<!limb_dark = )[\"']{word}[\"']", p.read_text())
+    }
     assert all(p.startswith("inputs/schema/") for p in places), places

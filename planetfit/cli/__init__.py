@@ -25,7 +25,11 @@ def _resume_hint(args):
     return f"the chain is saved in samples.h5 up to the last step; continue with 'planetfit {target} --resume{out}'."
 
 
-def _interrupted(signum, frame, main_pid=os.getpid()):
+#: The process that runs ``main``; forked workers have other ids.
+MAIN_PID = os.getpid()
+
+
+def _interrupted(signum, frame):
     """SIGINT and SIGTERM handler: stop the main process with KeyboardInterrupt; worker processes just end.
 
     Libraries print tracebacks of exceptions passing through them (emcee does
@@ -34,11 +38,11 @@ def _interrupted(signum, frame, main_pid=os.getpid()):
     (a callback from compiled code) cannot keep the run going: a timer
     raises it again every half second until ``main`` has stopped.
     """
-    if os.getpid() != main_pid:
+    if os.getpid() != MAIN_PID:
         signal.signal(signum, signal.SIG_DFL)
         os.kill(os.getpid(), signum)
     if signum != signal.SIGALRM:
-        sys.stdout = sys.stderr = open(os.devnull, "w")
+        sys.stdout = sys.stderr = open(os.devnull, "w")  # noqa: SIM115 (closed by _restore)
         signal.setitimer(signal.ITIMER_REAL, REPEAT_INTERRUPT_S, REPEAT_INTERRUPT_S)
     raise KeyboardInterrupt
 

@@ -1,4 +1,5 @@
-from planetfit.cli import main
 import sys
+
+from planetfit.cli import main
 
 sys.exit(main())

@@ -10,16 +10,23 @@ def print_summary(run_dir):
     """The end-of-run summary: sampling facts, each planet's mass, radius and density, and every warning."""
     summary = json.loads((Path(run_dir) / "summary.json").read_text())
     s = summary["sampling"]
-    print(f"\n{summary['system']}: {s['steps']} steps x {s['walkers']} walkers, "
-          f"{s['independent_samples']} independent samples, converged: {s['converged']}")
+    print(
+        f"\n{summary['system']}: {s['steps']} steps x {s['walkers']} walkers, "
+        f"{s['independent_samples']} independent samples, converged: {s['converged']}"
+    )
     for name, p in summary["planets"].items():
         parts = []
-        for key, label, unit in (("mass_earth", "M", "M_earth"), ("radius_earth", "R", "R_earth"),
-                                 ("density_gcc", "rho", "g/cm3")):
+        for key, label, unit in (
+            ("mass_earth", "M", "M_earth"),
+            ("radius_earth", "R", "R_earth"),
+            ("density_gcc", "rho", "g/cm3"),
+        ):
             st = p.get(key)
             if st:
-                parts.append(f"{label} = {st['median']:.3g} +{st['upper'] - st['median']:.2g} "
-                             f"-{st['median'] - st['lower']:.2g} {unit}")
+                parts.append(
+                    f"{label} = {st['median']:.3g} +{st['upper'] - st['median']:.2g} "
+                    f"-{st['median'] - st['lower']:.2g} {unit}"
+                )
         if p.get("mass_is_minimum"):
             parts[0] = parts[0].replace("M =", "M sin i =")
         print(f"  {name}: " + ", ".join(parts))
@@ -37,8 +44,15 @@ def run(args, config=None):
     config = args.config if config is None else config
     if args.cores < 1:
         raise InputError(f"--cores must be at least 1, got {args.cores}.", fix="use e.g. --cores 2.")
-    run_dir = pipeline.run(config, output=args.out, resume=args.resume, force=args.force, cores=args.cores,
-                           quiet=args.quiet, figures=not args.no_figures)
+    run_dir = pipeline.run(
+        config,
+        output=args.out,
+        resume=args.resume,
+        force=args.force,
+        cores=args.cores,
+        quiet=args.quiet,
+        figures=not args.no_figures,
+    )
     print_summary(run_dir)
 
 
@@ -52,8 +66,15 @@ def batch(args):
         note = f"{r['seconds']} s" if r["status"] == STATUS_OK else r["error"]
         print(f"{r['status']:>14s}  {r['config']}: {note}", flush=True)
 
-    path, rows = run_batch(args.configs, out_dir=args.out, workers=args.workers, scheduler=args.scheduler,
-                           figures=args.figures, force=args.force, on_result=show)
+    path, rows = run_batch(
+        args.configs,
+        out_dir=args.out,
+        workers=args.workers,
+        scheduler=args.scheduler,
+        figures=args.figures,
+        force=args.force,
+        on_result=show,
+    )
     failed = {r["config"]: r["status"] for r in rows if r["status"] != STATUS_OK}
     print(f"{len(args.configs) - len(failed)} of {len(args.configs)} systems fitted; summary in {path}")
     if not failed:
@@ -64,10 +85,13 @@ def batch(args):
 def check(args):
     """``planetfit check``: the data overview, the free parameters and every warning; no fit."""
     from planetfit import pipeline
+
     checked = pipeline.check(args.config)
     c = checked.config
-    print(f"{c.system}: {len(c.planets)} planet(s), {len(c.photometry)} photometric and "
-          f"{len(c.velocities)} RV dataset(s); config OK")
+    print(
+        f"{c.system}: {len(c.planets)} planet(s), {len(c.photometry)} photometric and "
+        f"{len(c.velocities)} RV dataset(s); config OK"
+    )
     for row in pipeline.overview(checked):
         print("  {:<18s} {:<10s} {:6d} points ({} NaN rows dropped), BJD_TDB {:.3f} to {:.3f}, {}".format(*row))
     layout = checked.posterior.layout
@@ -79,16 +103,21 @@ def check(args):
 def interior(args):
     """``planetfit interior``: the composition verdict for a Gaussian mass and radius."""
     from planetfit.context.interior import quick_verdict
+
     for name, (value, sig) in (("--mass", args.mass), ("--radius", args.radius)):
         if not value > 0 or not sig >= 0:
-            raise InputError(f"{name} needs a positive value and a non-negative uncertainty, got {value} {sig}.",
-                             fix=f"e.g. {name} 5.0 0.8 (Earth units).")
+            raise InputError(
+                f"{name} needs a positive value and a non-negative uncertainty, got {value} {sig}.",
+                fix=f"e.g. {name} 5.0 0.8 (Earth units).",
+            )
     result = quick_verdict(args.mass[0], args.mass[1], args.radius[0], args.radius[1])
     if args.json:
         print(json.dumps(result, indent=2))
         return
-    print(f"p_rocky = {result['p_rocky']:.3f}, p_volatile_rich = {result['p_volatile_rich']:.3f}, "
-          f"p_denser_than_earth_like = {result['p_denser_than_earth_like']:.3f}")
+    print(
+        f"p_rocky = {result['p_rocky']:.3f}, p_volatile_rich = {result['p_volatile_rich']:.3f}, "
+        f"p_denser_than_earth_like = {result['p_denser_than_earth_like']:.3f}"
+    )
     radii = ", ".join(f"{k} {v:.3f}" for k, v in result["reference_radii_earth"].items())
     print(f"reference radii at M = {args.mass[0]:g} M_earth: {radii} R_earth")
     print(result["verdict"])
@@ -98,27 +127,35 @@ def climate(args):
     """``planetfit climate``: temperatures and habitable-zone position for one star and orbit."""
     from planetfit.context.climate import quick_climate
 
-    for name, value, ok, what in (("--teff", args.teff, args.teff > 0, "a positive temperature in K"),
-                                  ("--radius-rsun", args.radius_rsun, args.radius_rsun > 0, "a positive radius"),
-                                  ("--a-au", args.a_au, args.a_au > 0, "a positive semi-major axis"),
-                                  ("--albedo", args.albedo, 0 <= args.albedo < 1, "a Bond albedo in [0, 1)"),
-                                  ("--tau", args.tau, args.tau >= 0, "an optical depth >= 0")):
+    for name, value, ok, what in (
+        ("--teff", args.teff, args.teff > 0, "a positive temperature in K"),
+        ("--radius-rsun", args.radius_rsun, args.radius_rsun > 0, "a positive radius"),
+        ("--a-au", args.a_au, args.a_au > 0, "a positive semi-major axis"),
+        ("--albedo", args.albedo, 0 <= args.albedo < 1, "a Bond albedo in [0, 1)"),
+        ("--tau", args.tau, args.tau >= 0, "an optical depth >= 0"),
+    ):
         if not ok:
             raise InputError(f"{name} needs {what}, got {value}.", fix="see 'planetfit climate --help'.")
     result = quick_climate(args.teff, args.radius_rsun, args.a_au, albedo=args.albedo, tau=args.tau)
     if args.json:
         print(json.dumps(result, indent=2))
         return
-    for key in ("insolation_earth", "equilibrium_temp_k", "surface_temp_k", "p_conservative_hz", "p_optimistic_hz",
-                "p_surface_liquid_water"):
+    for key in (
+        "insolation_earth",
+        "equilibrium_temp_k",
+        "surface_temp_k",
+        "p_conservative_hz",
+        "p_optimistic_hz",
+        "p_surface_liquid_water",
+    ):
         print(f"{key:>24s}: {result[key]}")
     if result.get("hz_limits_au"):
-        print("   habitable-zone limits (au): " + ", ".join(f"{k} {v:.3f}" for k, v in result["hz_limits_au"].items()
-                                                           if v is not None))
+        print(
+            "   habitable-zone limits (au): "
+            + ", ".join(f"{k} {v:.3f}" for k, v in result["hz_limits_au"].items() if v is not None)
+        )
     for c in result["cautions"]:
         print(f"  note: {c}")
-
-
 
 
 def demo(args):

@@ -20,8 +20,12 @@ def _add_run_options(p, default_cores=1):
     p.add_argument("--out", help="run directory (default: the config's 'output')")
     p.add_argument("--resume", action="store_true", help="continue an interrupted run from samples.h5")
     p.add_argument("--force", action="store_true", help="replace the outputs of an earlier run in the folder")
-    p.add_argument("--cores", type=int, default=default_cores,
-                   help=f"processes for the walkers and the figures (default {default_cores})")
+    p.add_argument(
+        "--cores",
+        type=int,
+        default=default_cores,
+        help=f"processes for the walkers and the figures (default {default_cores})",
+    )
     p.add_argument("--quiet", action="store_true", help="no progress bar or progress messages")
     p.add_argument("--no-figures", action="store_true", help="write numbers and tables only (faster, for batches)")
 
@@ -44,9 +48,15 @@ def build_parser():
     p.set_defaults(func=commands.batch)
     p.add_argument("configs", nargs="+", metavar="CONFIG")
     p.add_argument("--workers", type=int, help="processes of the local cluster (default: the machine's cores)")
-    p.add_argument("--scheduler", metavar="ADDRESS", help="use the Dask scheduler at ADDRESS instead of a local cluster")
-    p.add_argument("--out", metavar="DIR", help="run directories in DIR/<config stem> and batch_summary.csv in DIR "
-                                                "(default: each config's 'output', summary in the current folder)")
+    p.add_argument(
+        "--scheduler", metavar="ADDRESS", help="use the Dask scheduler at ADDRESS instead of a local cluster"
+    )
+    p.add_argument(
+        "--out",
+        metavar="DIR",
+        help="run directories in DIR/<config stem> and batch_summary.csv in DIR "
+        "(default: each config's 'output', summary in the current folder)",
+    )
     p.add_argument("--figures", action="store_true", help="also draw each system's figures (slower)")
     p.add_argument("--force", action="store_true", help="replace the outputs of earlier runs in the folders")
     p = sub.add_parser("redraw", help="figures and tables again from a run's saved samples")
@@ -66,8 +76,8 @@ def build_parser():
     p.add_argument("--albedo", type=float, default=0.3)
     p.add_argument("--tau", type=float, default=0.94)
     p.add_argument("--json", action="store_true")
-    p = sub.add_parser("schema", help="print the config's JSON Schema (for editors: planetfit schema > config.schema.json)")
+    p = sub.add_parser(
+        "schema", help="print the config's JSON Schema (for editors: planetfit schema > config.schema.json)"
+    )
     p.set_defaults(func=commands.schema)
     return parser
-
-

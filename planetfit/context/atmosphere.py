@@ -53,8 +53,7 @@ def scale_height_km(temp_k, mean_molecular_weight, surface_gravity_ms2):
     return K_B_SI * temp / (mean_molecular_weight * M_U_SI * gravity) / METERS_PER_KM
 
 
-def transmission_signal_ppm(scale_height_km, planet_radius_earth, star_radius_rsun,
-                            n_scale_heights=2.0):
+def transmission_signal_ppm(scale_height_km, planet_radius_earth, star_radius_rsun, n_scale_heights=2.0):
     """Amplitude of a transmission feature spanning n scale heights.
 
     The annulus of height n H around the planet adds
@@ -88,8 +87,7 @@ def _radius_bin(planet_radius_earth):
     return np.where(inside, index, -1)
 
 
-def tsm(planet_radius_earth, planet_mass_earth, equilibrium_temp_k, star_radius_rsun,
-        mag_j):
+def tsm(planet_radius_earth, planet_mass_earth, equilibrium_temp_k, star_radius_rsun, mag_j):
     """Transmission spectroscopy metric, Kempton et al. (2018) eq. (1).
 
     TSM = scale * Rp^3 T_eq / (Mp R*^2) * 10^(-m_J / 5), with Rp and Mp in
@@ -103,12 +101,10 @@ def tsm(planet_radius_earth, planet_mass_earth, equilibrium_temp_k, star_radius_
     radius = np.asarray(planet_radius_earth, dtype=float)
     mass = np.asarray(planet_mass_earth, dtype=float)
     index = _radius_bin(radius)
-    scale = np.where(index >= 0, np.take(TSM_SCALE_FACTORS, np.clip(index, 0, None)),
-                     np.nan)
+    scale = np.where(index >= 0, np.take(TSM_SCALE_FACTORS, np.clip(index, 0, None)), np.nan)
     mass = np.where(mass > 0, mass, np.nan)
     star = np.asarray(star_radius_rsun, dtype=float)
-    return (scale * radius**3 * np.asarray(equilibrium_temp_k, dtype=float)
-            / (mass * star**2) * 10.0 ** (-mag_j / 5.0))
+    return scale * radius**3 * np.asarray(equilibrium_temp_k, dtype=float) / (mass * star**2) * 10.0 ** (-mag_j / 5.0)
 
 
 def planck_radiance(wavelength_m, temp_k):
@@ -129,11 +125,11 @@ def esm(planet_radius_earth, equilibrium_temp_k, star_radius_rsun, star_teff_k, 
     ndarray
         ESM per sample.
     """
-    ratio = (np.asarray(planet_radius_earth, dtype=float) * R_EARTH_M
-             / (np.asarray(star_radius_rsun, dtype=float) * R_SUN_M))
+    ratio = (
+        np.asarray(planet_radius_earth, dtype=float) * R_EARTH_M / (np.asarray(star_radius_rsun, dtype=float) * R_SUN_M)
+    )
     dayside_k = ESM_DAYSIDE_FACTOR * np.asarray(equilibrium_temp_k, dtype=float)
-    planck_ratio = (planck_radiance(ESM_WAVELENGTH_M, dayside_k)
-                    / planck_radiance(ESM_WAVELENGTH_M, star_teff_k))
+    planck_ratio = planck_radiance(ESM_WAVELENGTH_M, dayside_k) / planck_radiance(ESM_WAVELENGTH_M, star_teff_k)
     return ESM_NORMALISATION * planck_ratio * ratio**2 * 10.0 ** (-mag_k / 5.0)
 
 
@@ -165,9 +161,18 @@ def _metrics(planet_radius_earth, planet_mass_earth, equilibrium_temp_k, star_ra
     return tsm_stat, esm_stat, notes
 
 
-def atmosphere_block(planet_radius_earth, planet_mass_earth, surface_gravity_ms2, equilibrium_temp_k,
-                     star_radius_rsun, star_teff_k, mag_j=None, mag_k=None, mean_molecular_weight=2.3,
-                     n_scale_heights=2):
+def atmosphere_block(
+    planet_radius_earth,
+    planet_mass_earth,
+    surface_gravity_ms2,
+    equilibrium_temp_k,
+    star_radius_rsun,
+    star_teff_k,
+    mag_j=None,
+    mag_k=None,
+    mean_molecular_weight=2.3,
+    n_scale_heights=2,
+):
     """Observability summary of one planet from posterior samples.
 
     Parameters
@@ -196,12 +201,15 @@ def atmosphere_block(planet_radius_earth, planet_mass_earth, surface_gravity_ms2
     height = scale_height_km(equilibrium_temp_k, mu, surface_gravity_ms2)
     signal = transmission_signal_ppm(height, planet_radius_earth, star_radius_rsun, n_scale_heights)
     median_radius = float(np.nanmedian(np.asarray(planet_radius_earth, dtype=float)))
-    tsm_stat, esm_stat, missing = _metrics(planet_radius_earth, planet_mass_earth, equilibrium_temp_k,
-                                           star_radius_rsun, star_teff_k, mag_j, mag_k)
-    notes = [f"Scale height for mean molecular weight {mu:g} at the equilibrium temperature; transmission signal for "
-             f"{n_scale_heights:g} scale heights.",
-             "TSM and ESM follow Kempton et al. (2018, PASP 130, 114401); they define T_eq for zero albedo and full "
-             "redistribution, so compare thresholds with that in mind."] + missing
+    tsm_stat, esm_stat, missing = _metrics(
+        planet_radius_earth, planet_mass_earth, equilibrium_temp_k, star_radius_rsun, star_teff_k, mag_j, mag_k
+    )
+    notes = [
+        f"Scale height for mean molecular weight {mu:g} at the equilibrium temperature; transmission signal for "
+        f"{n_scale_heights:g} scale heights.",
+        "TSM and ESM follow Kempton et al. (2018, PASP 130, 114401); they define T_eq for zero albedo and full "
+        "redistribution, so compare thresholds with that in mind.",
+    ] + missing
     return {
         "scale_height_km": stat(height),
         "transmission_signal_ppm": stat(signal),

@@ -37,14 +37,31 @@ def add_context(config, model, derived, rng):
         insolation = climate.insolation_earth(star["radius_rsun"], star["teff_k"], q["semi_major_axis_au"], ecc)
         q["insolation_earth"] = insolation
         q["equilibrium_temp_k"] = climate.equilibrium_temp_k(insolation, albedo=0.0)
-        block = {"composition": None, "atmosphere": None,
-                 "climate": climate.climate_block(star["radius_rsun"], star["teff_k"], q["semi_major_axis_au"], ecc,
-                                                  settings, star_age_gyr=star.get("age_gyr"), rng=rng)}
+        block = {
+            "composition": None,
+            "atmosphere": None,
+            "climate": climate.climate_block(
+                star["radius_rsun"],
+                star["teff_k"],
+                q["semi_major_axis_au"],
+                ecc,
+                settings,
+                star_age_gyr=star.get("age_gyr"),
+                rng=rng,
+            ),
+        }
         if p.transits and np.any(q["mass_earth"] > 0):
             block["composition"] = interior.composition(q["mass_earth"], q["radius_earth"])
             block["atmosphere"] = atmosphere.atmosphere_block(
-                q["radius_earth"], q["mass_earth"], q["surface_gravity_ms2"], q["equilibrium_temp_k"],
-                star["radius_rsun"], star["teff_k"], mag_j=config.star.mag_j, mag_k=config.star.mag_k,
-                mean_molecular_weight=settings.mu)
+                q["radius_earth"],
+                q["mass_earth"],
+                q["surface_gravity_ms2"],
+                q["equilibrium_temp_k"],
+                star["radius_rsun"],
+                star["teff_k"],
+                mag_j=config.star.mag_j,
+                mag_k=config.star.mag_k,
+                mean_molecular_weight=settings.mu,
+            )
         blocks[p.name] = block
     return blocks

@@ -18,12 +18,12 @@ from planetfit.inputs.schema.settings import FULL_REDISTRIBUTION
 # (the paper's own table was not read).
 HZ_COEFFICIENTS = {
     #                                   S_eff_sun  a          b          c           d
-    "recent_venus":                     (1.776, 2.136e-4, 2.533e-8, -1.332e-11, -3.097e-15),
+    "recent_venus": (1.776, 2.136e-4, 2.533e-8, -1.332e-11, -3.097e-15),
     "runaway_greenhouse_0p1_earth_mass": (0.990, 1.209e-4, 1.404e-8, -7.418e-12, -1.713e-15),
-    "runaway_greenhouse_1_earth_mass":   (1.107, 1.332e-4, 1.580e-8, -8.308e-12, -1.931e-15),
-    "runaway_greenhouse_5_earth_mass":   (1.188, 1.433e-4, 1.707e-8, -8.968e-12, -2.084e-15),
-    "maximum_greenhouse":               (0.356, 6.171e-5, 1.698e-9, -3.198e-12, -5.575e-16),
-    "early_mars":                       (0.320, 5.547e-5, 1.526e-9, -2.874e-12, -5.011e-16),
+    "runaway_greenhouse_1_earth_mass": (1.107, 1.332e-4, 1.580e-8, -8.308e-12, -1.931e-15),
+    "runaway_greenhouse_5_earth_mass": (1.188, 1.433e-4, 1.707e-8, -8.968e-12, -2.084e-15),
+    "maximum_greenhouse": (0.356, 6.171e-5, 1.698e-9, -3.198e-12, -5.575e-16),
+    "early_mars": (0.320, 5.547e-5, 1.526e-9, -2.874e-12, -5.011e-16),
 }
 HZ_REFERENCE_TEFF_K = 5780.0
 HZ_TEFF_RANGE_K = (2600.0, 7200.0)
@@ -44,7 +44,8 @@ SURVEY_TEFF_RANGE_K = (2000.0, 6500.0)
 GENERAL_CAUTION = (
     "First-order screening, not a climate model: one Bond albedo, a grey "
     "greenhouse and fixed habitable-zone limits stand in for clouds, "
-    "composition, rotation and geology.")
+    "composition, rotation and geology."
+)
 
 
 def luminosity_lsun(radius_rsun, teff_k):
@@ -162,9 +163,11 @@ def _temperatures(insolation, settings, rng):
     tau_lo, tau_hi = settings.tau_range
     tau = rng.uniform(tau_lo, tau_hi, size=t_eq.shape) if tau_hi > tau_lo else tau_lo
     tau_text = f"tau uniform in [{tau_lo:g}, {tau_hi:g}]" if tau_hi > tau_lo else f"tau = {tau_lo:g}"
-    caution = (f"p_surface_liquid_water: grey greenhouse with Bond albedo {settings.albedo:g} and {tau_text}; "
-               "0-65 C, above which a runaway greenhouse is expected. Says nothing about whether water or an "
-               "atmosphere is present.")
+    caution = (
+        f"p_surface_liquid_water: grey greenhouse with Bond albedo {settings.albedo:g} and {tau_text}; "
+        "0-65 C, above which a runaway greenhouse is expected. Says nothing about whether water or an "
+        "atmosphere is present."
+    )
     return t_eq, surface_temp_k(t_eq, tau), caution
 
 
@@ -172,23 +175,35 @@ def _habitable_zone(insolation, radius, teff):
     """Conservative and optimistic habitable-zone fractions, limits (au) and cautions."""
     limits = hz_insolation_earth(teff)
     defined = np.isfinite(limits["recent_venus"])
-    conservative = (insolation <= limits["runaway_greenhouse_1_earth_mass"]) & (insolation >= limits["maximum_greenhouse"])
+    conservative = (insolation <= limits["runaway_greenhouse_1_earth_mass"]) & (
+        insolation >= limits["maximum_greenhouse"]
+    )
     optimistic = (insolation <= limits["recent_venus"]) & (insolation >= limits["early_mars"])
-    cautions = ["p_conservative_hz / p_optimistic_hz: Kopparapu et al. (2014) 1-D cloud-free limits (runaway "
-                "greenhouse for 1 Earth mass to maximum greenhouse; recent Venus to early Mars); clouds and slow "
-                "rotation can move the inner edge."]
+    cautions = [
+        "p_conservative_hz / p_optimistic_hz: Kopparapu et al. (2014) 1-D cloud-free limits (runaway "
+        "greenhouse for 1 Earth mass to maximum greenhouse; recent Venus to early Mars); clouds and slow "
+        "rotation can move the inner edge."
+    ]
     outside = 1.0 - float(np.mean(defined))
     if outside > 0:
         cautions.append(
             f"Host Teff outside {HZ_TEFF_RANGE_K[0]:.0f}-{HZ_TEFF_RANGE_K[1]:.0f} K for {100 * outside:.1f}% of "
             "samples: no habitable-zone limits there (never extrapolated); "
-            + ("habitable-zone probabilities use the other samples." if defined.any()
-               else "habitable-zone limits and probabilities are undefined."))
+            + (
+                "habitable-zone probabilities use the other samples."
+                if defined.any()
+                else "habitable-zone limits and probabilities are undefined."
+            )
+        )
     luminosity = luminosity_lsun(radius, teff)
-    hz_limits = ({name: stat(hz_distance_au(s_eff, luminosity)) for name, s_eff in limits.items()}
-                 if defined.any() else None)
-    return {"p_conservative_hz": _fraction(conservative, defined), "p_optimistic_hz": _fraction(optimistic, defined),
-            "hz_limits_au": hz_limits}, cautions
+    hz_limits = (
+        {name: stat(hz_distance_au(s_eff, luminosity)) for name, s_eff in limits.items()} if defined.any() else None
+    )
+    return {
+        "p_conservative_hz": _fraction(conservative, defined),
+        "p_optimistic_hz": _fraction(optimistic, defined),
+        "hz_limits_au": hz_limits,
+    }, cautions
 
 
 def _host_flags(teff, star_age_gyr):
@@ -197,13 +212,19 @@ def _host_flags(teff, star_age_gyr):
     if star_age_gyr is not None:
         age = np.asarray(star_age_gyr, dtype=float)
         p_age = _fraction(age > MIN_HOST_AGE_GYR, np.isfinite(age))
-        cautions.append(f"p_host_older_than_0p6_gyr: young hosts are active; an age above {MIN_HOST_AGE_GYR:g} Gyr "
-                        "does not mean the planet kept its atmosphere.")
+        cautions.append(
+            f"p_host_older_than_0p6_gyr: young hosts are active; an age above {MIN_HOST_AGE_GYR:g} Gyr "
+            "does not mean the planet kept its atmosphere."
+        )
     in_survey = (teff >= SURVEY_TEFF_RANGE_K[0]) & (teff <= SURVEY_TEFF_RANGE_K[1])
-    cautions.append(f"p_host_teff_in_survey_range: {SURVEY_TEFF_RANGE_K[0]:.0f}-{SURVEY_TEFF_RANGE_K[1]:.0f} K, "
-                    "roughly late F to early L dwarfs; a screening range, not a physical limit.")
-    return {"p_host_older_than_0p6_gyr": p_age,
-            "p_host_teff_in_survey_range": _fraction(in_survey, np.isfinite(teff))}, cautions
+    cautions.append(
+        f"p_host_teff_in_survey_range: {SURVEY_TEFF_RANGE_K[0]:.0f}-{SURVEY_TEFF_RANGE_K[1]:.0f} K, "
+        "roughly late F to early L dwarfs; a screening range, not a physical limit."
+    )
+    return {
+        "p_host_older_than_0p6_gyr": p_age,
+        "p_host_teff_in_survey_range": _fraction(in_survey, np.isfinite(teff)),
+    }, cautions
 
 
 def climate_block(star_radius_rsun, star_teff_k, a_au, eccentricity, settings, star_age_gyr=None, rng=None):
@@ -231,22 +252,32 @@ def climate_block(star_radius_rsun, star_teff_k, a_au, eccentricity, settings, s
         ``p_host_teff_in_survey_range``, ``hz_limits_au`` (STAT per limit,
         None when Teff is out of range), ``cautions`` and ``settings``.
     """
-    radius, teff, a = np.broadcast_arrays(*(np.atleast_1d(np.asarray(x, dtype=float))
-                                            for x in (star_radius_rsun, star_teff_k, a_au)))
+    radius, teff, a = np.broadcast_arrays(
+        *(np.atleast_1d(np.asarray(x, dtype=float)) for x in (star_radius_rsun, star_teff_k, a_au))
+    )
     rng = np.random.default_rng(0) if rng is None else rng
     insolation = insolation_earth(radius, teff, a, eccentricity)
     t_eq, t_surface, temperature_caution = _temperatures(insolation, settings, rng)
     hz, hz_cautions = _habitable_zone(insolation, radius, teff)
     host, host_cautions = _host_flags(teff, star_age_gyr)
-    orbit_caution = ["Insolation and temperatures use the orbit-averaged flux, (1 - e^2)^(-1/2) times the flux at "
-                     "distance a."] if eccentricity is not None else []
+    orbit_caution = (
+        ["Insolation and temperatures use the orbit-averaged flux, (1 - e^2)^(-1/2) times the flux at distance a."]
+        if eccentricity is not None
+        else []
+    )
     liquid = (t_surface >= LIQUID_WATER_RANGE_K[0]) & (t_surface <= LIQUID_WATER_RANGE_K[1])
-    return {"equilibrium_temp_k": stat(t_eq), "surface_temp_k": stat(t_surface), "insolation_earth": stat(insolation),
-            "p_conservative_hz": hz["p_conservative_hz"], "p_optimistic_hz": hz["p_optimistic_hz"],
-            "p_surface_liquid_water": _fraction(liquid, np.isfinite(t_surface)), **host,
-            "hz_limits_au": hz["hz_limits_au"],
-            "cautions": [GENERAL_CAUTION] + orbit_caution + hz_cautions + [temperature_caution] + host_cautions,
-            "settings": settings.model_dump()}
+    return {
+        "equilibrium_temp_k": stat(t_eq),
+        "surface_temp_k": stat(t_surface),
+        "insolation_earth": stat(insolation),
+        "p_conservative_hz": hz["p_conservative_hz"],
+        "p_optimistic_hz": hz["p_optimistic_hz"],
+        "p_surface_liquid_water": _fraction(liquid, np.isfinite(t_surface)),
+        **host,
+        "hz_limits_au": hz["hz_limits_au"],
+        "cautions": [GENERAL_CAUTION] + orbit_caution + hz_cautions + [temperature_caution] + host_cautions,
+        "settings": settings.model_dump(),
+    }
 
 
 def quick_climate(teff_k, radius_rsun, a_au, albedo=0.3, tau=0.94):

@@ -12,7 +12,18 @@ per sample. Constants come from :mod:`planetfit.core.units` (astropy).
 import numpy as np
 
 from planetfit.core.geometry import planet_mass_kg, semi_major_axis_m, transit_duration_days
-from planetfit.core.units import AU_M, G_SI, HOURS_PER_DAY, KG_M3_TO_G_CM3, M_EARTH_KG, M_JUP_KG, M_SUN_KG, R_EARTH_M, R_JUP_M, R_SUN_M
+from planetfit.core.units import (
+    AU_M,
+    G_SI,
+    HOURS_PER_DAY,
+    KG_M3_TO_G_CM3,
+    M_EARTH_KG,
+    M_JUP_KG,
+    M_SUN_KG,
+    R_EARTH_M,
+    R_JUP_M,
+    R_SUN_M,
+)
 
 
 def bulk_density_gcc(mass_kg, radius_m):
@@ -42,17 +53,23 @@ def derive(config, model, samples, rng):
         Arrays have one value per sample.
     """
     n = samples.shape[0]
-    values = {k: np.broadcast_to(np.asarray(v, dtype=float), (n,)).copy()
-              for k, v in model.layout.values(samples).items()}
+    values = {
+        k: np.broadcast_to(np.asarray(v, dtype=float), (n,)).copy() for k, v in model.layout.values(samples).items()
+    }
     drawn = {p.name: np.asarray(p.prior.sample(rng, n), dtype=float) for p in model.prior_only}
     values.update(drawn)
     star_model = model.star
     mstar, rstar = values[star_model.mass.name], values[star_model.radius.name]
-    star = {"mass_msun": mstar, "radius_rsun": rstar,
-            "density_gcc": bulk_density_gcc(mstar * M_SUN_KG, rstar * R_SUN_M),
-            "teff_k": np.asarray(config.star.teff_k.sample(rng, n), dtype=float)}
-    flagged = {"star": {"teff_k"} | ({"mass_msun", "radius_rsun", "density_gcc"} if star_model.mass.name in drawn
-                                     else set()), "planets": {}}
+    star = {
+        "mass_msun": mstar,
+        "radius_rsun": rstar,
+        "density_gcc": bulk_density_gcc(mstar * M_SUN_KG, rstar * R_SUN_M),
+        "teff_k": np.asarray(config.star.teff_k.sample(rng, n), dtype=float),
+    }
+    flagged = {
+        "star": {"teff_k"} | ({"mass_msun", "radius_rsun", "density_gcc"} if star_model.mass.name in drawn else set()),
+        "planets": {},
+    }
     if config.star.age_gyr is not None:
         star["age_gyr"] = np.asarray(config.star.age_gyr.sample(rng, n), dtype=float)
         flagged["star"].add("age_gyr")
@@ -69,20 +86,30 @@ def _planet(planet, values, star, mstar_msun, rstar_rsun):
     orbit = planet.solve(values, star)
     e = np.broadcast_to(orbit["e"], per.shape)
     w = np.broadcast_to(orbit["omega_rad"], per.shape)
-    out = {"period_days": per, "transit_bjd": values[planet.transit_time.name], "eccentricity": e,
-           "omega_deg": np.degrees(w), "rv_amplitude_ms": k_ms}
+    out = {
+        "period_days": per,
+        "transit_bjd": values[planet.transit_time.name],
+        "eccentricity": e,
+        "omega_deg": np.degrees(w),
+        "rv_amplitude_ms": k_ms,
+    }
     if planet.transits:
         mass_kg = orbit["mass_kg"]
         a_r, cos_i = orbit["a_over_rstar"], orbit["cos_i"]
         k, b = values[planet.radius_ratio.name], values[planet.impact.name]
         radius_m = k * rstar_rsun * R_SUN_M
         out.update(
-            radius_ratio=k, impact=b, inclination_deg=np.degrees(np.arccos(cos_i)),
-            a_over_rstar=a_r, semi_major_axis_au=a_r * rstar_rsun * R_SUN_M / AU_M,
-            radius_earth=radius_m / R_EARTH_M, radius_jup=radius_m / R_JUP_M,
+            radius_ratio=k,
+            impact=b,
+            inclination_deg=np.degrees(np.arccos(cos_i)),
+            a_over_rstar=a_r,
+            semi_major_axis_au=a_r * rstar_rsun * R_SUN_M / AU_M,
+            radius_earth=radius_m / R_EARTH_M,
+            radius_jup=radius_m / R_JUP_M,
             density_gcc=bulk_density_gcc(mass_kg, radius_m),
             surface_gravity_ms2=G_SI * mass_kg / radius_m**2,
-            transit_duration_hr=transit_duration_days(per, a_r, k, b, cos_i, e, w) * HOURS_PER_DAY)
+            transit_duration_hr=transit_duration_days(per, a_r, k, b, cos_i, e, w) * HOURS_PER_DAY,
+        )
     else:
         # Without an inclination prior the mass is the minimum mass M sin i.
         incl = values.get(planet.inclination.name) if planet.inclination is not None else None

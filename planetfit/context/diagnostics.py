@@ -35,8 +35,10 @@ def unconstrained_warnings(layout, samples):
         lo, hi = (prior.to_sampler(b) for b in prior.bounds)
         ratio = float(np.std(samples[:, j])) / ((hi - lo) * _UNIFORM_SD)
         if ratio >= UNCONSTRAINED_WIDTH_RATIO:
-            out.append(f"{name} is not constrained by the data: its posterior is {ratio:.0%} as wide as its prior "
-                       f"{prior.describe()}, so its value and interval restate the prior, not a measurement.")
+            out.append(
+                f"{name} is not constrained by the data: its posterior is {ratio:.0%} as wide as its prior "
+                f"{prior.describe()}, so its value and interval restate the prior, not a measurement."
+            )
     return out
 
 
@@ -56,7 +58,9 @@ def jitter_warnings(layout, samples, datasets):
             continue
         median = float(np.median(values[jitter]))
         if median > JITTER_ALARM_RATIO * error:
-            out.append(f"dataset '{name}': the fitted jitter ({median:.3g} {unit}) is {median / error:.0f} times the "
-                       f"median reported error ({error:.3g} {unit}): the model does not describe these data (several "
-                       "instruments fitted as one, a missing signal, or wrong units?).")
+            out.append(
+                f"dataset '{name}': the fitted jitter ({median:.3g} {unit}) is {median / error:.0f} times the "
+                f"median reported error ({error:.3g} {unit}): the model does not describe these data (several "
+                "instruments fitted as one, a missing signal, or wrong units?)."
+            )
     return out

@@ -5,7 +5,6 @@ config key, a data file, a run directory); the command line turns it into a
 one-paragraph message and exit code 2. Anything else is an internal failure.
 """
 
-
 import contextlib
 
 #: The fix for a data file that is not where the config says.
@@ -51,8 +50,9 @@ class InputError(Exception):
 
 
 @contextlib.contextmanager
-def reading(path, what, missing_fix, unreadable_fix, unreadable=(IsADirectoryError, PermissionError,
-                                                                  UnicodeDecodeError)):
+def reading(
+    path, what, missing_fix, unreadable_fix, unreadable=(IsADirectoryError, PermissionError, UnicodeDecodeError)
+):
     """Turn a missing or unreadable user file into an :class:`InputError`.
 
     Parameters
@@ -70,5 +70,6 @@ def reading(path, what, missing_fix, unreadable_fix, unreadable=(IsADirectoryErr
     except FileNotFoundError:
         raise InputError(f"{what} not found.", file=path, fix=missing_fix) from None
     except unreadable as exc:
-        raise InputError(f"cannot read the {what} ({exc.__class__.__name__}: {exc}).", file=path,
-                         fix=unreadable_fix) from None
+        raise InputError(
+            f"cannot read the {what} ({exc.__class__.__name__}: {exc}).", file=path, fix=unreadable_fix
+        ) from None

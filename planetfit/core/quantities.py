@@ -16,7 +16,7 @@ class Quantity:
     symbol_tex: str
     unit_text: str = ""
     unit_tex: str = ""
-    symbol_text: str = ""      # plain-text symbol where the label alone is ambiguous (Markdown)
+    symbol_text: str = ""  # plain-text symbol where the label alone is ambiguous (Markdown)
 
     def axis_label(self):
         """Figure axis label: symbol and unit in brackets (mathtext)."""

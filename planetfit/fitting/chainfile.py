@@ -17,8 +17,11 @@ from planetfit.fitting.modes import Mode
 
 #: The chain's group (emcee's) and planetfit's group in samples.h5.
 CHAIN_GROUP, FACTS_GROUP, MODES_GROUP = "chain", "planetfit", "modes"
-_RESUME_FIX = ("move samples.h5 away (it is never overwritten silently) and run again, or use --force to start a new "
-               "fit in this folder.")
+_RESUME_FIX = (
+    "move samples.h5 away (it is never overwritten silently) and run again, or use --force to start a new "
+    "fit in this folder."
+)
+
 
 class BufferedHDFBackend(emcee.backends.HDFBackend):
     """emcee's HDF5 chain file, written in batches of steps at most ``flush_seconds`` apart.
@@ -38,7 +41,7 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
         self._pending = []
         self._last_flush = time.monotonic()
         self._positions = None  # (capacity, walkers, ndim) copy of the chain ...
-        self._stored = 0        # ... filled up to here (counted here: reading the file's count opens it)
+        self._stored = 0  # ... filled up to here (counted here: reading the file's count opens it)
 
     def reset(self, nwalkers, ndim):
         self._pending = []
@@ -70,8 +73,8 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
         with self.open("a") as f:
             g = f[self.name]
             first = g.attrs["iteration"]
-            g["chain"][first:first + len(coords)] = np.stack(coords)
-            g["log_prob"][first:first + len(coords)] = np.stack(log_prob)
+            g["chain"][first : first + len(coords)] = np.stack(coords)
+            g["log_prob"][first : first + len(coords)] = np.stack(log_prob)
             g["accepted"][:] += np.sum(accepted, axis=0)
             for i, v in enumerate(self._pending[-1][3]):
                 g.attrs[f"random_state_{i}"] = v
@@ -99,10 +102,8 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
         if self._positions is None:  # a chain continued from the file: read it once
             self._positions = super().get_value("chain")
             self._stored = len(self._positions)
-        value = self._positions[discard + thin - 1:self._stored:thin]
+        value = self._positions[discard + thin - 1 : self._stored : thin]
         return value.reshape(-1, value.shape[-1]) if flat else value
-
-
 
 
 def open_chain(h5_path):
@@ -132,14 +133,18 @@ def check_resumable(h5_path, ndim, walkers):
             steps = int(chain.attrs["iteration"])
             shape = (int(chain.attrs["nwalkers"]), int(chain.attrs["ndim"]))
     except (OSError, KeyError, ValueError) as exc:
-        raise InputError(f"samples.h5 is truncated or not a planetfit chain ({exc}).", file=h5_path,
-                         fix=_RESUME_FIX) from None
+        raise InputError(
+            f"samples.h5 is truncated or not a planetfit chain ({exc}).", file=h5_path, fix=_RESUME_FIX
+        ) from None
     expected = (max(walkers, 2 * ndim), ndim)
     if steps > 0 and shape != expected:
-        raise InputError(f"the saved chain has {shape[0]} walkers x {shape[1]} parameters, but this config "
-                         f"needs {expected[0]} x {expected[1]}.", file=h5_path,
-                         fix="resume with the config that started the run (sampling.walkers and the free "
-                             "parameters must not change), or " + _RESUME_FIX)
+        raise InputError(
+            f"the saved chain has {shape[0]} walkers x {shape[1]} parameters, but this config "
+            f"needs {expected[0]} x {expected[1]}.",
+            file=h5_path,
+            fix="resume with the config that started the run (sampling.walkers and the free "
+            "parameters must not change), or " + _RESUME_FIX,
+        )
     return steps
 
 
@@ -170,8 +175,11 @@ def read_posterior(h5_path):
         backend = emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True)
         samples = backend.get_chain(discard=facts["discard"], thin=facts["thin"], flat=True)
     except (OSError, KeyError, ValueError) as exc:
-        raise InputError(f"samples.h5 is unreadable or incomplete ({exc}).", file=h5_path,
-                         fix="rerun the fit with --resume (if it was interrupted) or --force.") from None
+        raise InputError(
+            f"samples.h5 is unreadable or incomplete ({exc}).",
+            file=h5_path,
+            fix="rerun the fit with --resume (if it was interrupted) or --force.",
+        ) from None
     return facts, samples
 
 

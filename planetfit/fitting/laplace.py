@@ -14,10 +14,14 @@ def _hessian(evaluate, theta, h):
         points += [theta + steps[i], theta - steps[i]]
     pairs = [(i, j) for i in range(n) for j in range(i + 1, n)]
     for i, j in pairs:
-        points += [theta + steps[i] + steps[j], theta + steps[i] - steps[j],
-                   theta - steps[i] + steps[j], theta - steps[i] - steps[j]]
+        points += [
+            theta + steps[i] + steps[j],
+            theta + steps[i] - steps[j],
+            theta - steps[i] + steps[j],
+            theta - steps[i] - steps[j],
+        ]
     f = evaluate(np.array(points))
-    f0, single, double = f[0], f[1:1 + 2 * n].reshape(n, 2), f[1 + 2 * n:].reshape(-1, 4)
+    f0, single, double = f[0], f[1 : 1 + 2 * n].reshape(n, 2), f[1 + 2 * n :].reshape(-1, 4)
     hess = np.diag(-(single[:, 0] - 2 * f0 + single[:, 1]) / h**2)
     for (i, j), (pp, pm, mp, mm) in zip(pairs, double):
         hess[i, j] = hess[j, i] = -(pp - pm - mp + mm) / (4 * h[i] * h[j])
@@ -39,7 +43,7 @@ def laplace_covariance(evaluate, theta, widths):
     n = theta.size
     stencil = np.concatenate([theta[None], theta + np.diag(h), theta - np.diag(h)])
     f = evaluate(stencil)
-    curvature = -(f[1:1 + n] - 2 * f[0] + f[1 + n:]) / h**2
+    curvature = -(f[1 : 1 + n] - 2 * f[0] + f[1 + n :]) / h**2
     ok = np.isfinite(curvature) & (curvature > 0)
     h = np.where(ok, 0.1 / np.sqrt(np.where(ok, curvature, 1.0)), h)
     hess = _hessian(evaluate, theta, h)

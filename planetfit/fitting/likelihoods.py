@@ -20,8 +20,8 @@ from planetfit.fitting.keplerian import radial_velocity_ms
 class Batch:
     """A batch of walkers with physical orbits: each one's parameter values and solved orbits, as floats."""
 
-    rows: list         # per walker: {name: float}
-    orbit_rows: list   # per walker: {planet name: {quantity: float}}
+    rows: list  # per walker: {name: float}
+    orbit_rows: list  # per walker: {planet name: {quantity: float}}
 
 
 class PhotometryModel:
@@ -49,8 +49,9 @@ class PhotometryModel:
             The sorted points inside any term's window and the deficit
             there, diluted (zero everywhere else).
         """
-        parts = [t.deficit(values, orbits[t.planet.name]) for t in self.terms
-                 if planets is None or t.planet.name in planets]
+        parts = [
+            t.deficit(values, orbits[t.planet.name]) for t in self.terms if planets is None or t.planet.name in planets
+        ]
         parts = [p for p in parts if p is not None]
         if len(parts) == 1:
             index, deficit = parts[0]
@@ -118,8 +119,9 @@ class VelocityModel:
         model = np.zeros(np.size(times))
         for p in self.planets:
             o = orbits[p.name]
-            model += radial_velocity_ms(times, values[p.period.name], o["periastron_bjd"], o["e"], o["omega_rad"],
-                                        values[p.amplitude.name])
+            model += radial_velocity_ms(
+                times, values[p.period.name], o["periastron_bjd"], o["e"], o["omega_rad"], values[p.amplitude.name]
+            )
         return model
 
     def trend_ms(self, values, times):
@@ -133,8 +135,9 @@ class VelocityModel:
         if self.trend is not None:
             resid -= self.trend.velocity_ms(values, self.times)
         if self.has_indicators:
-            resid -= np.concatenate([np.broadcast_to(s.indicator_ms(values), d.time.shape)
-                                     for s, d in zip(self.spectrographs, self.data)])
+            resid -= np.concatenate(
+                [np.broadcast_to(s.indicator_ms(values), d.time.shape) for s, d in zip(self.spectrographs, self.data)]
+            )
         return resid
 
     def log_likelihood(self, batch):

@@ -43,6 +43,7 @@ log = logging.getLogger("planetfit")
 #: Fraction of the moves of a several-mode chain that take the full difference of two walkers.
 JUMP_MOVE_WEIGHT = 0.1
 
+
 def walker_moves(several_modes=False):
     """The emcee moves of a planetfit chain: differential evolution only.
 
@@ -69,28 +70,32 @@ def walker_moves(several_modes=False):
 class SamplingResult:
     """Flat posterior samples and an honest account of how they were obtained."""
 
-    samples: np.ndarray        # (n, ndim), burn-in discarded and thinned
-    log_prob: np.ndarray       # (n,)
+    samples: np.ndarray  # (n, ndim), burn-in discarded and thinned
+    log_prob: np.ndarray  # (n,)
     walkers: int
     steps: int
-    autocorr_steps: float      # largest integrated autocorrelation time
+    autocorr_steps: float  # largest integrated autocorrelation time
     independent_samples: int
     acceptance_fraction: float
     converged: bool
     seconds: float
     discard: int
     thin: int
-    autocorr_history: list     # [(step, max tau)]
-    warnings: list = dataclasses.field(default_factory=list)   # every warning of the sampling stage
-    modes: list = dataclasses.field(default_factory=list)      # {parameter, location, ln_p, fraction} per mode
+    autocorr_history: list  # [(step, max tau)]
+    warnings: list = dataclasses.field(default_factory=list)  # every warning of the sampling stage
+    modes: list = dataclasses.field(default_factory=list)  # {parameter, location, ln_p, fraction} per mode
 
     def summary(self):
         """The ``sampling`` block of summary.json."""
-        return {"walkers": int(self.walkers), "steps": int(self.steps),
-                "autocorr_steps": round(float(self.autocorr_steps), 2),
-                "independent_samples": int(self.independent_samples),
-                "acceptance_fraction": round(self.acceptance_fraction, 4),
-                "converged": bool(self.converged), "seconds": round(self.seconds, 1)}
+        return {
+            "walkers": int(self.walkers),
+            "steps": int(self.steps),
+            "autocorr_steps": round(float(self.autocorr_steps), 2),
+            "independent_samples": int(self.independent_samples),
+            "acceptance_fraction": round(self.acceptance_fraction, 4),
+            "converged": bool(self.converged),
+            "seconds": round(self.seconds, 1),
+        }
 
 
 def autocorr_estimate(backend):
@@ -125,8 +130,9 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
     ndim, nwalkers = layout.ndim, settings.walkers
     if nwalkers < 2 * ndim:
         nwalkers = 2 * ndim + (2 * ndim) % 2
-        log.warning("walkers raised to %d: emcee needs at least twice the number of free parameters (%d)",
-                    nwalkers, ndim)
+        log.warning(
+            "walkers raised to %d: emcee needs at least twice the number of free parameters (%d)", nwalkers, ndim
+        )
     backend = open_chain(h5_path)
     start = time.perf_counter()
     # One log-probability is too small a job for a threaded BLAS: its threads only contend with the
@@ -144,10 +150,12 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
             counts = mode_finding.walker_counts(modes, nwalkers)
             if len(modes) > 1:
                 log.info("walkers per mode: %s", ", ".join(str(n) for n in counts))
-            initial = np.concatenate([initial_walkers(workers, layout, m, n, rng)
-                                      for m, n in zip(modes, counts) if n > 0])
-        sampler = emcee.EnsembleSampler(nwalkers, ndim, workers, vectorize=True, backend=backend,
-                                        moves=walker_moves(several_modes=len(modes) > 1))
+            initial = np.concatenate(
+                [initial_walkers(workers, layout, m, n, rng) for m, n in zip(modes, counts) if n > 0]
+            )
+        sampler = emcee.EnsembleSampler(
+            nwalkers, ndim, workers, vectorize=True, backend=backend, moves=walker_moves(several_modes=len(modes) > 1)
+        )
         try:
             converged, history = _sample(sampler, backend, initial, settings, rng, progress)
         finally:  # also on Ctrl-C: every step taken is saved for --resume
@@ -158,13 +166,18 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
 def _find_modes(log_prob, layout, settings, rng, evaluate):
     """The distinct modes among the optimiser's end points (:func:`planetfit.fitting.modes.distinct_modes`)."""
     centre, scale, _, _ = layout.geometry()
-    ends = find_map(log_prob, layout, rng, settings.optimiser_starts, evaluate,
-                    seeds=periodogram_starts(log_prob, layout, centre))
+    ends = find_map(
+        log_prob, layout, rng, settings.optimiser_starts, evaluate, seeds=periodogram_starts(log_prob, layout, centre)
+    )
     log.info("maximum a posteriori log-probability %.3f", ends[0][1])
     modes = mode_finding.distinct_modes(evaluate, ends, scale)
     if len(modes) > 1:
-        log.info("%d separated modes: log-probability %s, Laplace log-evidence %s", len(modes),
-                 ", ".join(f"{m.log_prob:.2f}" for m in modes), ", ".join(f"{m.log_evidence:.2f}" for m in modes))
+        log.info(
+            "%d separated modes: log-probability %s, Laplace log-evidence %s",
+            len(modes),
+            ", ".join(f"{m.log_prob:.2f}" for m in modes),
+            ", ".join(f"{m.log_evidence:.2f}" for m in modes),
+        )
     return modes
 
 
@@ -175,11 +188,15 @@ def _sample(sampler, backend, initial, settings, rng, progress):
     bar = None
     if progress:
         from tqdm import tqdm
-        bar = tqdm(total=settings.max_steps, initial=backend.iteration, unit="step", desc="sampling",
-                   dynamic_ncols=True)
+
+        bar = tqdm(
+            total=settings.max_steps, initial=backend.iteration, unit="step", desc="sampling", dynamic_ncols=True
+        )
     done = backend.iteration
-    for it, _ in enumerate(sampler.sample(initial, iterations=max(settings.max_steps - done, 0), progress=False,
-                                          store=True), start=done + 1):
+    for it, _ in enumerate(
+        sampler.sample(initial, iterations=max(settings.max_steps - done, 0), progress=False, store=True),
+        start=done + 1,
+    ):
         if bar is not None:
             bar.update(1)
         # An estimate costs ~0.1 s per 1,000 steps of a 27-parameter chain: skip those that could not
@@ -192,10 +209,16 @@ def _sample(sampler, backend, initial, settings, rng, progress):
         acc = float(np.mean(backend.accepted / backend.iteration))
         # The rule acts on the slowest parameter: its time sets how long the chain must be,
         # and its estimate must have settled (per-parameter estimates scatter by ~1% between checks).
-        converged = bool(tmax * settings.autocorr_factor < it
-                         and abs(old_tau - tmax) / tmax < settings.autocorr_tolerance)
-        log.info("step %d: autocorrelation %.1f steps (need < %.0f), acceptance %.3f",
-                 it, tmax, it / settings.autocorr_factor, acc)
+        converged = bool(
+            tmax * settings.autocorr_factor < it and abs(old_tau - tmax) / tmax < settings.autocorr_tolerance
+        )
+        log.info(
+            "step %d: autocorrelation %.1f steps (need < %.0f), acceptance %.3f",
+            it,
+            tmax,
+            it / settings.autocorr_factor,
+            acc,
+        )
         if bar is not None:
             bar.set_postfix_str(f"tau {tmax:.0f} (limit {it / settings.autocorr_factor:.0f}), accept {acc:.2f}")
         if converged:
@@ -218,18 +241,31 @@ def _result(backend, settings, nwalkers, converged, history, seconds, modes, lay
     n_indep = int((steps - discard) * nwalkers / tmax) if tmax > 0 else 0
     warnings = []
     if not converged:
-        warnings.append(f"NOT CONVERGED: {steps} steps reach {steps / tmax:.1f} autocorrelation times (target "
-                        f"{settings.autocorr_factor:.0f}); treat the uncertainties with caution and raise "
-                        "sampling.max_steps.")
+        warnings.append(
+            f"NOT CONVERGED: {steps} steps reach {steps / tmax:.1f} autocorrelation times (target "
+            f"{settings.autocorr_factor:.0f}); treat the uncertainties with caution and raise "
+            "sampling.max_steps."
+        )
         log.warning("%s", warnings[-1])
-    groups = mode_finding.describe(backend.get_chain(discard=discard), backend.get_log_prob(discard=discard), thin,
-                                   modes, layout)
+    groups = mode_finding.describe(
+        backend.get_chain(discard=discard), backend.get_log_prob(discard=discard), thin, modes, layout
+    )
     for group in groups:
         warnings.append(group.warning())
         log.warning("WARNING: %s", warnings[-1])
-    return SamplingResult(samples=samples, log_prob=lp, walkers=nwalkers, steps=steps, autocorr_steps=tmax,
-                          independent_samples=n_indep,
-                          acceptance_fraction=float(np.mean(backend.accepted / max(steps, 1))),
-                          converged=converged and all(g.mixed for g in groups), seconds=seconds, discard=discard,
-                          thin=thin, autocorr_history=history, warnings=warnings,
-                          modes=[entry for g in groups for entry in g.entries()])
+    return SamplingResult(
+        samples=samples,
+        log_prob=lp,
+        walkers=nwalkers,
+        steps=steps,
+        autocorr_steps=tmax,
+        independent_samples=n_indep,
+        acceptance_fraction=float(np.mean(backend.accepted / max(steps, 1))),
+        converged=converged and all(g.mixed for g in groups),
+        seconds=seconds,
+        discard=discard,
+        thin=thin,
+        autocorr_history=history,
+        warnings=warnings,
+        modes=[entry for g in groups for entry in g.entries()],
+    )

@@ -34,13 +34,13 @@ class Model:
 
     star: Star
     planets: list
-    bands: dict             # band name -> limb-darkening component
-    photometry: list        # one PhotometryModel per photometric dataset
+    bands: dict  # band name -> limb-darkening component
+    photometry: list  # one PhotometryModel per photometric dataset
     velocity: VelocityModel  # all RVs, or None
     layout: ParameterLayout
-    prior_only: list        # Parameters drawn from their priors, never sampled
-    exposures: dict         # photometric dataset -> its sub-exposure choice (supersample, error_ppm, warning)
-    warnings: list          # of building the model (too few sub-exposures)
+    prior_only: list  # Parameters drawn from their priors, never sampled
+    exposures: dict  # photometric dataset -> its sub-exposure choice (supersample, error_ppm, warning)
+    warnings: list  # of building the model (too few sub-exposures)
 
     @property
     def likelihoods(self):
@@ -56,8 +56,9 @@ def _light_curve(config, block, data, limb_darkening):
     """The dataset's transit light curve (times and sub-exposures, shared by its planets) and its choice."""
     q = (limb_darkening.q1.prior, limb_darkening.q2.prior)
     sharpest = exposure.sharpest_transits([p for p in config.planets if p.transits], config.star, *q)
-    choice = exposure.choose_sampling(block.name, data.exposure_days, float(np.median(data.error)), sharpest,
-                                      block.supersample)
+    choice = exposure.choose_sampling(
+        block.name, data.exposure_days, float(np.median(data.error)), sharpest, block.supersample
+    )
     return TransitLightCurve(data.time, data.exposure_days, choice.supersample), choice
 
 
@@ -72,8 +73,9 @@ def _photometry(block, data, baseline, terms, kernel, owns_kernel):
     params = baseline.parameters + [jitter] + ([dilution] if diluted else [])
     if kernel is not None:
         noise = GaussianProcessNoise(data.time, data.error, kernel, [jitter], PPM)
-        return PhotometryModel(data, baseline, terms, dilution, noise), params + (kernel.parameters if owns_kernel
-                                                                                  else [])
+        return PhotometryModel(data, baseline, terms, dilution, noise), params + (
+            kernel.parameters if owns_kernel else []
+        )
     noise = WhiteNoise(data.error, [jitter], PPM)
     if noise.fixed and all(t.sparse for t in terms):
         sums = SumsOfSquares(data.flux, baseline.basis, noise)
@@ -98,7 +100,8 @@ def _photometry_models(config, photometry, planets):
     for block, data in zip(config.photometry, photometry):
         if block.band_name not in bands:
             bands[block.band_name] = component_for(block.limb_darkening, LIMB_DARKENING)(
-                block.band_name, block.limb_darkening_q1, block.limb_darkening_q2)
+                block.band_name, block.limb_darkening_q1, block.limb_darkening_q2
+            )
         ld = bands[block.band_name]
         curve, choice = _light_curve(config, block, data, ld)
         terms = [TransitTerm(p, curve, ld) for p in transiting]
@@ -122,8 +125,15 @@ def _velocity_model(config, velocities, planets):
         noise, order = WhiteNoise(error, jitters, 1.0, groups), slice(None)
     else:
         order = np.argsort(times, kind="stable")
-        noise = GaussianProcessNoise(times[order], error[order], RotationKernel(config.rv_activity), jitters, 1.0,
-                                     groups=groups[order], amplitudes=[s.activity_amplitude for s in spectrographs])
+        noise = GaussianProcessNoise(
+            times[order],
+            error[order],
+            RotationKernel(config.rv_activity),
+            jitters,
+            1.0,
+            groups=groups[order],
+            amplitudes=[s.activity_amplitude for s in spectrographs],
+        )
     return VelocityModel(velocities, spectrographs, planets, trend, noise, order)
 
 
@@ -145,5 +155,6 @@ def build_model(config, photometry, velocities):
     prior_only = ([] if transits else list(star.parameters)) + [q for p in planets for q in p.prior_only]
     exposures = {m.data.name: c for m, _, c in phot}
     warnings = [c.warning for c in exposures.values() if c.warning]
-    return Model(star, planets, bands, [m for m, _, _ in phot], rv, ParameterLayout(params), prior_only, exposures,
-                 warnings)
+    return Model(
+        star, planets, bands, [m for m, _, _ in phot], rv, ParameterLayout(params), prior_only, exposures, warnings
+    )

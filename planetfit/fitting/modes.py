@@ -13,16 +13,16 @@
    (Mahalanobis distance in the parameters that separate the modes); walker
    moves between modes after burn-in are counted, and each mode's fraction
    of the samples is reported (:func:`describe`).
-4. :func:`sample_modes` finds separated modes in one parameter's samples (a
-   kernel-density valley test), for modes the optimiser did not find.
+4. :func:`planetfit.fitting.density_modes.sample_modes` finds separated
+   modes in one parameter's samples, for modes the optimiser did not find.
 """
 
 import dataclasses
 import math
 
 import numpy as np
-from scipy import ndimage, signal
 
+from planetfit.fitting.density_modes import sample_modes
 from planetfit.fitting.laplace import laplace_covariance, log_evidence
 
 #: Two optima are distinct when some parameter differs by more than this many Laplace widths (sd).
@@ -41,11 +41,6 @@ MIN_WALKERS_PER_MODE = 4
 MAX_FRACTION_SD = 0.05
 #: ... and at least this many moves into or out of every mode.
 MIN_JUMPS = 10
-#: A kernel-density valley deeper than this fraction of the lower neighbouring peak separates two modes of one
-#: parameter's samples (two equal Gaussians about 5 sd apart, after the kernel's smoothing).
-VALLEY_RATIO = 0.1
-MIN_SAMPLE_FRACTION = 0.02  # a mode of one parameter's samples holds at least this fraction of them
-MIN_SAMPLES = 50  # fewest (effective) samples for the density test
 
 
 @dataclasses.dataclass
@@ -105,8 +100,7 @@ def distinct_modes(evaluate, end_points, widths):
             continue
         with np.errstate(invalid="ignore", over="ignore"):  # stencils that leave the support are handled
             mode = Mode(np.asarray(theta, dtype=float), float(lp), laplace_covariance(evaluate, theta, widths))
-        if all(_apart(theta, m.theta, np.maximum(m.sd, mode.sd)) and _valley_between(evaluate, m, mode)
-               for m in modes):
+        if all(_apart(theta, m.theta, np.maximum(m.sd, mode.sd)) and _valley_between(evaluate, m, mode) for m in modes):
             modes.append(mode)
     return modes
 
@@ -129,7 +123,7 @@ def separating_parameters(modes):
     """Indices of the parameters in which some pair of modes is apart, the most separated first."""
     score = np.zeros(modes[0].theta.size)
     for i, a in enumerate(modes):
-        for b in modes[i + 1:]:
+        for b in modes[i + 1 :]:
             score = np.maximum(score, np.abs(a.theta - b.theta) / np.maximum(a.sd, b.sd))
     order = np.argsort(-score, kind="stable")
     return order[score[order] > SEPARATION_WIDTHS]
@@ -143,91 +137,6 @@ def assign(points, modes, parameters):
         diff = points[..., parameters] - m.theta[parameters]
         distances.append(np.einsum("...i,ij,...j->...", diff, precision, diff))
     return np.argmin(distances, axis=0)
-
-
-@dataclasses.dataclass
-class SampleModes:
-    """Separated modes of one parameter's samples: their medians, the valleys between them, their fractions."""
-
-    locations: np.ndarray
-    splits: np.ndarray
-    fractions: np.ndarray
-
-    def label(self, x):
-        """Index of the mode of each value."""
-        return np.searchsorted(self.splits, x)
-
-
-def _weighted_quantiles(x, w, q):
-    order = np.argsort(x)
-    cdf = (np.cumsum(w[order]) - 0.5 * w[order]) / np.sum(w)
-    return np.interp(q, cdf, x[order])
-
-
-def _merge_peaks(density, mass, peaks):
-    """Drop peaks until every valley is deeper than VALLEY_RATIO and every mode holds MIN_SAMPLE_FRACTION."""
-    while len(peaks) > 1:
-        valleys = [a + int(np.argmin(density[a:b + 1])) for a, b in zip(peaks[:-1], peaks[1:])]
-        ratios = np.array([density[v] / min(density[a], density[b])
-                           for v, a, b in zip(valleys, peaks[:-1], peaks[1:])])
-        masses = np.diff(np.concatenate([[0.0], np.cumsum(mass)[valleys], [1.0]]))
-        i = int(np.argmax(ratios))
-        if ratios[i] >= VALLEY_RATIO:  # too shallow: the lower peak is part of its neighbour
-            peaks.pop(i if density[peaks[i]] < density[peaks[i + 1]] else i + 1)
-        elif masses.min() < MIN_SAMPLE_FRACTION:  # too small: merged across its shallower valley
-            k = int(np.argmin(masses))
-            peaks.pop(k)
-        else:
-            return peaks, valleys, masses
-    return peaks, [], np.ones(1)
-
-
-def sample_modes(x, weights=None):
-    """Separated modes in the samples of one parameter: a kernel-density valley test.
-
-    The density is a Gaussian kernel estimate (binned) with Silverman's
-    (1986, eq. 3.31) bandwidth 0.9 min(sd, IQR / 1.34) n^(-1/5). Two
-    neighbouring peaks are separate modes when the density between them
-    falls below :data:`VALLEY_RATIO` of the lower peak and each holds at
-    least :data:`MIN_SAMPLE_FRACTION` of the samples; otherwise the lower
-    (or smaller) one is merged into its neighbour.
-
-    Parameters
-    ----------
-    x : ndarray
-        Samples of one parameter.
-    weights : ndarray, optional
-        Sample weights (e.g. nested sampling's importance weights); the
-        effective number of samples is (sum w)^2 / sum w^2.
-
-    Returns
-    -------
-    SampleModes
-    """
-    x = np.asarray(x, dtype=float)
-    w = np.full(x.size, 1.0 / max(x.size, 1)) if weights is None else np.asarray(weights, float) / np.sum(weights)
-    if x.size == 0:
-        return SampleModes(np.full(1, np.nan), np.empty(0), np.ones(1))
-    single = SampleModes(_weighted_quantiles(x, w, [0.5]), np.empty(0), np.ones(1))
-    q25, q75 = _weighted_quantiles(x, w, [0.25, 0.75])
-    sd = math.sqrt(np.sum(w * (x - np.sum(w * x)) ** 2))
-    spread = min(sd, (q75 - q25) / 1.34) or sd
-    n_eff = 1.0 / np.sum(w**2)
-    if n_eff < MIN_SAMPLES or not spread > 0:
-        return single
-    h = 0.9 * spread * n_eff ** -0.2
-    lo, hi = x.min() - 3 * h, x.max() + 3 * h
-    bins = int(min(4096, max(64, math.ceil(4 * (hi - lo) / h))))
-    mass, edges = np.histogram(x, bins=bins, range=(lo, hi), weights=w)
-    density = ndimage.gaussian_filter1d(mass, h / (edges[1] - edges[0]), mode="constant")
-    peaks = list(signal.find_peaks(np.concatenate([[0.0], density, [0.0]]))[0] - 1)
-    peaks, valleys, masses = _merge_peaks(density, mass, peaks)
-    if len(peaks) < 2:
-        return single
-    splits = 0.5 * (edges[1:] + edges[:-1])[valleys]
-    labels = np.searchsorted(splits, x)
-    medians = [_weighted_quantiles(x[labels == k], w[labels == k], [0.5])[0] for k in range(len(peaks))]
-    return SampleModes(np.array(medians), splits, masses)
 
 
 #: Unit text of a parameter from the end of its name.
@@ -271,14 +180,18 @@ class ModeGroup:
     @property
     def mixed(self):
         """Whether every mode's fraction is measured: at least MIN_JUMPS moves and sd(f) <= MAX_FRACTION_SD."""
-        return all(j >= MIN_JUMPS and 2 * f * (1 - f) / math.sqrt(j) <= MAX_FRACTION_SD
-                   for f, j in zip(self.fractions, self.jumps))
+        return all(
+            j >= MIN_JUMPS and 2 * f * (1 - f) / math.sqrt(j) <= MAX_FRACTION_SD
+            for f, j in zip(self.fractions, self.jumps)
+        )
 
     def warning(self):
         """The sentence naming the parameters, each mode's location, height and fraction, and the mixing."""
         name = self.names[0]
-        listed = [f"{_value_text(name, x, sd)} (ln p {lp:.1f}, {100 * f:.0f}%{' of samples' if i == 0 else ''})"
-                  for i, (x, sd, lp, f) in enumerate(zip(self.locations, self.sds, self.log_probs, self.fractions))]
+        listed = [
+            f"{_value_text(name, x, sd)} (ln p {lp:.1f}, {100 * f:.0f}%{' of samples' if i == 0 else ''})"
+            for i, (x, sd, lp, f) in enumerate(zip(self.locations, self.sds, self.log_probs, self.fractions))
+        ]
         text = f"{name} has {len(listed)} separated modes"
         if self.found_by == "samples":
             text += " in the posterior samples that the optimiser did not find"
@@ -288,16 +201,22 @@ class ModeGroup:
         if self.mixed:
             return text + f"; walkers moved between them {self.moves} times"
         if self.moves == 0:
-            return text + ("; walkers never moved between them, so their relative weight is not measured: "
-                           "the run is reported as not converged")
-        return text + (f"; walkers moved between them only {self.moves} times, too few to measure their "
-                       f"relative weight (each mode's fraction to within {MAX_FRACTION_SD}): the run is reported as "
-                       "not converged")
+            return text + (
+                "; walkers never moved between them, so their relative weight is not measured: "
+                "the run is reported as not converged"
+            )
+        return text + (
+            f"; walkers moved between them only {self.moves} times, too few to measure their "
+            f"relative weight (each mode's fraction to within {MAX_FRACTION_SD}): the run is reported as "
+            "not converged"
+        )
 
     def entries(self):
         """One dict per mode for summary.json: parameter, location, ln_p, fraction."""
-        return [{"parameter": self.names[0], "location": float(x), "ln_p": round(float(lp), 2), "fraction": round(f, 4)}
-                for x, lp, f in zip(self.locations, self.log_probs, self.fractions)]
+        return [
+            {"parameter": self.names[0], "location": float(x), "ln_p": round(float(lp), 2), "fraction": round(f, 4)}
+            for x, lp, f in zip(self.locations, self.log_probs, self.fractions)
+        ]
 
 
 def _physical_sd(prior, theta, sd):
@@ -308,16 +227,19 @@ def _optimiser_group(chain, thin, modes, layout):
     """The optimiser's modes as sampled: (group, labels of every chain position)."""
     separating = separating_parameters(modes)
     labels = assign(chain, modes, separating)
-    flat = labels[thin - 1::thin].ravel()
+    flat = labels[thin - 1 :: thin].ravel()
     j = separating[0]
     prior = layout.priors[layout.free[j]]
-    group = ModeGroup(names=[layout.free[i] for i in separating],
-                      locations=[float(prior.from_sampler(m.theta[j])) for m in modes],
-                      sds=[_physical_sd(prior, m.theta[j], m.sd[j]) for m in modes],
-                      log_probs=[m.log_prob for m in modes],
-                      fractions=[float(np.mean(flat == k)) for k in range(len(modes))],
-                      jumps=[_moves(labels, k) for k in range(len(modes))], moves=_moves(labels),
-                      found_by="optimiser")
+    group = ModeGroup(
+        names=[layout.free[i] for i in separating],
+        locations=[float(prior.from_sampler(m.theta[j])) for m in modes],
+        sds=[_physical_sd(prior, m.theta[j], m.sd[j]) for m in modes],
+        log_probs=[m.log_prob for m in modes],
+        fractions=[float(np.mean(flat == k)) for k in range(len(modes))],
+        jumps=[_moves(labels, k) for k in range(len(modes))],
+        moves=_moves(labels),
+        found_by="optimiser",
+    )
     return group, labels
 
 
@@ -334,15 +256,19 @@ def _sample_group(chain, log_prob, thin, labels, k, params, split, layout):
     """The modes ``split`` of parameters ``params`` within the optimiser's mode ``k``, as sampled."""
     j, prior = params[0], layout.priors[layout.free[params[0]]]
     sub = np.where(labels == k, split.label(chain[..., j]), -1)  # -1: in another of the optimiser's modes
-    flat_sub, flat_lp = sub[thin - 1::thin].ravel(), log_prob[thin - 1::thin].ravel()
-    values = prior.from_sampler(chain[thin - 1::thin, :, j].ravel())
+    flat_sub, flat_lp = sub[thin - 1 :: thin].ravel(), log_prob[thin - 1 :: thin].ravel()
+    values = prior.from_sampler(chain[thin - 1 :: thin, :, j].ravel())
     indices = range(split.locations.size)
-    return ModeGroup(names=[layout.free[i] for i in params],
-                     locations=[float(prior.from_sampler(x)) for x in split.locations],
-                     sds=[float(np.std(values[flat_sub == m])) for m in indices],
-                     log_probs=[float(np.max(flat_lp[flat_sub == m])) for m in indices],
-                     fractions=[float(np.mean(flat_sub == m)) for m in indices],
-                     jumps=[_moves(sub, m) for m in indices], moves=_moves(sub), found_by="samples")
+    return ModeGroup(
+        names=[layout.free[i] for i in params],
+        locations=[float(prior.from_sampler(x)) for x in split.locations],
+        sds=[float(np.std(values[flat_sub == m])) for m in indices],
+        log_probs=[float(np.max(flat_lp[flat_sub == m])) for m in indices],
+        fractions=[float(np.mean(flat_sub == m)) for m in indices],
+        jumps=[_moves(sub, m) for m in indices],
+        moves=_moves(sub),
+        found_by="samples",
+    )
 
 
 def _sample_groups(chain, log_prob, thin, labels, layout):
@@ -350,8 +276,8 @@ def _sample_groups(chain, log_prob, thin, labels, layout):
 
     Parameters whose modes split the samples alike are one group.
     """
-    samples = chain[thin - 1::thin].reshape(-1, chain.shape[-1])
-    flat_labels = labels[thin - 1::thin].ravel()
+    samples = chain[thin - 1 :: thin].reshape(-1, chain.shape[-1])
+    flat_labels = labels[thin - 1 :: thin].ravel()
     groups = []
     for k in np.unique(flat_labels):
         inside = flat_labels == k
@@ -365,8 +291,7 @@ def _sample_groups(chain, log_prob, thin, labels, layout):
                     same[0][0].append(j)
                 else:
                     found.append(([j], split, own))
-        groups += [_sample_group(chain, log_prob, thin, labels, k, params, split, layout)
-                   for params, split, _ in found]
+        groups += [_sample_group(chain, log_prob, thin, labels, k, params, split, layout) for params, split, _ in found]
     return groups
 
 

@@ -39,6 +39,7 @@ def _optimise(log_prob, x0, centre, scale, bounds):
     objective is a wall (:data:`BAD_LOG_PROB`). Either way the start is
     returned whenever the result is no better.
     """
+
     def objective(z):
         v = log_prob(centre + z * scale)
         return -v if math.isfinite(v) else BAD_LOG_PROB
@@ -75,8 +76,10 @@ def find_map(log_prob, layout, rng, starts, processes=None, seeds=()):
         Every search's end point, the most probable first.
     """
     centre, scale, lo, hi = layout.geometry()
-    bounds = [tuple(None if not math.isfinite(b) else (b - c) / s for b in (l, h))
-              for l, h, c, s in zip(lo, hi, centre, scale)]
+    bounds = [
+        tuple(None if not math.isfinite(b) else (b - c) / s for b in (l, h))
+        for l, h, c, s in zip(lo, hi, centre, scale)
+    ]
     draws = layout.sample_prior(rng, PRIOR_SEARCH_DRAWS)
     evaluate = processes if processes else log_prob.log_prob_many
     # In batches of 100: one batch of all draws held every draw's transit models in memory at once.
@@ -92,9 +95,15 @@ def find_map(log_prob, layout, rng, starts, processes=None, seeds=()):
     tasks = [(x0, centre, scale, b) for x0 in candidates + seeded for b in (bounds, None)]
     results = processes.map(_optimise, tasks) if processes else [_optimise(log_prob, *t) for t in tasks]
     for n, ((_, val, nfev), task) in enumerate(zip(results, tasks), 1):
-        log.info("optimiser search %d of %d (%s%s): log-probability %.3f after %d evaluations", n, len(results),
-                 "bounded" if task[3] else "local", ", periodogram seed" if n > 2 * len(candidates) else "",
-                 val, nfev)
+        log.info(
+            "optimiser search %d of %d (%s%s): log-probability %.3f after %d evaluations",
+            n,
+            len(results),
+            "bounded" if task[3] else "local",
+            ", periodogram seed" if n > 2 * len(candidates) else "",
+            val,
+            nfev,
+        )
     return [(theta, val) for theta, val, _ in sorted(results, key=lambda r: -r[1])]
 
 
@@ -112,10 +121,8 @@ def initial_walkers(evaluate, layout, mode, nwalkers, rng):
         draws = np.where(draws < lo, 2 * lo - draws, draws)
         draws = np.where(draws > hi, 2 * hi - draws, draws)
         for first in range(0, draws.shape[0], nwalkers):  # in batches: most land at the first
-            batch = draws[first:first + nwalkers]
+            batch = draws[first : first + nwalkers]
             out += list(batch[np.isfinite(evaluate(batch))])
             if len(out) >= nwalkers:
                 return np.array(out[:nwalkers])
     raise RuntimeError("could not place walkers with finite probability around the optimum")
-
-

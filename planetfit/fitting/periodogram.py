@@ -27,8 +27,13 @@ def _planets(posterior, layout):
     """The planets fitted from RVs alone whose period and semi-amplitude are free."""
     if not posterior.velocities:
         return []
-    return [p for p in posterior.planets if (not p.transits or not posterior.photometry)
-            and p.period.name in layout.free and p.amplitude.name in layout.free]
+    return [
+        p
+        for p in posterior.planets
+        if (not p.transits or not posterior.photometry)
+        and p.period.name in layout.free
+        and p.amplitude.name in layout.free
+    ]
 
 
 def sinusoid(t, rv, error, frequency):
@@ -63,8 +68,12 @@ def periodogram_peaks(t, rv, error, low, high, count=PEAKS):
     out = []
     for i in peaks[np.argsort(-power[peaks], kind="stable")][:count]:
         bounds = (grid[max(i - 1, 0)], grid[min(i + 1, grid.size - 1)])
-        best = optimize.minimize_scalar(lambda f: -periodogram.power(f), bounds=bounds, method="bounded",
-                                        options={"xatol": 1e-6 * (bounds[1] - bounds[0])})
+        best = optimize.minimize_scalar(
+            lambda f: -periodogram.power(f),
+            bounds=bounds,
+            method="bounded",
+            options={"xatol": 1e-6 * (bounds[1] - bounds[0])},
+        )
         out.append(float(best.x) if -best.fun > power[i] else float(grid[i]))
     return np.array(out)
 
@@ -106,8 +115,9 @@ def periodogram_starts(posterior, layout, base):
     for d, spectrograph in zip(posterior.velocities, posterior.model.velocity.spectrographs):
         name = spectrograph.offset.name
         if name in layout.free:
-            start[layout.free.index(name)] = layout.priors[name].to_sampler(_into_prior(layout.priors[name],
-                                                                                          float(np.median(d.rv))))
+            start[layout.free.index(name)] = layout.priors[name].to_sampler(
+                _into_prior(layout.priors[name], float(np.median(d.rv)))
+            )
     starts = []
     for planet in planets:
         period_lo, period_hi = planet.period.prior.bounds
@@ -117,8 +127,11 @@ def periodogram_starts(posterior, layout, base):
         for frequency in periodogram_peaks(t, rv, error, low, high):
             tc, k = sinusoid(t, rv, error, frequency)
             x = start.copy()
-            for param, value, period in ((planet.period, 1 / frequency, None),
-                                         (planet.transit_time, tc, 1 / frequency), (planet.amplitude, k, None)):
+            for param, value, period in (
+                (planet.period, 1 / frequency, None),
+                (planet.transit_time, tc, 1 / frequency),
+                (planet.amplitude, k, None),
+            ):
                 name = param.name
                 if name in layout.free:
                     prior = layout.priors[name]

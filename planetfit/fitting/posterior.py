@@ -81,8 +81,7 @@ class JointPosterior:
                 return out
             value_rows = _rows(values, rows.size)
             orbit_rows = {name: _rows(orbit, rows.size) for name, orbit in orbits.items()}
-            batch = Batch([value_rows[j] for j in good],
-                          [{name: o[j] for name, o in orbit_rows.items()} for j in good])
+            batch = Batch([value_rows[j] for j in good], [{name: o[j] for name, o in orbit_rows.items()} for j in good])
             ll = np.zeros(good.size)
             for likelihood in self.model.likelihoods:
                 ll += likelihood.log_likelihood(batch)

@@ -15,7 +15,9 @@ def photometry_model(posterior, values, orbits, index, planets=None):
 
 def baseline_flux(posterior, values, index):
     """The baseline flux of photometric dataset ``index`` at its times."""
-    return np.broadcast_to(posterior.model.photometry[index].baseline.flux(values), posterior.photometry[index].time.shape)
+    return np.broadcast_to(
+        posterior.model.photometry[index].baseline.flux(values), posterior.photometry[index].time.shape
+    )
 
 
 def photometry_noise_prediction(posterior, values, orbits, index):
@@ -75,5 +77,6 @@ def activity_prediction(posterior, values, orbits, times):
     """
     rv = posterior.model.velocity
     mean, sd = rv.noise.predict(rv.residuals(values, orbits)[rv.order], values, times=times, return_sd=True)
-    return [(values[s.activity_amplitude.name] * mean, values[s.activity_amplitude.name] * sd)
-            for s in rv.spectrographs]
+    return [
+        (values[s.activity_amplitude.name] * mean, values[s.activity_amplitude.name] * sd) for s in rv.spectrographs
+    ]

@@ -6,6 +6,7 @@ import traceback
 import numpy as np
 from threadpoolctl import threadpool_limits
 
+
 def _evaluate_share(log_prob, thetas):
     """Log-probabilities of one process's share of a batch of walkers."""
     return log_prob.log_prob_many(thetas)
@@ -56,7 +57,7 @@ class WorkerProcesses:
         results = []
         size = len(self.workers) + 1
         for first in range(0, len(tasks), size):
-            group = tasks[first:first + size]
+            group = tasks[first : first + size]
             for (_, conn), task in zip(self.workers, group[1:]):
                 conn.send((function, task))
             results.append(function(self.log_prob, *group[0]))
@@ -83,5 +84,3 @@ class WorkerProcesses:
 
     def __exit__(self, *exc):
         self.close()
-
-

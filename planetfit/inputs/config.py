@@ -104,5 +104,9 @@ def load_config(path, output=None):
     for section in ("photometry", "velocities"):
         for i, d in enumerate(getattr(blocks, section)):
             d.resolve(path.parent, f"{section}[{i}]")
-    out = Path(output).resolve() if output is not None else (path.parent / (blocks.output or f"runs/{path.stem}")).resolve()
+    out = (
+        Path(output).resolve()
+        if output is not None
+        else (path.parent / (blocks.output or f"runs/{path.stem}")).resolve()
+    )
     return Config(path=path, lines=lines, raw=data, blocks=blocks, output=out)

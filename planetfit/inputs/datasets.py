@@ -21,12 +21,12 @@ import logging
 
 import numpy as np
 
-from planetfit.inputs import cleaning
 from planetfit.core.errors import InputError
+from planetfit.core.units import HOURS_PER_DAY, MINUTES_PER_DAY
+from planetfit.inputs import cleaning
 from planetfit.inputs.fits import is_fits, read_fits_table
 from planetfit.inputs.tables import read_table
 from planetfit.inputs.timesystems import check_time_references, to_bjd_tdb
-from planetfit.core.units import HOURS_PER_DAY, MINUTES_PER_DAY
 
 log = logging.getLogger("planetfit")
 
@@ -44,9 +44,13 @@ class Reading:
 
     def counts(self):
         """The reading facts of the ``data`` block of summary.json."""
-        return {"time_system": self.time_system, "sorted_by_time": self.sorted_by_time,
-                "repeated_times": self.repeated_times, "rows_read": self.rows_read,
-                "rows_selected": self.rows_selected}
+        return {
+            "time_system": self.time_system,
+            "sorted_by_time": self.sorted_by_time,
+            "repeated_times": self.repeated_times,
+            "rows_read": self.rows_read,
+            "rows_selected": self.rows_selected,
+        }
 
 
 @dataclasses.dataclass
@@ -61,7 +65,7 @@ class Photometry:
     band: str
     dropped_nan: int = 0
     normalisation: float = 1.0
-    segment: np.ndarray = None      # contiguous-segment label of every point
+    segment: np.ndarray = None  # contiguous-segment label of every point
     dropped_quality: int = 0
     clipped: int = 0
     dropped_far_from_transits: int = 0
@@ -69,11 +73,15 @@ class Photometry:
 
     def counts(self):
         """Point counts of the cleaning steps and how the rows were read (the ``data`` block of summary.json)."""
-        return {"points": int(self.time.size), "dropped_nan": self.dropped_nan,
-                "dropped_quality": self.dropped_quality, "clipped": self.clipped,
-                "dropped_far_from_transits": self.dropped_far_from_transits,
-                "segments": int(np.unique(self.segment).size) if self.segment is not None else 1,
-                **self.reading.counts()}
+        return {
+            "points": int(self.time.size),
+            "dropped_nan": self.dropped_nan,
+            "dropped_quality": self.dropped_quality,
+            "clipped": self.clipped,
+            "dropped_far_from_transits": self.dropped_far_from_transits,
+            "segments": int(np.unique(self.segment).size) if self.segment is not None else 1,
+            **self.reading.counts(),
+        }
 
 
 @dataclasses.dataclass
@@ -103,17 +111,27 @@ def _clean(path, table, cfg):
         log.info("%s: dropped %d rows with NaN values", name, dropped)
     t = {k: v[good] for k, v in table.items()}
     if t["time"].size == 0:
-        raise InputError("no rows are left after dropping those with NaN values.", file=path,
-                         fix="check the columns chosen in 'columns:'.")
+        raise InputError(
+            "no rows are left after dropping those with NaN values.",
+            file=path,
+            fix="check the columns chosen in 'columns:'.",
+        )
     for k, v in t.items():
         if not np.all(np.isfinite(v)):
-            raise InputError(f"column for {k} holds infinite values.", file=path, key=f"{cfg.section}.columns.{k}",
-                             fix="remove those rows or replace them by NaN to have them dropped.")
+            raise InputError(
+                f"column for {k} holds infinite values.",
+                file=path,
+                key=f"{cfg.section}.columns.{k}",
+                fix="remove those rows or replace them by NaN to have them dropped.",
+            )
     bad = np.flatnonzero(t["error"] <= 0)
     if bad.size:
-        raise InputError(f"{bad.size} rows have zero or negative uncertainties (first at time {t['time'][bad[0]]:.6f}).",
-                         file=path, key=f"{cfg.section}.columns.error",
-                         fix="give positive 1-sigma uncertainties, or remove those rows.")
+        raise InputError(
+            f"{bad.size} rows have zero or negative uncertainties (first at time {t['time'][bad[0]]:.6f}).",
+            file=path,
+            key=f"{cfg.section}.columns.error",
+            fix="give positive 1-sigma uncertainties, or remove those rows.",
+        )
     unsorted = bool(np.any(np.diff(t["time"]) < 0))
     if unsorted:  # published tables are often grouped by instrument or night, not sorted by time
         order = np.argsort(t["time"], kind="stable")
@@ -137,9 +155,11 @@ def label_warning(cfg, path, label_columns, what):
         return None
     col, counts = next(iter(label_columns.items()))
     listed = ", ".join(f"{value} ({n} rows)" for value, n in counts.items())
-    return (f"dataset '{cfg.name}': column '{col}' of {path.name} holds {len(counts)} different labels ({listed}) "
-            f"and no 'select' picks one, so all rows are fitted as one instrument ({what}). Fix: give one dataset "
-            f"per label, each with 'select: {{{col}: <label>}}' (several datasets may name the same file).")
+    return (
+        f"dataset '{cfg.name}': column '{col}' of {path.name} holds {len(counts)} different labels ({listed}) "
+        f"and no 'select' picks one, so all rows are fitted as one instrument ({what}). Fix: give one dataset "
+        f"per label, each with 'select: {{{col}: <label>}}' (several datasets may name the same file)."
+    )
 
 
 def _text_table(cfg, path, columns, what):
@@ -165,9 +185,13 @@ def _read_light_curve(cfg, path):
     rows, warning = None, None
     if is_fits(path):
         if cfg.time_offset_days != 0.0:
-            raise InputError("FITS light curves carry their own time reference (BJDREFI + BJDREFF); "
-                             "'time_offset_days' would shift them twice.", file=path, key=f"{cfg.section}.time_offset_days",
-                             fix="remove 'time_offset_days' from this dataset.")
+            raise InputError(
+                "FITS light curves carry their own time reference (BJDREFI + BJDREFF); "
+                "'time_offset_days' would shift them twice.",
+                file=path,
+                key=f"{cfg.section}.time_offset_days",
+                fix="remove 'time_offset_days' from this dataset.",
+            )
         table = read_fits_table(path, columns)
         rows = (table["time"].size,) * 2
     else:
@@ -202,22 +226,34 @@ def read_photometry(cfg, star=None):
     if flagged:
         log.info("%s: dropped %d rows with quality flags set", cfg.name, flagged)
     table, dropped, facts = _clean(cfg.path, table, cfg)
-    reading = Reading(time_system=cfg.time_system, rows_read=int(rows[0]), rows_selected=int(rows[1]),
-                      warnings=warnings, **facts)
+    reading = Reading(
+        time_system=cfg.time_system, rows_read=int(rows[0]), rows_selected=int(rows[1]), warnings=warnings, **facts
+    )
     time = _to_bjd(cfg, table["time"], star)
-    return Photometry(name=cfg.name, time=time, flux=table["flux"], error=table["error"],
-                      exposure_days=cfg.exposure_min / MINUTES_PER_DAY,
-                      band=cfg.band_name, dropped_nan=dropped, segment=cleaning.segment_labels(time, cfg.segment_gap_days),
-                      dropped_quality=flagged, reading=reading)
+    return Photometry(
+        name=cfg.name,
+        time=time,
+        flux=table["flux"],
+        error=table["error"],
+        exposure_days=cfg.exposure_min / MINUTES_PER_DAY,
+        band=cfg.band_name,
+        dropped_nan=dropped,
+        segment=cleaning.segment_labels(time, cfg.segment_gap_days),
+        dropped_quality=flagged,
+        reading=reading,
+    )
 
 
 def _normalise(d, cfg):
     """Divide each segment's flux and errors by its median flux (in place); return the first segment's median."""
     levels = [float(np.median(d.flux[seg])) for seg in cleaning.segment_slices(d.segment)]
     if not min(levels) > 0:
-        raise InputError("the median flux is not positive, so it cannot be normalised.", file=cfg.path,
-                         key=f"{cfg.section}.columns.flux",
-                         fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.")
+        raise InputError(
+            "the median flux is not positive, so it cannot be normalised.",
+            file=cfg.path,
+            key=f"{cfg.section}.columns.flux",
+            fix="give fluxes (not magnitudes or differences), or set 'normalise: false'.",
+        )
     for seg, level in zip(cleaning.segment_slices(d.segment), levels):
         d.flux[seg], d.error[seg] = d.flux[seg] / level, d.error[seg] / level
     return levels[0]  # reported; every segment is normalised to its own
@@ -249,11 +285,20 @@ def clean_photometry(d, cfg, planets=(), star=None):
             d.dropped_far_from_transits = int((keep & ~near).sum())
             keep &= near
         if d.clipped or d.dropped_far_from_transits:
-            log.info("%s: clipped %d outliers (%.1f sigma), dropped %d points far from predicted transits",
-                     cfg.name, d.clipped, cfg.clip_sigma, d.dropped_far_from_transits)
+            log.info(
+                "%s: clipped %d outliers (%.1f sigma), dropped %d points far from predicted transits",
+                cfg.name,
+                d.clipped,
+                cfg.clip_sigma,
+                d.dropped_far_from_transits,
+            )
         if not keep.any():
-            raise InputError("no points are left near the predicted transits.", file=cfg.path,
-                             key=f"{cfg.section}.near_transits_hours", fix="check the ephemeris priors, or widen the window.")
+            raise InputError(
+                "no points are left near the predicted transits.",
+                file=cfg.path,
+                key=f"{cfg.section}.near_transits_hours",
+                fix="check the ephemeris priors, or widen the window.",
+            )
     return dataclasses.replace(d, time=d.time[keep], flux=d.flux[keep], error=d.error[keep], segment=d.segment[keep])
 
 
@@ -273,10 +318,22 @@ def load_velocities(cfg, star=None):
     table, rows, warning = _text_table(cfg, cfg.path, columns, "one offset and one jitter")
     table, dropped, facts = _clean(cfg.path, table, cfg)
     indicators = {c: table[f"indicator:{c}"] - np.median(table[f"indicator:{c}"]) for c in cfg.decorrelate}
-    reading = Reading(time_system=cfg.time_system, rows_read=rows[0], rows_selected=rows[1],
-                      warnings=[warning] if warning else [], **facts)
-    return Velocities(name=cfg.name, time=_to_bjd(cfg, table["time"], star), rv=table["rv"], error=table["error"],
-                      dropped_nan=dropped, indicators=indicators, reading=reading)
+    reading = Reading(
+        time_system=cfg.time_system,
+        rows_read=rows[0],
+        rows_selected=rows[1],
+        warnings=[warning] if warning else [],
+        **facts,
+    )
+    return Velocities(
+        name=cfg.name,
+        time=_to_bjd(cfg, table["time"], star),
+        rv=table["rv"],
+        error=table["error"],
+        dropped_nan=dropped,
+        indicators=indicators,
+        reading=reading,
+    )
 
 
 def load_all(config):
@@ -289,7 +346,10 @@ def load_all(config):
     phot = [read_photometry(c, config.star) for c in config.photometry]
     rvs = [load_velocities(c, config.star) for c in config.velocities]
     # Times are checked before the cleaning, which keeps only points near transits predicted in BJD_TDB.
-    check_time_references(config, [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
-                          + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))])
+    check_time_references(
+        config,
+        [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
+        + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))],
+    )
     phot = [clean_photometry(d, c, config.planets, config.star) for d, c in zip(phot, config.photometry)]
     return phot, rvs

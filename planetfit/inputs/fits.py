@@ -33,8 +33,11 @@ def _table_hdu(hdul, path):
     for hdu in hdul:
         if isinstance(hdu, fits.BinTableHDU):
             return hdu
-    raise InputError("the FITS file has no binary-table extension.", file=path,
-                     fix="give a light-curve product with a table of time, flux and error columns.")
+    raise InputError(
+        "the FITS file has no binary-table extension.",
+        file=path,
+        fix="give a light-curve product with a table of time, flux and error columns.",
+    )
 
 
 def reference_bjd(headers, path):
@@ -42,18 +45,30 @@ def reference_bjd(headers, path):
     timesys = _keyword(headers, "TIMESYS")
     if timesys is None or str(timesys).strip().upper() != "TDB":
         found = "no TIMESYS keyword" if timesys is None else f"TIMESYS = '{timesys}'"
-        raise InputError(f"the times are not marked as TDB ({found}); planetfit needs BJD_TDB.", file=path,
-                         key="TIMESYS", fix="convert the times to the TDB scale (barycentric dynamical time) "
-                                            "and set TIMESYS = 'TDB', or give a table already in BJD_TDB.")
+        raise InputError(
+            f"the times are not marked as TDB ({found}); planetfit needs BJD_TDB.",
+            file=path,
+            key="TIMESYS",
+            fix="convert the times to the TDB scale (barycentric dynamical time) "
+            "and set TIMESYS = 'TDB', or give a table already in BJD_TDB.",
+        )
     integer, fraction = _keyword(headers, "BJDREFI"), _keyword(headers, "BJDREFF")
     if integer is None or fraction is None:
-        raise InputError("the header lacks BJDREFI and BJDREFF, so the time column has no reference date.",
-                         file=path, key="BJDREFI", fix="add BJDREFI (integer days) and BJDREFF (fraction) to the "
-                                                       "table header, or convert the file to CSV with BJD_TDB times.")
+        raise InputError(
+            "the header lacks BJDREFI and BJDREFF, so the time column has no reference date.",
+            file=path,
+            key="BJDREFI",
+            fix="add BJDREFI (integer days) and BJDREFF (fraction) to the "
+            "table header, or convert the file to CSV with BJD_TDB times.",
+        )
     unit = _keyword(headers, "TIMEUNIT")
     if unit is not None and str(unit).strip().lower() not in ("d", "day", "days"):
-        raise InputError(f"TIMEUNIT = '{unit}'; the time column must be in days.", file=path, key="TIMEUNIT",
-                         fix="give times in days.")
+        raise InputError(
+            f"TIMEUNIT = '{unit}'; the time column must be in days.",
+            file=path,
+            key="TIMEUNIT",
+            fix="give times in days.",
+        )
     return float(integer), float(fraction)
 
 
@@ -72,8 +87,13 @@ def read_fits_table(path, columns):
     dict of ndarray
         Our name -> float array (NaN kept; the caller decides).
     """
-    with reading(path, "FITS file", DATA_FILE_MISSING_FIX, "give a valid FITS light-curve product, or a CSV table.",
-                 unreadable=(OSError, ValueError, TypeError)):
+    with reading(
+        path,
+        "FITS file",
+        DATA_FILE_MISSING_FIX,
+        "give a valid FITS light-curve product, or a CSV table.",
+        unreadable=(OSError, ValueError, TypeError),
+    ):
         hdul = fits.open(path, memmap=False)
     with hdul:
         hdu = _table_hdu(hdul, path)
@@ -82,9 +102,12 @@ def read_fits_table(path, columns):
         out = {}
         for ours, theirs in columns.items():
             if theirs.lower() not in names:
-                raise InputError(f"no column named '{theirs}' (for {ours}); the table has: "
-                                 f"{', '.join(hdu.columns.names)}.", file=path, key=f"columns.{ours}",
-                                 fix=f"set 'columns: {{{ours}: <one of those names>}}' in the config.")
+                raise InputError(
+                    f"no column named '{theirs}' (for {ours}); the table has: {', '.join(hdu.columns.names)}.",
+                    file=path,
+                    key=f"columns.{ours}",
+                    fix=f"set 'columns: {{{ours}: <one of those names>}}' in the config.",
+                )
             out[ours] = np.array(hdu.data[names[theirs.lower()]], dtype=float)
     # Integer and fraction added separately keep sub-microsecond precision.
     out["time"] = (out["time"] + ref_frac) + ref_int

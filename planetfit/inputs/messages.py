@@ -37,8 +37,10 @@ _TEMPLATES = {
     "model_type": ("expected a mapping of keys, got {value}.", "indent the keys of this block under it."),
     "model_attributes_type": ("expected a mapping of keys, got {value}.", "indent the keys of this block under it."),
     "dict_type": ("expected a mapping of keys, got {value}.", "indent the keys of this block under it."),
-    "list_type": ("expected a list (lines starting with '- '), got {value}.",
-                  "write each entry under '{name}:' as '- ...'."),
+    "list_type": (
+        "expected a list (lines starting with '- '), got {value}.",
+        "write each entry under '{name}:' as '- ...'.",
+    ),
 }
 
 
@@ -72,7 +74,7 @@ def _model_at(loc, root):
     current = [root]
     for part in loc:
         if isinstance(part, str) and part.startswith(TAG_PREFIX):
-            current = [c for c in _all_subclasses(BaseModel) if c.__name__ == part[len(TAG_PREFIX):]]
+            current = [c for c in _all_subclasses(BaseModel) if c.__name__ == part[len(TAG_PREFIX) :]]
         elif isinstance(part, str) and part != "[key]":
             found = [m for c in current if part in c.model_fields for m in _models_in(c.model_fields[part].annotation)]
             current = found or current  # a mapping's key (a planet's name) keeps the block's class
@@ -89,18 +91,26 @@ def _extra_key(loc, name, model):
     """Problem and fix for an unknown key: the variant it belongs to, or a 'did you mean'."""
     cls = _model_at(loc[:-1], model)
     if cls is not None and cls.variant:
-        siblings = [c for c in _all_subclasses(BaseModel) if getattr(c, "variant", None) and c is not cls
-                    and set(c.variant) & set(cls.variant)]
+        siblings = [
+            c
+            for c in _all_subclasses(BaseModel)
+            if getattr(c, "variant", None) and c is not cls and set(c.variant) & set(cls.variant)
+        ]
         for other in siblings:
             if name in other.model_fields:
                 needed = ", ".join(_setting(k, v) for k, v in other.variant.items() if cls.variant.get(k) != v)
                 has = ", ".join(_setting(k, v) for k, v in cls.variant.items() if other.variant.get(k) != v)
-                return (f"this key is used only with '{needed}', and this block has '{has}'.",
-                        f"remove '{name}', or change the block to '{needed}'.")
+                return (
+                    f"this key is used only with '{needed}', and this block has '{has}'.",
+                    f"remove '{name}', or change the block to '{needed}'.",
+                )
     known = sorted(cls.model_fields) if cls is not None else []
     close = difflib.get_close_matches(name, known, n=1)
-    hint = f"did you mean '{close[0]}'?" if close else (f"allowed keys here: {', '.join(known)}." if known
-                                                        else "see README, config reference.")
+    hint = (
+        f"did you mean '{close[0]}'?"
+        if close
+        else (f"allowed keys here: {', '.join(known)}." if known else "see README, config reference.")
+    )
     return "unknown key.", hint
 
 
@@ -146,13 +156,22 @@ def _missing(key, name, raw, problem, fix):
     parent = key.rpartition(".")[0]
     block = raw
     for part in parent.replace("[", ".").replace("]", "").split(".") if parent else []:
-        block = block.get(part) if isinstance(block, dict) else (block[int(part)] if isinstance(block, list)
-                                                                  and part.isdigit() else None)
-    close = difflib.get_close_matches(name, [str(k) for k in block or {} if k != name], n=1) \
-        if isinstance(block, dict) else []
+        block = (
+            block.get(part)
+            if isinstance(block, dict)
+            else (block[int(part)] if isinstance(block, list) and part.isdigit() else None)
+        )
+    close = (
+        difflib.get_close_matches(name, [str(k) for k in block or {} if k != name], n=1)
+        if isinstance(block, dict)
+        else []
+    )
     if close:
-        return (f"{parent}.{close[0]}" if parent else close[0]), \
-            f"unknown key, and the required key '{name}' is missing.", f"did you mean '{name}'?"
+        return (
+            (f"{parent}.{close[0]}" if parent else close[0]),
+            f"unknown key, and the required key '{name}' is missing.",
+            f"did you mean '{name}'?",
+        )
     return (parent or key), problem, fix
 
 

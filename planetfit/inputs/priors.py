@@ -11,7 +11,6 @@ import math
 import numpy as np
 from scipy import special, stats
 
-
 #: An unbounded normal prior's span: mean +- this many standard deviations.
 NORMAL_SPAN_SD = 3.0
 
@@ -248,8 +247,7 @@ class TruncNormal(Prior):
         return self._lognorm - 0.5 * z * z
 
     def sample(self, rng, size=None):
-        return stats.truncnorm.rvs(self._a, self._b, loc=self.mean, scale=self.sd,
-                                   size=size, random_state=rng)
+        return stats.truncnorm.rvs(self._a, self._b, loc=self.mean, scale=self.sd, size=size, random_state=rng)
 
     @property
     def bounds(self):
@@ -267,8 +265,12 @@ class TruncNormal(Prior):
 
 
 #: Config spelling -> (class, number of arguments).
-PRIOR_KINDS = {"uniform": (Uniform, 2), "normal": (Normal, 2),
-               "loguniform": (LogUniform, 2), "truncnormal": (TruncNormal, 4)}
+PRIOR_KINDS = {
+    "uniform": (Uniform, 2),
+    "normal": (Normal, 2),
+    "loguniform": (LogUniform, 2),
+    "truncnormal": (TruncNormal, 4),
+}
 
 
 def make_prior(spec):
@@ -289,15 +291,14 @@ def make_prior(spec):
     ValueError
         With a sentence saying what is wrong and the accepted forms.
     """
-    forms = "a number (fixed) or one of " + ", ".join(
-        f"{{{k}: [{n} numbers]}}" for k, (_, n) in PRIOR_KINDS.items())
+    forms = "a number (fixed) or one of " + ", ".join(f"{{{k}: [{n} numbers]}}" for k, (_, n) in PRIOR_KINDS.items())
     if isinstance(spec, bool):
         raise ValueError(f"expected {forms}, got {spec!r}")
     if isinstance(spec, (int, float)):
         return Fixed(spec)
     if not isinstance(spec, dict) or len(spec) != 1:
         raise ValueError(f"expected {forms}, got {spec!r}")
-    (kind, args), = spec.items()
+    ((kind, args),) = spec.items()
     if kind not in PRIOR_KINDS:
         raise ValueError(f"unknown prior '{kind}'; expected {forms}")
     cls, nargs = PRIOR_KINDS[kind]

@@ -56,19 +56,27 @@ def _column_index(path, names, column, key, line, header):
     """0-based index of the file column a config names (a header name, or a 1-based number) at config ``key``."""
     if not header:
         if not 1 <= column <= len(names):
-            raise InputError(f"column {column} does not exist; the rows have {len(names)} fields.",
-                             file=path, line=line, key=key,
-                             fix=f"number the columns from 1 to {len(names)} (1 = the first field of a row).")
+            raise InputError(
+                f"column {column} does not exist; the rows have {len(names)} fields.",
+                file=path,
+                line=line,
+                key=key,
+                fix=f"number the columns from 1 to {len(names)} (1 = the first field of a row).",
+            )
         return column - 1
     if column not in names:
-        raise InputError(f"no column named '{column}'; the header has: {', '.join(names)}.",
-                         file=path, line=line, key=key, fix=f"set '{key}' to one of those names in the config.")
+        raise InputError(
+            f"no column named '{column}'; the header has: {', '.join(names)}.",
+            file=path,
+            line=line,
+            key=key,
+            fix=f"set '{key}' to one of those names in the config.",
+        )
     return names.index(column)
 
 
 def _data_rows(path):
-    with reading(path, "data file", DATA_FILE_MISSING_FIX,
-                 "give a readable CSV or whitespace-separated text file."):
+    with reading(path, "data file", DATA_FILE_MISSING_FIX, "give a readable CSV or whitespace-separated text file."):
         text = path.read_text()
     rows = [(n + 1, ln) for n, ln in enumerate(text.splitlines()) if ln.strip() and not ln.lstrip().startswith("#")]
     if not rows:
@@ -82,18 +90,29 @@ def _header(path, rows, header):
     sep = "," if "," in first else None
     cells = _split(first, sep)
     if header and all(_is_number(c) for c in cells):
-        raise InputError("the first line holds numbers, not column names.", file=path, line=first_line,
-                         fix="set 'header: false' for this dataset and give columns by number, e.g. "
-                             "'columns: {time: 1, rv: 2, error: 3}'.")
+        raise InputError(
+            "the first line holds numbers, not column names.",
+            file=path,
+            line=first_line,
+            fix="set 'header: false' for this dataset and give columns by number, e.g. "
+            "'columns: {time: 1, rv: 2, error: 3}'.",
+        )
     if not header:
         if not any(_is_number(c) for c in cells):
-            raise InputError(f"'header: false' is set, but the first line looks like column names ({first.strip()}).",
-                             file=path, line=first_line,
-                             fix="remove 'header: false' and name the columns by the header's names.")
+            raise InputError(
+                f"'header: false' is set, but the first line looks like column names ({first.strip()}).",
+                file=path,
+                line=first_line,
+                fix="remove 'header: false' and name the columns by the header's names.",
+            )
         return [str(i + 1) for i in range(len(cells))], sep, rows
     if len(rows) < 2:
-        raise InputError("the table has a header but no data rows.", file=path, line=first_line,
-                         fix="add data rows below the header.")
+        raise InputError(
+            "the table has a header but no data rows.",
+            file=path,
+            line=first_line,
+            fix="add data rows below the header.",
+        )
     return cells, sep, rows[1:]
 
 
@@ -119,6 +138,60 @@ def _label_census(names, cells_by_row):
     return out
 
 
+def _rows_of(path, data, names, sep, header):
+    """The cells of every data row, checked to have as many fields as the header (or first row)."""
+    out = []
+    for lineno, line in data:
+        cells = _split(line, sep)
+        if len(cells) != len(names):
+            raise InputError(
+                f"the row has {len(cells)} fields but the {'header' if header else 'first row'} has {len(names)}.",
+                file=path,
+                line=lineno,
+                fix="make every row have the same fields.",
+            )
+        out.append((lineno, cells))
+    return out
+
+
+def _check_selected(path, chosen, cells_by_row, names, census, key_prefix):
+    """Raise if a ``select`` value matches no row, listing the values its column holds."""
+    for c, (j, v) in chosen.items():
+        if any(_matches(cells[j], v) for cells in cells_by_row):
+            continue
+        present = census.get(names[j])
+        holds = (
+            ", ".join(f"{k} ({n} rows)" for k, n in present.items())
+            if present
+            else ", ".join(sorted({cells[j] for cells in cells_by_row})[:MAX_LABEL_VALUES])
+        )
+        raise InputError(
+            f"no row has '{v}' in column '{c}'; the column holds: {holds}.",
+            file=path,
+            key=f"{key_prefix}select.{c}",
+            fix="give one of those values (text is compared exactly, after removing surrounding spaces and quotes).",
+        )
+
+
+def _numbers(path, kept, index, columns, selected):
+    """Our name -> float array of the kept rows' columns."""
+    out = {ours: np.empty(len(kept)) for ours in columns}
+    for r, (lineno, cells) in enumerate(kept):
+        for ours, j in index.items():
+            try:
+                out[ours][r] = float(cells[j])
+            except ValueError:
+                raise InputError(
+                    f"'{cells[j]}' in column '{columns[ours]}' is not a number.",
+                    file=path,
+                    line=lineno,
+                    fix="remove or correct the row (write NaN for a missing value)"
+                    + ("" if selected else ", or keep only some rows with 'select'")
+                    + ".",
+                ) from None
+    return out
+
+
 def read_table(path, columns, header=True, select=None, key_prefix=""):
     """Read the named columns of a CSV or whitespace text table.
 
@@ -140,37 +213,16 @@ def read_table(path, columns, header=True, select=None, key_prefix=""):
     """
     rows = _data_rows(path)
     names, sep, data = _header(path, rows, header)
-    head_line = rows[0][0]
-    index = {ours: _column_index(path, names, c, f"{key_prefix}columns.{ours}", head_line, header)
-             for ours, c in columns.items()}
-    chosen = {str(c): (_column_index(path, names, c, f"{key_prefix}select.{c}", head_line, header), v)
-              for c, v in (select or {}).items()}
-    cells_by_row, kept = [], []
-    for lineno, line in data:
-        cells = _split(line, sep)
-        if len(cells) != len(names):
-            raise InputError(f"the row has {len(cells)} fields but the {'header' if header else 'first row'} "
-                             f"has {len(names)}.", file=path, line=lineno, fix="make every row have the same fields.")
-        cells_by_row.append(cells)
-        if all(_matches(cells[j], v) for j, v in chosen.values()):
-            kept.append((lineno, cells))
+    head = rows[0][0]
+    index = {o: _column_index(path, names, c, f"{key_prefix}columns.{o}", head, header) for o, c in columns.items()}
+    chosen = {
+        str(c): (_column_index(path, names, c, f"{key_prefix}select.{c}", head, header), v)
+        for c, v in (select or {}).items()
+    }
+    numbered = _rows_of(path, data, names, sep, header)
+    cells_by_row = [cells for _, cells in numbered]
     census = _label_census(names, cells_by_row)
-    for c, (j, v) in chosen.items():
-        if not any(_matches(cells[j], v) for cells in cells_by_row):
-            present = census.get(names[j])
-            holds = (", ".join(f"{k} ({n} rows)" for k, n in present.items()) if present
-                     else ", ".join(sorted({cells[j] for cells in cells_by_row})[:MAX_LABEL_VALUES]))
-            raise InputError(f"no row has '{v}' in column '{c}'; the column holds: {holds}.", file=path,
-                             key=f"{key_prefix}select.{c}", fix="give one of those values (text is compared exactly, "
-                                                    "after removing surrounding spaces and quotes).")
-    out = {ours: np.empty(len(kept)) for ours in columns}
-    for r, (lineno, cells) in enumerate(kept):
-        for ours, j in index.items():
-            try:
-                out[ours][r] = float(cells[j])
-            except ValueError:
-                raise InputError(f"'{cells[j]}' in column '{columns[ours]}' is not a number.", file=path,
-                                 line=lineno, fix="remove or correct the row (write NaN for a missing value)"
-                                                  + ("" if select else ", or keep only some rows with 'select'")
-                                                  + ".") from None
+    _check_selected(path, chosen, cells_by_row, names, census, key_prefix)
+    kept = [(n, cells) for n, cells in numbered if all(_matches(cells[j], v) for j, v in chosen.values())]
+    out = _numbers(path, kept, index, columns, bool(select))
     return Table(columns=out, label_columns=census, rows_read=len(data), rows_kept=len(kept))

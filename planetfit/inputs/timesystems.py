@@ -109,8 +109,11 @@ def _gap_days(span, spans):
 
 def _other_spans(config, datasets, i):
     """BJD_TDB spans of every plausible dataset but the ``i``-th, and the centres of the transit-time priors."""
-    spans = [(float(d.time.min()), float(d.time.max())) for j, (_, d, _) in enumerate(datasets)
-             if j != i and is_plausible([d.time.min(), d.time.max()])]
+    spans = [
+        (float(d.time.min()), float(d.time.max()))
+        for j, (_, d, _) in enumerate(datasets)
+        if j != i and is_plausible([d.time.min(), d.time.max()])
+    ]
     centres = [p.transit_bjd.centre for p in config.planets]
     return spans + [(c, c) for c in centres if is_plausible(c)]
 
@@ -131,15 +134,20 @@ def reference_candidates(times, offset_days, rest):
 
 def _advice(candidates):
     """The list of references with their calendar spans, and the fix: one only when exactly one fits the rest."""
-    listed = "; ".join(f"{ref:.1f} ({name}): {span}{', consistent with the rest' if ok else ''}"
-                       for ref, name, span, ok in candidates)
+    listed = "; ".join(
+        f"{ref:.1f} ({name}): {span}{', consistent with the rest' if ok else ''}" for ref, name, span, ok in candidates
+    )
     fitting = [ref for ref, _, _, ok in candidates if ok]
     if len(fitting) == 1:
-        fix = (f"set 'time_offset_days: {fitting[0]:.1f}', the only usual reference consistent with the other "
-               "datasets and the transit-time priors, if the file's documentation agrees.")
+        fix = (
+            f"set 'time_offset_days: {fitting[0]:.1f}', the only usual reference consistent with the other "
+            "datasets and the transit-time priors, if the file's documentation agrees."
+        )
     elif fitting:
-        fix = ("set 'time_offset_days' to the reference the file's documentation gives; the times alone cannot tell "
-               f"which of {', '.join(f'{r:.1f}' for r in fitting)} it is.")
+        fix = (
+            "set 'time_offset_days' to the reference the file's documentation gives; the times alone cannot tell "
+            f"which of {', '.join(f'{r:.1f}' for r in fitting)} it is."
+        )
     else:
         fix = "set 'time_offset_days' so that the times become full Julian dates, as the file's documentation says."
     return (f" With the usual references as time_offset_days the data would lie in: {listed}." if listed else ""), fix
@@ -168,26 +176,36 @@ def check_time_references(config, datasets):
     """
     for p in config.planets:
         if not is_plausible(p.transit_bjd.centre):
-            raise InputError(f"the transit-time prior is centred on {p.transit_bjd.centre:.3f}, not a BJD_TDB of the "
-                             "years 1950-2100.", file=config.path, key=f"planets.{p.name}.transit_bjd",
-                             line=config.lines.get(f"planets.{p.name}.transit_bjd"),
-                             fix="give the transit time as a full BJD_TDB (e.g. 2457000 + BTJD).")
+            raise InputError(
+                f"the transit-time prior is centred on {p.transit_bjd.centre:.3f}, not a BJD_TDB of the "
+                "years 1950-2100.",
+                file=config.path,
+                key=f"planets.{p.name}.transit_bjd",
+                line=config.lines.get(f"planets.{p.name}.transit_bjd"),
+                fix="give the transit time as a full BJD_TDB (e.g. 2457000 + BTJD).",
+            )
     for i, (cfg, data, section) in enumerate(datasets):
-        rest = _other_spans(config, datasets, i)
-        span = (float(data.time.min()), float(data.time.max()))
-        key, line = f"{section}.time_offset_days", config.lines.get(f"{section}.name")
-        listed, fix = _advice(reference_candidates(data.time, cfg.time_offset_days, rest))
-        if not is_plausible(span):
-            raise InputError(f"dataset '{cfg.name}' has times {span[0]:.3f} to {span[1]:.3f} after its offset, which "
-                             f"is not a Julian date of the years 1950-2100.{listed}", file=config.path, key=key,
-                             line=line, fix=fix)
-        far = _gap_days(span, [s for s in rest if s[0] != s[1]])
-        if np.isfinite(far) and far > MAX_ERA_GAP_DAYS:
-            raise InputError(f"dataset '{cfg.name}' lies {far:.0f} days from every other dataset, more likely a "
-                             f"different time reference than a different era.{listed}", file=config.path, key=key,
-                             line=line, fix=fix)
+        _check_dataset(config, cfg, data, section, _other_spans(config, datasets, i))
+
+
+def _check_dataset(config, cfg, data, section, rest):
+    """One dataset's times against the plausible era and the ``rest``: an error, a warning, or nothing."""
+    span = (float(data.time.min()), float(data.time.max()))
+    key, line = f"{section}.time_offset_days", config.lines.get(f"{section}.name")
+    listed, fix = _advice(reference_candidates(data.time, cfg.time_offset_days, rest))
+    far = _gap_days(span, [s for s in rest if s[0] != s[1]])
+    if not is_plausible(span):
+        problem = f"has times {span[0]:.3f} to {span[1]:.3f} after its offset, which is not a Julian date of the "
+        problem += "years 1950-2100."
+    elif np.isfinite(far) and far > MAX_ERA_GAP_DAYS:
+        problem = f"lies {far:.0f} days from every other dataset, more likely a different time reference than a "
+        problem += "different era."
+    else:
         if np.isfinite(_gap_days(span, rest)) and _gap_days(span, rest) > ERA_WARNING_DAYS:
             data.reading.warnings.append(
                 f"dataset '{cfg.name}' ({calendar_span(*span)}) lies more than {ERA_WARNING_DAYS:.0f} days from every "
                 f"other dataset and reference transit time; check its 'time_offset_days' ({cfg.time_offset_days:g})."
-                f"{listed} Fix: {fix}")
+                f"{listed} Fix: {fix}"
+            )
+        return
+    raise InputError(f"dataset '{cfg.name}' {problem}{listed}", file=config.path, key=key, line=line, fix=fix)

@@ -37,14 +37,20 @@ def _context(name, planet):
         out += ["", f"Composition: {comp['verdict']}"]
     clim = planet.get("climate")
     if clim:
-        out += ["", f"Habitable zone (Kopparapu et al. 2014): probability {_pct(clim['p_conservative_hz'])} "
-                f"inside the conservative limits, {_pct(clim['p_optimistic_hz'])} inside the optimistic ones; "
-                f"grey-greenhouse surface temperature {value_text(clim['surface_temp_k'])} K."]
+        out += [
+            "",
+            f"Habitable zone (Kopparapu et al. 2014): probability {_pct(clim['p_conservative_hz'])} "
+            f"inside the conservative limits, {_pct(clim['p_optimistic_hz'])} inside the optimistic ones; "
+            f"grey-greenhouse surface temperature {value_text(clim['surface_temp_k'])} K.",
+        ]
     atm = planet.get("atmosphere")
     if atm:
-        out += ["", f"Atmosphere: scale height {value_text(atm['scale_height_km'])} km, transmission signal "
-                f"{value_text(atm['transmission_signal_ppm'])} ppm, TSM {value_text(atm['tsm'])}, "
-                f"ESM {value_text(atm['esm'])} (Kempton et al. 2018)."]
+        out += [
+            "",
+            f"Atmosphere: scale height {value_text(atm['scale_height_km'])} km, transmission signal "
+            f"{value_text(atm['transmission_signal_ppm'])} ppm, TSM {value_text(atm['tsm'])}, "
+            f"ESM {value_text(atm['esm'])} (Kempton et al. 2018).",
+        ]
     if planet.get("note"):
         out += ["", f"Note: {planet['note']}."]
     return out
@@ -66,10 +72,14 @@ def summary_markdown(summary, rows):
     for name, planet in summary["planets"].items():
         out += _context(name, planet)
     s = summary["sampling"]
-    out += ["", "## Sampling", "",
-            f"{s['walkers']} walkers x {s['steps']} steps; autocorrelation time {s['autocorr_steps']:.1f} steps; "
-            f"{s['independent_samples']} independent samples; acceptance fraction {s['acceptance_fraction']:.3f}; "
-            f"converged: {'yes' if s['converged'] else 'NO (see the warnings)'}; {s['seconds']:.0f} s."]
+    out += [
+        "",
+        "## Sampling",
+        "",
+        f"{s['walkers']} walkers x {s['steps']} steps; autocorrelation time {s['autocorr_steps']:.1f} steps; "
+        f"{s['independent_samples']} independent samples; acceptance fraction {s['acceptance_fraction']:.3f}; "
+        f"converged: {'yes' if s['converged'] else 'NO (see the warnings)'}; {s['seconds']:.0f} s.",
+    ]
     if s.get("warnings"):
         out += ["", "Warnings:", ""] + [f"- {w}" for w in s["warnings"]]
     return "\n".join(out) + "\n"

@@ -39,8 +39,7 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
     write_text_atomic(run_dir / "summary.md", summary_markdown(summary, rows))
     if not figures:
         return
-    draw_figures(figure_builders(run_dir, checked, posterior, samples, derived, summary), run_dir / "figures",
-                 cores)
+    draw_figures(figure_builders(run_dir, checked, posterior, samples, derived, summary), run_dir / "figures", cores)
 
 
 def draw_figures(builders, folder, cores=1):

@@ -33,9 +33,9 @@ def rounding_place(plus, minus):
     if not errs:
         return None
     d = _decimal(min(errs))
-    exp = d.adjusted()                               # floor(log10(err))
+    exp = d.adjusted()  # floor(log10(err))
     two = d.quantize(decimal.Decimal(1).scaleb(exp - 1), rounding=decimal.ROUND_HALF_UP)
-    if two.adjusted() > exp:                         # 0.0996 -> 0.10: still two digits, one place up
+    if two.adjusted() > exp:  # 0.0996 -> 0.10: still two digits, one place up
         exp += 1
     return exp - 1
 

@@ -99,4 +99,3 @@ def save_figure(fig, folder, name):
         fig.savefig(paths[0], dpi=PNG_DPI)
         fig.savefig(paths[1], metadata={"CreationDate": None})
     return paths
-

@@ -13,10 +13,27 @@ from planetfit.core.stats import stat
 from planetfit.report.files import write_text_atomic
 
 STAR_KEYS = ("mass_msun", "radius_rsun", "density_gcc", "teff_k", "age_gyr")
-PLANET_KEYS = ("period_days", "transit_bjd", "radius_ratio", "impact", "inclination_deg", "a_over_rstar",
-               "semi_major_axis_au", "eccentricity", "omega_deg", "rv_amplitude_ms", "mass_earth", "mass_jup",
-               "radius_earth", "radius_jup", "density_gcc", "surface_gravity_ms2", "transit_duration_hr",
-               "equilibrium_temp_k", "insolation_earth")
+PLANET_KEYS = (
+    "period_days",
+    "transit_bjd",
+    "radius_ratio",
+    "impact",
+    "inclination_deg",
+    "a_over_rstar",
+    "semi_major_axis_au",
+    "eccentricity",
+    "omega_deg",
+    "rv_amplitude_ms",
+    "mass_earth",
+    "mass_jup",
+    "radius_earth",
+    "radius_jup",
+    "density_gcc",
+    "surface_gravity_ms2",
+    "transit_duration_hr",
+    "equilibrium_temp_k",
+    "insolation_earth",
+)
 
 #: Planet quantities that need RVs; transit-only fits report them as null.
 UNMEASURED_WITHOUT_RVS = ("rv_amplitude_ms", "mass_earth", "mass_jup", "density_gcc", "surface_gravity_ms2")
@@ -54,18 +71,25 @@ def build_summary(config, model, derived, blocks, sampling):
         entry["orbit"] = block.orbit  # the config's word, echoed
         if not p.transits:
             entry["mass_is_minimum"] = p.inclination is None
-            entry["note"] = ("not transiting: mass_earth and mass_jup are minimum masses (M sin i)"
-                             if p.inclination is None else
-                             "not transiting: true mass from the inclination prior (inclination_deg is prior only)")
+            entry["note"] = (
+                "not transiting: mass_earth and mass_jup are minimum masses (M sin i)"
+                if p.inclination is None
+                else "not transiting: true mass from the inclination prior (inclination_deg is prior only)"
+            )
         if not config.velocities:
             # K is held fixed without RVs: whatever mass follows from it was assumed, not measured.
-            entry.update({k: None for k in UNMEASURED_WITHOUT_RVS})
+            entry.update(dict.fromkeys(UNMEASURED_WITHOUT_RVS))
             entry["note"] = "no RVs: mass not measured (mass, density, gravity and K are null)"
         entry.update(blocks[p.name])
         planets[p.name] = entry
     fitted = {name: stat(derived["parameters"][name]) for name in derived["parameter_names"]}
-    return {"system": config.system, "star": star, "planets": planets, "fitted_parameters": fitted,
-            "sampling": sampling}
+    return {
+        "system": config.system,
+        "star": star,
+        "planets": planets,
+        "fitted_parameters": fitted,
+        "sampling": sampling,
+    }
 
 
 def _stat(samples, prior_only):

@@ -9,21 +9,40 @@ import dataclasses
 from planetfit.core import quantities as q
 from planetfit.report.rounding import number_text, value_tex
 
-_PLANET_DERIVED = ("inclination_deg", "a_over_rstar", "semi_major_axis_au", "eccentricity", "omega_deg",
-                   "mass_earth", "mass_jup", "radius_earth", "radius_jup", "density_gcc",
-                   "surface_gravity_ms2", "transit_duration_hr", "equilibrium_temp_k", "insolation_earth")
+_PLANET_DERIVED = (
+    "inclination_deg",
+    "a_over_rstar",
+    "semi_major_axis_au",
+    "eccentricity",
+    "omega_deg",
+    "mass_earth",
+    "mass_jup",
+    "radius_earth",
+    "radius_jup",
+    "density_gcc",
+    "surface_gravity_ms2",
+    "transit_duration_hr",
+    "equilibrium_temp_k",
+    "insolation_earth",
+)
 _STAR_FITTED = ("mass_msun", "radius_rsun")
 _STAR_DERIVED = ("density_gcc", "teff_k", "age_gyr")
-NOTE_FITTED = (r"Values are posterior medians with the 15.87th and 84.13th percentiles. Priors: "
-               r"$\mathcal{U}$ uniform, $\log\mathcal{U}$ log-uniform, $\mathcal{N}$(mean, standard deviation) "
-               r"normal, truncated where an interval is given.")
-NOTE_DERIVED = (r"Values are posterior medians with the 15.87th and 84.13th percentiles. $T_\mathrm{eq}$ assumes "
-                r"zero Bond albedo and full heat redistribution. $T_\mathrm{eff}$ and the age do not enter the "
-                r"fit: their posterior is their prior.")
-NOTE_TEXT = ("Values are posterior medians with the 15.87th and 84.13th percentiles. Priors: U uniform, logU "
-             "log-uniform, N(mean, sd) normal, truncated where an interval is given. T_eq assumes zero Bond "
-             "albedo and full heat redistribution. Teff and the age do not enter the fit: their posterior is "
-             "their prior.")
+NOTE_FITTED = (
+    r"Values are posterior medians with the 15.87th and 84.13th percentiles. Priors: "
+    r"$\mathcal{U}$ uniform, $\log\mathcal{U}$ log-uniform, $\mathcal{N}$(mean, standard deviation) "
+    r"normal, truncated where an interval is given."
+)
+NOTE_DERIVED = (
+    r"Values are posterior medians with the 15.87th and 84.13th percentiles. $T_\mathrm{eq}$ assumes "
+    r"zero Bond albedo and full heat redistribution. $T_\mathrm{eff}$ and the age do not enter the "
+    r"fit: their posterior is their prior."
+)
+NOTE_TEXT = (
+    "Values are posterior medians with the 15.87th and 84.13th percentiles. Priors: U uniform, logU "
+    "log-uniform, N(mean, sd) normal, truncated where an interval is given. T_eq assumes zero Bond "
+    "albedo and full heat redistribution. Teff and the age do not enter the fit: their posterior is "
+    "their prior."
+)
 
 
 # ----------------------------------------------------------------- priors
@@ -41,7 +60,7 @@ def prior_text(prior, tex=False):
     spec = prior.as_config()
     if not isinstance(spec, dict):
         return "fixed"
-    (kind, args), = spec.items()
+    ((kind, args),) = spec.items()
     text_sym, tex_sym = _PRIOR_FORMS[kind]
     head = ", ".join(number_text(a) for a in args[:2])
     tail = f" in [{number_text(args[2])}, {number_text(args[3])}]" if len(args) == 4 else ""
@@ -53,16 +72,17 @@ def prior_text(prior, tex=False):
 
 # ----------------------------------------------------------------- rows
 
+
 @dataclasses.dataclass
 class Row:
     """One table line; a heading when ``quantity`` is None."""
 
     heading: str
     quantity: q.Quantity = None
-    qualifier: str = ""        # band or dataset a parameter belongs to
-    prior: object = None       # Prior, or None for derived quantities
+    qualifier: str = ""  # band or dataset a parameter belongs to
+    prior: object = None  # Prior, or None for derived quantities
     stat: dict = None
-    key: str = ""              # dotted path in summary.json ("" for fixed parameters)
+    key: str = ""  # dotted path in summary.json ("" for fixed parameters)
 
     @property
     def prior_only(self):
@@ -99,8 +119,11 @@ def _derived_rows(summary, priors, eccentric):
     """Rows of the derived quantities (and of the prior-only ones, with their priors)."""
     rows = [Row("Derived parameters"), Row("Star")]
     star = summary["star"]
-    rows += [Row("", q.STAR[k], "", priors.get(f"star.{k}"), star[k], f"star.{k}") for k in _STAR_FITTED + _STAR_DERIVED
-             if k in star and (k in _STAR_DERIVED or (star[k] or {}).get("prior_only"))]
+    rows += [
+        Row("", q.STAR[k], "", priors.get(f"star.{k}"), star[k], f"star.{k}")
+        for k in _STAR_FITTED + _STAR_DERIVED
+        if k in star and (k in _STAR_DERIVED or (star[k] or {}).get("prior_only"))
+    ]
     for pname, p in summary["planets"].items():
         rows.append(Row(f"Planet {pname}" + ("" if eccentric[pname] else " (circular orbit)")))
         for k in _PLANET_DERIVED:
@@ -142,8 +165,18 @@ def star_priors(star):
 
 # ----------------------------------------------------------------- LaTeX
 
-_TEX_SPECIAL = {"\\": r"\textbackslash{}", "&": r"\&", "%": r"\%", "$": r"\$", "#": r"\#", "_": r"\_",
-                "{": r"\{", "}": r"\}", "~": r"\textasciitilde{}", "^": r"\textasciicircum{}"}
+_TEX_SPECIAL = {
+    "\\": r"\textbackslash{}",
+    "&": r"\&",
+    "%": r"\%",
+    "$": r"\$",
+    "#": r"\#",
+    "_": r"\_",
+    "{": r"\{",
+    "}": r"\}",
+    "~": r"\textasciitilde{}",
+    "^": r"\textasciicircum{}",
+}
 
 
 def tex_escape(text):
@@ -162,14 +195,16 @@ def _label_tex(row, with_prior):
 def _float(caption, label, rows, with_prior, note):
     """One ``table*`` float; every value row ends with a comment naming its summary.json key."""
     ncol = 4 if with_prior else 3
-    out = [r"\begin{table*}",
-           r"\centering\small",
-           f"\\caption{{{caption}}}",
-           f"\\label{{{label}}}",
-           f"\\begin{{tabular}}{{{'l' * ncol}}}",
-           r"\hline\hline",
-           ("Parameter & Prior & Value & Unit \\\\" if with_prior else "Parameter & Value & Unit \\\\"),
-           r"\hline"]
+    out = [
+        r"\begin{table*}",
+        r"\centering\small",
+        f"\\caption{{{caption}}}",
+        f"\\label{{{label}}}",
+        f"\\begin{{tabular}}{{{'l' * ncol}}}",
+        r"\hline\hline",
+        ("Parameter & Prior & Value & Unit \\\\" if with_prior else "Parameter & Value & Unit \\\\"),
+        r"\hline",
+    ]
     for row in rows:
         if row.quantity is None:
             out.append(f"\\multicolumn{{{ncol}}}{{l}}{{\\textbf{{{tex_escape(row.heading)}}}}} \\\\")
@@ -179,8 +214,13 @@ def _float(caption, label, rows, with_prior, note):
             cells.append(prior_text(row.prior, tex=True))
         cells += [value_tex(row.stat) if row.key else f"${number_text(row.stat['median'])}$", row.quantity.unit_tex]
         out.append(" & ".join(cells) + f" \\\\ % {row.key or 'fixed'}")
-    out += [r"\hline", r"\end{tabular}", "", f"\\smallskip\\parbox{{0.9\\textwidth}}{{\\footnotesize {note}}}",
-            r"\end{table*}"]
+    out += [
+        r"\hline",
+        r"\end{tabular}",
+        "",
+        f"\\smallskip\\parbox{{0.9\\textwidth}}{{\\footnotesize {note}}}",
+        r"\end{table*}",
+    ]
     return out
 
 
@@ -193,10 +233,11 @@ def latex_table(summary, rows):
     slug = "".join(c if c.isalnum() else "-" for c in str(summary["system"]).lower())
     split = next(i for i, r in enumerate(rows) if r.quantity is None and r.heading == "Derived parameters")
     fitted = [r for r in rows[:split] if r.heading != "Fitted parameters"]
-    out = [f"% Parameters of {system}, written by planetfit from summary.json.",
-           "% Each value row ends with a comment naming the summary.json key it comes from."]
+    out = [
+        f"% Parameters of {system}, written by planetfit from summary.json.",
+        "% Each value row ends with a comment naming the summary.json key it comes from.",
+    ]
     out += _float(f"Fitted parameters of {system} and their priors.", f"tab:{slug}-fitted", fitted, True, NOTE_FITTED)
     out.append("")
-    out += _float(f"Derived parameters of {system}.", f"tab:{slug}-derived", rows[split + 1:], False,
-                  NOTE_DERIVED)
+    out += _float(f"Derived parameters of {system}.", f"tab:{slug}-derived", rows[split + 1 :], False, NOTE_DERIVED)
     return "\n".join(out) + "\n"

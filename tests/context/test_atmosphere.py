@@ -13,16 +13,7 @@ from planetfit.context.atmosphere import (
     tsm,
     tsm_threshold,
 )
-from planetfit.core.units import (
-    C_SI,
-    G_SI,
-    H_SI,
-    K_B_SI,
-    M_EARTH_KG,
-    R_EARTH_M,
-    R_SUN_M,
-    SIGMA_SB_SI,
-)
+from planetfit.core.units import C_SI, G_SI, H_SI, K_B_SI, M_EARTH_KG, R_EARTH_M, R_SUN_M, SIGMA_SB_SI
 
 EARTH_GRAVITY_MS2 = G_SI * M_EARTH_KG / R_EARTH_M**2  # 9.80 m s^-2
 
@@ -37,8 +28,7 @@ def test_planck_function_integrates_to_stefan_boltzmann():
     # source: Stefan-Boltzmann law, pi * integral of B_lambda d lambda = sigma T^4
     temp = 3000.0
     peak = H_SI * C_SI / (5.0 * K_B_SI * temp)  # near the Wien peak; only an integration anchor
-    total, _ = quad(lambda lam: planck_radiance(lam, temp), peak / 20, peak * 200,
-                    limit=200, points=[peak])
+    total, _ = quad(lambda lam: planck_radiance(lam, temp), peak / 20, peak * 200, limit=200, points=[peak])
     assert np.pi * total == pytest.approx(SIGMA_SB_SI * temp**4, rel=1e-3)
 
 
@@ -48,7 +38,7 @@ def test_transmission_signal_hand_computation():
     #   Rp / R* = 2 * 0.0091679 / 0.5 = 0.036672
     #   H / R*  = 1e5 m / (0.5 * 6.957e8 m) = 2.8748e-4
     #   Delta_delta = 2 * 2 * 2.8748e-4 * 0.036672 = 4.2170e-5 = 42.17 ppm
-    assert R_EARTH_M / R_SUN_M == pytest.approx(0.0091679, rel=1e-4)
+    assert pytest.approx(0.0091679, rel=1e-4) == R_EARTH_M / R_SUN_M
     signal = transmission_signal_ppm(100.0, 2.0, 0.5, n_scale_heights=2)
     assert signal == pytest.approx(42.17, rel=1e-3)
 
@@ -88,9 +78,7 @@ def test_esm_worked_case():
     assert value == pytest.approx(15.482, rel=1e-4)
 
 
-@pytest.mark.parametrize("radius_earth, threshold", [
-    (1.0, 12.0), (2.0, 92.0), (3.0, 84.0), (6.0, 96.0), (12.0, None),
-])
+@pytest.mark.parametrize("radius_earth, threshold", [(1.0, 12.0), (2.0, 92.0), (3.0, 84.0), (6.0, 96.0), (12.0, None)])
 def test_tsm_thresholds(radius_earth, threshold):
     # source: Kempton et al. (2018, PASP 130, 114401), Table 1 suggested thresholds
     assert tsm_threshold(radius_earth) == threshold
@@ -116,5 +104,6 @@ def test_atmosphere_block_from_samples():
     assert block["tsm"]["lower"] < block["tsm"]["median"] < block["tsm"]["upper"]
     # hydrogen atmosphere gives a 18 / 2.3 times larger scale height than water
     hydrogen = atmosphere_block(*common, mean_molecular_weight=2.3)
-    assert (hydrogen["scale_height_km"]["median"] / block["scale_height_km"]["median"]
-            == pytest.approx(18.0 / 2.3, rel=1e-6))
+    assert hydrogen["scale_height_km"]["median"] / block["scale_height_km"]["median"] == pytest.approx(
+        18.0 / 2.3, rel=1e-6
+    )

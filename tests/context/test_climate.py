@@ -29,11 +29,14 @@ def solar_planet_temps(a_au, albedo, tau):
 # Semi-major axes and Bond albedos: source: NASA planetary fact sheets
 # (Earth, Venus, Mars).  Effective optical depths tau: fact of the trade.
 # Mean surface temperatures 288 K, 737 K, 210 K: source: NASA planetary fact sheets.
-@pytest.mark.parametrize("a_au, albedo, tau, surface_k", [
-    (1.000, 0.306, 0.94, 288.0),   # Earth
-    (0.723, 0.77, 160.0, 737.0),   # Venus
-    (1.524, 0.25, 0.09, 210.0),    # Mars
-])
+@pytest.mark.parametrize(
+    "a_au, albedo, tau, surface_k",
+    [
+        (1.000, 0.306, 0.94, 288.0),  # Earth
+        (0.723, 0.77, 160.0, 737.0),  # Venus
+        (1.524, 0.25, 0.09, 210.0),  # Mars
+    ],
+)
 def test_grey_greenhouse_reproduces_terrestrial_planets(a_au, albedo, tau, surface_k):
     _, t_surface = solar_planet_temps(a_au, albedo, tau)
     assert t_surface == pytest.approx(surface_k, rel=0.05)
@@ -41,11 +44,9 @@ def test_grey_greenhouse_reproduces_terrestrial_planets(a_au, albedo, tau, surfa
 
 # value from memory: NASA planetary fact sheets, "black-body temperature"
 # Earth 254.0 K, Venus 226.6 K, Mars 209.8 K (same albedos and distances).
-@pytest.mark.parametrize("a_au, albedo, blackbody_k", [
-    (1.000, 0.306, 254.0),
-    (0.723, 0.77, 226.6),
-    (1.524, 0.25, 209.8),
-])
+@pytest.mark.parametrize(
+    "a_au, albedo, blackbody_k", [(1.000, 0.306, 254.0), (0.723, 0.77, 226.6), (1.524, 0.25, 209.8)]
+)
 def test_equilibrium_temperature_matches_fact_sheet(a_au, albedo, blackbody_k):
     t_eq, _ = solar_planet_temps(a_au, albedo, 0.0)
     assert t_eq == pytest.approx(blackbody_k, rel=0.01)
@@ -114,8 +115,7 @@ def test_habitable_zone_probabilities_for_sunlike_host():
     at_0p85 = climate_block(radius, teff, rng.normal(0.85, 0.01, n), None, settings)
     assert at_1p2["p_conservative_hz"] == 1.0 and at_1p2["p_optimistic_hz"] == 1.0
     assert at_0p85["p_conservative_hz"] == 0.0 and at_0p85["p_optimistic_hz"] == 1.0
-    assert at_1p2["hz_limits_au"]["maximum_greenhouse"]["median"] == pytest.approx(
-        1.67, abs=0.02)
+    assert at_1p2["hz_limits_au"]["maximum_greenhouse"]["median"] == pytest.approx(1.67, abs=0.02)
 
 
 def test_liquid_water_probability_with_tau_range():
@@ -126,8 +126,7 @@ def test_liquid_water_probability_with_tau_range():
     #   tau uniform in [0, 2]  ->  p = (2 - 0.449) / 2 = 0.776
     n = 20000
     settings = Climate(albedo=0.306, tau=[0.0, 2.0])
-    block = climate_block(np.ones(n), np.full(n, T_EFF_SUN_K), np.ones(n), None, settings,
-                          rng=np.random.default_rng(3))
+    block = climate_block(np.ones(n), np.full(n, T_EFF_SUN_K), np.ones(n), None, settings, rng=np.random.default_rng(3))
     assert block["p_surface_liquid_water"] == pytest.approx(0.776, abs=0.01)
     assert block["settings"]["tau"] == [0.0, 2.0]
 
@@ -137,8 +136,7 @@ def test_host_age_and_survey_flags():
     # (common practice, no published source)
     settings = Climate()
     teff = np.array([3000.0, 4000.0, 5000.0, 7000.0])
-    block = climate_block(np.ones(4), teff, np.ones(4), None, settings,
-                          star_age_gyr=np.array([0.1, 1.0, 2.0, 3.0]))
+    block = climate_block(np.ones(4), teff, np.ones(4), None, settings, star_age_gyr=np.array([0.1, 1.0, 2.0, 3.0]))
     assert block["p_host_older_than_0p6_gyr"] == 0.75
     assert block["p_host_teff_in_survey_range"] == 0.75
     no_age = climate_block(np.ones(4), teff, np.ones(4), None, settings)

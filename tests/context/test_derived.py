@@ -6,10 +6,19 @@ import numpy as np
 import pytest
 from scipy import optimize
 
-from planetfit.core.geometry import planet_mass_kg, solve_orbit
 from planetfit.context.derived import bulk_density_gcc
-from planetfit.core.units import (G_SI, KG_M3_TO_G_CM3, M_EARTH_KG, M_JUP_KG, M_SUN_KG, R_EARTH_M, R_JUP_M, R_SUN_M,
-                             SECONDS_PER_DAY)
+from planetfit.core.geometry import planet_mass_kg, solve_orbit
+from planetfit.core.units import (
+    G_SI,
+    KG_M3_TO_G_CM3,
+    M_EARTH_KG,
+    M_JUP_KG,
+    M_SUN_KG,
+    R_EARTH_M,
+    R_JUP_M,
+    R_SUN_M,
+    SECONDS_PER_DAY,
+)
 
 # source: IAU 2015 Resolution B3, nominal polar radii (astropy holds the equatorial ones)
 R_EARTH_POLAR_M = 6356.8e3

@@ -6,8 +6,15 @@ import json
 import numpy as np
 import pytest
 
-from planetfit.context.interior import (REFERENCE_CURVES, composition, load_grid, quick_verdict,
-                                reference_curve, reference_radius_earth, solve_structure)
+from planetfit.context.interior import (
+    REFERENCE_CURVES,
+    composition,
+    load_grid,
+    quick_verdict,
+    reference_curve,
+    reference_radius_earth,
+    solve_structure,
+)
 from planetfit.context.interior.eos import IRON, IRON_EPSILON, PEROVSKITE, SILICATE, WATER
 from planetfit.core.units import KG_M3_TO_G_CM3
 
@@ -24,8 +31,7 @@ def zeng_2016_radius_earth(mass_earth, core_mass_fraction):
 
 
 def solar_system_verdict(mass_earth, radius_earth):
-    return quick_verdict(mass_earth, 0.02 * mass_earth, radius_earth, 0.01 * radius_earth,
-                         n=20000, seed=1)
+    return quick_verdict(mass_earth, 0.02 * mass_earth, radius_earth, 0.01 * radius_earth, n=20000, seed=1)
 
 
 def test_density_inversion_round_trips():
@@ -74,8 +80,7 @@ def test_solver_agrees_with_zeng_2016_for_rocky_planets():
             deviation = ours / zeng_2016_radius_earth(mass, cmf) - 1.0
             if abs(deviation) > abs(worst[0]):
                 worst = (deviation, (mass, cmf))
-    print(f"largest deviation from Zeng et al. 2016: {worst[0]:+.2%} at M = {worst[1][0]} M_E, "
-          f"CMF = {worst[1][1]}")
+    print(f"largest deviation from Zeng et al. 2016: {worst[0]:+.2%} at M = {worst[1][0]} M_E, CMF = {worst[1][1]}")
     assert abs(worst[0]) < 0.04
 
 
@@ -106,8 +111,9 @@ def test_mercury_is_iron_rich():
 def test_reference_curves_are_ordered_at_every_grid_mass():
     # common practice, no published source: denser composition means a smaller planet.
     grid = load_grid()
-    radii = [reference_radius_earth(name, grid.mass_earth)
-             for name in ("iron", "earth_like", "silicate", "water_world")]
+    radii = [
+        reference_radius_earth(name, grid.mass_earth) for name in ("iron", "earth_like", "silicate", "water_world")
+    ]
     for smaller, larger in zip(radii[:-1], radii[1:]):
         assert np.all(smaller < larger)
 
@@ -118,8 +124,7 @@ def test_shipped_grid_matches_the_solver():
     rng = np.random.default_rng(3)
     for _ in range(5):
         i, j, k = (rng.integers(n) for n in grid.radius_earth.shape)
-        fresh = solve_structure(grid.mass_earth[i], grid.iron_fraction[j],
-                                grid.water_fraction[k]).radius_earth
+        fresh = solve_structure(grid.mass_earth[i], grid.iron_fraction[j], grid.water_fraction[k]).radius_earth
         assert fresh == pytest.approx(grid.radius_earth[i, j, k], rel=1e-3)
 
 
@@ -177,8 +182,15 @@ def test_samples_off_the_grid_are_reported_not_extrapolated():
 
 def test_quick_verdict_has_the_command_line_keys():
     result = quick_verdict(1.0, 0.9, 1.0, 0.05, n=2000)
-    for key in ("p_rocky", "p_volatile_rich", "p_denser_than_earth_like", "iron_fraction",
-                "reference_radii_earth", "verdict", "assumptions"):
+    for key in (
+        "p_rocky",
+        "p_volatile_rich",
+        "p_denser_than_earth_like",
+        "iron_fraction",
+        "reference_radii_earth",
+        "verdict",
+        "assumptions",
+    ):
         assert key in result
     assert set(result["reference_radii_earth"]) == set(REFERENCE_CURVES)
     assert result["p_rocky"] + result["p_volatile_rich"] == pytest.approx(1.0)

@@ -72,8 +72,9 @@ def test_bad_input_exits_2_with_file_key_and_fix(name, cases_copy, capsys, monke
 def test_bad_input_through_a_real_process(name, cases_copy):
     folder = cases_copy / name
     args, mentions = _expect(folder)
-    proc = subprocess.run([sys.executable, "-m", "planetfit.cli", *args], cwd=folder, capture_output=True,
-                          text=True, timeout=TIME_LIMIT_S)
+    proc = subprocess.run(
+        [sys.executable, "-m", "planetfit.cli", *args], cwd=folder, capture_output=True, text=True, timeout=TIME_LIMIT_S
+    )
     assert proc.returncode == 2, proc.stderr
     assert "Traceback" not in proc.stdout + proc.stderr
     assert "Fix:" in proc.stderr

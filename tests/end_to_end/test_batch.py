@@ -6,20 +6,28 @@ import sys
 
 import numpy as np
 import pytest
+from synthetic import TINY_TRUTH as TRUTH
+from synthetic import write_tiny_system as write_system
 
 from planetfit.batch import COLUMNS, run_batch, run_directories
 from planetfit.cli import EXIT_INPUT, main
 from planetfit.core.errors import InputError
 from planetfit.core.geometry import solve_orbit
 from planetfit.core.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
-from synthetic import TINY_TRUTH as TRUTH, write_tiny_system as write_system
 
 pytest.importorskip("distributed")
 
 
 def _true_mass_radius_earth():
-    _, _, mass_kg = solve_orbit(TRUTH["period_days"], TRUTH["rv_amplitude_ms"], TRUTH["impact"], 0.0, np.pi / 2,
-                                TRUTH["mass_msun"], TRUTH["radius_rsun"])
+    _, _, mass_kg = solve_orbit(
+        TRUTH["period_days"],
+        TRUTH["rv_amplitude_ms"],
+        TRUTH["impact"],
+        0.0,
+        np.pi / 2,
+        TRUTH["mass_msun"],
+        TRUTH["radius_rsun"],
+    )
     return mass_kg / M_EARTH_KG, TRUTH["radius_ratio"] * TRUTH["radius_rsun"] * R_SUN_M / R_EARTH_M
 
 

@@ -21,8 +21,14 @@ def test_interior_command_json_contract(capsys):
     # source: NASA planetary fact sheet, Earth: 1 M_earth, 1 R_earth is rocky and close to the Earth-like curve
     assert main(["interior", "--mass", "1.0", "0.02", "--radius", "1.0", "0.01", "--json"]) == 0
     result = json.loads(capsys.readouterr().out)
-    for key in ("p_rocky", "p_volatile_rich", "p_denser_than_earth_like", "iron_fraction", "reference_radii_earth",
-                "verdict"):
+    for key in (
+        "p_rocky",
+        "p_volatile_rich",
+        "p_denser_than_earth_like",
+        "iron_fraction",
+        "reference_radii_earth",
+        "verdict",
+    ):
         assert key in result
     assert result["p_rocky"] > 0.9
     assert set(result["reference_radii_earth"]) == {"iron", "earth_like", "silicate", "water_world"}
@@ -32,8 +38,25 @@ def test_interior_command_json_contract(capsys):
 def test_climate_command_for_the_earth(capsys):
     # source: NASA planetary fact sheet, Earth: Bond albedo 0.306, mean surface temperature 288 K;
     # tau = 0.94 is the trade's effective grey optical depth for Earth
-    assert main(["climate", "--teff", "5772", "--radius-rsun", "1.0", "--a-au", "1.0", "--albedo", "0.306",
-                 "--tau", "0.94", "--json"]) == 0
+    assert (
+        main(
+            [
+                "climate",
+                "--teff",
+                "5772",
+                "--radius-rsun",
+                "1.0",
+                "--a-au",
+                "1.0",
+                "--albedo",
+                "0.306",
+                "--tau",
+                "0.94",
+                "--json",
+            ]
+        )
+        == 0
+    )
     result = json.loads(capsys.readouterr().out)
     assert result["surface_temp_k"] == pytest.approx(288.0, rel=0.05)
     assert result["p_conservative_hz"] == 1.0

@@ -9,12 +9,12 @@ import numpy as np
 import pytest
 from radvel import kepler
 from scipy import optimize
+from synthetic import write_tiny_system as write_system
 
 from planetfit import pipeline
 from planetfit.core.geometry import planet_mass_kg, solve_orbit
-from planetfit.fitting.components.transit import TransitLightCurve
 from planetfit.core.units import M_EARTH_KG, M_SUN_KG
-from synthetic import write_tiny_system as write_system
+from planetfit.fitting.components.transit import TransitLightCurve
 
 
 @pytest.mark.parametrize("e", [0.0, 0.3, 0.7, 0.9, 0.95])
@@ -22,8 +22,9 @@ def test_kepler_solver_matches_root_finding(e):
     # source: definition of Kepler's equation, M = E - e sin E (root found independently with brentq)
     mean_anomaly = np.linspace(0.0, 2 * np.pi, 73)[:-1]
     solved = kepler.kepler(mean_anomaly, np.full(mean_anomaly.size, e))
-    expected = [optimize.brentq(lambda E, m=m: E - e * math.sin(E) - m, 0.0, 2 * np.pi, xtol=1e-14)
-                for m in mean_anomaly]
+    expected = [
+        optimize.brentq(lambda E, m=m: E - e * math.sin(E) - m, 0.0, 2 * np.pi, xtol=1e-14) for m in mean_anomaly
+    ]
     np.testing.assert_allclose(solved, expected, atol=1e-9)
 
 
@@ -70,8 +71,14 @@ def test_windowed_light_curve_matches_batman_for_extreme_periods(period_days):
     a_r, cos_i, _ = solve_orbit(period_days, 5.0, 0.4, 0.0, math.pi / 2, 1.0, 1.0)
     assert a_r * (1 - 0.0) > 1.05  # the orbit clears the star
     k, u, t0 = 0.05, (0.4, 0.25), 2460000.0
-    times = np.sort(np.concatenate([t0 + np.linspace(-0.5, 0.5, 2001) * min(period_days, 2.0),
-                                    t0 + period_days * 2 + np.linspace(-0.2, 0.2, 300)]))
+    times = np.sort(
+        np.concatenate(
+            [
+                t0 + np.linspace(-0.5, 0.5, 2001) * min(period_days, 2.0),
+                t0 + period_days * 2 + np.linspace(-0.2, 0.2, 300),
+            ]
+        )
+    )
     lc = TransitLightCurve(times, 2.0 / 1440, 1)
     half = lc.half_window_days(period_days, a_r, k, math.sqrt(1 - cos_i**2), 0.0, math.pi / 2)
     idx = lc.window(period_days, t0, half)
@@ -116,8 +123,10 @@ def test_rv_only_fit_reports_minimum_mass(tmp_path, no_figures):
 def test_rv_only_planet_with_an_inclination_prior_gets_its_true_mass(tmp_path):
     config = write_system(tmp_path, photometry=False, max_steps=300, n_rv=30)
     text = config.read_text().replace("    radius_ratio:\n      uniform:\n      - 0.005\n      - 0.1\n", "")
-    text = text.replace("    impact:\n      uniform:\n      - 0.0\n      - 1.0\n",
-                        "    transits: false\n    inclination_deg: {normal: [60.0, 0.5]}\n")
+    text = text.replace(
+        "    impact:\n      uniform:\n      - 0.0\n      - 1.0\n",
+        "    transits: false\n    inclination_deg: {normal: [60.0, 0.5]}\n",
+    )
     config.write_text(text)
     run_dir = pipeline.run(config, quiet=True, figures=False)
     summary = json.loads((run_dir / "summary.json").read_text())

@@ -10,34 +10,89 @@ import yaml
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from planetfit.core.errors import InputError
 from planetfit.inputs import datasets as data
 from planetfit.inputs.config import load_config
-from planetfit.core.errors import InputError
 
 FUZZ = settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 
 BASE = {
-    "system": "Fuzz-1", "seed": 1, "output": "run",
-    "star": {"mass_msun": {"normal": [0.9, 0.03]}, "radius_rsun": {"normal": [0.85, 0.02]},
-             "teff_k": {"normal": [5300, 80]}},
-    "planets": {"b": {"period_days": {"uniform": [2.99, 3.01]}, "transit_bjd": {"uniform": [2460001.4, 2460001.6]},
-                      "radius_ratio": {"uniform": [0.005, 0.1]}, "impact": {"uniform": [0.0, 1.0]},
-                      "rv_amplitude_ms": {"uniform": [0.0, 30.0]}, "orbit": "eccentric"}},
-    "photometry": [{"name": "cam", "file": "phot.csv", "columns": {"time": "t", "flux": "f", "error": "e"},
-                    "time_offset_days": 2457000.0, "exposure_min": 2.0}],
-    "velocities": [{"name": "spec", "file": "rv.txt", "columns": {"time": "t", "rv": "v", "error": "e"},
-                    "offset_ms": {"uniform": [-20, 20]}, "jitter_ms": {"loguniform": [0.01, 10]}}],
+    "system": "Fuzz-1",
+    "seed": 1,
+    "output": "run",
+    "star": {
+        "mass_msun": {"normal": [0.9, 0.03]},
+        "radius_rsun": {"normal": [0.85, 0.02]},
+        "teff_k": {"normal": [5300, 80]},
+    },
+    "planets": {
+        "b": {
+            "period_days": {"uniform": [2.99, 3.01]},
+            "transit_bjd": {"uniform": [2460001.4, 2460001.6]},
+            "radius_ratio": {"uniform": [0.005, 0.1]},
+            "impact": {"uniform": [0.0, 1.0]},
+            "rv_amplitude_ms": {"uniform": [0.0, 30.0]},
+            "orbit": "eccentric",
+        }
+    },
+    "photometry": [
+        {
+            "name": "cam",
+            "file": "phot.csv",
+            "columns": {"time": "t", "flux": "f", "error": "e"},
+            "time_offset_days": 2457000.0,
+            "exposure_min": 2.0,
+        }
+    ],
+    "velocities": [
+        {
+            "name": "spec",
+            "file": "rv.txt",
+            "columns": {"time": "t", "rv": "v", "error": "e"},
+            "offset_ms": {"uniform": [-20, 20]},
+            "jitter_ms": {"loguniform": [0.01, 10]},
+        }
+    ],
     "sampling": {"walkers": 24, "max_steps": 300},
     "climate": {"albedo": 0.3},
 }
-KEYS = sorted({"uniform", "normal", "loguniform", "truncnormal", "name", "file", "columns", "orbit", "transits",
-               "eccentricity_max", "sqrt_e_cos_w", "walkers", "b", "star", "planets"} | set(BASE))
+KEYS = sorted(
+    {
+        "uniform",
+        "normal",
+        "loguniform",
+        "truncnormal",
+        "name",
+        "file",
+        "columns",
+        "orbit",
+        "transits",
+        "eccentricity_max",
+        "sqrt_e_cos_w",
+        "walkers",
+        "b",
+        "star",
+        "planets",
+    }
+    | set(BASE)
+)
 
-scalars = st.one_of(st.none(), st.booleans(), st.integers(-10**6, 10**6), st.floats(allow_nan=True),
-                    st.text(max_size=12), st.sampled_from(["circular", "eccentric", "phot.csv", "nan", "-inf"]))
-values = st.recursive(scalars, lambda inner: st.one_of(
-    st.lists(inner, max_size=5), st.dictionaries(st.one_of(st.sampled_from(KEYS), st.text(max_size=8)), inner,
-                                                 max_size=5)), max_leaves=20)
+scalars = st.one_of(
+    st.none(),
+    st.booleans(),
+    st.integers(-(10**6), 10**6),
+    st.floats(allow_nan=True),
+    st.text(max_size=12),
+    st.sampled_from(["circular", "eccentric", "phot.csv", "nan", "-inf"]),
+)
+values = st.recursive(
+    scalars,
+    lambda inner: st.one_of(
+        st.lists(inner, max_size=5),
+        st.dictionaries(st.one_of(st.sampled_from(KEYS), st.text(max_size=8)), inner, max_size=5),
+    ),
+    max_leaves=20,
+)
 
 
 def _paths(node, prefix=()):
@@ -58,8 +113,9 @@ PATHS = [p for p in _paths(BASE) if p]
 def folder(tmp_path_factory):
     d = tmp_path_factory.mktemp("fuzz")
     t = np.linspace(3001.0, 3002.0, 50)
-    np.savetxt(d / "phot.csv", np.column_stack([t, np.ones(50), np.full(50, 1e-3)]), delimiter=",", header="t,f,e",
-               comments="")
+    np.savetxt(
+        d / "phot.csv", np.column_stack([t, np.ones(50), np.full(50, 1e-3)]), delimiter=",", header="t,f,e", comments=""
+    )
     np.savetxt(d / "rv.txt", np.column_stack([t + 2457000.0, np.zeros(50), np.ones(50)]), header="t v e", comments="")
     return d
 
@@ -113,15 +169,21 @@ def test_valid_config_with_one_value_replaced(folder, where, value, delete):
             assert 0 < getattr(p, "eccentricity_max", 0.5) < 1  # eccentric orbits only
             if p.transits:
                 b_lo, b_hi = p.impact.bounds
-                assert 0 <= b_lo and b_hi <= 1 + p.radius_ratio.bounds[1]
+                assert b_lo >= 0 and b_hi <= 1 + p.radius_ratio.bounds[1]
 
 
-cells = st.one_of(st.floats(allow_nan=True, allow_infinity=True).map(repr), st.integers().map(str),
-                  st.sampled_from(["", "nan", "NaN", "inf", "-inf", "1e400", "x", "1,5", "#", "0", "-1"]),
-                  st.text(max_size=6))
-tables = st.builds(lambda header, rows, sep: sep.join(header) + "\n" + "\n".join(sep.join(r) for r in rows),
-                   st.sampled_from([["t", "f", "e"], ["t", "v", "e"], ["t", "f"], ["t", "f", "e", "x"], ["a b"]]),
-                   st.lists(st.lists(cells, min_size=0, max_size=4), max_size=8), st.sampled_from([",", " ", "\t"]))
+cells = st.one_of(
+    st.floats(allow_nan=True, allow_infinity=True).map(repr),
+    st.integers().map(str),
+    st.sampled_from(["", "nan", "NaN", "inf", "-inf", "1e400", "x", "1,5", "#", "0", "-1"]),
+    st.text(max_size=6),
+)
+tables = st.builds(
+    lambda header, rows, sep: sep.join(header) + "\n" + "\n".join(sep.join(r) for r in rows),
+    st.sampled_from([["t", "f", "e"], ["t", "v", "e"], ["t", "f"], ["t", "f", "e", "x"], ["a b"]]),
+    st.lists(st.lists(cells, min_size=0, max_size=4), max_size=8),
+    st.sampled_from([",", " ", "\t"]),
+)
 
 
 @FUZZ

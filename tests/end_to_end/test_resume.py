@@ -14,10 +14,10 @@ import emcee
 import h5py
 import numpy as np
 import pytest
+from synthetic import write_tiny_system as write_system
 
 from planetfit import pipeline
 from planetfit.cli import main
-from synthetic import write_tiny_system as write_system
 
 WAIT_S = 60
 
@@ -38,8 +38,13 @@ def _iteration(h5):
 
 
 def _start(config, *extra):
-    return subprocess.Popen([sys.executable, "-m", "planetfit.cli", "run", str(config), "--quiet", *extra],
-                            cwd=config.parent, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    return subprocess.Popen(
+        [sys.executable, "-m", "planetfit.cli", "run", str(config), "--quiet", *extra],
+        cwd=config.parent,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
 
 
 def _wait_for_steps(proc, h5, steps):
@@ -114,8 +119,11 @@ def test_truncated_chain_is_refused_and_kept(tmp_path, capsys):
     _foreign_chain(h5, 24, 12)
     h5.write_bytes(h5.read_bytes()[:2000])
     before = h5.read_bytes()
-    for args in (["run", str(config), "--resume", "--quiet"], ["run", str(config), "--quiet"],
-                 ["redraw", str(h5.parent)]):
+    for args in (
+        ["run", str(config), "--resume", "--quiet"],
+        ["run", str(config), "--quiet"],
+        ["redraw", str(h5.parent)],
+    ):
         assert main(args) == 2
         err = capsys.readouterr().err
         assert "Fix:" in err and "Traceback" not in err
@@ -124,10 +132,10 @@ def test_truncated_chain_is_refused_and_kept(tmp_path, capsys):
 
 def test_run_writes_only_inside_its_run_directory(tmp_path, no_figures):
     config = write_system(tmp_path / "cfg", max_steps=100, n_phot=150)
-    before = {p for p in tmp_path.rglob("*")}
+    before = set(tmp_path.rglob("*"))
     cwd_before = set(os.listdir(os.getcwd()))
     assert main(["run", str(config), "--quiet"]) == 0
-    new = {p for p in tmp_path.rglob("*")} - before
+    new = set(tmp_path.rglob("*")) - before
     run_dir = tmp_path / "cfg" / "run"
     assert new and all(p == run_dir or run_dir in p.parents for p in new)
     assert set(os.listdir(os.getcwd())) == cwd_before

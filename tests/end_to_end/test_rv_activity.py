@@ -2,8 +2,9 @@
 
 import json
 
-from planetfit import pipeline
 from variability import RV_PLANET, TREND, write_active_star, write_trend_star
+
+from planetfit import pipeline
 
 SEED = 5
 
@@ -32,8 +33,10 @@ def test_activity_gp_recovers_semi_amplitude_that_white_noise_blurs_and_biases(t
     # The shared GP finds the injected rotation period (13 d) and the ratio of the spectrographs' amplitudes (0.6).
     period = gp["fitted_parameters"]["rv_activity.rotation_period_days"]
     assert sigmas_off(period, 13.0) < 3, period
-    ratio = (gp["fitted_parameters"]["spec-b.activity_amplitude_ms"]["median"]
-             / gp["fitted_parameters"]["spec-a.activity_amplitude_ms"]["median"])
+    ratio = (
+        gp["fitted_parameters"]["spec-b.activity_amplitude_ms"]["median"]
+        / gp["fitted_parameters"]["spec-a.activity_amplitude_ms"]["median"]
+    )
     assert 0.4 < ratio < 0.8, ratio
 
 

@@ -7,11 +7,11 @@ import json
 
 import emcee
 import numpy as np
+from synthetic import tiny_posterior
+from variability import TRANSITING, write_spotted_star
 
 from planetfit import pipeline
 from planetfit.fitting import predictions
-from synthetic import tiny_posterior
-from variability import TRANSITING, write_spotted_star
 
 SEED = 101
 
@@ -19,7 +19,9 @@ SEED = 101
 def fit(folder, baseline):
     run_dir = pipeline.run(write_spotted_star(folder / baseline, SEED, baseline), quiet=True, figures=False)
     summary = json.loads((run_dir / "summary.json").read_text())
-    best = float(emcee.backends.HDFBackend(str(run_dir / "samples.h5"), name="chain", read_only=True).get_log_prob().max())
+    best = float(
+        emcee.backends.HDFBackend(str(run_dir / "samples.h5"), name="chain", read_only=True).get_log_prob().max()
+    )
     return summary["planets"]["b"]["radius_ratio"], best
 
 
@@ -38,11 +40,22 @@ def test_gp_baseline_recovers_radius_ratio_under_variability(tmp_path):
 
 def _values(post):
     from synthetic import TINY_TRUTH as TRUTH
+
     values = {n: post.layout.priors[n].value if post.layout.priors[n].fixed else None for n in post.layout.all_names}
-    values.update({"star.mass_msun": TRUTH["mass_msun"], "star.radius_rsun": TRUTH["radius_rsun"],
-                   "b.period_days": TRUTH["period_days"], "b.transit_bjd": TRUTH["transit_bjd"],
-                   "b.radius_ratio": TRUTH["radius_ratio"], "b.impact": TRUTH["impact"], "b.rv_amplitude_ms": 8.0,
-                   "cam.limb_darkening_q1": 0.36, "cam.limb_darkening_q2": 0.33, "cam.flux_level": 1.0})
+    values.update(
+        {
+            "star.mass_msun": TRUTH["mass_msun"],
+            "star.radius_rsun": TRUTH["radius_rsun"],
+            "b.period_days": TRUTH["period_days"],
+            "b.transit_bjd": TRUTH["transit_bjd"],
+            "b.radius_ratio": TRUTH["radius_ratio"],
+            "b.impact": TRUTH["impact"],
+            "b.rv_amplitude_ms": 8.0,
+            "cam.limb_darkening_q1": 0.36,
+            "cam.limb_darkening_q2": 0.33,
+            "cam.flux_level": 1.0,
+        }
+    )
     return values
 
 
@@ -54,7 +67,9 @@ def test_dilution_scales_the_transit_depth(tmp_path):
     v["cam.dilution"] = 0.3
     # source: a contaminating fraction D of the total flux dilutes the depth to (1 - D) x the true depth
     # (e.g. Ciardi et al. 2015, ApJ 805, 16, eq. 2)
-    assert np.allclose(1 - predictions.photometry_model(diluted, v, diluted.orbits(v), 0), 0.7 * deficit, rtol=0, atol=1e-12)
+    assert np.allclose(
+        1 - predictions.photometry_model(diluted, v, diluted.orbits(v), 0), 0.7 * deficit, rtol=0, atol=1e-12
+    )
     assert deficit.max() > 1e-3
 
 

@@ -8,20 +8,28 @@ import pytest
 import yaml
 from astropy import constants, units
 from scipy.integrate import quad_vec
+from synthetic import exposure_average, write_tiny_system
 
 from planetfit.cli import main
-from planetfit.fitting.components.exposure import (ERROR_FRACTION, MAX_SUPERSAMPLE, SharpTransit, choose_sampling,
-                                       sharpest_transits)
+from planetfit.core.units import MINUTES_PER_DAY
+from planetfit.fitting.components.exposure import (
+    ERROR_FRACTION,
+    MAX_SUPERSAMPLE,
+    SharpTransit,
+    choose_sampling,
+    sharpest_transits,
+)
 from planetfit.fitting.components.transit import TransitLightCurve
 from planetfit.pipeline import check, overview
-from planetfit.core.units import MINUTES_PER_DAY
-from synthetic import exposure_average, write_tiny_system
 
 # A close-in giant: k = 0.1, P = 3 d around a 1.0 Msun, 1.1 Rsun star (a/R* = 7.98), central transit.
 PERIOD_D, RADIUS_RATIO, U = 3.0, 0.1, (0.4, 0.25)
 # source: Kepler's third law, a = (G M P^2 / 4 pi^2)^(1/3), with astropy's constants
-A_OVER_RSTAR = float(((constants.G * units.M_sun * (PERIOD_D * units.day) ** 2 / (4 * math.pi**2)) ** (1 / 3)
-                      / (1.1 * units.R_sun)).decompose())
+A_OVER_RSTAR = float(
+    (
+        (constants.G * units.M_sun * (PERIOD_D * units.day) ** 2 / (4 * math.pi**2)) ** (1 / 3) / (1.1 * units.R_sun)
+    ).decompose()
+)
 GIANT = SharpTransit(PERIOD_D, A_OVER_RSTAR, RADIUS_RATIO, *U)
 # Median flux error of 2-min exposures of a bright star (a test input); longer exposures' errors scale
 # as 1/sqrt(exposure), as photon noise does.
@@ -54,16 +62,16 @@ def _exact_average(times, exposure_days):
         p.t0 = -s
         return model.light_curve(p)
 
-    integral, abserr = quad_vec(flux, -exposure_days / 2, exposure_days / 2, epsabs=1e-9 * exposure_days,
-                                epsrel=0.0, norm="max", limit=20000)
+    integral, abserr = quad_vec(
+        flux, -exposure_days / 2, exposure_days / 2, epsabs=1e-9 * exposure_days, epsrel=0.0, norm="max", limit=20000
+    )
     assert abserr / exposure_days < 1e-8  # the reference is exact to 0.01 ppm
     return integral / exposure_days
 
 
 def _model(times, exposure_days, supersample):
     lc = TransitLightCurve(times, exposure_days, supersample)
-    return lc.flux(np.arange(times.size), PERIOD_D, 0.0, A_OVER_RSTAR, math.pi / 2, 0.0, math.pi / 2,
-                   RADIUS_RATIO, *U)
+    return lc.flux(np.arange(times.size), PERIOD_D, 0.0, A_OVER_RSTAR, math.pi / 2, 0.0, math.pi / 2, RADIUS_RATIO, *U)
 
 
 @pytest.fixture(scope="module")
@@ -83,8 +91,10 @@ def test_chosen_supersample_keeps_error_below_a_tenth_of_the_flux_error(exact, m
     bound_ppm = ERROR_FRACTION * _median_error(minutes) * 1e6
     chosen = choose_sampling("cam", exposure_days, _median_error(minutes), [GIANT])
     error_ppm = np.max(np.abs(_model(times, exposure_days, chosen.supersample) - reference)) * 1e6
-    print(f"{minutes:g} min: n = {chosen.supersample}, error {error_ppm:.2f} ppm (estimated "
-          f"{chosen.error_ppm:.2f}), bound {bound_ppm:.1f} ppm")
+    print(
+        f"{minutes:g} min: n = {chosen.supersample}, error {error_ppm:.2f} ppm (estimated "
+        f"{chosen.error_ppm:.2f}), bound {bound_ppm:.1f} ppm"
+    )
     assert error_ppm < bound_ppm
     assert chosen.warning is None
     # The reported error is the measured one (the estimate probes more times near the contacts).
@@ -120,8 +130,9 @@ def test_too_few_sub_exposures_are_warned_about(exact):
     needed = choose_sampling("cam", exposure_days, _median_error(30.0), [GIANT]).supersample
     measured = np.max(np.abs(_model(times, exposure_days, 2) - reference)) * 1e6
     assert given.supersample == 2 and given.error_ppm == pytest.approx(measured, rel=0.1)
-    assert given.warning.startswith(f"cam: 'supersample: 2' leaves an exposure-integration error of up to "
-                                    f"{given.error_ppm:.3g} ppm")
+    assert given.warning.startswith(
+        f"cam: 'supersample: 2' leaves an exposure-integration error of up to {given.error_ppm:.3g} ppm"
+    )
     assert f"set 'supersample: {needed}', or remove the key to have it chosen." in given.warning
     capped = choose_sampling("cam", exposure_days, 1e-9, [GIANT])
     assert capped.supersample == MAX_SUPERSAMPLE
@@ -140,13 +151,15 @@ def test_config_sets_the_sharpest_transit_and_reports_the_choice(tmp_path, capsy
     path.write_text(yaml.safe_dump(raw))
     checked = check(path)
     c = checked.config
-    (transit,) = sharpest_transits(c.planets, c.star, c.photometry[0].limb_darkening_q1,
-                                   c.photometry[0].limb_darkening_q2)
+    (transit,) = sharpest_transits(
+        c.planets, c.star, c.photometry[0].limb_darkening_q1, c.photometry[0].limb_darkening_q2
+    )
     # Prior centres: P in U(2.99, 3.01), M* ~ N(0.9, 0.03), R* ~ N(0.85, 0.02); largest k of U(0.005, 0.1);
     # q1, q2 in U(0, 1) at 0.5: u1 = 2 sqrt(q1) q2, u2 = sqrt(q1) (1 - 2 q2)
     # source: Kipping (2013, MNRAS 435, 2152), eqs. 15-16; Kepler's third law with astropy's constants
-    a_r = ((constants.G * 0.9 * units.M_sun * (3.0 * units.day) ** 2 / (4 * math.pi**2)) ** (1 / 3)
-           / (0.85 * units.R_sun)).decompose()
+    a_r = (
+        (constants.G * 0.9 * units.M_sun * (3.0 * units.day) ** 2 / (4 * math.pi**2)) ** (1 / 3) / (0.85 * units.R_sun)
+    ).decompose()
     assert transit.a_over_rstar == pytest.approx(float(a_r), rel=1e-9)
     assert (transit.period_days, transit.radius_ratio) == pytest.approx((3.0, 0.1))
     assert (transit.u1, transit.u2) == pytest.approx((math.sqrt(0.5), 0.0))

@@ -23,8 +23,9 @@ def _jitters(*owners):
 def _kernel(kind):
     """A photometric GP kernel of dataset 'd' as its config block builds it (``kind`` "sho" or "matern32")."""
     block = schema.OscillatorGP if kind == "sho" else schema.Matern32GP
-    return (OscillatorKernel if kind == "sho" else Matern32Kernel)(block(name="d", file="d.csv", exposure_min=2.0,
-                                                                          baseline="gp", gp_kernel=kind))
+    return (OscillatorKernel if kind == "sho" else Matern32Kernel)(
+        block(name="d", file="d.csv", exposure_min=2.0, baseline="gp", gp_kernel=kind)
+    )
 
 
 def _sho_values(sigma, rho, q, jitter):
@@ -75,9 +76,16 @@ def test_matern_likelihood_is_close_to_the_exact_kernel(data):
 def test_per_instrument_amplitudes_equal_dense_scaled_covariance(data):
     t, y, err = data
     groups = (np.arange(t.size) % 3 == 0).astype(int)
-    values = {"rv_activity.rotation_period_days": 6.0, "rv_activity.quality": 3.0, "rv_activity.quality_difference": 1.0,
-              "rv_activity.mix": 0.4, "a.jitter_ms": 0.2, "b.jitter_ms": 0.7, "a.activity_amplitude_ms": 2.5,
-              "b.activity_amplitude_ms": 0.8}
+    values = {
+        "rv_activity.rotation_period_days": 6.0,
+        "rv_activity.quality": 3.0,
+        "rv_activity.quality_difference": 1.0,
+        "rv_activity.mix": 0.4,
+        "a.jitter_ms": 0.2,
+        "b.jitter_ms": 0.7,
+        "a.activity_amplitude_ms": 2.5,
+        "b.activity_amplitude_ms": 0.8,
+    }
     kernel = RotationKernel(schema.RvActivity(rotation_period_days=6.0))
     amplitudes = [Parameter(o, "activity_amplitude_ms", Uniform(0, 9), DATASET["activity_amplitude_ms"]) for o in "ab"]
     noise = GaussianProcessNoise(t, err, kernel, _jitters("a", "b"), 1.0, groups=groups, amplitudes=amplitudes)
@@ -86,8 +94,9 @@ def test_per_instrument_amplitudes_equal_dense_scaled_covariance(data):
     w1 = 4 * np.pi * q1 / (6.0 * math.sqrt(4 * q1**2 - 1))
     w2 = 8 * np.pi * q2 / (6.0 * math.sqrt(4 * q2**2 - 1))
     tau = t[:, None] - t[None, :]
-    k = (sho_covariance(tau, math.sqrt(1 / 1.4), 2 * np.pi / w1, q1)
-         + sho_covariance(tau, math.sqrt(0.4 / 1.4), 2 * np.pi / w2, q2))
+    k = sho_covariance(tau, math.sqrt(1 / 1.4), 2 * np.pi / w1, q1) + sho_covariance(
+        tau, math.sqrt(0.4 / 1.4), 2 * np.pi / w2, q2
+    )
     amp = np.where(groups == 1, 0.8, 2.5)
     jit = np.where(groups == 1, 0.7, 0.2)
     cov = amp[:, None] * amp[None, :] * k + np.diag(err**2 + jit**2)

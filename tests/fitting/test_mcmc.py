@@ -33,8 +33,9 @@ def _draw(rng, n):
 @pytest.mark.parametrize("several_modes", [False, True], ids=["one-mode moves", "several-mode mixture"])
 def test_walkers_drawn_from_the_target_stay_in_it(several_modes):
     rng = np.random.default_rng(7)
-    sampler = emcee.EnsembleSampler(WALKERS, SCALE.size, _log_prob, vectorize=True,
-                                    moves=walker_moves(several_modes=several_modes))
+    sampler = emcee.EnsembleSampler(
+        WALKERS, SCALE.size, _log_prob, vectorize=True, moves=walker_moves(several_modes=several_modes)
+    )
     sampler.random_state = np.random.RandomState(7).get_state()
     sampler.run_mcmc(_draw(rng, WALKERS), STEPS, progress=False)
     y = sampler.get_last_sample().coords / SCALE
@@ -54,8 +55,10 @@ SEPARATION, SECOND_WEIGHT, MODE_DIM = 20.0, 0.3, 10
 
 def _two_modes(x):
     shifted = x - np.eye(MODE_DIM)[0] * SEPARATION
-    return np.logaddexp(-0.5 * np.sum(x**2, axis=1) + np.log(1 - SECOND_WEIGHT),
-                        -0.5 * np.sum(shifted**2, axis=1) + np.log(SECOND_WEIGHT))
+    return np.logaddexp(
+        -0.5 * np.sum(x**2, axis=1) + np.log(1 - SECOND_WEIGHT),
+        -0.5 * np.sum(shifted**2, axis=1) + np.log(SECOND_WEIGHT),
+    )
 
 
 @pytest.mark.parametrize("several_modes", [False, True], ids=["one-mode moves", "several-mode mixture"])
@@ -63,8 +66,9 @@ def test_jump_moves_cross_between_modes_and_keep_their_weights(several_modes):
     rng = np.random.default_rng(1)
     start = rng.normal(size=(WALKERS, MODE_DIM))
     start[rng.uniform(size=WALKERS) < SECOND_WEIGHT, 0] += SEPARATION
-    sampler = emcee.EnsembleSampler(WALKERS, MODE_DIM, _two_modes, vectorize=True,
-                                    moves=walker_moves(several_modes=several_modes))
+    sampler = emcee.EnsembleSampler(
+        WALKERS, MODE_DIM, _two_modes, vectorize=True, moves=walker_moves(several_modes=several_modes)
+    )
     sampler.random_state = np.random.RandomState(1).get_state()
     sampler.run_mcmc(start, STEPS, progress=False)
     in_second = sampler.get_chain()[..., 0] > SEPARATION / 2

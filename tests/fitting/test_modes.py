@@ -15,16 +15,16 @@ import yaml
 from astropy.timeseries import LombScargle
 from scipy import signal
 from scipy.special import erf, logsumexp
+from synthetic import planet_truth, radial_velocity, write_config, write_tiny_system, write_velocities
 
 from planetfit import pipeline
 from planetfit.core.quantities import DATASET, PLANET
+from planetfit.fitting import density_modes, modes
 from planetfit.fitting import mcmc as sampling
-from planetfit.fitting import modes
 from planetfit.fitting.parameters import Parameter, ParameterLayout
 from planetfit.fitting.periodogram import periodogram_starts, sinusoid
 from planetfit.fitting.posterior import JointPosterior
 from planetfit.inputs.priors import Uniform
-from synthetic import planet_truth, radial_velocity, write_config, write_tiny_system, write_velocities
 
 T0, GAP_DAYS, SEASON_DAYS, PER_SEASON = 2460000.0, 200.0, 18.0, 12
 PERIOD, K_MS, SIGMA_MS, OFFSET_MS = 4.75, 5.0, 1.5, 3.0
@@ -44,16 +44,26 @@ def write_two_season_system(folder, seed=11, noise=True, walkers=32, max_steps=8
     rv = radial_velocity(t, {"b": planet_truth(PERIOD, TC, K_MS)}) + OFFSET_MS
     if noise:
         rv += rng.normal(0, SIGMA_MS, t.size)
-    entry = write_velocities(folder, "spec", "rv.txt", t, rv, SIGMA_MS, offset_ms={"uniform": [-50, 50]},
-                             jitter_ms=0.0)
-    return write_config(folder, {
-        "system": "Twoseason-1", "seed": 5, "output": "run",
-        "star": {"mass_msun": 0.9, "radius_rsun": 0.85, "teff_k": {"normal": [5300, 80]}},
-        "planets": {"b": {"transits": False, "period_days": {"uniform": list(PERIOD_PRIOR)},
-                          "transit_bjd": {"uniform": [TC - TC_HALF_WIDTH, TC + TC_HALF_WIDTH]},
-                          "rv_amplitude_ms": {"uniform": [0.0, K_MAX]}}},
-        "velocities": [entry],
-        "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 100, "optimiser_starts": 4}})
+    entry = write_velocities(folder, "spec", "rv.txt", t, rv, SIGMA_MS, offset_ms={"uniform": [-50, 50]}, jitter_ms=0.0)
+    return write_config(
+        folder,
+        {
+            "system": "Twoseason-1",
+            "seed": 5,
+            "output": "run",
+            "star": {"mass_msun": 0.9, "radius_rsun": 0.85, "teff_k": {"normal": [5300, 80]}},
+            "planets": {
+                "b": {
+                    "transits": False,
+                    "period_days": {"uniform": list(PERIOD_PRIOR)},
+                    "transit_bjd": {"uniform": [TC - TC_HALF_WIDTH, TC + TC_HALF_WIDTH]},
+                    "rv_amplitude_ms": {"uniform": [0.0, K_MAX]},
+                }
+            },
+            "velocities": [entry],
+            "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 100, "optimiser_starts": 4},
+        },
+    )
 
 
 def alias_weights(folder):
@@ -74,7 +84,7 @@ def alias_weights(folder):
     with np.errstate(divide="ignore"):  # the erf terms cancel to 0 for phases whose best K is far below 0
         for i, p in enumerate(periods):
             s = -np.sin(2 * np.pi * (t - tcs[:, None]) / p)
-            s -= (s @ w)[:, None] / np.sum(w)            # the offset marginalised
+            s -= (s @ w)[:, None] / np.sum(w)  # the offset marginalised
             sss, sys_ = (s**2) @ w, (s * y) @ w
             k_best, root = sys_ / sss, np.sqrt(sss / 2)
             log_k_integral = 0.5 * np.log(np.pi / (2 * sss)) + np.log(erf((K_MAX - k_best) * root) + erf(k_best * root))
@@ -131,8 +141,10 @@ def test_walkers_that_never_jump_make_the_run_not_converged(tmp_path, monkeypatc
     found = _mode_warnings(s)
     assert not s["converged"]
     assert len(found) == 1 and found[0].startswith("b.period_days has ")
-    assert found[0].endswith("walkers never moved between them, so their relative weight is not measured: "
-                             "the run is reported as not converged")
+    assert found[0].endswith(
+        "walkers never moved between them, so their relative weight is not measured: "
+        "the run is reported as not converged"
+    )
 
 
 def test_redraw_and_resume_keep_the_modes(tmp_path, no_figures):
@@ -159,13 +171,16 @@ def test_a_one_mode_system_has_no_mode_warning(tmp_path):
 
 # ----------------------------------------------------------------- units
 
+
 def _gaussian_mixture(weights, centres, sd):
     """The batch log-density of a mixture of isotropic Gaussians of standard deviation ``sd``, each normalised."""
+
     def evaluate(x):
         x = np.atleast_2d(x)
         norm = x.shape[1] * math.log(sd * math.sqrt(2 * math.pi))
         terms = [math.log(w) - 0.5 * np.sum(((x - c) / sd) ** 2, axis=1) - norm for w, c in zip(weights, centres)]
         return logsumexp(terms, axis=0)
+
     return evaluate
 
 
@@ -181,8 +196,10 @@ def test_end_points_cluster_into_modes_with_their_laplace_evidence():
     assert [round(math.exp(m.log_evidence), 3) for m in found] == [0.7, 0.3]
     assert np.allclose([m.sd for m in found], sd, rtol=1e-3)
     assert list(modes.walker_counts(found, 40)) == [28, 12]
-    assert list(modes.walker_counts([found[0], modes.Mode(centres[1], found[1].log_prob - 8, found[1].cov)], 40)) \
-        == [36, 4]  # at least MIN_WALKERS_PER_MODE
+    assert list(modes.walker_counts([found[0], modes.Mode(centres[1], found[1].log_prob - 8, found[1].cov)], 40)) == [
+        36,
+        4,
+    ]  # at least MIN_WALKERS_PER_MODE
     assert list(modes.separating_parameters(found)) == [0, 1]
 
 
@@ -191,39 +208,48 @@ def test_end_points_along_a_flat_direction_are_one_mode():
     def evaluate(x):
         x = np.atleast_2d(x)
         return np.where(np.abs(x[:, 1]) < 5, -0.5 * (x[:, 0] / 0.1) ** 2, -np.inf)
+
     ends = [(np.array([0.0, -4.999]), 0.0), (np.array([0.0, 2.0]), 0.0)]
     assert len(modes.distinct_modes(evaluate, ends, widths=np.array([10.0, 10.0]))) == 1
 
 
 def test_mixing_rule_needs_the_fraction_measured_to_five_percent():
     def group(fractions, jumps):
-        return modes.ModeGroup(["b.period_days"], [4.64, 4.75], [0.004, 0.004], [-48.7, -48.7], fractions, jumps,
-                               max(jumps), "optimiser")
+        return modes.ModeGroup(
+            ["b.period_days"], [4.64, 4.75], [0.004, 0.004], [-48.7, -48.7], fractions, jumps, max(jumps), "optimiser"
+        )
+
     # 2 f (1 - f) / sqrt(J) <= 0.05: J >= 100 at f = 0.5; at f = 0.1, J >= 13 (and never fewer than 10).
     assert group([0.5, 0.5], [100, 100]).mixed and not group([0.5, 0.5], [99, 99]).mixed
     assert group([0.9, 0.1], [13, 13]).mixed and not group([0.9, 0.1], [12, 12]).mixed
     assert not group([0.99, 0.01], [9, 9]).mixed
     text = group([0.55, 0.45], [312, 312]).warning()
-    assert text == ("b.period_days has 2 separated modes: 4.6400 d (ln p -48.7, 55% of samples) and "
-                    "4.7500 d (ln p -48.7, 45%); walkers moved between them 312 times")
+    assert text == (
+        "b.period_days has 2 separated modes: 4.6400 d (ln p -48.7, 55% of samples) and "
+        "4.7500 d (ln p -48.7, 45%); walkers moved between them 312 times"
+    )
 
 
 def test_sample_modes_finds_valleys_not_bumps():
     rng = np.random.default_rng(3)
     two = np.concatenate([rng.normal(0, 1, 7000), rng.normal(8, 1, 3000)])
-    found = modes.sample_modes(two)
+    found = density_modes.sample_modes(two)
     # source: the mixture's weights and centres by construction.
     assert found.splits.size == 1 and 2 < found.splits[0] < 6
     assert np.allclose(found.fractions, [0.7, 0.3], atol=0.01) and np.allclose(found.locations, [0, 8], atol=0.1)
-    for one in (rng.normal(size=10000), rng.exponential(size=10000), rng.uniform(size=10000),
-                np.concatenate([rng.uniform(-5, 0, 3000), rng.normal(0, 0.3, 7000)]),   # a plateau and a peak
-                np.concatenate([rng.normal(0, 1, 5000), rng.normal(3, 1, 5000)]),       # 3 sd apart: one mode
-                np.concatenate([rng.normal(0, 1, 9900), rng.normal(50, 1, 100)])):      # 1% of the samples
-        assert modes.sample_modes(one).splits.size == 0
+    for one in (
+        rng.normal(size=10000),
+        rng.exponential(size=10000),
+        rng.uniform(size=10000),
+        np.concatenate([rng.uniform(-5, 0, 3000), rng.normal(0, 0.3, 7000)]),  # a plateau and a peak
+        np.concatenate([rng.normal(0, 1, 5000), rng.normal(3, 1, 5000)]),  # 3 sd apart: one mode
+        np.concatenate([rng.normal(0, 1, 9900), rng.normal(50, 1, 100)]),
+    ):  # 1% of the samples
+        assert density_modes.sample_modes(one).splits.size == 0
     # Weighted samples (as a nested sampler gives): uniform draws weighted by the mixture's density.
     x = rng.uniform(-5, 13, 20000)
     weights = 0.7 * np.exp(-0.5 * x**2) + 0.3 * np.exp(-0.5 * (x - 8) ** 2)
-    assert np.allclose(modes.sample_modes(x, weights).fractions, [0.7, 0.3], atol=0.02)
+    assert np.allclose(density_modes.sample_modes(x, weights).fractions, [0.7, 0.3], atol=0.02)
 
 
 def test_a_mode_only_the_samples_show_is_reported():
@@ -231,8 +257,12 @@ def test_a_mode_only_the_samples_show_is_reported():
     rng = np.random.default_rng(4)
     chain = rng.normal(size=(400, 24, 2))
     chain[:, 12:, 0] += 10
-    layout = ParameterLayout([Parameter("b", "period_days", Uniform(-20, 30), PLANET["period_days"], "planet"),
-                              Parameter("spec", "offset_ms", Uniform(-5, 5), DATASET["offset_ms"])])
+    layout = ParameterLayout(
+        [
+            Parameter("b", "period_days", Uniform(-20, 30), PLANET["period_days"], "planet"),
+            Parameter("spec", "offset_ms", Uniform(-5, 5), DATASET["offset_ms"]),
+        ]
+    )
     one = [modes.Mode(np.zeros(2), 0.0, np.eye(2))]
     groups = modes.describe(chain, -0.5 * np.sum(chain**2, axis=2), 1, one, layout)
     assert len(groups) == 1 and groups[0].found_by == "samples" and groups[0].names == ["b.period_days"]
@@ -267,7 +297,8 @@ def test_periodogram_seed_of_a_noise_free_sinusoid_is_its_orbit(tmp_path):
     # a step of its own frequency grid.
     t, rv = post.velocities[0].time, post.velocities[0].rv
     frequency, power = LombScargle(t, rv, post.velocities[0].error).autopower(
-        minimum_frequency=1 / PERIOD_PRIOR[1], maximum_frequency=1 / PERIOD_PRIOR[0], samples_per_peak=50)
+        minimum_frequency=1 / PERIOD_PRIOR[1], maximum_frequency=1 / PERIOD_PRIOR[0], samples_per_peak=50
+    )
     assert abs(frequency[np.argmax(power)] - 1 / best["b.period_days"]) <= 0.5 * (frequency[1] - frequency[0])
 
 

@@ -5,12 +5,12 @@ import math
 import numpy as np
 import yaml
 from scipy import stats
+from synthetic import tiny_posterior, write_tiny_system
 
-from planetfit.pipeline import check
 from planetfit.fitting import predictions
 from planetfit.fitting.likelihoods import Batch, SummedPhotometryModel
 from planetfit.fitting.posterior import JointPosterior
-from synthetic import tiny_posterior, write_tiny_system
+from planetfit.pipeline import check
 
 
 def prior_draws(post, n, seed=5):
@@ -35,8 +35,9 @@ def test_batch_equals_one_at_a_time_and_rejects_outside_the_prior(tmp_path):
 def test_in_window_photometric_likelihood_equals_the_dense_gaussian(tmp_path):
     # A linear baseline, a contaminating flux fraction and a fixed jitter: the case scored from
     # precomputed sums plus the in-transit points only.
-    post = tiny_posterior(tmp_path, baseline="linear", slope_per_day={"uniform": [-0.01, 0.01]}, dilution=0.2,
-                     jitter_ppm=150.0)
+    post = tiny_posterior(
+        tmp_path, baseline="linear", slope_per_day={"uniform": [-0.01, 0.01]}, dilution=0.2, jitter_ppm=150.0
+    )
     assert isinstance(post.model.photometry[0], SummedPhotometryModel)
     d = post.photometry[0]
     sd = np.sqrt(d.error**2 + (150e-6) ** 2)

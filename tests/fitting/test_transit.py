@@ -8,8 +8,8 @@ import pytest
 from radvel import kepler
 
 from planetfit.core.geometry import solve_orbit, transit_duration_days
-from planetfit.fitting.keplerian import periastron_bjd, radial_velocity_ms
 from planetfit.fitting.components.transit import TransitLightCurve, quadratic_coefficients
+from planetfit.fitting.keplerian import periastron_bjd, radial_velocity_ms
 
 
 def test_kepler_equation_meeus_example_30a():
@@ -21,7 +21,17 @@ def test_kepler_equation_meeus_example_30a():
 def _batman_flux(t, t0, per, a_r, inc_deg, e, w_deg, k, u, exposure_days=0.0, ss=1):
     """batman's flux averaged over ``ss`` sub-exposures at the centres of equal slices of each exposure."""
     p = batman.TransitParams()
-    p.t0, p.per, p.rp, p.a, p.inc, p.ecc, p.w, p.u, p.limb_dark = t0, per, k, a_r, inc_deg, e, w_deg, list(u), "quadratic"
+    p.t0, p.per, p.rp, p.a, p.inc, p.ecc, p.w, p.u, p.limb_dark = (
+        t0,
+        per,
+        k,
+        a_r,
+        inc_deg,
+        e,
+        w_deg,
+        list(u),
+        "quadratic",
+    )
     # source: composite midpoint rule; batman's own supersampling (its TransitModel.__init__) puts the
     # sub-exposures at np.linspace(-exp_time/2, exp_time/2, n), the ends included, so it is not used here.
     offsets = exposure_days * ((np.arange(ss) + 0.5) / ss - 0.5)
@@ -29,8 +39,9 @@ def _batman_flux(t, t0, per, a_r, inc_deg, e, w_deg, k, u, exposure_days=0.0, ss
     return m.light_curve(p).reshape(-1, ss).mean(axis=1)
 
 
-@pytest.mark.parametrize("e, w_deg, exposure_min, ss", [(0.0, 90.0, 2.0, 1), (0.3, 40.0, 30.0, 15),
-                                                        (0.6, 250.0, 10.0, 5)])
+@pytest.mark.parametrize(
+    "e, w_deg, exposure_min, ss", [(0.0, 90.0, 2.0, 1), (0.3, 40.0, 30.0, 15), (0.6, 250.0, 10.0, 5)]
+)
 def test_windowed_light_curve_equals_batman_everywhere(e, w_deg, exposure_min, ss):
     # source: batman (Kreidberg 2015) TransitModel evaluated on every point is the reference
     t = np.arange(2460000.0, 2460030.0, exposure_min / 1440.0)

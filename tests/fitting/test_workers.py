@@ -6,10 +6,10 @@ import os
 import emcee
 import numpy as np
 import pytest
+from synthetic import write_tiny_system as write_system
 
 from planetfit import pipeline
 from planetfit.fitting import workers as sampling
-from synthetic import write_tiny_system as write_system
 
 QUANTITIES = ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms", "mass_earth", "radius_earth")
 
@@ -53,6 +53,8 @@ def test_two_cores_give_the_one_core_posterior(tmp_path, worker_pids):
         sigma = 0.5 * (one["upper"] - one["lower"])
         assert abs(two["median"] - one["median"]) < sigma, (key, one, two)
     # Same seed, same proposals: evaluating walkers elsewhere must not change the chain at all.
-    chains = [emcee.backends.HDFBackend(str(tmp_path / f"cores-{c}" / "samples.h5"), name="chain", read_only=True)
-              .get_chain() for c in (1, 2)]
+    chains = [
+        emcee.backends.HDFBackend(str(tmp_path / f"cores-{c}" / "samples.h5"), name="chain", read_only=True).get_chain()
+        for c in (1, 2)
+    ]
     assert np.array_equal(chains[0], chains[1])

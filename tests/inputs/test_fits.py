@@ -6,13 +6,15 @@ import numpy as np
 import pytest
 import yaml
 from astropy.io import fits
+from synthetic import TINY_TRUTH as TRUTH
+from synthetic import tiny_light_curve as light_curve
+from synthetic import write_tiny_system as write_system
 
 from planetfit import pipeline
+from planetfit.core.errors import InputError
 from planetfit.inputs.cleaning import near_transits
 from planetfit.inputs.config import load_config
 from planetfit.inputs.datasets import load_photometry, quality_mask
-from planetfit.core.errors import InputError
-from synthetic import TINY_TRUTH as TRUTH, tiny_light_curve as light_curve, write_tiny_system as write_system
 
 BJDREFI, BJDREFF = 2457000, 0.25
 CADENCE_DAYS = 10.0 / 1440.0
@@ -21,12 +23,14 @@ CADENCE_DAYS = 10.0 / 1440.0
 def write_light_curve(path, time_rel, flux, error, quality, timesys="TDB", level=20000.0, refs=(BJDREFI, BJDREFF)):
     """A binary-table light curve as mission pipelines write it: time in days from BJDREFI + BJDREFF,
     a simple-aperture and a corrected flux (each with errors) in electrons/s and a quality bitmask."""
-    columns = [fits.Column(name="TIME", format="D", unit="BJD - 2457000, days", array=time_rel),
-               fits.Column(name="SAP_FLUX", format="E", array=(flux * level * 1.02).astype(np.float32)),
-               fits.Column(name="SAP_FLUX_ERR", format="E", array=(error * level).astype(np.float32)),
-               fits.Column(name="PDCSAP_FLUX", format="E", array=(flux * level).astype(np.float32)),
-               fits.Column(name="PDCSAP_FLUX_ERR", format="E", array=(error * level).astype(np.float32)),
-               fits.Column(name="QUALITY", format="J", array=quality)]
+    columns = [
+        fits.Column(name="TIME", format="D", unit="BJD - 2457000, days", array=time_rel),
+        fits.Column(name="SAP_FLUX", format="E", array=(flux * level * 1.02).astype(np.float32)),
+        fits.Column(name="SAP_FLUX_ERR", format="E", array=(error * level).astype(np.float32)),
+        fits.Column(name="PDCSAP_FLUX", format="E", array=(flux * level).astype(np.float32)),
+        fits.Column(name="PDCSAP_FLUX_ERR", format="E", array=(error * level).astype(np.float32)),
+        fits.Column(name="QUALITY", format="J", array=quality),
+    ]
     table = fits.BinTableHDU.from_columns(columns, name="LIGHTCURVE")
     table.header["TIMESYS"] = timesys
     table.header["BJDREFI"], table.header["BJDREFF"] = refs
@@ -40,18 +44,28 @@ def sector(rng, start_bjd, days, noise=4e-4):
     flux = light_curve(t, TRUTH) + rng.normal(0, noise, t.size)
     quality = np.zeros(t.size, dtype=np.int32)
     flagged = rng.choice(t.size, 12, replace=False)
-    quality[flagged[:6]] = 1 << 4           # bit 5: a stray-light style flag, dropped by default
-    quality[flagged[6:]] = 1 << 12          # bit 13: a flag the tests ask to keep
-    flux[flagged] = 0.9                     # flagged rows hold junk, as they often do
+    quality[flagged[:6]] = 1 << 4  # bit 5: a stray-light style flag, dropped by default
+    quality[flagged[6:]] = 1 << 12  # bit 13: a flag the tests ask to keep
+    flux[flagged] = 0.9  # flagged rows hold junk, as they often do
     return t, flux, np.full(t.size, noise), quality
 
 
 def config_for(folder, files, **extra):
     path = write_system(folder, max_steps=200, n_rv=12)
     raw = yaml.safe_load(path.read_text())
-    raw["photometry"] = [dict({"name": "cam", "file": files, "exposure_min": 10.0, "supersample": 1,
-                               "columns": {"time": "TIME", "flux": "PDCSAP_FLUX", "error": "PDCSAP_FLUX_ERR"},
-                               "quality_column": "QUALITY"}, **extra)]
+    raw["photometry"] = [
+        dict(
+            {
+                "name": "cam",
+                "file": files,
+                "exposure_min": 10.0,
+                "supersample": 1,
+                "columns": {"time": "TIME", "flux": "PDCSAP_FLUX", "error": "PDCSAP_FLUX_ERR"},
+                "quality_column": "QUALITY",
+            },
+            **extra,
+        )
+    ]
     path.write_text(yaml.safe_dump(raw, sort_keys=False))
     return path
 
@@ -61,7 +75,10 @@ def two_sectors(tmp_path):
     rng = np.random.default_rng(5)
     files, truth = [], []
     # Second sector written first: the reader orders files by time.
-    for name, start, level in (("s2.fits", TRUTH["transit_bjd"] + 5.5, 31000.0), ("s1.fits", TRUTH["transit_bjd"] - 0.5, 20000.0)):
+    for name, start, level in (
+        ("s2.fits", TRUTH["transit_bjd"] + 5.5, 31000.0),
+        ("s1.fits", TRUTH["transit_bjd"] - 0.5, 20000.0),
+    ):
         t, f, e, q = sector(rng, start, 1.0)
         write_light_curve(tmp_path / name, t - BJDREFI - BJDREFF, f, e, q, level=level)
         files.append(name)
@@ -88,7 +105,7 @@ def test_kept_quality_bits_keep_their_rows(two_sectors):
     cfg = load_config(config_for(folder, files, quality_keep_bits=[13], clip_sigma=0))
     data = load_photometry(cfg.photometry[0])
     assert data.dropped_quality == 12
-    assert np.sum(data.flux < 0.95) == 12   # the junk rows flagged only with bit 13 stay when asked
+    assert np.sum(data.flux < 0.95) == 12  # the junk rows flagged only with bit 13 stay when asked
 
 
 def test_quality_mask_bit_numbering():
@@ -105,7 +122,7 @@ def test_clipping_removes_outliers_outside_transits_only(two_sectors):
     raw = load_photometry(cfg.photometry[0])
     data = load_photometry(cfg.photometry[0], planets, star)
     protected = near_transits(raw.time, planets, star)
-    junk = raw.flux < 0.95                  # the rows flagged only with bit 13, kept on request
+    junk = raw.flux < 0.95  # the rows flagged only with bit 13, kept on request
     assert 0 < np.sum(junk & ~protected) < 12
     # common practice, no published source: outliers are clipped, points in predicted transits never
     assert data.clipped == np.sum(junk & ~protected)

@@ -38,14 +38,15 @@ def test_log_uniform_sampler_coordinate_carries_the_jacobian():
     # source: change of variables, p_y(y) = p_x(e^y) e^y for y = ln x; the density in y is flat and integrates to 1
     y = np.linspace(math.log(0.01), math.log(20.0), 7)
     assert [prior.log_density_sampler(v) for v in y] == pytest.approx(
-        [prior.log_density(math.exp(v)) + v for v in y], abs=1e-12)
+        [prior.log_density(math.exp(v)) + v for v in y], abs=1e-12
+    )
     total, _ = integrate.quad(lambda v: math.exp(prior.log_density_sampler(v)), math.log(0.01), math.log(20.0))
     assert total == pytest.approx(1.0, abs=1e-9)
 
 
 def test_geometry_centre_and_span_cover_the_prior():
     # common practice, no published source: the optimiser starts at the centre, the transit windows cover the span
-    assert LogUniform(0.1, 10.0).centre == pytest.approx(1.0)       # geometric mean: the middle in ln x
+    assert LogUniform(0.1, 10.0).centre == pytest.approx(1.0)  # geometric mean: the middle in ln x
     assert Normal(5.0, 2.0).span == (-1.0, 11.0)
     prior = LogUniform(1.0, 100.0)
     lo, hi = prior.span
@@ -53,10 +54,17 @@ def test_geometry_centre_and_span_cover_the_prior():
     assert prior.sampler_label("b.jitter") == "ln(b.jitter)" and Uniform(0, 1).sampler_label("x") == "x"
 
 
-@pytest.mark.parametrize("spec, problem", [
-    ({"uniform": [3, 1]}, "below upper"), ({"normal": [1, -1]}, "positive"), ({"loguniform": [0, 1]}, "0 < lower"),
-    ({"gamma": [1, 2]}, "unknown prior"), ({"uniform": [1]}, "2 numbers"), (True, "expected"),
-])
+@pytest.mark.parametrize(
+    "spec, problem",
+    [
+        ({"uniform": [3, 1]}, "below upper"),
+        ({"normal": [1, -1]}, "positive"),
+        ({"loguniform": [0, 1]}, "0 < lower"),
+        ({"gamma": [1, 2]}, "unknown prior"),
+        ({"uniform": [1]}, "2 numbers"),
+        (True, "expected"),
+    ],
+)
 def test_bad_spellings_say_what_is_wrong(spec, problem):
     with pytest.raises(ValueError, match=problem):
         make_prior(spec)

@@ -5,12 +5,12 @@ import json
 import jsonschema
 import pytest
 import yaml
+from synthetic import write_tiny_system
 
 from planetfit.cli import main
 from planetfit.core.errors import InputError
 from planetfit.inputs.config import load_config
 from planetfit.inputs.schema import Climate
-from synthetic import write_tiny_system
 
 DEMO = "configs/demo.yaml"
 
@@ -38,8 +38,13 @@ def test_json_schema_accepts_the_demo_and_rejects_an_unknown_key(schema, request
 
 def test_json_schema_tells_the_variants_apart(schema):
     # An eccentric RV-only planet fits exactly one planet variant; sqrt_e keys on a circular orbit fit none.
-    planet = {"transits": False, "orbit": "eccentric", "period_days": 3.0, "transit_bjd": 2460000.0,
-              "rv_amplitude_ms": {"uniform": [0, 10]}}
+    planet = {
+        "transits": False,
+        "orbit": "eccentric",
+        "period_days": 3.0,
+        "transit_bjd": 2460000.0,
+        "rv_amplitude_ms": {"uniform": [0, 10]},
+    }
     validator = jsonschema.Draft202012Validator(schema)
     planet_schema = schema["properties"]["planets"]["additionalProperties"]
     assert validator.evolve(schema=planet_schema | {"$defs": schema["$defs"]}).is_valid(planet)
@@ -55,11 +60,18 @@ def _with_climate(tmp_path, climate):
     return path
 
 
-@pytest.mark.parametrize("climate, key", [
-    ({"albedo": 1.2}, "climate.albedo"), ({"tau": [3.0, 1.0]}, "climate.tau"), ({"tau": -1.0}, "climate.tau"),
-    ({"redistribution": "nightside"}, "climate.redistribution"), ({"redistribution": 0.9}, "climate.redistribution"),
-    ({"mean_molecular_weight": "helium"}, "climate.mean_molecular_weight"), ({"albdeo": 0.3}, "climate.albdeo"),
-])
+@pytest.mark.parametrize(
+    "climate, key",
+    [
+        ({"albedo": 1.2}, "climate.albedo"),
+        ({"tau": [3.0, 1.0]}, "climate.tau"),
+        ({"tau": -1.0}, "climate.tau"),
+        ({"redistribution": "nightside"}, "climate.redistribution"),
+        ({"redistribution": 0.9}, "climate.redistribution"),
+        ({"mean_molecular_weight": "helium"}, "climate.mean_molecular_weight"),
+        ({"albdeo": 0.3}, "climate.albdeo"),
+    ],
+)
 def test_climate_settings_are_checked_with_the_config(tmp_path, climate, key):
     # common practice, no published source: every bad setting names its key and line, before any data is read
     with pytest.raises(InputError) as err:

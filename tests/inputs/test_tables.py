@@ -12,10 +12,10 @@ import yaml
 from astropy import units as u
 from astropy.coordinates import EarthLocation, SkyCoord
 from astropy.time import Time
+from synthetic import write_tiny_system
 
 from planetfit import pipeline
 from planetfit.core.errors import InputError
-from synthetic import write_tiny_system
 
 RA_DEG, DEC_DEG = 201.3, -23.7  # an invented star's position
 
@@ -52,8 +52,10 @@ def test_one_dataset_per_instrument_from_one_file(system):
     raw, folder = system
     rows = _two_instrument_file(folder)
     base = dict(raw["velocities"][0], file="all_rv.txt", columns={"time": "time", "rv": "rv", "error": "err"})
-    raw["velocities"] = [dict(base, name="harps", select={"inst": "HARPS"}),
-                         dict(base, name="coralie", select={"inst": "CORALIE"}, offset_ms={"uniform": [-50, 50]})]
+    raw["velocities"] = [
+        dict(base, name="harps", select={"inst": "HARPS"}),
+        dict(base, name="coralie", select={"inst": "CORALIE"}, offset_ms={"uniform": [-50, 50]}),
+    ]
     checked = _check(folder, raw)
     harps, coralie = checked.velocities
     assert harps.time.size == 12 and coralie.time.size == 8
@@ -78,8 +80,13 @@ def test_a_file_of_several_instruments_without_select_is_warned_about(system, ca
 def test_headerless_table_with_the_instrument_as_fourth_column(system):
     raw, folder = system
     _two_instrument_file(folder, header=False)
-    raw["velocities"][0].update(file="all_rv.txt", header=False, columns={"time": 1, "rv": 2, "error": 3},
-                                select={4: "HARPS"}, offset_ms={"uniform": [-7000, -6000]})
+    raw["velocities"][0].update(
+        file="all_rv.txt",
+        header=False,
+        columns={"time": 1, "rv": 2, "error": 3},
+        select={4: "HARPS"},
+        offset_ms={"uniform": [-7000, -6000]},
+    )
     checked = _check(folder, raw)
     assert checked.velocities[0].time.size == 12
     assert abs(np.median(checked.velocities[0].rv) + 6700) < 5
@@ -88,8 +95,9 @@ def test_headerless_table_with_the_instrument_as_fourth_column(system):
 def test_select_naming_a_missing_value_lists_the_values_there_are(system):
     raw, folder = system
     _two_instrument_file(folder)
-    raw["velocities"][0].update(file="all_rv.txt", columns={"time": "time", "rv": "rv", "error": "err"},
-                                select={"inst": "HARPS-N"})
+    raw["velocities"][0].update(
+        file="all_rv.txt", columns={"time": "time", "rv": "rv", "error": "err"}, select={"inst": "HARPS-N"}
+    )
     with pytest.raises(InputError) as err:
         _check(folder, raw)
     assert "select.inst" in err.value.key
@@ -134,8 +142,14 @@ def test_no_single_guess_when_two_references_fit(system):
     # Photometry from the transit priors' epoch to six years later: both references would fit.
     phot = np.loadtxt(folder / "phot.csv", delimiter=",", skiprows=1)
     phot = np.vstack([phot, phot + [2200.0, 0, 0]])
-    np.savetxt(folder / "phot.csv", phot[np.argsort(phot[:, 0])], delimiter=",", header="time,flux,flux_err",
-               comments="", fmt="%.7f")
+    np.savetxt(
+        folder / "phot.csv",
+        phot[np.argsort(phot[:, 0])],
+        delimiter=",",
+        header="time,flux,flux_err",
+        comments="",
+        fmt="%.7f",
+    )
     with pytest.raises(InputError) as err:
         _check(folder, raw)
     assert "cannot tell" in err.value.fix and "2454833.0" in err.value.fix and "2457000.0" in err.value.fix
@@ -147,8 +161,7 @@ def test_hjd_utc_times_become_astropys_bjd_tdb(system):
     star = SkyCoord(RA_DEG * u.deg, DEC_DEG * u.deg)
     # source: astropy.time, the reference library: the arrival times at the geocentre (UTC) are the truth;
     # their heliocentric and barycentric forms come from astropy's light-travel times.
-    arrival = Time(table[:, 0], format="jd", scale="utc",
-                   location=EarthLocation.from_geocentric(0, 0, 0, unit=u.m))
+    arrival = Time(table[:, 0], format="jd", scale="utc", location=EarthLocation.from_geocentric(0, 0, 0, unit=u.m))
     hjd = arrival + arrival.light_travel_time(star, kind="heliocentric")
     bjd = arrival.tdb + arrival.light_travel_time(star, kind="barycentric")
     table[:, 0] = hjd.jd

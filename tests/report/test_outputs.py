@@ -18,13 +18,25 @@ from matplotlib.image import imread
 
 import planetfit
 from planetfit import pipeline
-from planetfit.report import outputs, rounding, tables
 from planetfit.fitting.chainfile import read_chain
+from planetfit.report import outputs, rounding, tables
 
 DEMO = Path(planetfit.__file__).parent / "demo"
-FIGURES = ("transit_b_camera-2min", "transit_b_camera-30min", "light_curve_camera-2min", "light_curve_camera-30min",
-           "rv_phase_b", "rv_phase_c", "rv_time", "corner_b",
-           "corner_c", "corner_sampled", "mass_radius", "habitable_zone", "convergence")
+FIGURES = (
+    "transit_b_camera-2min",
+    "transit_b_camera-30min",
+    "light_curve_camera-2min",
+    "light_curve_camera-30min",
+    "rv_phase_b",
+    "rv_phase_c",
+    "rv_time",
+    "corner_b",
+    "corner_c",
+    "corner_sampled",
+    "mass_radius",
+    "habitable_zone",
+    "convergence",
+)
 VALUE = re.compile(r"\$(-?[0-9.]+)(?:\^\{\+([0-9.]+)\}_\{-([0-9.]+)\}| \\pm ([0-9.]+))?\$")
 
 
@@ -33,7 +45,7 @@ def _small_demo(folder):
     config = yaml.safe_load((DEMO / "demo.yaml").read_text())
     phot = np.genfromtxt(DEMO / "data" / "camera-2min.csv", delimiter=",", names=True)
     bjd = phot["btjd"] + 2457000.0
-    period, t0 = 6.13714, 2460003.4167          # near the demo truth of planet b
+    period, t0 = 6.13714, 2460003.4167  # near the demo truth of planet b
     near = np.abs((bjd - t0 + period / 2) % period - period / 2) < 0.15
     near &= bjd < t0 + 1.5 * period
     header = ",".join(phot.dtype.names)
@@ -75,29 +87,39 @@ def run(tmp_path_factory):
         mp.setattr(outputs, "write_all", capture)
         mp.setattr(outputs, "save_figure", keep)
         pipeline.redraw(run_dir)
-    return {"dir": run_dir, "table_from_fit": table_from_fit, "args": captured["args"],
-            "figures": captured["figures"], "summary": json.loads((run_dir / "summary.json").read_text())}
+    return {
+        "dir": run_dir,
+        "table_from_fit": table_from_fit,
+        "args": captured["args"],
+        "figures": captured["figures"],
+        "summary": json.loads((run_dir / "summary.json").read_text()),
+    }
 
 
 # ----------------------------------------------------------------- rounding rule
 
-@pytest.mark.parametrize("value, plus, minus, expected", [
-    # common practice, no published source: two significant digits of the smaller uncertainty,
-    # value and the other uncertainty to the same decimal place.
-    (0.12345, 0.0067, 0.0061, ("0.1235", "0.0067", "0.0061")),
-    (-0.12345, 0.0067, 0.0061, ("-0.1235", "0.0067", "0.0061")),
-    (10.0, 0.012, 0.5, ("10.000", "0.012", "0.500")),
-    (1.23456, 0.0996, 0.2, ("1.23", "0.10", "0.20")),           # 0.0996 rounds up to 0.10: still two digits
-    (4567.0, 123.0, 150.0, ("4570", "120", "150")),
-    (2460003.416739, 0.000524, 0.000465, ("2460003.41674", "0.00052", "0.00047")),
-    (2.5, 0.0, 0.0, ("2.5", None, None)),
-])
+
+@pytest.mark.parametrize(
+    "value, plus, minus, expected",
+    [
+        # common practice, no published source: two significant digits of the smaller uncertainty,
+        # value and the other uncertainty to the same decimal place.
+        (0.12345, 0.0067, 0.0061, ("0.1235", "0.0067", "0.0061")),
+        (-0.12345, 0.0067, 0.0061, ("-0.1235", "0.0067", "0.0061")),
+        (10.0, 0.012, 0.5, ("10.000", "0.012", "0.500")),
+        (1.23456, 0.0996, 0.2, ("1.23", "0.10", "0.20")),  # 0.0996 rounds up to 0.10: still two digits
+        (4567.0, 123.0, 150.0, ("4570", "120", "150")),
+        (2460003.416739, 0.000524, 0.000465, ("2460003.41674", "0.00052", "0.00047")),
+        (2.5, 0.0, 0.0, ("2.5", None, None)),
+    ],
+)
 def test_rounding_rule_worked_cases(value, plus, minus, expected):
     assert rounding.round_uncertain(value, plus, minus) == expected
 
 
 def test_prior_text_keeps_every_digit():
     from planetfit.inputs.priors import Fixed, TruncNormal, Uniform
+
     assert tables.prior_text(Uniform(2460003.35, 2460003.48)) == "U(2460003.35, 2460003.48)"
     assert tables.prior_text(TruncNormal(0.45, 0.1, 0, 1), tex=True) == r"$\mathcal{N}(0.45, 0.1)$ on $[0, 1]$"
     assert tables.prior_text(Fixed(0.0)) == "fixed"
@@ -105,10 +127,11 @@ def test_prior_text_keeps_every_digit():
 
 # ----------------------------------------------------------------- table.tex and summary.md
 
+
 def _lookup(summary, key):
     node = summary
     head, _, name = key.partition(".")
-    if head == "fitted_parameters":              # parameter names hold a dot themselves
+    if head == "fitted_parameters":  # parameter names hold a dot themselves
         return summary[head][name]
     for part in key.split("."):
         node = node[part]
@@ -133,8 +156,11 @@ def _expected_keys(summary):
     keys = {f"fitted_parameters.{n}" for n in summary["fitted_parameters"]}
     keys |= {f"star.{k}" for k in summary["star"] if k != "mass_msun" and k != "radius_rsun"}
     for name, p in summary["planets"].items():
-        keys |= {f"planets.{name}.{k}" for k in ("mass_earth", "density_gcc", "semi_major_axis_au",
-                                                 "equilibrium_temp_k", "insolation_earth") if k in p}
+        keys |= {
+            f"planets.{name}.{k}"
+            for k in ("mass_earth", "density_gcc", "semi_major_axis_au", "equilibrium_temp_k", "insolation_earth")
+            if k in p
+        }
     return keys
 
 
@@ -146,14 +172,14 @@ def test_table_numbers_equal_summary_json(run):
             continue
         body, key = line.rsplit(" % ", 1)
         cells = [c.strip() for c in re.split(r"(?<!\\)&", body.strip().removesuffix("\\\\"))]
-        assert len(cells) in (3, 4), line                      # fitted (with prior) / derived
+        assert len(cells) in (3, 4), line  # fitted (with prior) / derived
         m = VALUE.fullmatch(cells[-2])
         assert m, cells[-2]
         value, plus, minus, sym = m.groups()
         _check_printed((value, plus or sym, minus or sym), _lookup(summary, key))
         seen.add(key)
     assert _expected_keys(summary) <= seen
-    assert "planets.c.radius_earth" not in seen              # c does not transit: no radius
+    assert "planets.c.radius_earth" not in seen  # c does not transit: no radius
 
 
 def test_markdown_numbers_equal_summary_json(run):
@@ -200,9 +226,16 @@ def test_table_compiles(run, tmp_path, preamble):
     if "emulateapj" in preamble and subprocess.run(["kpsewhich", "emulateapj.cls"], capture_output=True).returncode:
         pytest.skip("emulateapj class not installed")
     shutil.copy(run["dir"] / "table.tex", tmp_path / "table.tex")
-    (tmp_path / "paper.tex").write_text(f"{preamble}\n\\begin{{document}}\nText.\n\\input{{table}}\n\\end{{document}}\n")
-    done = subprocess.run(["pdflatex", "-interaction=nonstopmode", "-halt-on-error", "paper.tex"], cwd=tmp_path,
-                          capture_output=True, text=True, timeout=60)
+    (tmp_path / "paper.tex").write_text(
+        f"{preamble}\n\\begin{{document}}\nText.\n\\input{{table}}\n\\end{{document}}\n"
+    )
+    done = subprocess.run(
+        ["pdflatex", "-interaction=nonstopmode", "-halt-on-error", "paper.tex"],
+        cwd=tmp_path,
+        capture_output=True,
+        text=True,
+        timeout=60,
+    )
     assert done.returncode == 0, done.stdout[-2000:]
     log = (tmp_path / "paper.log").read_text(errors="replace")
     assert "Overfull \\hbox" not in log
@@ -213,6 +246,7 @@ def test_redraw_reproduces_table_byte_for_byte(run):
 
 
 # ----------------------------------------------------------------- figures
+
 
 def test_every_figure_file_opens(run):
     for name in FIGURES:
@@ -239,7 +273,7 @@ def test_transit_figure_axes_labels_and_depth(parts):
     depth_ppm = parts["summary"]["fitted_parameters"]["b.radius_ratio"]["median"] ** 2 * 1e6
     # source: Winn (2010, arXiv:1001.2010), eq. 20: depth ~ k^2, deepened up to ~1.3x by limb darkening
     assert 0.8 * depth_ppm < -model.min() < 1.5 * depth_ppm
-    assert abs(model[0]) < 1 and abs(model[-1]) < 1                # out of transit at the window edges
+    assert abs(model[0]) < 1 and abs(model[-1]) < 1  # out of transit at the window edges
 
 
 def test_rv_figures_axes_labels_and_amplitude(parts):
@@ -255,8 +289,12 @@ def test_rv_figures_axes_labels_and_amplitude(parts):
     assert len(fig.axes) == 3 and fig.axes[2].get_xlabel().startswith("Time [BJD")
     assert fig.axes[1].get_ylabel() == "Activity [m/s]" and "planets and trend removed" in fig.axes[1].get_title("left")
     labels = [t.get_text() for t in fig.legends[0].get_texts()]
-    assert labels[-4:] == ["spectrograph-a", "spectrograph-b", "GP mean ± 1σ (spectrograph-a)",
-                           "GP mean ± 1σ (spectrograph-b)"]
+    assert labels[-4:] == [
+        "spectrograph-a",
+        "spectrograph-b",
+        "GP mean ± 1σ (spectrograph-a)",
+        "GP mean ± 1σ (spectrograph-b)",
+    ]
     assert "activity (GP mean) removed" in fig.legends[0].get_title().get_text()
     assert "activity (GP mean) removed" in parts["fig"]["rv_phase_b"].legends[0].get_title().get_text()
 
@@ -272,7 +310,7 @@ def test_corner_figures_axes_and_labels(parts):
     names = parts["derived"]["parameter_names"]
     fig = parts["fig"]["corner_sampled"]
     assert len(fig.axes) == len(names) ** 2
-    assert [ax.get_xlabel() for ax in fig.axes[-len(names):]][1] == names[1]
+    assert [ax.get_xlabel() for ax in fig.axes[-len(names) :]][1] == names[1]
 
 
 def test_mass_radius_and_habitable_zone_figures(parts):
@@ -284,13 +322,14 @@ def test_mass_radius_and_habitable_zone_figures(parts):
     assert {"Mercury", "Venus", "Earth", "Mars", "Uranus", "Neptune"} <= {t.get_text() for t in ax.texts}
     (ax,) = parts["fig"]["habitable_zone"].axes
     left, right = ax.get_xlim()
-    assert left > right                                            # insolation falls to the right
+    assert left > right  # insolation falls to the right
     for name in ("b", "c"):
         s = parts["summary"]["planets"][name]["insolation_earth"]["median"]
         assert right < s < left
     assert ax.get_ylabel() == r"Stellar $T_\mathrm{eff}$ [K]"
-    assert {"optimistic HZ", "conservative HZ", "planet b", "planet c"} <= {t.get_text() for t in
-                                                                          ax.get_legend().get_texts()}
+    assert {"optimistic HZ", "conservative HZ", "planet b", "planet c"} <= {
+        t.get_text() for t in ax.get_legend().get_texts()
+    }
 
 
 def test_convergence_figure(parts):

@@ -13,6 +13,13 @@ from planetfit.context.interior.grid import REFERENCE_CURVES, load_grid, referen
 from planetfit.context.interior.structure import Structure, solve_structure
 
 __all__ = [
-    "ASSUMPTIONS", "REFERENCE_CURVES", "Structure", "composition", "load_grid",
-    "quick_verdict", "reference_curve", "reference_radius_earth", "solve_structure",
+    "ASSUMPTIONS",
+    "REFERENCE_CURVES",
+    "Structure",
+    "composition",
+    "load_grid",
+    "quick_verdict",
+    "reference_curve",
+    "reference_radius_earth",
+    "solve_structure",
 ]

@@ -23,7 +23,7 @@ ASSUMPTIONS = (
     "elements in the core and iron in the mantle are left out)."
 )
 _CAVEAT = "assuming a cold, fully differentiated planet with no atmosphere (model-dependent at the ~5% level)"
-_MAJORITY = 0.5            # common practice, no published source: flag when most samples agree
+_MAJORITY = 0.5  # common practice, no published source: flag when most samples agree
 
 
 def _fraction_from_curves(radius, curves, fractions):
@@ -44,29 +44,34 @@ def _fraction_from_curves(radius, curves, fractions):
 def _verdict(out, p_rocky):
     if p_rocky is None:
         lo, hi = load_grid().mass_range_earth
-        return (f"No verdict: every sample lies outside the model grid ({lo:g}-{hi:g} Earth "
-                f"masses) or is not a positive mass and radius.")
+        return (
+            f"No verdict: every sample lies outside the model grid ({lo:g}-{hi:g} Earth "
+            f"masses) or is not a positive mass and radius."
+        )
     if out["gas_envelope_required"]:
-        text = (f"A gas envelope is required: {out['p_above_water_world']:.0%} of samples are "
-                f"larger than a 50% water world")
+        text = (
+            f"A gas envelope is required: {out['p_above_water_world']:.0%} of samples are larger than a 50% water world"
+        )
     elif p_rocky >= _MAJORITY:
         iron = out["iron_fraction"]
-        text = (f"Rocky with probability {p_rocky:.0%} (at or below the pure-silicate curve), "
-                f"iron mass fraction {iron['median']:.2f} ({iron['lower']:.2f}-{iron['upper']:.2f}, "
-                f"Earth 0.33) and denser than Earth-like with probability "
-                f"{out['p_denser_than_earth_like']:.0%}")
+        text = (
+            f"Rocky with probability {p_rocky:.0%} (at or below the pure-silicate curve), "
+            f"iron mass fraction {iron['median']:.2f} ({iron['lower']:.2f}-{iron['upper']:.2f}, "
+            f"Earth 0.33) and denser than Earth-like with probability "
+            f"{out['p_denser_than_earth_like']:.0%}"
+        )
     else:
         water = out["min_water_fraction"]
-        text = (f"Volatile-rich with probability {out['p_volatile_rich']:.0%} (above the "
-                f"pure-silicate curve)")
+        text = f"Volatile-rich with probability {out['p_volatile_rich']:.0%} (above the pure-silicate curve)"
         if water is not None:
-            text += (f", needing at least {water['median']:.0%} water over an Earth-like "
-                     f"interior")
+            text += f", needing at least {water['median']:.0%} water over an Earth-like interior"
     outside = out["fraction_outside_grid"]
     if outside > _MAJORITY:
         lo, hi = out["grid_mass_range_earth"]
-        text = (f"Only {1.0 - outside:.0%} of samples lie inside the model grid ({lo:g}-{hi:g} "
-                f"Earth masses), and for those: {text[0].lower()}{text[1:]}")
+        text = (
+            f"Only {1.0 - outside:.0%} of samples lie inside the model grid ({lo:g}-{hi:g} "
+            f"Earth masses), and for those: {text[0].lower()}{text[1:]}"
+        )
     elif outside > 0:
         text += f", with {outside:.0%} of samples outside the model grid"
     return f"{text}; {_CAVEAT}."
@@ -76,7 +81,9 @@ def _radii_at_median_mass(grid, mass_earth):
     """The reference curves' radii at the median of the finite masses (None off the grid)."""
     m = np.asarray(mass_earth, dtype=float).ravel()
     median = np.median(m[np.isfinite(m)]) if np.isfinite(m).any() else np.nan
-    radii = {name: grid.radius_at_mass([median], *grid.node_index(*nodes))[0] for name, nodes in REFERENCE_CURVES.items()}
+    radii = {
+        name: grid.radius_at_mass([median], *grid.node_index(*nodes))[0] for name, nodes in REFERENCE_CURVES.items()
+    }
     return {name: (float(value) if np.isfinite(value) else None) for name, value in radii.items()}
 
 
@@ -85,8 +92,9 @@ def _fractions(grid, m, r, rocky, between):
     the silicate and water-world curves (over an Earth-like interior)."""
     i_earth, j_dry = grid.node_index(EARTH_LIKE_IRON_FRACTION, 0.0)
     iron = _fraction_from_curves(r[rocky], grid.radius_at_mass(m[rocky], slice(None), j_dry), grid.iron_fraction)
-    water = _fraction_from_curves(r[between], grid.radius_at_mass(m[between], i_earth, slice(None)),
-                                  grid.water_fraction)
+    water = _fraction_from_curves(
+        r[between], grid.radius_at_mass(m[between], i_earth, slice(None)), grid.water_fraction
+    )
     return iron, water
 
 
@@ -114,13 +122,13 @@ def composition(mass_earth, radius_earth):
     m = np.asarray(mass_earth, dtype=float).ravel()
     r = np.asarray(radius_earth, dtype=float).ravel()
     if m.shape != r.shape or m.size == 0:
-        raise ValueError("mass_earth and radius_earth must be non-empty and of equal length "
-                         f"(got {m.size} and {r.size})")
+        raise ValueError(
+            f"mass_earth and radius_earth must be non-empty and of equal length (got {m.size} and {r.size})"
+        )
     grid = load_grid()
     usable = grid.inside(m) & np.isfinite(r) & (r > 0)
     m, r = m[usable], r[usable]
-    curves = {name: grid.radius_at_mass(m, *grid.node_index(*nodes))
-              for name, nodes in REFERENCE_CURVES.items()}
+    curves = {name: grid.radius_at_mass(m, *grid.node_index(*nodes)) for name, nodes in REFERENCE_CURVES.items()}
 
     rocky = r <= curves["silicate"]
     above = r > curves["water_world"]
@@ -137,8 +145,7 @@ def composition(mass_earth, radius_earth):
         "p_denser_than_earth_like": mean(r < curves["earth_like"]),
         "p_above_water_world": p_above,
         "iron_fraction": stat(iron),
-        "fraction_denser_than_iron": float((r[rocky] <= curves["iron"][rocky]).mean())
-        if rocky.any() else 0.0,
+        "fraction_denser_than_iron": float((r[rocky] <= curves["iron"][rocky]).mean()) if rocky.any() else 0.0,
         "min_water_fraction": stat(water),
         "gas_envelope_required": bool(p_above is not None and p_above > _MAJORITY),
         "fraction_outside_grid": float(1.0 - usable.mean()),
@@ -174,8 +181,7 @@ def quick_verdict(mass_earth, mass_sd, radius_earth, radius_sd, n=20000, seed=0)
 
     def draw(mean, sd, label):
         if not (np.isfinite(mean) and mean > 0 and np.isfinite(sd) and sd >= 0):
-            raise ValueError(f"{label} must be positive with a non-negative uncertainty "
-                             f"(got {mean} +- {sd})")
+            raise ValueError(f"{label} must be positive with a non-negative uncertainty (got {mean} +- {sd})")
         if sd == 0:
             return np.full(n, float(mean))
         return truncnorm.rvs(-mean / sd, np.inf, loc=mean, scale=sd, size=n, random_state=rng)

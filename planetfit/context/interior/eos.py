@@ -60,8 +60,7 @@ def birch_murnaghan3_pressure_gpa(eta, k0_gpa, k0_prime):
         Pressure in GPa.
     """
     e23 = eta ** (2.0 / 3.0)
-    return (1.5 * k0_gpa * (eta ** (7.0 / 3.0) - eta ** (5.0 / 3.0))
-            * (1.0 + 0.75 * (k0_prime - 4.0) * (e23 - 1.0)))
+    return 1.5 * k0_gpa * (eta ** (7.0 / 3.0) - eta ** (5.0 / 3.0)) * (1.0 + 0.75 * (k0_prime - 4.0) * (e23 - 1.0))
 
 
 @dataclass(frozen=True)
@@ -72,7 +71,7 @@ class Phase:
     rho0_g_cm3: float
     k0_gpa: float
     k0_prime: float
-    law: object                 # vinet_pressure_gpa or birch_murnaghan3_pressure_gpa
+    law: object  # vinet_pressure_gpa or birch_murnaghan3_pressure_gpa
 
     def pressure_gpa(self, rho_kg_m3):
         """Pressure (GPa) at density ``rho_kg_m3``."""
@@ -113,14 +112,12 @@ class Material:
         self._p_table, self._rho_table = self._build_table()
 
     def _build_table(self):
-        p_grid = np.concatenate([[0.0], np.geomspace(_TABLE_P_MIN_GPA, _TABLE_P_MAX_GPA,
-                                                     _TABLE_POINTS)])
+        p_grid = np.concatenate([[0.0], np.geomspace(_TABLE_P_MIN_GPA, _TABLE_P_MAX_GPA, _TABLE_POINTS)])
         edges = (0.0,) + self.transitions_gpa + (np.inf,)
         p_parts, rho_parts = [], []
         for phase, lo, hi in zip(self.phases, edges[:-1], edges[1:]):
             inside = p_grid[(p_grid > lo) & (p_grid < hi)]
-            p = np.concatenate([[lo], inside, [hi]]) if np.isfinite(hi) else \
-                np.concatenate([[lo], inside])
+            p = np.concatenate([[lo], inside, [hi]]) if np.isfinite(hi) else np.concatenate([[lo], inside])
             p_parts.append(p)
             rho_parts.append(phase.density_kg_m3(p))
         return np.concatenate(p_parts), np.concatenate(rho_parts)
@@ -142,14 +139,11 @@ IRON_EPSILON = Phase("epsilon-Fe", 8.30, 156.2, 6.08, vinet_pressure_gpa)
 # Mg end-members, third-order finite-strain (Birch–Murnaghan) parameters of
 # Stixrude & Lithgow-Bertelloni 2011, Geophys. J. Int. 184, 1180, Table A1
 # (V0 in cm^3/mol, K0 in GPa, K0').
-FORSTERITE = Phase("forsterite (olivine)", 140.69 / 43.60, 128.0, 4.2,
-                   birch_murnaghan3_pressure_gpa)
+FORSTERITE = Phase("forsterite (olivine)", 140.69 / 43.60, 128.0, 4.2, birch_murnaghan3_pressure_gpa)
 WADSLEYITE = Phase("wadsleyite", 140.69 / 40.52, 169.0, 4.3, birch_murnaghan3_pressure_gpa)
 RINGWOODITE = Phase("ringwoodite", 140.69 / 39.49, 185.0, 4.2, birch_murnaghan3_pressure_gpa)
-PEROVSKITE = Phase("MgSiO3 perovskite (bridgmanite)", 100.39 / 24.45, 251.0, 4.1,
-                   birch_murnaghan3_pressure_gpa)
-POST_PEROVSKITE = Phase("MgSiO3 post-perovskite", 100.39 / 24.42, 231.0, 4.0,
-                        birch_murnaghan3_pressure_gpa)
+PEROVSKITE = Phase("MgSiO3 perovskite (bridgmanite)", 100.39 / 24.45, 251.0, 4.1, birch_murnaghan3_pressure_gpa)
+POST_PEROVSKITE = Phase("MgSiO3 post-perovskite", 100.39 / 24.42, 231.0, 4.0, birch_murnaghan3_pressure_gpa)
 
 # Transition pressures: olivine -> wadsleyite 13.5 GPa and wadsleyite ->
 # ringwoodite 18 GPa (Katsura & Ito 1989, J. Geophys. Res. 94, 15663; the 410 and
@@ -159,9 +153,7 @@ POST_PEROVSKITE = Phase("MgSiO3 post-perovskite", 100.39 / 24.42, 231.0, 4.0,
 # Science 304, 855).
 IRON = Material("iron", [IRON_EPSILON])
 SILICATE = Material(
-    "silicate",
-    [FORSTERITE, WADSLEYITE, RINGWOODITE, PEROVSKITE, POST_PEROVSKITE],
-    [13.5, 18.0, 23.0, 120.0],
+    "silicate", [FORSTERITE, WADSLEYITE, RINGWOODITE, PEROVSKITE, POST_PEROVSKITE], [13.5, 18.0, 23.0, 120.0]
 )
 
 # --- water ---------------------------------------------------------------------

@@ -28,11 +28,10 @@ from planetfit.context.interior.structure import solve_structure
 
 GRID_PATH = Path(__file__).resolve().parents[2] / "data" / "interior_grid.npz"
 
-EARTH_LIKE_IRON_FRACTION = 0.325    # source: Earth's core mass fraction, as in the issue brief
+EARTH_LIKE_IRON_FRACTION = 0.325  # source: Earth's core mass fraction, as in the issue brief
 
 GRID_MASS_EARTH = np.geomspace(0.01, 30.0, 40)
-GRID_IRON_FRACTION = np.unique(np.round(np.r_[np.linspace(0.0, 1.0, 21),
-                                              EARTH_LIKE_IRON_FRACTION], 6))
+GRID_IRON_FRACTION = np.unique(np.round(np.r_[np.linspace(0.0, 1.0, 21), EARTH_LIKE_IRON_FRACTION], 6))
 GRID_WATER_FRACTION = np.round(np.linspace(0.0, 0.5, 11), 6)
 
 # name -> (iron fraction of the interior, water mass fraction); all lie on grid nodes.
@@ -121,8 +120,7 @@ def compute_grid(mass_earth, iron_fraction, water_fraction, processes=1):
     ndarray
         Radii in Earth radii, shape (len(mass), len(iron), len(water)).
     """
-    points = [(float(m), float(f), float(w))
-              for m in mass_earth for f in iron_fraction for w in water_fraction]
+    points = [(float(m), float(f), float(w)) for m in mass_earth for f in iron_fraction for w in water_fraction]
     if processes > 1:
         with multiprocessing.Pool(processes) as pool:
             radii = pool.map(_radius, points, chunksize=16)
@@ -135,8 +133,7 @@ def compute_grid(mass_earth, iron_fraction, water_fraction, processes=1):
 def load_grid():
     """The shipped :class:`MassRadiusGrid` (read once)."""
     with np.load(GRID_PATH) as data:
-        return MassRadiusGrid(data["mass_earth"], data["iron_fraction"],
-                              data["water_fraction"], data["radius_earth"])
+        return MassRadiusGrid(data["mass_earth"], data["iron_fraction"], data["water_fraction"], data["radius_earth"])
 
 
 def reference_radius_earth(curve_name, mass_earth):
@@ -153,8 +150,7 @@ def reference_radius_earth(curve_name, mass_earth):
         Same shape as ``mass_earth``.
     """
     if curve_name not in REFERENCE_CURVES:
-        raise KeyError(f"unknown reference curve {curve_name!r}; "
-                       f"choose one of {', '.join(REFERENCE_CURVES)}")
+        raise KeyError(f"unknown reference curve {curve_name!r}; choose one of {', '.join(REFERENCE_CURVES)}")
     grid = load_grid()
     i, j = grid.node_index(*REFERENCE_CURVES[curve_name])
     m = np.asarray(mass_earth, dtype=float)
@@ -174,12 +170,15 @@ def main(argv=None):
     parser.add_argument("--out", type=Path, default=GRID_PATH)
     args = parser.parse_args(argv)
     start = time.perf_counter()
-    radius = compute_grid(GRID_MASS_EARTH, GRID_IRON_FRACTION, GRID_WATER_FRACTION,
-                          args.processes)
+    radius = compute_grid(GRID_MASS_EARTH, GRID_IRON_FRACTION, GRID_WATER_FRACTION, args.processes)
     args.out.parent.mkdir(parents=True, exist_ok=True)
-    np.savez_compressed(args.out, mass_earth=GRID_MASS_EARTH,
-                        iron_fraction=GRID_IRON_FRACTION,
-                        water_fraction=GRID_WATER_FRACTION, radius_earth=radius)
+    np.savez_compressed(
+        args.out,
+        mass_earth=GRID_MASS_EARTH,
+        iron_fraction=GRID_IRON_FRACTION,
+        water_fraction=GRID_WATER_FRACTION,
+        radius_earth=radius,
+    )
     print(f"wrote {args.out} ({radius.size} models, {time.perf_counter() - start:.0f} s)")
 
 

@@ -24,11 +24,11 @@ from planetfit.context.interior.eos import IRON, SILICATE, WATER
 from planetfit.core.units import G_SI, M_EARTH_KG, PA_TO_GPA, R_EARTH_M
 
 # Scaled units: mass in Earth masses, u = (r / R_earth)^3, pressure in GPa.
-_DU_DM = 3.0 * M_EARTH_KG / (4.0 * np.pi * R_EARTH_M**3)          # times 1/rho[kg m^-3]
+_DU_DM = 3.0 * M_EARTH_KG / (4.0 * np.pi * R_EARTH_M**3)  # times 1/rho[kg m^-3]
 _DP_DM_GPA = G_SI * M_EARTH_KG**2 / (4.0 * np.pi * R_EARTH_M**4) * PA_TO_GPA
 
-_RTOL = 1e-7                   # integration tolerance (radius good to ~1e-5)
-_START_MASS_FRACTION = 1e-9    # first mass shell, started from the central series
+_RTOL = 1e-7  # integration tolerance (radius good to ~1e-5)
+_START_MASS_FRACTION = 1e-9  # first mass shell, started from the central series
 LAYER_NAMES = ("core", "mantle", "water")
 
 
@@ -73,8 +73,8 @@ def layer_masses_earth(mass_earth, iron_fraction, water_fraction):
 def _rhs(material):
     def rhs(m, y):
         u, p = y
-        return [_DU_DM / material.density_kg_m3(p),
-                -_DP_DM_GPA * m / max(u, 1e-300) ** (4.0 / 3.0)]
+        return [_DU_DM / material.density_kg_m3(p), -_DP_DM_GPA * m / max(u, 1e-300) ** (4.0 / 3.0)]
+
     return rhs
 
 
@@ -90,8 +90,9 @@ def _integrate(central_pressure_gpa, layers, record=False):
     m_start = m0
     ends = []
     for material, _, m_end in layers:
-        sol = solve_ivp(_rhs(material), (m_start, m_end), y, method="RK45",
-                        rtol=_RTOL, atol=[1e-14, 1e-9 * central_pressure_gpa])
+        sol = solve_ivp(
+            _rhs(material), (m_start, m_end), y, method="RK45", rtol=_RTOL, atol=[1e-14, 1e-9 * central_pressure_gpa]
+        )
         y = sol.y[:, -1]
         m_start = m_end
         ends.append((y[0] ** (1.0 / 3.0), y[1]))

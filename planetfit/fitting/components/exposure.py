@@ -18,8 +18,8 @@ import math
 
 import numpy as np
 
-from planetfit.core.units import MINUTES_PER_DAY, PPM
 from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, solve_orbit
+from planetfit.core.units import MINUTES_PER_DAY, PPM
 from planetfit.fitting.components.transit import TransitLightCurve, quadratic_coefficients
 
 #: Bound on the integration error, as a fraction of the dataset's median flux error.
@@ -55,8 +55,18 @@ class SharpTransit:
     def mean_flux(self, times, exposure_days, supersample):
         """Exposure-averaged flux at mid-exposure ``times`` (mid-transit at 0), as the fit computes it."""
         lc = TransitLightCurve(times, exposure_days, supersample)
-        return lc.flux(np.arange(times.size), self.period_days, 0.0, self.a_over_rstar, math.pi / 2, 0.0,
-                       CIRCULAR_OMEGA_RAD, self.radius_ratio, self.u1, self.u2)
+        return lc.flux(
+            np.arange(times.size),
+            self.period_days,
+            0.0,
+            self.a_over_rstar,
+            math.pi / 2,
+            0.0,
+            CIRCULAR_OMEGA_RAD,
+            self.radius_ratio,
+            self.u1,
+            self.u2,
+        )
 
 
 def sharpest_transits(planets, star, q1, q2):
@@ -112,8 +122,13 @@ class IntegrationError:
 
     def __call__(self, supersample):
         """Largest |model - reference| over the probed times and transits, ppm (0 without transits)."""
-        return max((float(np.max(np.abs(tr.mean_flux(t, self.exposure_days, supersample) - ref))) / PPM
-                    for tr, t, ref in self.probes), default=0.0)
+        return max(
+            (
+                float(np.max(np.abs(tr.mean_flux(t, self.exposure_days, supersample) - ref))) / PPM
+                for tr, t, ref in self.probes
+            ),
+            default=0.0,
+        )
 
     def smallest_supersample(self, bound_ppm, most=MAX_SUPERSAMPLE):
         """Smallest n <= ``most`` whose error is below ``bound_ppm``, and that error; ``most`` and its error if none."""
@@ -163,15 +178,23 @@ def choose_sampling(name, exposure_days, median_error, transits, requested=None)
     if err < bound:
         return ExposureSampling(n, err, bound)
     exposure_min = exposure_days * MINUTES_PER_DAY
-    what = (f"'supersample: {n}' leaves" if requested is not None
-            else f"even {n} sub-exposures per {exposure_min:g}-min exposure (the most chosen automatically) leave")
+    what = (
+        f"'supersample: {n}' leaves"
+        if requested is not None
+        else f"even {n} sub-exposures per {exposure_min:g}-min exposure (the most chosen automatically) leave"
+    )
     if requested is not None and requested < MAX_SUPERSAMPLE:
         needed, needed_err = error.smallest_supersample(bound)
-        fix = (f"set 'supersample: {needed}', or remove the key to have it chosen." if needed_err < bound
-               else f"set 'supersample' above {MAX_SUPERSAMPLE}.")
+        fix = (
+            f"set 'supersample: {needed}', or remove the key to have it chosen."
+            if needed_err < bound
+            else f"set 'supersample' above {MAX_SUPERSAMPLE}."
+        )
     else:
         fix = f"set 'supersample' above {n} (each model evaluation costs proportionally more)."
-    warning = (f"{name}: {what} an exposure-integration error of up to {err:.3g} ppm for the sharpest "
-               f"transit the priors allow, above the bound of {bound:.3g} ppm (a tenth of the median flux error, "
-               f"{median_error / PPM:.3g} ppm); the fitted transit shape may be biased. Fix: {fix}")
+    warning = (
+        f"{name}: {what} an exposure-integration error of up to {err:.3g} ppm for the sharpest "
+        f"transit the priors allow, above the bound of {bound:.3g} ppm (a tenth of the median flux error, "
+        f"{median_error / PPM:.3g} ppm); the fitted transit shape may be biased. Fix: {fix}"
+    )
     return ExposureSampling(n, err, bound, warning)

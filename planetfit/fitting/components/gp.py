@@ -36,8 +36,9 @@ class OscillatorKernel:
         self.parameters = [self.sigma, self.rho, self.quality]
 
     def term(self, values):
-        return terms.SHOTerm(sigma=values[self.sigma.name] * PPM, rho=values[self.rho.name],
-                             Q=values[self.quality.name])
+        return terms.SHOTerm(
+            sigma=values[self.sigma.name] * PPM, rho=values[self.rho.name], Q=values[self.quality.name]
+        )
 
 
 class Matern32Kernel:
@@ -81,6 +82,7 @@ class RotationKernel:
 def _declarer(owner):
     def declare(key, prior):
         return Parameter(owner, key, prior, DATASET[key])
+
     return declare
 
 

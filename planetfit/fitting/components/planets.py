@@ -68,8 +68,15 @@ class Planet:
         per, t0 = values[self.period.name], values[self.transit_time.name]
         out = {"e": e, "omega_rad": w, "periastron_bjd": periastron_bjd(t0, per, e, w)}
         if self.transits:
-            a_r, cos_i, mp = solve_orbit(per, values[self.amplitude.name], values[self.impact.name], e, w,
-                                         values[star.mass.name], values[star.radius.name])
+            a_r, cos_i, mp = solve_orbit(
+                per,
+                values[self.amplitude.name],
+                values[self.impact.name],
+                e,
+                w,
+                values[star.mass.name],
+                values[star.radius.name],
+            )
             out.update(a_over_rstar=a_r, cos_i=cos_i, mass_kg=mp)
         return out
 
@@ -85,5 +92,10 @@ class Planet:
             return ok
         k = values[self.radius_ratio.name]
         with np.errstate(invalid="ignore"):
-            return (ok & (k > 0) & (values[self.impact.name] < 1 + k) & (np.abs(orbit["cos_i"]) < 1)
-                    & (orbit["a_over_rstar"] * (1 - orbit["e"]) > 1 + k))
+            return (
+                ok
+                & (k > 0)
+                & (values[self.impact.name] < 1 + k)
+                & (np.abs(orbit["cos_i"]) < 1)
+                & (orbit["a_over_rstar"] * (1 - orbit["e"]) > 1 + k)
+            )

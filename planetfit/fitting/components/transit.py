@@ -133,11 +133,13 @@ class TransitTerm:
         p, lc = self.planet, self.light_curve
         per, t0, k = values[p.period.name], values[p.transit_time.name], values[p.radius_ratio.name]
         sin_i = math.sqrt(1 - orbit["cos_i"] ** 2)
-        index = lc.window(per, t0, lc.half_window_days(per, orbit["a_over_rstar"], k, sin_i, orbit["e"],
-                                                       orbit["omega_rad"]))
+        index = lc.window(
+            per, t0, lc.half_window_days(per, orbit["a_over_rstar"], k, sin_i, orbit["e"], orbit["omega_rad"])
+        )
         if not index.size:
             return None
         u1, u2 = self.limb_darkening.coefficients(values)
-        f = lc.flux(index, per, t0, orbit["a_over_rstar"], math.acos(orbit["cos_i"]), orbit["e"], orbit["omega_rad"],
-                    k, u1, u2)
+        f = lc.flux(
+            index, per, t0, orbit["a_over_rstar"], math.acos(orbit["cos_i"]), orbit["e"], orbit["omega_rad"], k, u1, u2
+        )
         return index, 1 - f

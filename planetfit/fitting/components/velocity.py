@@ -33,13 +33,16 @@ class Spectrograph:
         self.name = block.name
         self.offset = declare("offset_ms", block.offset_ms)
         self.jitter = declare("jitter_ms", block.jitter_ms)
-        self.coefficients = [declare("activity_coefficient", prior, decorrelation_name(block.name, col))
-                             for col, prior in block.decorrelate.items()]
+        self.coefficients = [
+            declare("activity_coefficient", prior, decorrelation_name(block.name, col))
+            for col, prior in block.decorrelate.items()
+        ]
         self.indicators = [np.asarray(data.indicators[col], dtype=float) for col in block.decorrelate]
         amp = block.activity_amplitude_ms
         self.activity_amplitude = None if amp is None else declare("activity_amplitude_ms", amp)
         self.parameters = [self.offset, self.jitter, *self.coefficients] + (
-            [self.activity_amplitude] if amp is not None else [])
+            [self.activity_amplitude] if amp is not None else []
+        )
 
     def indicator_ms(self, values):
         """The activity-indicator part (m/s) at the spectrograph's times (0.0 without indicators)."""
@@ -60,8 +63,9 @@ class LinearTrend:
     """
 
     def __init__(self, block, rv_times):
-        self.coefficients = [Parameter("rv_trend", "slope_ms_per_day", block.slope_ms_per_day,
-                                       DATASET["slope_ms_per_day"])]
+        self.coefficients = [
+            Parameter("rv_trend", "slope_ms_per_day", block.slope_ms_per_day, DATASET["slope_ms_per_day"])
+        ]
         ref = block.reference_bjd
         self.reference_bjd = float(0.5 * (rv_times.min() + rv_times.max()) if ref is None else ref)
 
@@ -83,8 +87,11 @@ class QuadraticTrend(LinearTrend):
 
     def __init__(self, block, rv_times):
         super().__init__(block, rv_times)
-        self.coefficients.append(Parameter("rv_trend", "curvature_ms_per_day2", block.curvature_ms_per_day2,
-                                           DATASET["curvature_ms_per_day2"]))
+        self.coefficients.append(
+            Parameter(
+                "rv_trend", "curvature_ms_per_day2", block.curvature_ms_per_day2, DATASET["curvature_ms_per_day2"]
+            )
+        )
 
 
 TRENDS = {schema.QuadraticTrend: QuadraticTrend, schema.LinearTrend: LinearTrend}

@@ -9,15 +9,46 @@ from pydantic.json_schema import GenerateJsonSchema
 from ..priors import Prior
 from .base import Block
 from .config import ConfigFile
-from .datasets import (PHOTOMETRY_VARIANTS, ConstantBaseline, LinearBaseline, Matern32GP, OscillatorGP, Photometry,
-                       QuadraticLaw, SharedGP, Velocities)
+from .datasets import (
+    PHOTOMETRY_VARIANTS,
+    ConstantBaseline,
+    LinearBaseline,
+    Matern32GP,
+    OscillatorGP,
+    Photometry,
+    QuadraticLaw,
+    SharedGP,
+    Velocities,
+)
 from .planets import PLANET_VARIANTS, CircularKeys, EccentricKeys, RvOnlyKeys, Star, TransitKeys
 from .settings import Climate, LinearTrend, NoTrend, QuadraticTrend, RvActivity, Sampling
 
-__all__ = ["Block", "CircularKeys", "Climate", "ConfigFile", "ConstantBaseline", "EccentricKeys", "LinearBaseline",
-           "LinearTrend", "Matern32GP", "NoTrend", "OscillatorGP", "PHOTOMETRY_VARIANTS", "PLANET_VARIANTS",
-           "Photometry", "QuadraticLaw", "QuadraticTrend", "RvActivity", "RvOnlyKeys", "Sampling", "SharedGP", "Star",
-           "TransitKeys", "Velocities", "json_schema"]
+__all__ = [
+    "Block",
+    "CircularKeys",
+    "Climate",
+    "ConfigFile",
+    "ConstantBaseline",
+    "EccentricKeys",
+    "LinearBaseline",
+    "LinearTrend",
+    "Matern32GP",
+    "NoTrend",
+    "OscillatorGP",
+    "PHOTOMETRY_VARIANTS",
+    "PLANET_VARIANTS",
+    "Photometry",
+    "QuadraticLaw",
+    "QuadraticTrend",
+    "RvActivity",
+    "RvOnlyKeys",
+    "Sampling",
+    "SharedGP",
+    "Star",
+    "TransitKeys",
+    "Velocities",
+    "json_schema",
+]
 
 
 class _ConfigJsonSchema(GenerateJsonSchema):
@@ -31,8 +62,7 @@ def json_schema():
     """The JSON Schema (draft 2020-12) of a config file."""
     schema = ConfigFile.model_json_schema(schema_generator=_ConfigJsonSchema)
     trend = schema["properties"]["rv_trend"]  # also written as one word: 'rv_trend: linear'
-    schema["properties"]["rv_trend"] = {"anyOf": [{"enum": ["none", "linear", "quadratic"]}, trend],
-                                        "default": "none"}
+    schema["properties"]["rv_trend"] = {"anyOf": [{"enum": ["none", "linear", "quadratic"]}, trend], "default": "none"}
     schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
     schema["title"] = "planetfit config"
     return schema

@@ -27,8 +27,13 @@ def _variant_json_schema(schema, cls):
 class Block(BaseModel):
     """A config block: unknown keys are errors, values keep their YAML types."""
 
-    model_config = ConfigDict(extra="forbid", strict=True, arbitrary_types_allowed=True, validate_default=True,
-                              json_schema_extra=_variant_json_schema)
+    model_config = ConfigDict(
+        extra="forbid",
+        strict=True,
+        arbitrary_types_allowed=True,
+        validate_default=True,
+        json_schema_extra=_variant_json_schema,
+    )
     #: The settings that select this variant, e.g. ``{"orbit": "eccentric"}`` (empty for blocks without variants).
     variant: ClassVar[dict] = {}
 
@@ -39,6 +44,7 @@ def variants(choose, *classes):
     Tags are the classes' names; an input that is no mapping gets the first
     class, so the type error names the block.
     """
+
     def tag(value):
         if isinstance(value, BaseModel):
             return TAG_PREFIX + type(value).__name__

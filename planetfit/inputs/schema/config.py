@@ -54,16 +54,22 @@ class ConfigFile(Block):
         for section, items in (("photometry", self.photometry), ("velocities", self.velocities)):
             for i, d in enumerate(items):
                 if d.time_system in NEEDS_COORDINATES and (self.star.ra_deg is None or self.star.dec_deg is None):
-                    fail(f"{d.time_system} times need the star's sky position to become BJD_TDB.",
-                         "add 'ra_deg' and 'dec_deg' (ICRS, degrees) to the 'star' block.",
-                         key=f"/{section}[{i}].time_system")
+                    fail(
+                        f"{d.time_system} times need the star's sky position to become BJD_TDB.",
+                        "add 'ra_deg' and 'dec_deg' (ICRS, degrees) to the 'star' block.",
+                        key=f"/{section}[{i}].time_system",
+                    )
         for i, d in enumerate(self.photometry):
             files = [d.file] if isinstance(d.file, str) else d.file
             if any(is_fits(f) for f in files):
                 for key in ("time_system", "select", "header"):
                     if key in d.model_fields_set:
-                        fail(f"'{key}' applies to text tables; FITS light curves carry their columns and time "
-                             "system (TIMESYS) in their headers.", f"remove '{key}'.", key=f"/photometry[{i}].{key}")
+                        fail(
+                            f"'{key}' applies to text tables; FITS light curves carry their columns and time "
+                            "system (TIMESYS) in their headers.",
+                            f"remove '{key}'.",
+                            key=f"/photometry[{i}].{key}",
+                        )
         return self
 
 
@@ -72,11 +78,17 @@ def _check_dataset_names(config):
     for section, items in (("photometry", config.photometry), ("velocities", config.velocities)):
         for i, d in enumerate(items):
             if d.name in seen:
-                fail(f"the dataset name '{d.name}' is used twice.", "give every dataset its own name.",
-                     key=f"/{section}[{i}].name")
+                fail(
+                    f"the dataset name '{d.name}' is used twice.",
+                    "give every dataset its own name.",
+                    key=f"/{section}[{i}].name",
+                )
             if d.name in config.planets:
-                fail(f"'{d.name}' names both a planet and a dataset.", "rename the dataset (e.g. 'camera-1').",
-                     key=f"/{section}[{i}].name")
+                fail(
+                    f"'{d.name}' names both a planet and a dataset.",
+                    "rename the dataset (e.g. 'camera-1').",
+                    key=f"/{section}[{i}].name",
+                )
             seen.add(d.name)
 
 
@@ -85,34 +97,53 @@ def _check_shared_gps(photometry):
     owners = {d.name: d for d in photometry if isinstance(d, _OwnGP)}
     for i, d in enumerate(photometry):
         if isinstance(d, SharedGP) and d.gp_shared_with not in owners:
-            fail(f"'{d.gp_shared_with}' is not another photometric dataset with its own GP.",
-                 f"name one of: {', '.join(owners) or '(none: give a dataset baseline: gp and its own priors)'}.",
-                 key=f"/photometry[{i}].gp_shared_with")
+            fail(
+                f"'{d.gp_shared_with}' is not another photometric dataset with its own GP.",
+                f"name one of: {', '.join(owners) or '(none: give a dataset baseline: gp and its own priors)'}.",
+                key=f"/photometry[{i}].gp_shared_with",
+            )
 
 
 def _check_rv_blocks(config):
     """Activity amplitudes come with ``rv_activity``; trend and activity blocks need RVs."""
     for i, d in enumerate(config.velocities):
         if config.rv_activity is None and d.activity_amplitude_ms is not None:
-            fail("an activity amplitude needs the shared 'rv_activity' block.",
-                 "add a top-level 'rv_activity:' block, or remove this key.", key=f"/velocities[{i}].activity_amplitude_ms")
+            fail(
+                "an activity amplitude needs the shared 'rv_activity' block.",
+                "add a top-level 'rv_activity:' block, or remove this key.",
+                key=f"/velocities[{i}].activity_amplitude_ms",
+            )
         if config.rv_activity is not None and d.activity_amplitude_ms is None:
             d.activity_amplitude_ms = ACTIVITY_AMPLITUDE_DEFAULT
-    for block, given in (("rv_trend", not isinstance(config.rv_trend, NoTrend)), ("rv_activity",
-                                                                                   config.rv_activity is not None)):
+    for block, given in (
+        ("rv_trend", not isinstance(config.rv_trend, NoTrend)),
+        ("rv_activity", config.rv_activity is not None),
+    ):
         if given and not config.velocities:
-            fail("this block models radial velocities, and none are given.",
-                 f"add a 'velocities' dataset or remove '{block}'.", key=f"/{block}")
+            fail(
+                "this block models radial velocities, and none are given.",
+                f"add a 'velocities' dataset or remove '{block}'.",
+                key=f"/{block}",
+            )
 
 
 def _check_data_present(config):
     if not config.photometry and not config.velocities:
-        fail("the config has no data: neither 'photometry' nor 'velocities' lists a dataset.",
-             "add at least one dataset (see README, config reference).", key="/photometry")
+        fail(
+            "the config has no data: neither 'photometry' nor 'velocities' lists a dataset.",
+            "add at least one dataset (see README, config reference).",
+            key="/photometry",
+        )
     for name, p in config.planets.items():
         if p.transits and not config.photometry:
-            fail("a transiting planet needs photometry, and none is given.",
-                 "add a 'photometry' dataset, or set 'transits: false'.", key=f"/planets.{name}.transits")
+            fail(
+                "a transiting planet needs photometry, and none is given.",
+                "add a 'photometry' dataset, or set 'transits: false'.",
+                key=f"/planets.{name}.transits",
+            )
         if not config.velocities and not p.rv_amplitude_ms.fixed:
-            fail("no radial velocities are given to constrain it.",
-                 "fix it to 0 (transit-only fit) or add a 'velocities' dataset.", key=f"/planets.{name}.rv_amplitude_ms")
+            fail(
+                "no radial velocities are given to constrain it.",
+                "fix it to 0 (transit-only fit) or add a 'velocities' dataset.",
+                key=f"/planets.{name}.rv_amplitude_ms",
+            )

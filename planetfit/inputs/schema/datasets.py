@@ -100,13 +100,18 @@ class Dataset(Block):
         for key, column in self.columns_used():
             by_number = isinstance(column, int) and not isinstance(column, bool)
             if self.header and by_number:
-                fail(f"columns are named by the file's header here, got {column}.",
-                     "write the header's name, or set 'header: false' to give columns by number (1 = first field).",
-                     key=key)
+                fail(
+                    f"columns are named by the file's header here, got {column}.",
+                    "write the header's name, or set 'header: false' to give columns by number (1 = first field).",
+                    key=key,
+                )
             if not self.header and not (by_number and column >= 1):
-                fail(f"with 'header: false' columns are given by number (1 = the first field of a row), got "
-                     f"'{column}'.", f"write e.g. '{key.rpartition('.')[2]}: 1', or remove 'header: false' if the "
-                                     "file has a header line.", key=key)
+                fail(
+                    f"with 'header: false' columns are given by number (1 = the first field of a row), got '{column}'.",
+                    f"write e.g. '{key.rpartition('.')[2]}: 1', or remove 'header: false' if the "
+                    "file has a header line.",
+                    key=key,
+                )
         return self
 
 
@@ -122,8 +127,15 @@ class Photometry(Dataset):
     limb_darkening_q2: Annotated[PriorSpec, UnitInterval] = Uniform(0, 1)
     flux_level: PriorSpec = Uniform(0.9, 1.1)
     jitter_ppm: Annotated[PriorSpec, NonNegativeJitter] = Fixed(0.0)
-    dilution: Annotated[PriorSpec, prior_within(0.0, 1.0 - 1e-12, "the contaminating flux fraction must lie in "
-                                                "[0, 1).", "give e.g. 0.05, or '{uniform: [0, 0.2]}'.")] = Fixed(0.0)
+    dilution: Annotated[
+        PriorSpec,
+        prior_within(
+            0.0,
+            1.0 - 1e-12,
+            "the contaminating flux fraction must lie in [0, 1).",
+            "give e.g. 0.05, or '{uniform: [0, 0.2]}'.",
+        ),
+    ] = Fixed(0.0)
     normalise: bool = True
     quality_column: Optional[Column] = None
     quality_keep_bits: list[Annotated[int, Field(ge=1, le=32)]] = []
@@ -140,8 +152,11 @@ class Photometry(Dataset):
     @model_validator(mode="after")
     def _keep_bits_need_a_column(self):
         if self.quality_keep_bits and self.quality_column is None:
-            fail("bits to keep need a quality column.", "add 'quality_column: <column name>' or remove "
-                 "'quality_keep_bits'.", key="quality_keep_bits")
+            fail(
+                "bits to keep need a quality column.",
+                "add 'quality_column: <column name>' or remove 'quality_keep_bits'.",
+                key="quality_keep_bits",
+            )
         return self
 
     @property
@@ -217,7 +232,9 @@ class Velocities(Dataset):
     def _indicators_are_other_columns(self):
         for column in self.decorrelate:
             if column in self.columns.model_dump().values():
-                fail("this column is already the time, RV or error column.",
-                     "name an activity-indicator column of the file (e.g. line width or bisector span).",
-                     key=f"decorrelate.{column}")
+                fail(
+                    "this column is already the time, RV or error column.",
+                    "name an activity-indicator column of the file (e.g. line width or bisector span).",
+                    key=f"decorrelate.{column}",
+                )
         return self

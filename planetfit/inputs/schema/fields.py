@@ -33,14 +33,23 @@ def _parse_prior(value):
         fail(f"invalid prior: {exc}.", PRIOR_FIX)
 
 
-_PRIOR_JSON = {"oneOf": [{"type": "number", "description": "a fixed value"}] + [
-    {"type": "object", "additionalProperties": False, "required": [kind],
-     "properties": {kind: {"type": "array", "items": {"type": "number"}, "minItems": n, "maxItems": n}}}
-    for kind, (_, n) in PRIOR_KINDS.items()]}
+_PRIOR_JSON = {
+    "oneOf": [{"type": "number", "description": "a fixed value"}]
+    + [
+        {
+            "type": "object",
+            "additionalProperties": False,
+            "required": [kind],
+            "properties": {kind: {"type": "array", "items": {"type": "number"}, "minItems": n, "maxItems": n}},
+        }
+        for kind, (_, n) in PRIOR_KINDS.items()
+    ]
+}
 
 #: A prior in its config spelling: ``{uniform: [lo, hi]}``, ``{normal: [mean, sd]}``, ... or a number (fixed).
-PriorSpec = Annotated[Prior, PlainValidator(_parse_prior), PlainSerializer(lambda prior: prior.as_config()),
-                      WithJsonSchema(_PRIOR_JSON)]
+PriorSpec = Annotated[
+    Prior, PlainValidator(_parse_prior), PlainSerializer(lambda prior: prior.as_config()), WithJsonSchema(_PRIOR_JSON)
+]
 
 
 def lowest(prior):
@@ -55,20 +64,26 @@ def highest(prior):
 
 def positive_prior(what):
     """Validator: the prior stays above zero (a normal one within 5 sd)."""
+
     def check(prior):
         if not lowest(prior) > 0:
-            fail(f"the prior reaches zero or below; {what} must be positive.",
-                 "raise the lower bound above zero (or use a normal prior with mean > 5 sd).")
+            fail(
+                f"the prior reaches zero or below; {what} must be positive.",
+                "raise the lower bound above zero (or use a normal prior with mean > 5 sd).",
+            )
         return prior
+
     return AfterValidator(check)
 
 
 def prior_within(lo, hi, problem, fix):
     """Validator: the prior's practical range lies inside [lo, hi]."""
+
     def check(prior):
         if lowest(prior) < lo or highest(prior) > hi:
             fail(problem, fix)
         return prior
+
     return AfterValidator(check)
 
 

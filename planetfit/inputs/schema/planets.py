@@ -17,8 +17,12 @@ from .fields import Number, PriorSpec, fail, lowest, positive_prior, prior_withi
 
 ORBITS = Literal["circular", "eccentric"]
 
-Unbound = prior_within(-1.0, 1.0, "the prior reaches beyond [-1, 1], that is e > 1 (an unbound orbit).",
-                       "keep it inside [-1, 1], e.g. '{uniform: [-1, 1]}' (eccentricity_max caps e further).")
+Unbound = prior_within(
+    -1.0,
+    1.0,
+    "the prior reaches beyond [-1, 1], that is e > 1 (an unbound orbit).",
+    "keep it inside [-1, 1], e.g. '{uniform: [-1, 1]}' (eccentricity_max caps e further).",
+)
 
 
 class Star(Block):
@@ -83,12 +87,18 @@ class TransitKeys(Block):
         if lo < 0:
             fail("the impact parameter cannot be negative.", "use a lower bound of 0.", key="impact")
         if lo >= 1 + k_hi:
-            fail(f"the whole prior lies beyond 1 + radius ratio ({1 + k_hi:g}): no transit is possible.",
-                 "use e.g. '{uniform: [0, 1]}'.", key="impact")
+            fail(
+                f"the whole prior lies beyond 1 + radius ratio ({1 + k_hi:g}): no transit is possible.",
+                "use e.g. '{uniform: [0, 1]}'.",
+                key="impact",
+            )
         if hi > 1 + k_hi:
-            fail(f"the prior reaches {hi:g}, beyond 1 + the largest radius ratio ({1 + k_hi:g}), where the planet "
-                 "would not transit.", f"cap the upper bound at {1 + k_hi:g} or below, e.g. '{{uniform: [0, 1]}}'.",
-                 key="impact")
+            fail(
+                f"the prior reaches {hi:g}, beyond 1 + the largest radius ratio ({1 + k_hi:g}), where the planet "
+                "would not transit.",
+                f"cap the upper bound at {1 + k_hi:g} or below, e.g. '{{uniform: [0, 1]}}'.",
+                key="impact",
+            )
         return self
 
 
@@ -96,9 +106,17 @@ class RvOnlyKeys(Block):
     """A planet seen only in RVs; an inclination prior (e.g. from transits seen elsewhere) gives its true mass."""
 
     transits: Literal[False]
-    inclination_deg: Optional[Annotated[PriorSpec, prior_within(
-        1e-9, 180.0, "the inclination must lie in (0, 180] degrees (0 is face-on, where no RV signal exists).",
-        "give e.g. '{normal: [88.5, 0.5]}' from the planet's transits.")]] = None
+    inclination_deg: Optional[
+        Annotated[
+            PriorSpec,
+            prior_within(
+                1e-9,
+                180.0,
+                "the inclination must lie in (0, 180] degrees (0 is face-on, where no RV signal exists).",
+                "give e.g. '{normal: [88.5, 0.5]}' from the planet's transits.",
+            ),
+        ]
+    ] = None
 
 
 class TransitingCircular(PlanetBlock, TransitKeys, CircularKeys):
@@ -120,8 +138,12 @@ class RvOnlyEccentric(PlanetBlock, RvOnlyKeys, EccentricKeys):
 def _planet_variant(raw):
     transiting = raw.get("transits", True) is not False
     eccentric = raw.get("orbit") == "eccentric"
-    return {(True, False): "TransitingCircular", (True, True): "TransitingEccentric",
-            (False, False): "RvOnlyCircular", (False, True): "RvOnlyEccentric"}[(transiting, eccentric)]
+    return {
+        (True, False): "TransitingCircular",
+        (True, True): "TransitingEccentric",
+        (False, False): "RvOnlyCircular",
+        (False, True): "RvOnlyEccentric",
+    }[(transiting, eccentric)]
 
 
 #: One planet, its variant chosen by ``transits`` and ``orbit``.

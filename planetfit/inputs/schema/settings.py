@@ -38,19 +38,31 @@ def _trend_block(value):
     return {"kind": value} if isinstance(value, str) else value
 
 
-RvTrend = Annotated[variants(lambda raw: {"linear": "LinearTrend", "quadratic": "QuadraticTrend"}.get(
-    raw.get("kind"), "NoTrend"), NoTrend, LinearTrend, QuadraticTrend), BeforeValidator(_trend_block)]
+RvTrend = Annotated[
+    variants(
+        lambda raw: {"linear": "LinearTrend", "quadratic": "QuadraticTrend"}.get(raw.get("kind"), "NoTrend"),
+        NoTrend,
+        LinearTrend,
+        QuadraticTrend,
+    ),
+    BeforeValidator(_trend_block),
+]
 
 
 class RvActivity(Block):
-    """Spot activity shared by all spectrographs: a rotation GP (celerite2 RotationTerm), amplitudes per spectrograph."""
+    """Spot activity shared by all spectrographs: a rotation GP (celerite2 RotationTerm), each with its amplitude."""
 
     rotation_period_days: Annotated[PriorSpec, positive_prior("rotation_period_days")]
     quality: Annotated[PriorSpec, positive_prior("quality")] = LogUniform(0.5, 50.0)
-    quality_difference: Annotated[PriorSpec, prior_within(0.0, math.inf, "must not be negative.",
-                                                          "use a lower bound of 0 or above.")] = Fixed(1.0)
-    mix: Annotated[PriorSpec, prior_within(0.0, 1.0, "the fraction of power at half the period lies in [0, 1].",
-                                           "keep the prior inside [0, 1].")] = Fixed(0.5)
+    quality_difference: Annotated[
+        PriorSpec, prior_within(0.0, math.inf, "must not be negative.", "use a lower bound of 0 or above.")
+    ] = Fixed(1.0)
+    mix: Annotated[
+        PriorSpec,
+        prior_within(
+            0.0, 1.0, "the fraction of power at half the period lies in [0, 1].", "keep the prior inside [0, 1]."
+        ),
+    ] = Fixed(0.5)
 
 
 #: Heat-redistribution factor f in T_eq^4 = f (1 - A) S / sigma, by name.
@@ -67,17 +79,23 @@ class Climate(Block):
     """Assumptions of the climate and atmosphere screening (a Bond albedo, redistribution, grey optical depth)."""
 
     albedo: Annotated[Number, Field(ge=0, lt=1)] = 0.3
-    redistribution: Union[Literal["full", "dayside"], Annotated[Number, Field(gt=0, le=MAX_REDISTRIBUTION_FACTOR)]] \
-        = "full"
-    tau: Union[Annotated[Number, Field(ge=0)], Annotated[list[Annotated[Number, Field(ge=0)]],
-                                                          Field(min_length=2, max_length=2)]] = 0.94
+    redistribution: Union[Literal["full", "dayside"], Annotated[Number, Field(gt=0, le=MAX_REDISTRIBUTION_FACTOR)]] = (
+        "full"
+    )
+    tau: Union[
+        Annotated[Number, Field(ge=0)],
+        Annotated[list[Annotated[Number, Field(ge=0)]], Field(min_length=2, max_length=2)],
+    ] = 0.94
     mean_molecular_weight: Union[Literal[tuple(MEAN_MOLECULAR_WEIGHTS)], PositiveNumber] = 2.3
 
     @model_validator(mode="after")
     def _tau_range_ordered(self):
         if isinstance(self.tau, list) and self.tau[0] > self.tau[1]:
-            fail(f"the range [{self.tau[0]:g}, {self.tau[1]:g}] is reversed.", "write it as [lo, hi] with lo <= hi.",
-                 key="tau")
+            fail(
+                f"the range [{self.tau[0]:g}, {self.tau[1]:g}] is reversed.",
+                "write it as [lo, hi] with lo <= hi.",
+                key="tau",
+            )
         return self
 
     @property

@@ -8,9 +8,9 @@ from functools import partial
 
 import numpy as np
 
-from planetfit.report.figures.common import PosteriorView, file_stem
 from planetfit.fitting import predictions
 from planetfit.fitting.chainfile import read_chain
+from planetfit.report.figures.common import PosteriorView, file_stem
 from planetfit.report.figures.convergence import convergence_figure, physical_chain
 from planetfit.report.figures.corners import physical_corner, sampled_corner
 from planetfit.report.figures.habitable_zone import habitable_zone_figure
@@ -37,8 +37,12 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
     for p in transiting:
         duration_hr = summary["planets"][p.name]["transit_duration_hr"]["median"]
         for i, d in enumerate(posterior.photometry):
-            out.append((f"transit_{file_stem(p.name)}_{file_stem(d.name)}",
-                        partial(transit_figure, posterior, view, p, i, duration_hr)))
+            out.append(
+                (
+                    f"transit_{file_stem(p.name)}_{file_stem(d.name)}",
+                    partial(transit_figure, posterior, view, p, i, duration_hr),
+                )
+            )
     for i, c in enumerate(checked.config.photometry):
         if predictions.has_variability_model(posterior, i):
             out.append((f"light_curve_{file_stem(c.name)}", partial(light_curve_figure, posterior, view, i)))
@@ -47,11 +51,17 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
         out.append(("rv_time", partial(rv_time_figure, posterior, view)))
     out += [(f"corner_{file_stem(p.name)}", partial(physical_corner, derived, p)) for p in planets]
     # Planets with a measured mass (a transit-only fit has none) go on the mass-radius diagram.
-    weighed = [p for p in transiting if np.any(np.isfinite(derived["planets"][p.name]["mass_earth"])
-                                               & (derived["planets"][p.name]["mass_earth"] > 0))]
+    weighed = [
+        p
+        for p in transiting
+        if np.any(
+            np.isfinite(derived["planets"][p.name]["mass_earth"]) & (derived["planets"][p.name]["mass_earth"] > 0)
+        )
+    ]
     if weighed:
         out.append(("mass_radius", partial(mass_radius_figure, derived, weighed)))
     out.append(("habitable_zone", partial(habitable_zone_figure, derived, planets)))
-    out.append(("convergence", partial(_convergence, run_dir, posterior, summary,
-                                       checked.config.sampling.autocorr_factor)))
+    out.append(
+        ("convergence", partial(_convergence, run_dir, posterior, summary, checked.config.sampling.autocorr_factor))
+    )
     return out

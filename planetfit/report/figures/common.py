@@ -1,5 +1,6 @@
 """What several figures share: posterior draws, folding, binning, credible bands."""
 
+import corner
 import numpy as np
 
 from planetfit.core.stats import LOWER_PERCENTILE, UPPER_PERCENTILE
@@ -98,3 +99,23 @@ def offset_for_display(x):
 def file_stem(text):
     """A file-name-safe form of a planet or dataset name."""
     return "".join(c if c.isalnum() or c in "-_" else "_" for c in str(text))
+
+
+def contours(ax, x, y, colour, scales):
+    """Filled 1- and 2-sigma contours of paired samples (corner's hist2d), ``scales`` ("log"/"linear") per axis."""
+    limits = [np.percentile(x, [0.1, 99.9]), np.percentile(y, [0.1, 99.9])]
+    corner.hist2d(
+        x,
+        y,
+        ax=ax,
+        axes_scale=list(scales),
+        levels=LEVELS_2D,
+        color=colour,
+        smooth=1.0,
+        plot_datapoints=False,
+        plot_density=False,
+        fill_contours=True,
+        bins=30,
+        quiet=True,
+        range=limits,
+    )

@@ -63,8 +63,16 @@ def convergence_figure(history, chain, names, discard, target_factor):
             # Names are too long for a y label of a short panel: written inside it.
             box = {"facecolor": "white", "edgecolor": "none", "alpha": 0.8, "pad": 1.0}
             ax.text(0.01, 0.95, names[j], transform=ax.transAxes, ha="left", va="top", fontsize=6.5, bbox=box)
-            ax.text(0.99, 0.95, rf"$\hat\tau$ = {tau[j]:.0f}", transform=ax.transAxes, ha="right", va="top",
-                    fontsize=6.5, bbox=box)
+            ax.text(
+                0.99,
+                0.95,
+                rf"$\hat\tau$ = {tau[j]:.0f}",
+                transform=ax.transAxes,
+                ha="right",
+                va="top",
+                fontsize=6.5,
+                bbox=box,
+            )
         axes[-1].set_xlabel("Step (dashed: end of burn-in)")
         for ax in axes[1:-1]:
             ax.tick_params(labelbottom=False)

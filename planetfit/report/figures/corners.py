@@ -5,11 +5,11 @@ import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.ticker import ScalarFormatter
 
-from planetfit.core.stats import LOWER_PERCENTILE, UPPER_PERCENTILE
 from planetfit.core import quantities as q
+from planetfit.core.stats import LOWER_PERCENTILE, UPPER_PERCENTILE
 from planetfit.report import style
-from planetfit.report.rounding import number_text
 from planetfit.report.figures.common import LEVELS_2D, offset_for_display
+from planetfit.report.rounding import number_text
 
 #: Enough points for smooth 2D histograms; more only costs time.
 MAX_POINTS = 4000
@@ -33,8 +33,18 @@ def _corner(columns, labels, width_in, margin_in, tick_size, **options):
     """corner.corner on thinned samples in a square figure with margins given in inches."""
     data = np.column_stack(columns)
     fig = Figure(figsize=(width_in, width_in))
-    corner.corner(data[thin_rows(len(data))], labels=labels, fig=fig, bins=20, levels=LEVELS_2D,
-                  color=style.BLUE, plot_datapoints=False, quiet=True, labelpad=0.08, **options)
+    corner.corner(
+        data[thin_rows(len(data))],
+        labels=labels,
+        fig=fig,
+        bins=20,
+        levels=LEVELS_2D,
+        color=style.BLUE,
+        plot_datapoints=False,
+        quiet=True,
+        labelpad=0.08,
+        **options,
+    )
     for ax in fig.axes:
         ax.tick_params(labelsize=tick_size)
         for axis in (ax.xaxis, ax.yaxis):
@@ -71,9 +81,20 @@ def physical_corner(derived, planet):
     keys = [k for k in keys if np.all(np.isfinite(values[k])) and np.ptp(values[k]) > 0]
     columns, labels = zip(*(_shifted(values[k], q.planet_quantity(k, planet.transits).axis_label()) for k in keys))
     with style.style(style.CORNER_RC):
-        width_in = min(style.PAGE_WIDTH_IN, max(style.COLUMN_WIDTH_IN, PHYSICAL_MARGIN_IN + PHYSICAL_PANEL_IN * len(keys)))
-        return _corner(columns, labels, width_in, PHYSICAL_MARGIN_IN, 6.5, smooth=1.0, fill_contours=True,
-                       max_n_ticks=3, quantiles=(LOWER_PERCENTILE / 100, 0.5, UPPER_PERCENTILE / 100))
+        width_in = min(
+            style.PAGE_WIDTH_IN, max(style.COLUMN_WIDTH_IN, PHYSICAL_MARGIN_IN + PHYSICAL_PANEL_IN * len(keys))
+        )
+        return _corner(
+            columns,
+            labels,
+            width_in,
+            PHYSICAL_MARGIN_IN,
+            6.5,
+            smooth=1.0,
+            fill_contours=True,
+            max_n_ticks=3,
+            quantiles=(LOWER_PERCENTILE / 100, 0.5, UPPER_PERCENTILE / 100),
+        )
 
 
 def sampled_corner(derived):
@@ -88,9 +109,17 @@ def sampled_corner(derived):
     columns, labels = zip(*(_shifted(derived["parameters"][n], n) for n in names))
     with style.style(style.CORNER_RC):
         # Contour lines only: hundreds of panels, drawn for a look at shapes, not for print.
-        fig = _corner(columns, labels, NAME_MARGIN_IN + PANEL_IN * len(names), NAME_MARGIN_IN, 5,
-                      plot_density=False, no_fill_contours=True, max_n_ticks=2,
-                      label_kwargs={"fontsize": 6.5, "rotation": 90})
+        fig = _corner(
+            columns,
+            labels,
+            NAME_MARGIN_IN + PANEL_IN * len(names),
+            NAME_MARGIN_IN,
+            5,
+            plot_density=False,
+            no_fill_contours=True,
+            max_n_ticks=2,
+            label_kwargs={"fontsize": 6.5, "rotation": 90},
+        )
         for ax in fig.axes:
             if ax.get_ylabel():
                 ax.yaxis.label.set(rotation=0, ha="right", va="center")

@@ -1,13 +1,12 @@
 """Mass–radius diagram: posterior contours over the interior composition curves."""
 
-import corner
 import numpy as np
 from matplotlib.ticker import FixedLocator, FormatStrFormatter, NullFormatter
 
 from planetfit.context.interior import REFERENCE_CURVES, reference_curve
 from planetfit.report import style
 from planetfit.report.figures import solar_system
-from planetfit.report.figures.common import LEVELS_2D
+from planetfit.report.figures.common import contours
 
 CURVE_STYLES = {  # name -> (legend text, colour, line style)
     "iron": ("100% iron", style.BLACK, "-"),
@@ -21,8 +20,23 @@ _RADIUS_RANGE = (0.3, 5.0)
 _MASS_TICKS = (0.01, 0.03, 0.1, 0.3, 1, 3, 10, 30, 100, 300, 1000, 3000)
 _RADIUS_TICKS = (0.2, 0.3, 0.5, 1, 2, 3, 5, 10, 20)
 # Label offsets (points) and alignment, so close pairs (Venus-Earth, Uranus-Neptune) stay apart.
-_LABEL_PLACES = {"Mercury": ((4, -2), "left"), "Venus": ((-4, 2), "right"), "Earth": ((4, -5), "left"),
-                 "Mars": ((4, -2), "left"), "Uranus": ((-4, 0), "right"), "Neptune": ((3, -7), "left")}
+_LABEL_PLACES = {
+    "Mercury": ((4, -2), "left"),
+    "Venus": ((-4, 2), "right"),
+    "Earth": ((4, -5), "left"),
+    "Mars": ((4, -2), "left"),
+    "Uranus": ((-4, 0), "right"),
+    "Neptune": ((3, -7), "left"),
+}
+
+
+def _solar_system(ax):
+    """The Solar System's rocky planets and ice giants, labelled."""
+    for name in solar_system.ROCKY + solar_system.ICE_GIANTS:
+        mass, radius, _ = solar_system.PLANETS[name]
+        ax.plot(mass, radius, "o", color=style.GREY, mec=style.BLACK, mew=0.4, ms=3.5, zorder=5)
+        offset, align = _LABEL_PLACES[name]
+        ax.annotate(name, (mass, radius), xytext=offset, textcoords="offset points", fontsize=6, ha=align, va="center")
 
 
 def mass_radius_figure(derived, planets):
@@ -57,18 +71,11 @@ def mass_radius_figure(derived, planets):
             ok = (m > 0) & (r > 0) & np.isfinite(m) & np.isfinite(r)
             m, r = m[ok], r[ok]
             colour = PLANET_COLOURS[k % len(PLANET_COLOURS)]
-            corner.hist2d(m, r, ax=ax, axes_scale=["log", "log"], levels=LEVELS_2D, color=colour, smooth=1.0,
-                          plot_datapoints=False, plot_density=False, fill_contours=True, bins=30, quiet=True,
-                          range=[np.percentile(m, [0.1, 99.9]), np.percentile(r, [0.1, 99.9])])
+            contours(ax, m, r, colour, ("log", "log"))
             ax.plot([], [], "s", color=colour, label=f"planet {p.name}")
             lo_m, hi_m = min(lo_m, np.percentile(m, 0.5) / 1.5), max(hi_m, np.percentile(m, 99.5) * 1.5)
             lo_r, hi_r = min(lo_r, np.percentile(r, 0.5) / 1.2), max(hi_r, np.percentile(r, 99.5) * 1.2)
-        for name in solar_system.ROCKY + solar_system.ICE_GIANTS:
-            mass, radius, _ = solar_system.PLANETS[name]
-            ax.plot(mass, radius, "o", color=style.GREY, mec=style.BLACK, mew=0.4, ms=3.5, zorder=5)
-            offset, align = _LABEL_PLACES[name]
-            ax.annotate(name, (mass, radius), xytext=offset, textcoords="offset points", fontsize=6, ha=align,
-                        va="center")
+        _solar_system(ax)
         ax.set_xscale("log")
         ax.set_yscale("log")
         ax.set_xlim(lo_m, hi_m)

@@ -27,8 +27,18 @@ def _model_ppm(lc, values, orbit, planet, model, limb_darkening):
     """
     dilution = values[model.dilution.name] if model.dilution else 0.0
     u1, u2 = limb_darkening.coefficients(values)
-    f = lc.flux(np.arange(lc.times.size), values[planet.period.name], 0.0, orbit["a_over_rstar"],
-                math.acos(orbit["cos_i"]), orbit["e"], orbit["omega_rad"], values[planet.radius_ratio.name], u1, u2)
+    f = lc.flux(
+        np.arange(lc.times.size),
+        values[planet.period.name],
+        0.0,
+        orbit["a_over_rstar"],
+        math.acos(orbit["cos_i"]),
+        orbit["e"],
+        orbit["omega_rad"],
+        values[planet.radius_ratio.name],
+        u1,
+        u2,
+    )
     return (f - 1.0) * (1 - dilution) / PPM
 
 
@@ -48,8 +58,7 @@ def _folded_data(posterior, view, planet, index, half_hr):
     own = predictions.photometry_model(posterior, v, orbits, index, planets=[planet.name])
     x_hr = phase_days(d.time, v[planet.period.name], v[planet.transit_time.name]) * HOURS_PER_DAY
     sel = np.abs(x_hr) <= half_hr
-    return (x_hr[sel], ((flux - (full - own))[sel] / level[sel] - 1.0) / PPM,
-            (flux - full)[sel] / level[sel] / PPM)
+    return (x_hr[sel], ((flux - (full - own))[sel] / level[sel] - 1.0) / PPM, (flux - full)[sel] / level[sel] / PPM)
 
 
 def _model_curves(posterior, view, planet, index, half_hr):
@@ -96,20 +105,11 @@ def transit_figure(posterior, view, planet, index, duration_hr):
     with style.style():
         fig = style.new_figure(style.COLUMN_WIDTH_IN, 3.3)
         top, bottom = fig.subplots(2, 1, sharex=True, height_ratios=(3, 1.2))
-        # Sparse data may be seen more clearly than thousands of points.
-        # Dense data: raw points may run off the axes so the binned points and the transit fill them.
-        dense = x_hr.size > DENSE_POINTS
-        raw_ms, raw_alpha = (1.5, 0.3) if dense else (2.5, 0.6)
         model_span = np.r_[lo, hi, median_model]
         for ax, y, model in ((top, flux_ppm, model_span), (bottom, resid_ppm, np.zeros(1))):
-            ax.plot(x_hr, y, ".", color=style.RAW_COLOUR, ms=raw_ms, alpha=raw_alpha, mec="none", rasterized=True)
-            bx, by, be = bin_points(x_hr, y, width_hr)
-            ax.errorbar(bx, by, be, fmt="o", color=style.DATA_COLOUR, ms=2.5, elinewidth=0.7,
-                        label=f"binned ({width_hr * 60:.0f} min)")
-            _limits(ax, np.r_[by - be, by + be] if dense and by.size else y, model)
+            points(ax, x_hr, y, width_hr, model)
         top.plot([], [], ".", color=style.RAW_COLOUR, ms=4, label="each exposure")
-        top.fill_between(grid_hr, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0,
-                         label="68% of draws")
+        top.fill_between(grid_hr, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0, label="68% of draws")
         top.plot(grid_hr, median_model, color=style.MODEL_COLOUR, label="median model")
         bottom.axhline(0.0, color=style.MODEL_COLOUR)
         top.set_ylabel("Relative flux $-$ 1 [ppm]")
@@ -117,10 +117,30 @@ def transit_figure(posterior, view, planet, index, duration_hr):
         bottom.set_xlabel("Time from mid-transit [h]")
         bottom.set_xlim(-half, half)
         exposure = d.exposure_days * MINUTES_PER_DAY
-        fig.legend(*top.get_legend_handles_labels(), loc="outside upper center", ncols=2,
-                   title=f"Planet {planet.name}, {d.name} ({exposure:.0f}-min exposures)\n"
-                         f"data: {_removed(posterior, index)} removed")
+        fig.legend(
+            *top.get_legend_handles_labels(),
+            loc="outside upper center",
+            ncols=2,
+            title=f"Planet {planet.name}, {d.name} ({exposure:.0f}-min exposures)\n"
+            f"data: {_removed(posterior, index)} removed",
+        )
     return fig
+
+
+def points(ax, x, y, width, model):
+    """Each exposure faint and binned points with standard errors; y-limits from the data and the ``model`` curve.
+
+    Sparse data read best point by point; with dense data the raw points may run off the axes so that the
+    binned points and the model fill them.
+    """
+    dense = x.size > DENSE_POINTS
+    raw_ms, raw_alpha = (1.5, 0.3) if dense else (2.5, 0.6)
+    ax.plot(x, y, ".", color=style.RAW_COLOUR, ms=raw_ms, alpha=raw_alpha, mec="none", rasterized=True)
+    bx, by, be = bin_points(x, y, width)
+    ax.errorbar(
+        bx, by, be, fmt="o", color=style.DATA_COLOUR, ms=2.5, elinewidth=0.7, label=f"binned ({width * 60:.0f} min)"
+    )
+    _limits(ax, np.r_[by - be, by + be] if dense and by.size else y, model)
 
 
 def _removed(posterior, index):
@@ -161,10 +181,21 @@ def light_curve_figure(posterior, view, index):
     with style.style():
         fig = style.new_figure(style.PAGE_WIDTH_IN, 3.6)
         top, bottom = fig.subplots(2, 1, sharex=True)
-        for ax, y, curve, label in ((top, d.flux, model + gp, "GP prediction + transit model"),
-                                    (bottom, (d.flux - gp) / base, model / base, "transit model")):
-            ax.plot(x, (y - 1) / PPM, ".", color=style.RAW_COLOUR, ms=1.0, alpha=0.4, mec="none", rasterized=True,
-                    label="each exposure")
+        for ax, y, curve, label in (
+            (top, d.flux, model + gp, "GP prediction + transit model"),
+            (bottom, (d.flux - gp) / base, model / base, "transit model"),
+        ):
+            ax.plot(
+                x,
+                (y - 1) / PPM,
+                ".",
+                color=style.RAW_COLOUR,
+                ms=1.0,
+                alpha=0.4,
+                mec="none",
+                rasterized=True,
+                label="each exposure",
+            )
             for part_x, part_y in zip(np.split(x, gaps), np.split((curve - 1) / PPM, gaps)):
                 ax.plot(part_x, part_y, color=style.MODEL_COLOUR, lw=0.8, label=label)
                 label = None

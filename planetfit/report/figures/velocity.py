@@ -19,12 +19,18 @@ MAX_GRID_POINTS = 20000
 
 def planet_rv_ms(values, orbit, planet, times):
     """One planet's Keplerian RV (m/s) at ``times``."""
-    return radial_velocity_ms(times, values[planet.period.name], orbit["periastron_bjd"], orbit["e"],
-                              orbit["omega_rad"], values[planet.amplitude.name])
+    return radial_velocity_ms(
+        times,
+        values[planet.period.name],
+        orbit["periastron_bjd"],
+        orbit["e"],
+        orbit["omega_rad"],
+        values[planet.amplitude.name],
+    )
 
 
 def _corrected(posterior, view, index):
-    """RVs without offset and activity-GP prediction, the model (planets, trend, decorrelation), jitter-inflated errors."""
+    """RVs without offset and activity prediction, the model (planets, trend, indicators), jitter-inflated errors."""
     d, s = posterior.velocities[index], posterior.model.velocity.spectrographs[index]
     v = view.median
     rv = d.rv - v[s.offset.name] - predictions.velocity_noise_prediction(posterior, v, view.median_orbits)[index]
@@ -46,8 +52,16 @@ def removed_text(posterior, *extra):
 def _instruments(ax, posterior, draw_one):
     for i, d in enumerate(posterior.velocities):
         x, y, e = draw_one(i)
-        ax.errorbar(x, y, e, fmt=style.MARKERS[i % len(style.MARKERS)], color=style.CYCLE[i % len(style.CYCLE)],
-                    ms=3, elinewidth=0.7, label=d.name)
+        ax.errorbar(
+            x,
+            y,
+            e,
+            fmt=style.MARKERS[i % len(style.MARKERS)],
+            color=style.CYCLE[i % len(style.CYCLE)],
+            ms=3,
+            elinewidth=0.7,
+            label=d.name,
+        )
 
 
 def _panels(width_in, height_in, rows=2):
@@ -87,8 +101,12 @@ def rv_phase_figure(posterior, view, planet):
 
     grid = np.linspace(-0.5, 0.5, GRID_POINTS)
     median = planet_rv_ms(v, orbits[name], planet, v[planet.transit_time.name] + grid * period)
-    lo, hi = band([planet_rv_ms(val, orb[name], planet, val[planet.transit_time.name] + grid * val[planet.period.name])
-                   for val, orb in view.draws])
+    lo, hi = band(
+        [
+            planet_rv_ms(val, orb[name], planet, val[planet.transit_time.name] + grid * val[planet.period.name])
+            for val, orb in view.draws
+        ]
+    )
     others = ["other planets"] if len(posterior.planets) > 1 else []
     others += ["trend"] if posterior.model.velocity.trend is not None else []
     with style.style():
@@ -100,8 +118,12 @@ def rv_phase_figure(posterior, view, planet):
         top.set_ylabel("Radial velocity [m/s]")
         bottom.set_xlabel("Phase (0 = conjunction)")
         bottom.set_xlim(-0.5, 0.5)
-        fig.legend(*top.get_legend_handles_labels(), loc="outside upper center", ncols=2,
-                   title=f"Planet {name}, P = {period:.4g} d\n{removed_text(posterior, *others)}")
+        fig.legend(
+            *top.get_legend_handles_labels(),
+            loc="outside upper center",
+            ncols=2,
+            title=f"Planet {name}, P = {period:.4g} d\n{removed_text(posterior, *others)}",
+        )
     return fig
 
 
@@ -148,8 +170,9 @@ def rv_time_figure(posterior, view):
     t0, t_lo, t_hi, grid = _time_grid(posterior, view)
 
     def total(values, orbs):
-        return predictions.trend_ms(posterior, values, grid) + sum(planet_rv_ms(values, orbs[p.name], p, grid)
-                                                                   for p in posterior.planets)
+        return predictions.trend_ms(posterior, values, grid) + sum(
+            planet_rv_ms(values, orbs[p.name], p, grid) for p in posterior.planets
+        )
 
     lo, hi = band([total(val, orb) for val, orb in view.draws])
 
@@ -165,8 +188,9 @@ def rv_time_figure(posterior, view):
     with style.style():
         fig, axes = _panels(style.PAGE_WIDTH_IN, 4.6 if activity else 3.3, rows=3 if activity else 2)
         top, bottom = axes[0], axes[-1]
-        top.fill_between(grid - t0, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0,
-                         label="68% of draws")
+        top.fill_between(
+            grid - t0, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0, label="68% of draws"
+        )
         top.plot(grid - t0, total(v, orbits), color=style.MODEL_COLOUR, lw=0.8, label="median model (planets + trend)")
         _instruments(top, posterior, data)
         if activity:
@@ -179,6 +203,11 @@ def rv_time_figure(posterior, view):
         if activity:  # the activity curves, not the same instruments' points again
             more = [(h, lab) for h, lab in zip(*axes[1].get_legend_handles_labels()) if lab.startswith("GP")]
             handles, labels = handles + [h for h, _ in more], labels + [lab for _, lab in more]
-        fig.legend(handles, labels, loc="outside upper center", ncols=2 + len(posterior.velocities),
-                   title=removed_text(posterior) + " (top panel)" * activity)
+        fig.legend(
+            handles,
+            labels,
+            loc="outside upper center",
+            ncols=2 + len(posterior.velocities),
+            title=removed_text(posterior) + " (top panel)" * activity,
+        )
     return fig
