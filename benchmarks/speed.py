@@ -51,7 +51,6 @@ from planetfit.core.units import MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M
 from planetfit.demo import generate
 from planetfit.fitting.components.transit import quadratic_coefficients
 from planetfit.fitting.posterior import JointPosterior
-from planetfit.fitting.sampling import sampler_geometry
 
 POSITIONS = 28  # parameter vectors per batch: half of 56 walkers, as emcee's moves propose them
 ROUNDS = 7  # interleaved rounds; the best is kept
@@ -211,7 +210,7 @@ def true_values(post):
 
 def positions(post, n, seed=1):
     """``n`` sampler-coordinate vectors scattered by 1e-4 of the prior widths around the truth."""
-    _, scale, _, _ = sampler_geometry(post.layout)
+    _, scale, _, _ = post.layout.geometry()
     centre = post.layout.to_sampler(true_values(post))
     rng = np.random.default_rng(seed)
     out = centre + 1e-4 * scale * rng.standard_normal((n, centre.size))
@@ -293,7 +292,7 @@ class PlainPosterior:
             rv = np.zeros(d.time.size)
             for planet in self.planets:
                 n = planet.name
-                if planet.orbit == "eccentric":
+                if planet.orbit.eccentric:
                     e, w = eccentricity_omega(v[f"{n}.sqrt_e_cos_w"], v[f"{n}.sqrt_e_sin_w"])
                 else:
                     e, w = 0.0, CIRCULAR_OMEGA_RAD
@@ -310,9 +309,9 @@ def kernel_calls(post, theta):
     v = post.layout.values(theta)
     orbits = post.orbits(v)
     calls = []
-    for d, curves in zip(post.photometry, post.light_curves):
+    for d, model in zip(post.photometry, post.model.photometry):
         u1, u2 = quadratic_coefficients(v[f"{d.band}.limb_darkening_q1"], v[f"{d.band}.limb_darkening_q2"])
-        for p, lc in zip(post.transiting, curves):
+        for p, lc in ((t.planet, t.light_curve) for t in model.terms):
             o, n = orbits[p.name], p.name
             per, t0, k = v[f"{n}.period_days"], v[f"{n}.transit_bjd"], v[f"{n}.radius_ratio"]
             sin_i = math.sqrt(1 - o["cos_i"] ** 2)
@@ -359,7 +358,9 @@ def evaluation_figures(config_path):
     thetas = positions(post, POSITIONS)
     phot = checked.photometry
     naive = PlainPosterior(post, [(list(range(len(phot))), NAIVE_SUPERSAMPLE, NAIVE_EXPOSURE_MIN / MINUTES_PER_DAY)])
-    per_dataset = PlainPosterior(post, [([i], d.supersample, d.exposure_days) for i, d in enumerate(phot)])
+    per_dataset = PlainPosterior(
+        post, [([i], post.model.exposures[d.name].supersample, d.exposure_days) for i, d in enumerate(phot)]
+    )
     floor, floor_points = floor_function(post, thetas)
     planetfit_lp = post.log_prob_many(thetas)
 
