@@ -88,6 +88,30 @@ DATASET = {
 }
 
 
+#: The planet's own light in one band (fitted), and what follows from it (derived).
+LIGHT = {
+    "eclipse_depth_ppm": Quantity("Eclipse depth", r"$\delta_\mathrm{ecl}$", "ppm", "ppm"),
+    "nightside_ppm": Quantity("Nightside flux", r"$F_\mathrm{night}/F_\star$", "ppm", "ppm"),
+    "hotspot_offset_deg": Quantity("Hotspot offset", r"$\Delta\phi$", "deg", "deg"),
+    "ellipsoidal_ppm": Quantity("Ellipsoidal amplitude", r"$A_\mathrm{ell}$", "ppm", "ppm"),
+    "beaming_ppm": Quantity("Beaming amplitude", r"$A_\mathrm{beam}$", "ppm", "ppm"),
+    "dayside_brightness_temp_k": Quantity("Dayside brightness temperature", r"$T_\mathrm{day}$", "K", "K"),
+    "nightside_brightness_temp_k": Quantity("Nightside brightness temperature", r"$T_\mathrm{night}$", "K", "K"),
+    "geometric_albedo_max": Quantity("Geometric albedo bound", r"$A_g^\mathrm{max}$"),
+    "e_cos_w": Quantity("Eccentricity vector", r"$e\cos\omega$", symbol_text="e cos(w)"),
+    "e_sin_w": Quantity("Eccentricity vector", r"$e\sin\omega$", symbol_text="e sin(w)"),
+    "eclipse_bjd": Quantity("Mid-eclipse time", r"$T_\mathrm{ecl}$", "BJD_TDB", r"BJD$_\mathrm{TDB}$"),
+    "bond_albedo": Quantity("Bond albedo", r"$A_B$"),
+    "heat_redistribution": Quantity("Heat redistribution", r"$\varepsilon$"),
+}
+
+
+def band_quantity(key, band):
+    """The :class:`Quantity` of a planet-light key, its label naming the band."""
+    q = LIGHT[key]
+    return dataclasses.replace(q, label=f"{q.label} ({band})")
+
+
 def planet_quantity(key, transits):
     """The :class:`Quantity` of a planet key, minding non-transiting planets."""
     if not transits and key in MINIMUM_MASS:

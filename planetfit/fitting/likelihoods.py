@@ -2,7 +2,8 @@
 
 A photometric dataset's model reads as the sum of its parts:
 baseline x (1 - (1 - dilution) x the summed flux deficits of its terms),
-the terms being each transiting planet's transits. The RVs of every
+the terms being each transiting planet's transits and, where declared,
+the planet's own light (a negative deficit). The RVs of every
 spectrograph form one dataset (an activity process couples them): every
 planet's Keplerian + trend + activity-indicator terms + offsets. What is
 left is scored by the dataset's noise model. Every likelihood has
@@ -53,8 +54,14 @@ class PhotometryModel:
             t.deficit(values, orbits[t.planet.name]) for t in self.terms if planets is None or t.planet.name in planets
         ]
         parts = [p for p in parts if p is not None]
+        n = self.data.time.size
         if len(parts) == 1:
             index, deficit = parts[0]
+        elif any(p[0].size == n for p in parts):  # a term covering every point (the planet's light)
+            index = np.arange(n)
+            deficit = np.zeros(n)
+            for idx, part in parts:
+                deficit[idx] += part
         else:
             index = np.unique(np.concatenate([p[0] for p in parts])) if parts else np.empty(0, dtype=np.intp)
             deficit = np.zeros(index.size)

@@ -18,6 +18,7 @@ from planetfit.core.units import PPM
 from planetfit.fitting.components import exposure
 from planetfit.fitting.components.baselines import BASELINES
 from planetfit.fitting.components.gp import KERNELS, GaussianProcessNoise, RotationKernel
+from planetfit.fitting.components.light import PlanetLight, PlanetLightTerm
 from planetfit.fitting.components.noise import SumsOfSquares, WhiteNoise
 from planetfit.fitting.components.planets import Planet, Star
 from planetfit.fitting.components.registry import component_for
@@ -41,6 +42,7 @@ class Model:
     prior_only: list  # Parameters drawn from their priors, never sampled
     exposures: dict  # photometric dataset -> its sub-exposure choice (supersample, error_ppm, warning)
     warnings: list  # of building the model (too few sub-exposures)
+    lights: dict = dataclasses.field(default_factory=dict)  # (band, planet name) -> PlanetLight
 
     @property
     def likelihoods(self):
@@ -93,7 +95,17 @@ def _kernel(block, kernels):
     return None, False
 
 
-def _photometry_models(config, photometry, planets):
+def _lights(config, planets):
+    """The planet's light per (band, planet name), from the dataset of the band that declares it."""
+    by_name = {p.name: p for p in planets}
+    return {
+        (block.band_name, name): PlanetLight(by_name[name], block.band_name, light, block.band_wavelength_um)
+        for block in config.photometry
+        for name, light in block.planet_light.items()
+    }
+
+
+def _photometry_models(config, photometry, planets, star, lights):
     """Limb darkening per band; per dataset its likelihood, own parameters and sub-exposure choice."""
     transiting = [p for p in planets if p.transits]
     bands, kernels, out = {}, {}, []
@@ -105,6 +117,7 @@ def _photometry_models(config, photometry, planets):
         ld = bands[block.band_name]
         curve, choice = _light_curve(config, block, data, ld)
         terms = [TransitTerm(p, curve, ld) for p in transiting]
+        terms += [PlanetLightTerm(light, curve, star) for (band, _), light in lights.items() if band == block.band_name]
         baseline = component_for(block, BASELINES)(block, data.time)
         model, params = _photometry(block, data, baseline, terms, *_kernel(block, kernels))
         out.append((model, params, choice))
@@ -141,12 +154,14 @@ def build_model(config, photometry, velocities):
     """The :class:`Model` of a validated config and its datasets."""
     star = Star(config.star)
     planets = [Planet(b) for b in config.planets]
-    bands, phot = _photometry_models(config, photometry, planets)
+    lights = _lights(config, planets)
+    bands, phot = _photometry_models(config, photometry, planets, star, lights)
     rv = _velocity_model(config, velocities, planets)
     transits = any(p.transits for p in planets)
     params = list(star.parameters) if transits else []
     params += [q for p in planets for q in p.parameters]
     params += [q for ld in bands.values() for q in ld.parameters]
+    params += [q for light in lights.values() for q in light.parameters]
     params += [q for _, own, _ in phot for q in own]
     if rv is not None:
         params += [q for s in rv.spectrographs for q in s.parameters]
@@ -156,5 +171,14 @@ def build_model(config, photometry, velocities):
     exposures = {m.data.name: c for m, _, c in phot}
     warnings = [c.warning for c in exposures.values() if c.warning]
     return Model(
-        star, planets, bands, [m for m, _, _ in phot], rv, ParameterLayout(params), prior_only, exposures, warnings
+        star,
+        planets,
+        bands,
+        [m for m, _, _ in phot],
+        rv,
+        ParameterLayout(params),
+        prior_only,
+        exposures,
+        warnings,
+        lights,
     )

@@ -20,6 +20,7 @@ from .datasets import (
     SharedGP,
     Velocities,
 )
+from .light import PlanetLight
 from .planets import PLANET_VARIANTS, CircularKeys, EccentricKeys, RvOnlyKeys, Star, TransitKeys
 from .settings import Climate, LinearTrend, NoTrend, QuadraticTrend, RvActivity, Sampling
 
@@ -37,6 +38,7 @@ __all__ = [
     "OscillatorGP",
     "PHOTOMETRY_VARIANTS",
     "PLANET_VARIANTS",
+    "PlanetLight",
     "Photometry",
     "QuadraticLaw",
     "QuadraticTrend",

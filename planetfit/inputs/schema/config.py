@@ -49,6 +49,7 @@ class ConfigFile(Block):
             planet._name = str(name)
         _check_dataset_names(self)
         _check_shared_gps(self.photometry)
+        _check_planet_light(self)
         _check_rv_blocks(self)
         _check_data_present(self)
         for section, items in (("photometry", self.photometry), ("velocities", self.velocities)):
@@ -146,4 +147,33 @@ def _check_data_present(config):
                 "no radial velocities are given to constrain it.",
                 "fix it to 0 (transit-only fit) or add a 'velocities' dataset.",
                 key=f"/planets.{name}.rv_amplitude_ms",
+            )
+
+
+def _check_planet_light(config):
+    """Each ``planet_light`` names a transiting planet, once per band, and its band has a wavelength."""
+    declared = {}
+    for i, d in enumerate(config.photometry):
+        for name in d.planet_light:
+            key = f"/photometry[{i}].planet_light.{name}"
+            planet = config.planets.get(name)
+            if planet is None or not planet.transits:
+                fail(
+                    f"'{name}' is not a transiting planet of the 'planets' block.",
+                    f"name one of: {', '.join(n for n, p in config.planets.items() if p.transits) or '(none)'}.",
+                    key=key,
+                )
+            if (d.band_name, name) in declared:
+                fail(
+                    f"planet '{name}' already has its light declared for band '{d.band_name}' in dataset "
+                    f"'{declared[d.band_name, name]}'; datasets of one band share these parameters.",
+                    "declare it in one dataset of the band only.",
+                    key=key,
+                )
+            declared[d.band_name, name] = d.name
+        if d.planet_light and d.band_wavelength_um is None:
+            fail(
+                "the planet's light needs the band's wavelength for its brightness temperature.",
+                "add e.g. 'band_wavelength_um: 0.8' (the band's effective wavelength, microns).",
+                key=f"/photometry[{i}].band_wavelength_um",
             )

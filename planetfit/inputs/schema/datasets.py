@@ -16,6 +16,7 @@ from ..priors import Fixed, LogUniform, Uniform
 from ..timesystems import TIME_SYSTEMS
 from .base import Block, variants
 from .fields import Column, Count, Number, PositiveNumber, PriorSpec, fail, positive_prior, prior_within
+from .light import PlanetLight
 
 #: Quality factor of a stochastically driven damped oscillator whose power spectrum resembles
 #: granulation-type variability (Foreman-Mackey et al. 2017, AJ 154, 220, section 4.1).
@@ -144,6 +145,8 @@ class Photometry(Dataset):
     segment_gap_days: PositiveNumber = 0.5
     near_transits_hours: Optional[PositiveNumber] = None
     baseline: BASELINES = "constant"
+    planet_light: dict[str, PlanetLight] = {}
+    band_wavelength_um: Optional[PositiveNumber] = None
 
     def columns_used(self):
         extra = [("quality_column", self.quality_column)] if self.quality_column is not None else []

@@ -1,0 +1,125 @@
+"""The planet's own light in a band: phase curve, secondary eclipse, and the star's ellipsoidal and beaming terms.
+
+With theta = f + w the orbital angle (pi/2 at transit, 3 pi/2 at eclipse),
+the planet's flux relative to the star's is the first harmonic
+
+    F_p = A - B sin(theta + delta),  A = (E + N) / 2,  B = (E - N) / (2 cos delta),
+
+which equals the eclipse depth E at superior conjunction and the nightside
+flux N at inferior conjunction for any hotspot offset delta; its peak comes
+delta before the eclipse (an eastward hotspot, Knutson et al. 2007, Nature
+447, 183). Near each predicted eclipse the planet's uniform disk is
+occulted by the stellar limb: batman's secondary-eclipse kernel (Kreidberg
+2015) gives the visible fraction, called with times shifted by the light
+travel time across the orbit (:mod:`planetfit.core.eclipse`), so the eclipse
+falls at the time planetfit computes rather than at batman's own
+``t_secondary`` (which overwrites ``t0``). The star adds
+A_ell cos(2 theta) (ellipsoidal, minima at conjunctions) and
+-A_beam (cos theta + e cos w) (Doppler beaming: brighter when approaching,
+in units of the RV curve v / K).
+
+The term covers every point (it is not sparse): its dataset is scored in full.
+"""
+
+import math
+
+import numpy as np
+from batman import _eclipse, _rsky
+
+from planetfit.core.eclipse import eclipse_bjd, light_travel_delay_days
+from planetfit.core.quantities import band_quantity
+from planetfit.core.units import PPM, R_SUN_M
+from planetfit.fitting.keplerian import radial_velocity_ms
+from planetfit.fitting.parameters import Parameter
+
+#: batman's code for a secondary eclipse.
+_SECONDARY = 2
+LIGHT_KEYS = ("eclipse_depth_ppm", "nightside_ppm", "hotspot_offset_deg", "ellipsoidal_ppm", "beaming_ppm")
+
+
+class PlanetLight:
+    """One planet's light in one band: its parameters ``<planet>.<band>.<key>`` (planet group of the tables)."""
+
+    def __init__(self, planet, band, block, wavelength_um):
+        self.planet, self.band, self.wavelength_um = planet, band, wavelength_um
+        self.declared = {
+            key: Parameter(planet.name, f"{band}.{key}", getattr(block, key), band_quantity(key, band), "planet")
+            for key in LIGHT_KEYS
+        }
+        self.parameters = list(self.declared.values())
+
+    def value(self, values, key):
+        """One parameter's value (scalar or array)."""
+        return values[self.declared[key].name]
+
+
+def phase_coefficients(eclipse_ppm, nightside_ppm, offset_deg):
+    """(A, B, delta_rad) of F_p = A - B sin(theta + delta) (module notes); arrays welcome."""
+    delta = np.radians(offset_deg)
+    return 0.5 * (eclipse_ppm + nightside_ppm), 0.5 * (eclipse_ppm - nightside_ppm) / np.cos(delta), delta
+
+
+class PlanetLightTerm:
+    """One planet's light in one dataset: minus its flux (and the star's phase terms) at every point.
+
+    Parameters
+    ----------
+    light : PlanetLight
+    light_curve : TransitLightCurve
+        The dataset's times, sub-exposures and windows (shared with its transits).
+    star : Star
+        For a in metres (light travel time).
+    """
+
+    sparse = False
+
+    def __init__(self, light, light_curve, star):
+        self.light, self.light_curve, self.star = light, light_curve, star
+        self.planet = light.planet
+        self.everywhere = np.arange(light_curve.times.size)
+
+    def visible_fraction(self, values, orbit):
+        """(indices near predicted eclipses, fraction of the planet's disk seen there), exposure-averaged."""
+        p, lc = self.planet, self.light_curve
+        per, t0, k = values[p.period.name], values[p.transit_time.name], values[p.radius_ratio.name]
+        e, w, a_r, cos_i = orbit["e"], orbit["omega_rad"], orbit["a_over_rstar"], orbit["cos_i"]
+        sin_i = math.sqrt(1 - cos_i * cos_i)
+        a_m = a_r * values[self.star.radius.name] * R_SUN_M
+        t_ecl = float(eclipse_bjd(t0, per, e, w, a_m, sin_i))
+        index = lc.window(per, t_ecl, lc.half_window_days(per, a_r, k, sin_i, e, w + math.pi))
+        if not index.size:
+            return index, np.empty(0)
+        delay = float(light_travel_delay_days(a_m, e, w, sin_i))
+        t = lc.times[index] - delay
+        if lc.supersample > 1:
+            t = (t[:, None] + lc.offsets).ravel()
+        d = _rsky._rsky(t, t0, per, a_r, math.acos(cos_i), e, w, _SECONDARY, 1)
+        seen = _eclipse._eclipse(d, k, 1.0, 1) - 1.0
+        if lc.supersample > 1:
+            seen = seen.reshape(-1, lc.supersample).mean(axis=1)
+        return index, seen
+
+    def flux_ppm(self, values, orbit):
+        """The planet's flux and the star's phase terms at every point, ppm of the star's flux (one walker)."""
+        light, p = self.light, self.planet
+        per, times = values[p.period.name], self.light_curve.times
+        e, w, tp = orbit["e"], orbit["omega_rad"], orbit["periastron_bjd"]
+        a, b, delta = phase_coefficients(
+            light.value(values, "eclipse_depth_ppm"),
+            light.value(values, "nightside_ppm"),
+            light.value(values, "hotspot_offset_deg"),
+        )
+        shifted = w + delta - math.pi / 2  # cos(f + shifted) = sin(theta + delta)
+        planet = a - b * (radial_velocity_ms(times, per, tp, e, shifted, 1.0) - e * math.cos(shifted))
+        index, seen = self.visible_fraction(values, orbit)
+        planet[index] *= seen
+        ellipsoidal, beaming = light.value(values, "ellipsoidal_ppm"), light.value(values, "beaming_ppm")
+        if ellipsoidal or beaming:
+            rv_curve = radial_velocity_ms(times, per, tp, e, w, 1.0)  # cos(theta) + e cos w
+            cos_theta = rv_curve - e * math.cos(w)
+            planet += ellipsoidal * (2 * cos_theta * cos_theta - 1) - beaming * rv_curve
+        return planet
+
+    def deficit(self, values, orbit):
+        """(every index, minus the added flux): the planet's light raises the flux."""
+        return self.everywhere, -PPM * self.flux_ppm(values, orbit)
