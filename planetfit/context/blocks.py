@@ -3,12 +3,17 @@
 Adds per-sample insolation and equilibrium temperature (zero Bond albedo,
 full redistribution: the conventional values for tables) to each planet,
 and the ``composition``, ``climate`` and ``atmosphere`` blocks of
-summary.json.
+summary.json; for a planet whose light is fitted, its ``planet_light`` keys
+(:mod:`planetfit.context.light`), the climate then using the measured Bond albedo.
 """
 
 import numpy as np
 
 from planetfit.context import atmosphere, climate, interior
+from planetfit.context.light import light_context
+
+#: Caution of a climate block that uses the measured Bond albedo.
+_MEASURED = "Bond albedo {:.3g} is the measured posterior median (planet_light), not the config's {:g}."
 
 
 def add_context(config, model, derived, rng):
@@ -37,6 +42,8 @@ def add_context(config, model, derived, rng):
         insolation = climate.insolation_earth(star["radius_rsun"], star["teff_k"], q["semi_major_axis_au"], ecc)
         q["insolation_earth"] = insolation
         q["equilibrium_temp_k"] = climate.equilibrium_temp_k(insolation, albedo=0.0)
+        light = light_context(model, p, derived)
+        planet_settings = _measured_albedo(settings, light)
         block = {
             "composition": None,
             "atmosphere": None,
@@ -45,11 +52,14 @@ def add_context(config, model, derived, rng):
                 star["teff_k"],
                 q["semi_major_axis_au"],
                 ecc,
-                settings,
+                planet_settings,
                 star_age_gyr=star.get("age_gyr"),
                 rng=rng,
             ),
+            **light,
         }
+        if planet_settings is not settings:
+            block["climate"]["cautions"].append(_MEASURED.format(planet_settings.albedo, settings.albedo))
         if p.transits and np.any(q["mass_earth"] > 0):
             block["composition"] = interior.composition(q["mass_earth"], q["radius_earth"])
             block["atmosphere"] = atmosphere.atmosphere_block(
@@ -65,3 +75,11 @@ def add_context(config, model, derived, rng):
             )
         blocks[p.name] = block
     return blocks
+
+
+def _measured_albedo(settings, light):
+    """The climate settings with the measured Bond albedo (posterior median, clipped to [0, 0.99]) if there is one."""
+    measured = light.get("bond_albedo")
+    if measured is None or measured["median"] is None:
+        return settings
+    return settings.model_copy(update={"albedo": float(np.clip(measured["median"], 0.0, 0.99))})

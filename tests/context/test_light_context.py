@@ -1,0 +1,40 @@
+"""Brightness temperatures and Cowan & Agol (2011) albedo and redistribution."""
+
+import astropy.units as u
+import numpy as np
+import pytest
+from astropy.modeling.models import BlackBody
+
+from planetfit.context.light import bond_albedo_redistribution, brightness_temp_k, cowan_agol_temperatures, planck_si
+
+
+def test_planck_matches_astropy_blackbody():
+    # source: astropy.modeling.models.BlackBody (Planck's law), per unit wavelength
+    expected = BlackBody(5800 * u.K, scale=1 * u.W / (u.m**3 * u.sr))(0.8 * u.um).to_value(u.W / (u.m**3 * u.sr))
+    assert planck_si(0.8e-6, 5800.0) == pytest.approx(expected, rel=1e-9)
+
+
+@pytest.mark.parametrize("wavelength_um", [0.8, 4.5])
+def test_blackbody_planet_at_1500k_comes_back(wavelength_um):
+    # common practice, no published source: the eclipse depth of a 1500 K blackbody planet behind a 5800 K
+    # blackbody star, (Rp/R*)^2 B(1500 K) / B(5800 K) with astropy's Planck function, inverted.
+    k = 0.1
+    bb = [BlackBody(t * u.K)(wavelength_um * u.um).value for t in (1500.0, 5800.0)]
+    depth = k**2 * bb[0] / bb[1]
+    assert brightness_temp_k(depth, k, 5800.0, wavelength_um) == pytest.approx(1500.0, abs=1.0)
+    assert brightness_temp_k(2 * depth, k, 5800.0, wavelength_um) > 1500.0 + 20
+
+
+def test_cowan_agol_worked_case():
+    # source: Cowan & Agol (2011, ApJ 729, 54), eqs. 4 and 5 (value from memory of the equations):
+    # T_d = T0 (1 - A_B)^(1/4) (2/3 - 5 eps / 12)^(1/4), T_n = T0 (1 - A_B)^(1/4) (eps / 4)^(1/4),
+    # T0 = Teff sqrt(R*/a). Worked case: Teff 6000 K, a/R* 9, A_B 0.3, eps 0.4.
+    t0 = 6000.0 / np.sqrt(9.0)
+    base = t0 * 0.7**0.25
+    t_day, t_night = base * (2 / 3 - 5 * 0.4 / 12) ** 0.25, base * (0.4 / 4) ** 0.25
+    assert cowan_agol_temperatures(t0, 0.3, 0.4) == pytest.approx((t_day, t_night), rel=1e-12)
+    assert bond_albedo_redistribution(t_day, t_night, t0) == pytest.approx((0.3, 0.4), abs=1e-12)
+    # limits: full redistribution (eps = 1) makes both sides equal; no redistribution leaves a cold night
+    day, night = cowan_agol_temperatures(t0, 0.0, 1.0)
+    assert day == pytest.approx(night) == pytest.approx(t0 / np.sqrt(2))
+    assert bond_albedo_redistribution(t0 * (2 / 3) ** 0.25, 1e-3, t0)[0] == pytest.approx(0.0, abs=1e-9)
