@@ -159,12 +159,13 @@ def climate(args):
 
 
 def demo(args):
-    """``planetfit demo``: ``run`` on the bundled demo config, into ``./planetfit-demo`` by default."""
-    from planetfit.demo import DEMO_CONFIG
+    """``planetfit demo``: ``run`` on the bundled demo config (or ``--example``), into ``./planetfit-<name>``."""
+    from planetfit.demo import DEMO_CONFIG, EXAMPLES
 
+    example = getattr(args, "example", None)
     if args.out is None:
-        args.out = "planetfit-demo"
-    run(args, DEMO_CONFIG)
+        args.out = f"planetfit-{example}" if example else "planetfit-demo"
+    run(args, EXAMPLES[example] if example else DEMO_CONFIG)
 
 
 def redraw(args):

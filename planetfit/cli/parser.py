@@ -43,6 +43,11 @@ def build_parser():
     p.set_defaults(func=commands.check)
     p = sub.add_parser("demo", help="fit the bundled demo system")
     _add_run_options(p, default_cores=min(2, os.cpu_count() or 1))
+    p.add_argument(
+        "--example",
+        choices=["hot-giant"],
+        help="another bundled system: 'hot-giant' (transit, secondary eclipse and phase curve of a close-in giant)",
+    )
     p.set_defaults(func=commands.demo)
     p = sub.add_parser("batch", help="fit many configs as Dask tasks; write batch_summary.csv")
     p.set_defaults(func=commands.batch)

@@ -9,3 +9,6 @@ from pathlib import Path
 
 DEMO_DIR = Path(__file__).resolve().parent
 DEMO_CONFIG = DEMO_DIR / "demo.yaml"
+#: Further bundled examples (``planetfit demo --example NAME``); ``hot-giant`` is written by
+#: ``python -m planetfit.demo.hot_giant``.
+EXAMPLES = {"hot-giant": DEMO_DIR / "hot-giant" / "hot-giant.yaml"}

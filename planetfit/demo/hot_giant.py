@@ -1,8 +1,8 @@
 """Write the hot-giant example's light curve and radial velocities from a fixed seed.
 
 Run ``python -m planetfit.demo.hot_giant [OUTDIR]`` (default: this package's
-``hot_giant/`` folder). The system is invented: an F star, Orvane-2, with a
-close-in giant (b) on a slightly eccentric orbit whose light curve shows the
+``hot-giant/`` folder). The system is invented: an F star, Orvane-2, with a
+close-in giant (b) on a slightly eccentric orbit whose infrared (4.5 um) light curve shows the
 transit, the secondary eclipse and the phase curve. The transit is made with
 batman's public ``TransitModel``; the eclipse with its secondary-eclipse mode,
 given the eclipse time (superior conjunction from batman's own
@@ -24,8 +24,8 @@ from planetfit.core.geometry import solve_orbit
 from planetfit.core.units import C_SI, MINUTES_PER_DAY, PPM, R_SUN_M, SECONDS_PER_DAY
 
 SEED = 20261202
-FOLDER = Path(__file__).resolve().parent / "hot_giant"
-CONFIG = FOLDER / "hot_giant.yaml"
+FOLDER = Path(__file__).resolve().parent / "hot-giant"
+CONFIG = FOLDER / "hot-giant.yaml"
 TRUTH = {
     "star": {"mass_msun": 1.25, "radius_rsun": 1.40, "teff_k": 6300.0},
     "b": {
@@ -37,8 +37,10 @@ TRUTH = {
         "e": 0.03,
         "omega_deg": 70.0,
     },
-    "light": {"eclipse_depth_ppm": 420.0, "nightside_ppm": 60.0, "hotspot_offset_deg": 20.0},
-    "limb_darkening_u": [0.32, 0.22],
+    # At 4.5 um: blackbody brightness temperatures of 2356 K (day) and 1437 K (night) against a
+    # 6300 K blackbody star, which Cowan & Agol (2011) eqs. 4-5 give for Bond albedo 0.1 and redistribution 0.3.
+    "light": {"eclipse_depth_ppm": 2526.4, "nightside_ppm": 883.3, "hotspot_offset_deg": 20.0},
+    "limb_darkening_u": [0.08, 0.15],
 }
 PHOTOMETRY = {"start_bjd": 2460100.5, "days": 12.0, "cadence_min": 10.0, "noise_ppm": 150.0}
 RVS = {"points": 30, "error_ms": 12.0, "offset_ms": -8.0, "span_bjd": (2460080.0, 2460160.0)}
@@ -54,7 +56,8 @@ def _params(star, b):
     p = batman.TransitParams()
     p.t0, p.per, p.rp, p.a = b["transit_bjd"], b["period_days"], b["radius_ratio"], float(a_r)
     p.inc, p.ecc, p.w = float(np.degrees(np.arccos(cos_i))), b["e"], b["omega_deg"]
-    p.u, p.limb_dark, p.fp = list(TRUTH["limb_darkening_u"]), "quadratic", 1.0
+    p.u, p.fp = list(TRUTH["limb_darkening_u"]), 1.0
+    p.limb_dark = "quadratic"
     return p, float(a_r), float(np.sqrt(1 - cos_i**2))
 
 

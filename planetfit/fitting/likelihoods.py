@@ -41,8 +41,8 @@ class PhotometryModel:
     def __init__(self, data, baseline, terms, dilution, noise):
         self.data, self.baseline, self.terms, self.dilution, self.noise = data, baseline, terms, dilution, noise
 
-    def deficit(self, values, orbits, planets=None):
-        """Summed flux deficit of the terms of ``planets`` (default: all) for one walker.
+    def deficit(self, values, orbits, planets=None, parts=None):
+        """Summed flux deficit of the terms of ``planets`` and ``parts`` (default: all) for one walker.
 
         Returns
         -------
@@ -50,28 +50,30 @@ class PhotometryModel:
             The sorted points inside any term's window and the deficit
             there, diluted (zero everywhere else).
         """
-        parts = [
-            t.deficit(values, orbits[t.planet.name]) for t in self.terms if planets is None or t.planet.name in planets
+        terms = [
+            t
+            for t in self.terms
+            if (planets is None or t.planet.name in planets) and (parts is None or t.part in parts)
         ]
-        parts = [p for p in parts if p is not None]
+        pieces = [p for p in (t.deficit(values, orbits[t.planet.name]) for t in terms) if p is not None]
         n = self.data.time.size
-        if len(parts) == 1:
-            index, deficit = parts[0]
-        elif any(p[0].size == n for p in parts):  # a term covering every point (the planet's light)
+        if len(pieces) == 1:
+            index, deficit = pieces[0]
+        elif any(p[0].size == n for p in pieces):  # a term covering every point (the planet's light)
             index = np.arange(n)
             deficit = np.zeros(n)
-            for idx, part in parts:
+            for idx, part in pieces:
                 deficit[idx] += part
         else:
-            index = np.unique(np.concatenate([p[0] for p in parts])) if parts else np.empty(0, dtype=np.intp)
+            index = np.unique(np.concatenate([p[0] for p in pieces])) if pieces else np.empty(0, dtype=np.intp)
             deficit = np.zeros(index.size)
-            for idx, part in parts:
+            for idx, part in pieces:
                 deficit[index.searchsorted(idx)] += part
         return index, (1 - values[self.dilution.name]) * deficit if self.dilution else deficit
 
-    def flux(self, values, orbits, planets=None):
-        """Model flux at every point for one walker, with the terms of ``planets`` (default: all)."""
-        index, part = self.deficit(values, orbits, planets)
+    def flux(self, values, orbits, planets=None, parts=None):
+        """Model flux at every point for one walker, with the terms of ``planets`` and ``parts`` (default: all)."""
+        index, part = self.deficit(values, orbits, planets, parts)
         deficit = np.zeros(self.data.time.size)
         deficit[index] = part
         return self.baseline.flux(values) * (1 - deficit)

@@ -8,9 +8,10 @@ one walker's parameter values (floats) and its orbits
 import numpy as np
 
 
-def photometry_model(posterior, values, orbits, index, planets=None):
-    """Model flux of photometric dataset ``index``, with the transits of ``planets`` (default: all)."""
-    return posterior.model.photometry[index].flux(values, orbits, planets)
+def photometry_model(posterior, values, orbits, index, planets=None, parts=None):
+    """Model flux of photometric dataset ``index``, with the terms of ``planets`` and ``parts`` (default: all;
+    parts ``"transit"``, ``"planet light"``)."""
+    return posterior.model.photometry[index].flux(values, orbits, planets, parts)
 
 
 def baseline_flux(posterior, values, index):

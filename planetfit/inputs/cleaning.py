@@ -52,22 +52,50 @@ def near_transits(times, planets, star, half_width_days=None):
     of the period times the number of orbits from the reference transit.
     """
     mask = np.zeros(times.size, dtype=bool)
-    mass = star.mass_msun.centre
-    radius = star.radius_rsun.centre
     for p in planets:
-        if not p.transits:
-            continue
-        period, dp = p.period_days.centre, p.period_days.half_width
-        t0, dt0 = p.transit_bjd.centre, p.transit_bjd.half_width
-        half = half_width_days
-        if half is None:
-            a_r = float(solve_orbit(period, 0.0, 0.0, 0.0, math.pi / 2, mass, radius)[0])
-            chord = min(1.0, (1 + p.radius_ratio.bounds[1]) / a_r)
-            half = DURATION_MARGIN * period / (2 * math.pi) * math.asin(chord)
-        epoch = np.round((times - t0) / period)
-        distance = np.abs(times - (t0 + epoch * period))
-        mask |= distance <= half + dt0 + np.abs(epoch) * dp
+        if p.transits:
+            half = _longest_half_days(p, star) if half_width_days is None else half_width_days
+            mask |= _near_epochs(times, p.transit_bjd.centre, p.transit_bjd.half_width, p, half)
     return mask
+
+
+def _longest_half_days(p, star):
+    """Half the longest transit the priors allow (circular orbit, impact 0, largest radius ratio), with margin."""
+    period = p.period_days.centre
+    a_r = float(solve_orbit(period, 0.0, 0.0, 0.0, math.pi / 2, star.mass_msun.centre, star.radius_rsun.centre)[0])
+    chord = min(1.0, (1 + p.radius_ratio.bounds[1]) / a_r)
+    return DURATION_MARGIN * period / (2 * math.pi) * math.asin(chord)
+
+
+def _near_epochs(times, t0, dt0, p, half):
+    """Mask of points within ``half`` of t0 + n P, widened by dt0 and n times the period prior's half-width."""
+    period, dp = p.period_days.centre, p.period_days.half_width
+    epoch = np.round((times - t0) / period)
+    return np.abs(times - (t0 + epoch * period)) <= half + dt0 + np.abs(epoch) * dp
+
+
+def near_eclipses(times, planets, star):
+    """Mask of points that may lie in a secondary eclipse of ``planets`` (those whose light is fitted).
+
+    The eclipse comes half an orbit after the transit, shifted by up to
+    (2P/pi) |e cos w| (Winn 2010, eq. 33) for the largest |e cos w| the
+    priors allow; the half-width is :func:`near_transits`' default.
+    """
+    mask = np.zeros(times.size, dtype=bool)
+    for p in planets:
+        shift = 2 * p.period_days.centre / math.pi * _largest_e_cos_w(p)
+        t0 = p.transit_bjd.centre + 0.5 * p.period_days.centre
+        mask |= _near_epochs(times, t0, p.transit_bjd.half_width + shift, p, _longest_half_days(p, star))
+    return mask
+
+
+def _largest_e_cos_w(p):
+    """Largest |e cos w| of a planet's priors: |sqrt(e) cos w| times the largest sqrt(e)."""
+    if not hasattr(p, "sqrt_e_cos_w"):
+        return 0.0
+    c = max(abs(b) for b in p.sqrt_e_cos_w.bounds)
+    s = max(abs(b) for b in p.sqrt_e_sin_w.bounds)
+    return min(1.0, c) * math.sqrt(min(p.eccentricity_max, c * c + s * s))
 
 
 def _running_median(times, flux, window_days):

@@ -259,7 +259,7 @@ def _normalise(d, cfg):
     return levels[0]  # reported; every segment is normalised to its own
 
 
-def clean_photometry(d, cfg, planets=(), star=None):
+def clean_photometry(d, cfg, planets=(), star=None, lit=()):
     """Normalise a dataset of :func:`read_photometry` per segment and clip it; return the cleaned dataset.
 
     Parameters
@@ -271,12 +271,15 @@ def clean_photometry(d, cfg, planets=(), star=None):
         ``near_transits_hours``, alone kept.
     star : StarConfig
         Sets the longest transit the priors allow.
+    lit : collection of str
+        Planets whose light is fitted in the dataset's band: their predicted eclipses are spared too.
     """
     if cfg.normalise:
         d.normalisation = _normalise(d, cfg)
     keep = np.ones(d.time.size, dtype=bool)
     if planets:
         in_transit = cleaning.near_transits(d.time, planets, star)
+        in_transit |= cleaning.near_eclipses(d.time, [p for p in planets if p.name in lit], star)
         out = cleaning.sigma_clip(d.time, d.flux, d.segment, in_transit, cfg.clip_sigma, cfg.clip_window_days)
         d.clipped = int(out.sum())
         keep &= ~out
@@ -351,5 +354,9 @@ def load_all(config):
         [(c, d, f"photometry[{i}]") for i, (c, d) in enumerate(zip(config.photometry, phot))]
         + [(c, d, f"velocities[{i}]") for i, (c, d) in enumerate(zip(config.velocities, rvs))],
     )
-    phot = [clean_photometry(d, c, config.planets, config.star) for d, c in zip(phot, config.photometry)]
+    lit = {(c.band_name, name) for c in config.photometry for name in c.planet_light}
+    phot = [
+        clean_photometry(d, c, config.planets, config.star, {n for b, n in lit if b == c.band_name})
+        for d, c in zip(phot, config.photometry)
+    ]
     return phot, rvs

@@ -69,8 +69,9 @@ def true_anomaly_grid(e, size=ANOMALY_GRID):
 def orbital_angle(times, period_days, periastron_bjd, e, omega_rad):
     """theta = f + w at ``times``: exact for circular orbits, else f - M interpolated on a grid of M.
 
-    f - M is smooth and periodic, so linear interpolation on :data:`ANOMALY_GRID` steps errs by
-    about (2 pi / ANOMALY_GRID)^2 / 8 times its second derivative (below 1e-3 rad for e <= 0.5: 0.5 ppm of a 500-ppm phase curve).
+    f - M is smooth and periodic, so linear interpolation on :data:`ANOMALY_GRID` steps errs by about
+    (2 pi / ANOMALY_GRID)^2 / 8 times its second derivative: measured against radvel's true anomaly,
+    8e-5 rad at e = 0.3, 3e-4 at e = 0.5 (0.15 ppm of a 1000-ppm phase curve), 7e-3 at e = 0.8.
     """
     mean = (2 * np.pi / period_days) * np.mod(times - periastron_bjd, period_days)
     if e == 0:
@@ -98,6 +99,7 @@ class PlanetLightTerm:
     """
 
     sparse = False
+    part = "planet light"
 
     def __init__(self, light, light_curve, star):
         self.light, self.light_curve, self.star = light, light_curve, star

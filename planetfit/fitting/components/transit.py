@@ -123,6 +123,7 @@ class TransitTerm:
     """
 
     sparse = True
+    part = "transit"
     parameters = ()
 
     def __init__(self, planet, light_curve, limb_darkening):

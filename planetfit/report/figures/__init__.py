@@ -15,6 +15,7 @@ from planetfit.report.figures.convergence import convergence_figure, physical_ch
 from planetfit.report.figures.corners import physical_corner, sampled_corner
 from planetfit.report.figures.habitable_zone import habitable_zone_figure
 from planetfit.report.figures.mass_radius import mass_radius_figure
+from planetfit.report.figures.phase_curve import phase_curve_figure
 from planetfit.report.figures.transit import light_curve_figure, transit_figure
 from planetfit.report.figures.velocity import rv_phase_figure, rv_time_figure
 
@@ -23,6 +24,26 @@ def _convergence(run_dir, posterior, summary, target_factor):
     history, raw = read_chain(run_dir / "samples.h5")
     chain = physical_chain(raw, posterior.layout)
     return convergence_figure(history, chain, posterior.layout.free, summary["sampling"]["discard"], target_factor)
+
+
+def _light_builders(posterior, view, summary):
+    """The planet-light figure of every dataset whose band carries a planet's light."""
+    out = []
+    for (band, name), light in posterior.model.lights.items():
+        entry = summary["planets"][name]
+        for i, d in enumerate(posterior.photometry):
+            if d.band == band:
+                build = partial(
+                    phase_curve_figure,
+                    posterior,
+                    view,
+                    light,
+                    i,
+                    entry["eclipse_bjd"]["median"],
+                    entry["transit_duration_hr"]["median"],
+                )
+                out.append((f"planet_light_{file_stem(name)}_{file_stem(d.name)}", build))
+    return out
 
 
 def figure_builders(run_dir, checked, posterior, samples, derived, summary):
@@ -43,6 +64,7 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
                     partial(transit_figure, posterior, view, p, i, duration_hr),
                 )
             )
+    out += _light_builders(posterior, view, summary)
     for i, c in enumerate(checked.config.photometry):
         if predictions.has_variability_model(posterior, i):
             out.append((f"light_curve_{file_stem(c.name)}", partial(light_curve_figure, posterior, view, i)))

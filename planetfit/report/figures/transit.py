@@ -55,7 +55,7 @@ def _folded_data(posterior, view, planet, index, half_hr):
     v, orbits = view.median, view.median_orbits
     flux, level = detrended(posterior, v, orbits, index)
     full = predictions.photometry_model(posterior, v, orbits, index)
-    own = predictions.photometry_model(posterior, v, orbits, index, planets=[planet.name])
+    own = predictions.photometry_model(posterior, v, orbits, index, planets=[planet.name], parts=["transit"])
     x_hr = phase_days(d.time, v[planet.period.name], v[planet.transit_time.name]) * HOURS_PER_DAY
     sel = np.abs(x_hr) <= half_hr
     return (x_hr[sel], ((flux - (full - own))[sel] / level[sel] - 1.0) / PPM, (flux - full)[sel] / level[sel] / PPM)
@@ -150,6 +150,8 @@ def _removed(posterior, index):
         parts.append("variability (GP mean)")
     if len(posterior.model.transiting) > 1:
         parts.append("other planets")
+    if any(t.part == "planet light" for t in posterior.model.photometry[index].terms):
+        parts.append("planets' light")
     return ", ".join(parts[:-1]) + (" and " if len(parts) > 1 else "") + parts[-1]
 
 
