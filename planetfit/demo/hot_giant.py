@@ -34,7 +34,7 @@ TRUTH = {
         "radius_ratio": 0.105,
         "impact": 0.25,
         "rv_amplitude_ms": 215.0,
-        "e": 0.03,
+        "e": 0.08,
         "omega_deg": 70.0,
     },
     # At 4.5 um: blackbody brightness temperatures of 2356 K (day) and 1437 K (night) against a
