@@ -24,6 +24,9 @@ independent_samples_per_second
 memory
     Peak resident memory of a short fit of ten 2-min sectors (~190,000
     points), in a fresh process.
+hot_giant
+    The hot-giant example's evaluation cost (transit, eclipse, phase curve,
+    RVs) over batman's kernels on the same points (``planet_light_speed.py``).
 """
 
 import argparse
@@ -456,7 +459,7 @@ def memory_figures(folder, max_steps):
     return result
 
 
-SECTIONS = ("evaluation", "fit", "memory")
+SECTIONS = ("evaluation", "fit", "memory", "hot-giant")
 
 
 def main():
@@ -479,6 +482,10 @@ def main():
             report["fit"] = fit_figures(config_path, args.cores)
         if "memory" in args.sections:
             report["memory"] = memory_figures(folder / "memory", args.memory_steps)
+        if "hot-giant" in args.sections:
+            from planet_light_speed import hot_giant_figures  # beside this script
+
+            report["hot_giant"] = hot_giant_figures()
     finally:
         shutil.rmtree(folder, ignore_errors=True)
     report["load_average_at_end"] = [round(x, 2) for x in os.getloadavg()]
