@@ -13,6 +13,7 @@ import numpy as np
 
 from planetfit import rundir
 from planetfit.context import blocks, derived, diagnostics
+from planetfit.context.light import light_warnings
 from planetfit.core.units import PPM
 from planetfit.fitting import chainfile
 from planetfit.fitting.mcmc import run_sampler
@@ -158,7 +159,7 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     quantities = derived.derive(config, post.model, samples, rng)
     quantities["parameter_names"] = post.layout.free
     context = blocks.add_context(config, post.model, quantities, rng)
-    new = run_warnings(checked, samples)
+    new = run_warnings(checked, samples) + light_warnings(context)
     for warning in new:
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new

@@ -126,3 +126,19 @@ def light_context(model, planet, derived):
             block["assumptions"].append(COWAN_AGOL.format(band=light.band))
     out.update({key: stat(q[key]) for key in ("e_cos_w", "e_sin_w", "eclipse_bjd")})
     return out
+
+
+def light_warnings(blocks):
+    """Warnings where the Cowan & Agol (2011) reading of a planet's light fails (Bond albedo or redistribution
+    outside [0, 1] at the posterior median), from the blocks of :func:`planetfit.context.blocks.add_context`."""
+    out = []
+    for name, block in blocks.items():
+        for key in ("bond_albedo", "heat_redistribution"):
+            value = (block.get(key) or {}).get("median")
+            if value is not None and not 0 <= value <= 1:
+                out.append(
+                    f"planet {name}: {key} {value:.3g} lies outside [0, 1]: the blackbody brightness temperatures "
+                    "do not fit Cowan & Agol's (2011) energy balance (reflected light, a non-blackbody spectrum or a "
+                    "wrong stellar Teff); do not quote it as measured."
+                )
+    return out

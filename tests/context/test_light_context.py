@@ -5,7 +5,13 @@ import numpy as np
 import pytest
 from astropy.modeling.models import BlackBody
 
-from planetfit.context.light import bond_albedo_redistribution, brightness_temp_k, cowan_agol_temperatures, planck_si
+from planetfit.context.light import (
+    bond_albedo_redistribution,
+    brightness_temp_k,
+    cowan_agol_temperatures,
+    light_warnings,
+    planck_si,
+)
 
 
 def test_planck_matches_astropy_blackbody():
@@ -38,3 +44,11 @@ def test_cowan_agol_worked_case():
     day, night = cowan_agol_temperatures(t0, 0.0, 1.0)
     assert day == pytest.approx(night) == pytest.approx(t0 / np.sqrt(2))
     assert bond_albedo_redistribution(t0 * (2 / 3) ** 0.25, 1e-3, t0)[0] == pytest.approx(0.0, abs=1e-9)
+
+
+def test_bond_albedo_outside_its_range_is_warned():
+    # common practice, no published source: a Bond albedo below 0 means the reading's assumptions fail
+    blocks = {"b": {"bond_albedo": {"median": -0.4}, "heat_redistribution": {"median": 0.3}}, "c": {}}
+    (warning,) = light_warnings(blocks)
+    assert "planet b: bond_albedo -0.4" in warning
+    assert light_warnings({"b": {"bond_albedo": {"median": 0.2}, "heat_redistribution": None}}) == []
