@@ -131,7 +131,25 @@ def _derived_rows(summary, priors, eccentric):
                 continue
             prior = priors.get(f"{pname}.{k}") if (p[k] or {}).get("prior_only") else None
             rows.append(Row("", q.planet_quantity(k, p["transits"]), "", prior, p[k], f"planets.{pname}.{k}"))
+        rows += _light_rows(pname, p)
     return rows
+
+
+_LIGHT_BAND_DERIVED = ("dayside_brightness_temp_k", "nightside_brightness_temp_k", "geometric_albedo_max")
+_LIGHT_PLANET_DERIVED = ("e_cos_w", "e_sin_w", "eclipse_bjd", "bond_albedo", "heat_redistribution")
+
+
+def _light_rows(pname, p):
+    """Rows of what a planet's fitted light gives (none without ``planet_light``)."""
+    rows = []
+    for band, block in (p.get("planet_light") or {}).items():
+        key = f"planets.{pname}.planet_light.{band}"
+        rows += [
+            Row("", q.band_quantity(k, band), "", None, block[k], f"{key}.{k}") for k in _LIGHT_BAND_DERIVED if block[k]
+        ]
+    return rows + [
+        Row("", q.LIGHT[k], "", None, p[k], f"planets.{pname}.{k}") for k in _LIGHT_PLANET_DERIVED if p.get(k)
+    ]
 
 
 def table_rows(summary, model, star):
