@@ -4,16 +4,16 @@ Run ``python benchmarks/planet_light_speed.py`` (or ``python benchmarks/speed.py
 The floor is batman's compiled kernels alone on the points planetfit gives them for the same parameter
 vectors: ``_rsky`` + ``_quadratic_ld`` in the transit windows and ``_rsky`` + ``_eclipse`` in the eclipse
 windows, supersampled. What planetfit adds on top is the phase curve over every point, the RVs, the prior,
-the orbit and the bookkeeping. Positions: 28 vectors 1e-4 prior widths around the truth, best of 7
-interleaved rounds, BLAS limited to one thread.
+the orbit and the bookkeeping. Positions: 28 vectors 1e-4 prior widths around the truth, timed by
+``speed.race`` (best of interleaved rounds), BLAS limited to one thread.
 """
 
 import json
 import math
-import time
 
 import numpy as np
 from batman import _eclipse, _quadratic_ld, _rsky
+from speed import race  # beside this script
 from threadpoolctl import threadpool_limits
 
 from planetfit import pipeline
@@ -22,29 +22,12 @@ from planetfit.core.units import R_SUN_M
 from planetfit.demo import EXAMPLES, hot_giant
 from planetfit.fitting.components.transit import quadratic_coefficients
 
-POSITIONS, ROUNDS, MIN_ROUND_S = 28, 7, 0.3
+POSITIONS = 28
 
 
 def truth_vector(post):
-    """Sampler coordinates of the example's truth (flux level from the mean planet light, jitter 1 m/s)."""
-    t, b = hot_giant.TRUTH, hot_giant.TRUTH["b"]
-    u1, u2 = t["limb_darkening_u"]
-    w = math.radians(b["omega_deg"])
-    values = {f"b.{k}": b[k] for k in ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms")}
-    values.update({f"b.camera.{k}": v for k, v in t["light"].items()})
-    values.update(
-        {
-            "star.mass_msun": t["star"]["mass_msun"],
-            "star.radius_rsun": t["star"]["radius_rsun"],
-            "b.sqrt_e_cos_w": math.sqrt(b["e"]) * math.cos(w),
-            "b.sqrt_e_sin_w": math.sqrt(b["e"]) * math.sin(w),
-            "camera.limb_darkening_q1": (u1 + u2) ** 2,
-            "camera.limb_darkening_q2": u1 / (2 * (u1 + u2)),
-            "camera.flux_level": 1.0,
-            "spectrograph.offset_ms": hot_giant.RVS["offset_ms"],
-            "spectrograph.jitter_ms": 1.0,
-        }
-    )
+    """Sampler coordinates of the example's truth (flux level 1, jitter 1 m/s)."""
+    values = hot_giant.true_parameters()
     return post.layout.to_sampler(np.array([values[n] for n in post.layout.free]))
 
 
@@ -81,24 +64,6 @@ def floor_function(post, thetas):
                 _eclipse._eclipse(d, k, 1.0, 1)
 
     return run, sum(c[1][0].size for c in calls) / len(thetas)
-
-
-def race(contenders, n):
-    """Seconds per position of each ``fn()`` (all ``n`` positions), best of ROUNDS interleaved rounds."""
-    reps = {}
-    for name, fn in contenders.items():
-        reps[name], start = 0, time.perf_counter()
-        while time.perf_counter() - start < MIN_ROUND_S:
-            fn()
-            reps[name] += 1
-    best = dict.fromkeys(contenders, math.inf)
-    for _ in range(ROUNDS):
-        for name, fn in contenders.items():
-            start = time.perf_counter()
-            for _ in range(reps[name]):
-                fn()
-            best[name] = min(best[name], (time.perf_counter() - start) / (reps[name] * n))
-    return best
 
 
 def hot_giant_figures():

@@ -13,6 +13,7 @@ planetfit's own evaluation. Exposures are averaged over 15 sub-exposures.
 
 import copy
 import json
+import math
 import sys
 from pathlib import Path
 
@@ -87,6 +88,31 @@ def radial_velocity(t, truth=TRUTH):
     w = np.radians(b["omega_deg"])
     tp = orbit.timetrans_to_timeperi(b["transit_bjd"], b["period_days"], b["e"], w)
     return kepler.rv_drive(t, np.array([b["period_days"], tp, b["e"], w, b["rv_amplitude_ms"]]))
+
+
+def true_parameters(truth=TRUTH):
+    """The example config's parameters at the truth (flux level 1, jitter 1 m/s), by parameter name.
+
+    Light parameters are given for band ``camera``; a model without them simply does not look them up.
+    """
+    b, w = truth["b"], math.radians(truth["b"]["omega_deg"])
+    u1, u2 = truth["limb_darkening_u"]
+    values = {f"b.{k}": b[k] for k in ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms")}
+    values.update({f"b.camera.{k}": v for k, v in truth["light"].items()})
+    values.update(
+        {
+            "star.mass_msun": truth["star"]["mass_msun"],
+            "star.radius_rsun": truth["star"]["radius_rsun"],
+            "b.sqrt_e_cos_w": math.sqrt(b["e"]) * math.cos(w),
+            "b.sqrt_e_sin_w": math.sqrt(b["e"]) * math.sin(w),
+            "camera.limb_darkening_q1": (u1 + u2) ** 2,
+            "camera.limb_darkening_q2": u1 / (2 * (u1 + u2)),
+            "camera.flux_level": 1.0,
+            "spectrograph.offset_ms": RVS["offset_ms"],
+            "spectrograph.jitter_ms": 1.0,
+        }
+    )
+    return values
 
 
 def write(outdir, seed=SEED, truth=TRUTH):

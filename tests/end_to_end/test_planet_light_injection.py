@@ -22,25 +22,7 @@ LIGHT = ("eclipse_depth_ppm", "nightside_ppm", "hotspot_offset_deg")
 
 
 def _truth_vector(layout, truth):
-    b, w = truth["b"], math.radians(truth["b"]["omega_deg"])
-    u1, u2 = truth["limb_darkening_u"]
-    values = {
-        "star.mass_msun": truth["star"]["mass_msun"],
-        "star.radius_rsun": truth["star"]["radius_rsun"],
-        "b.period_days": b["period_days"],
-        "b.transit_bjd": b["transit_bjd"],
-        "b.radius_ratio": b["radius_ratio"],
-        "b.impact": b["impact"],
-        "b.rv_amplitude_ms": b["rv_amplitude_ms"],
-        "b.sqrt_e_cos_w": math.sqrt(b["e"]) * math.cos(w),
-        "b.sqrt_e_sin_w": math.sqrt(b["e"]) * math.sin(w),
-        "camera.limb_darkening_q1": (u1 + u2) ** 2,
-        "camera.limb_darkening_q2": u1 / (2 * (u1 + u2)),
-        "camera.flux_level": 1.0,
-        "spectrograph.offset_ms": hot_giant.RVS["offset_ms"],
-        "spectrograph.jitter_ms": 1.0,
-    }
-    values.update({f"b.camera.{k}": v for k, v in truth["light"].items()})
+    values = hot_giant.true_parameters(truth)
     return layout.to_sampler(np.array([values[n] for n in layout.free]))
 
 
