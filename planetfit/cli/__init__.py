@@ -21,7 +21,8 @@ def _resume_hint(args):
     if getattr(args, "command", None) not in ("run", "demo"):
         return "run the command again."
     out = f" --out {args.out}" if args.out else ""
-    target = f"run {args.config}" if args.command == "run" else "demo"
+    example = f" --example {args.example}" if getattr(args, "example", None) else ""
+    target = f"run {args.config}" if args.command == "run" else f"demo{example}"
     return f"the chain is saved in samples.h5 up to the last step; continue with 'planetfit {target} --resume{out}'."
 
 

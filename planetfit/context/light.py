@@ -25,7 +25,8 @@ TEMPERATURE_RANGE_K = (1.0, 1.0e5)
 BISECTIONS = 60
 ASSUMPTIONS = (
     "brightness temperatures: planet and star as blackbodies (the star at its Teff), at the band's wavelength",
-    "geometric_albedo_max: all of the eclipse depth taken as reflected light (no thermal emission)",
+    "geometric_albedo_max: all of the eclipse depth taken as reflected light (no thermal emission); "
+    "above 1, reflected light alone cannot make the eclipse",
 )
 COWAN_AGOL = (
     "bond_albedo, heat_redistribution: Cowan & Agol (2011) eqs. 4-5 with the dayside and nightside "
