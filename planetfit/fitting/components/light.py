@@ -35,8 +35,9 @@ from planetfit.fitting.parameters import Parameter
 _SECONDARY = 2
 #: Steps of the mean-anomaly grid on which the phase curve's true anomaly is interpolated.
 ANOMALY_GRID = 256
-#: Newton steps on Kepler's equation from E = M + e sin M (quadratic convergence; ample for e <= 0.9).
-NEWTON_STEPS = 6
+MEAN_ANOMALY_GRID = np.linspace(0, 2 * np.pi, ANOMALY_GRID + 1)
+#: Most Newton steps on Kepler's equation from E = M + e sin M (quadratic convergence).
+NEWTON_STEPS = 8
 LIGHT_KEYS = ("eclipse_depth_ppm", "nightside_ppm", "hotspot_offset_deg", "ellipsoidal_ppm", "beaming_ppm")
 
 
@@ -56,12 +57,15 @@ class PlanetLight:
         return values[self.declared[key].name]
 
 
-def true_anomaly_grid(e, size=ANOMALY_GRID):
-    """f - M on ``size + 1`` equal steps of the mean anomaly M over [0, 2 pi] (Newton on Kepler's equation)."""
-    mean = np.linspace(0, 2 * np.pi, size + 1)
+def true_anomaly_grid(e):
+    """f - M on :data:`MEAN_ANOMALY_GRID` (Newton on Kepler's equation, until the steps fall below 1e-12 rad)."""
+    mean = MEAN_ANOMALY_GRID
     ecc = mean + e * np.sin(mean)
     for _ in range(NEWTON_STEPS):
-        ecc -= (ecc - e * np.sin(ecc) - mean) / (1 - e * np.cos(ecc))
+        step = (ecc - e * np.sin(ecc) - mean) / (1 - e * np.cos(ecc))
+        ecc -= step
+        if np.max(np.abs(step)) < 1e-12:
+            break
     f = 2 * np.arctan2(math.sqrt(1 + e) * np.sin(ecc / 2), math.sqrt(1 - e) * np.cos(ecc / 2))
     return np.mod(f - mean + np.pi, 2 * np.pi) - np.pi
 
@@ -77,7 +81,7 @@ def orbital_angle(times, period_days, periastron_bjd, e, omega_rad):
     if e == 0:
         return mean + omega_rad
     grid = true_anomaly_grid(e)
-    return mean + np.interp(mean, np.linspace(0, 2 * np.pi, grid.size), grid) + omega_rad
+    return mean + np.interp(mean, MEAN_ANOMALY_GRID, grid) + omega_rad
 
 
 def phase_coefficients(eclipse_ppm, nightside_ppm, offset_deg):
