@@ -52,3 +52,14 @@ def test_bond_albedo_outside_its_range_is_warned():
     (warning,) = light_warnings(blocks)
     assert "planet b: bond_albedo -0.4" in warning
     assert light_warnings({"b": {"bond_albedo": {"median": 0.2}, "heat_redistribution": None}}) == []
+
+
+def test_climate_uses_a_measured_bond_albedo_and_says_so():
+    # common practice, no published source: a measured Bond albedo replaces the assumed one
+    from planetfit.context.blocks import _measured_albedo
+    from planetfit.inputs.schema import Climate
+
+    settings = Climate(albedo=0.3)
+    assert _measured_albedo(settings, {}) is settings
+    assert _measured_albedo(settings, {"bond_albedo": {"median": 0.12}}).albedo == pytest.approx(0.12)
+    assert _measured_albedo(settings, {"bond_albedo": {"median": -0.5}}).albedo == 0.0
