@@ -24,7 +24,8 @@ from planetfit.core.units import C_SI, H_SI, K_B_SI, PPM, R_SUN_M
 TEMPERATURE_RANGE_K = (1.0, 1.0e5)
 BISECTIONS = 60
 ASSUMPTIONS = (
-    "brightness temperatures: planet and star as blackbodies (the star at its Teff), at the band's wavelength",
+    "brightness temperatures: planet and star as blackbodies (the star at its Teff), over the band "
+    "(its wavelength, or its response curve photon-weighted)",
     "geometric_albedo_max: all of the eclipse depth taken as reflected light (no thermal emission); "
     "above 1, reflected light alone cannot make the eclipse",
 )
@@ -41,19 +42,25 @@ def planck_si(wavelength_m, temp_k):
         return 2 * H_SI * C_SI**2 / wavelength_m**5 / np.expm1(x)
 
 
-def brightness_temp_k(flux_ratio, radius_ratio, star_teff_k, wavelength_um):
-    """Temperature of a blackbody planet with flux ratio ``flux_ratio`` to a blackbody star at one wavelength.
+def band_flux(band, temp_k):
+    """Photon-weighted band flux of blackbodies at ``temp_k`` (array), sum of weight x B_lambda."""
+    lam = band.wavelength_um * 1e-6
+    return np.tensordot(planck_si(lam, np.asarray(temp_k, dtype=float)[..., None]), band.weight, axes=1)
 
-    Solves (Rp/R*)^2 B(T_p) / B(T_*) = flux_ratio by bisection in ln T
-    (arrays welcome; zero flux gives the bracket's lower end).
+
+def brightness_temp_k(flux_ratio, radius_ratio, star_teff_k, band):
+    """Temperature of a blackbody planet with band flux ratio ``flux_ratio`` to a blackbody star at its Teff.
+
+    Solves (Rp/R*)^2 F(T_p) / F(T_*) = flux_ratio, F the band flux
+    (:func:`band_flux`), by bisection in ln T (arrays welcome; zero flux
+    gives the bracket's lower end).
     """
-    lam = wavelength_um * 1e-6
     target = np.asarray(flux_ratio, dtype=float) / np.asarray(radius_ratio, dtype=float) ** 2
-    target = target * planck_si(lam, star_teff_k)
+    target = target * band_flux(band, star_teff_k)
     lo, hi = (np.full(np.shape(target), np.log(t)) for t in TEMPERATURE_RANGE_K)
     for _ in range(BISECTIONS):
         mid = 0.5 * (lo + hi)
-        low = planck_si(lam, np.exp(mid)) < target
+        low = band_flux(band, np.exp(mid)) < target
         lo, hi = np.where(low, mid, lo), np.where(low, hi, mid)
     return np.exp(0.5 * (lo + hi))
 
@@ -84,15 +91,15 @@ def _band_block(light, values, q, star_teff):
     depth = light.value(values, "eclipse_depth_ppm") * PPM
     night = light.value(values, "nightside_ppm") * PPM
     k, w, e = q["radius_ratio"], np.radians(q["omega_deg"]), q["eccentricity"]
-    t_day = brightness_temp_k(depth, k, star_teff, light.wavelength_um)
-    t_night = None if _fixed(light, "nightside_ppm") else brightness_temp_k(night, k, star_teff, light.wavelength_um)
+    t_day = brightness_temp_k(depth, k, star_teff, light.response)
+    t_night = None if _fixed(light, "nightside_ppm") else brightness_temp_k(night, k, star_teff, light.response)
     distance_r = q["a_over_rstar"] * (1 - e * e) / (1 - e * np.sin(w))
     block = {key: stat(light.value(values, key)) for key in light.declared}
     block.update(
         dayside_brightness_temp_k=stat(t_day),
         nightside_brightness_temp_k=None if t_night is None else stat(t_night),
         geometric_albedo_max=stat(depth * (distance_r / k) ** 2),
-        band_wavelength_um=light.wavelength_um,
+        band_wavelength_um=light.response.effective_wavelength_um,
         assumptions=list(ASSUMPTIONS),
     )
     return block, t_day, t_night

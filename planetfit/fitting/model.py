@@ -27,6 +27,7 @@ from planetfit.fitting.components.velocity import TRENDS, Spectrograph
 from planetfit.fitting.likelihoods import PhotometryModel, SummedPhotometryModel, VelocityModel
 from planetfit.fitting.parameters import Parameter, ParameterLayout
 from planetfit.inputs import schema
+from planetfit.inputs.bands import band_of
 
 
 @dataclasses.dataclass
@@ -99,7 +100,7 @@ def _lights(config, planets):
     """The planet's light per (band, planet name), from the dataset of the band that declares it."""
     by_name = {p.name: p for p in planets}
     return {
-        (block.band_name, name): PlanetLight(by_name[name], block.band_name, light, block.band_wavelength_um)
+        (block.band_name, name): PlanetLight(by_name[name], block.band_name, light, band_of(block))
         for block in config.photometry
         for name, light in block.planet_light.items()
     }

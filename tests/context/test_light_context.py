@@ -1,9 +1,12 @@
 """Brightness temperatures and Cowan & Agol (2011) albedo and redistribution."""
 
+from types import SimpleNamespace
+
 import astropy.units as u
 import numpy as np
 import pytest
 from astropy.modeling.models import BlackBody
+from scipy.integrate import quad
 
 from planetfit.context.light import (
     bond_albedo_redistribution,
@@ -12,6 +15,7 @@ from planetfit.context.light import (
     light_warnings,
     planck_si,
 )
+from planetfit.inputs.bands import band_of
 
 
 def test_planck_matches_astropy_blackbody():
@@ -27,8 +31,36 @@ def test_blackbody_planet_at_1500k_comes_back(wavelength_um):
     k = 0.1
     bb = [BlackBody(t * u.K)(wavelength_um * u.um).value for t in (1500.0, 5800.0)]
     depth = k**2 * bb[0] / bb[1]
-    assert brightness_temp_k(depth, k, 5800.0, wavelength_um) == pytest.approx(1500.0, abs=1.0)
-    assert brightness_temp_k(2 * depth, k, 5800.0, wavelength_um) > 1500.0 + 20
+    band = _one_wavelength(wavelength_um)
+    assert brightness_temp_k(depth, k, 5800.0, band) == pytest.approx(1500.0, abs=1.0)
+    assert brightness_temp_k(2 * depth, k, 5800.0, band) > 1500.0 + 20
+
+
+def _one_wavelength(wavelength_um):
+    return band_of(SimpleNamespace(band_response=None, band_wavelength_um=wavelength_um))
+
+
+def test_blackbody_planet_comes_back_through_a_response_curve(tmp_path):
+    # common practice, no published source: photon-counting band flux, the integral of lambda x throughput x
+    # B_lambda over a 0.6-1.0 um top-hat, by scipy's quad with astropy's Planck function; the response
+    # table (201 rows) goes through planetfit's reader and trapezoid rule.
+    def band_flux(temp):
+        bb = BlackBody(temp * u.K)
+        return quad(lambda lam: lam * bb(lam * u.um).value / lam**2, 0.6, 1.0, epsabs=0, epsrel=1e-10)[0]
+
+    k = 0.1
+    depth = k**2 * band_flux(1500.0) / band_flux(5800.0)
+    lam = np.linspace(0.6, 1.0, 201)
+    table = tmp_path / "band.csv"
+    np.savetxt(
+        table, np.column_stack([lam, np.ones_like(lam)]), delimiter=",", header="wavelength_um,throughput", comments=""
+    )
+    block = SimpleNamespace(band_response="band.csv", band_response_path=table, section="photometry[0]")
+    band = band_of(block)
+    assert band.effective_wavelength_um == pytest.approx(0.8, abs=0.02)
+    assert brightness_temp_k(depth, k, 5800.0, band) == pytest.approx(1500.0, abs=1.0)
+    # one wavelength at the band's centre gives a different answer: the band matters
+    assert abs(brightness_temp_k(depth, k, 5800.0, _one_wavelength(0.8)) - 1500.0) > 3.0
 
 
 def test_cowan_agol_worked_case():

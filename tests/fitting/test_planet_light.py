@@ -87,7 +87,7 @@ def planetfit_flux(t, s):
     block = PlanetLightBlock(
         eclipse_depth_ppm=s["E"], nightside_ppm=s["N"], hotspot_offset_deg=math.degrees(s["delta"])
     )
-    light = PlanetLight(planet, "band", block, 0.8)
+    light = PlanetLight(planet, "band", block, None)
     lc = TransitLightCurve(t, 1e-4, 1)
     term = PlanetLightTerm(light, lc, SimpleNamespace(radius=SimpleNamespace(name="R")))
     values = {"P": s["per"], "T0": s["t0"], "k": s["k"], "R": s["rstar"]}

@@ -44,8 +44,8 @@ LIGHT_KEYS = ("eclipse_depth_ppm", "nightside_ppm", "hotspot_offset_deg", "ellip
 class PlanetLight:
     """One planet's light in one band: its parameters ``<planet>.<band>.<key>`` (planet group of the tables)."""
 
-    def __init__(self, planet, band, block, wavelength_um):
-        self.planet, self.band, self.wavelength_um = planet, band, wavelength_um
+    def __init__(self, planet, band, block, response):
+        self.planet, self.band, self.response = planet, band, response  # response: inputs.bands.Band
         self.declared = {
             key: Parameter(planet.name, f"{band}.{key}", getattr(block, key), band_quantity(key, band), "planet")
             for key in LIGHT_KEYS

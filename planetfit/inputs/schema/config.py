@@ -171,9 +171,16 @@ def _check_planet_light(config):
                     key=key,
                 )
             declared[d.band_name, name] = d.name
-        if d.planet_light and d.band_wavelength_um is None:
+        if d.planet_light and d.band_wavelength_um is None and d.band_response is None:
             fail(
                 "the planet's light needs the band's wavelength for its brightness temperature.",
-                "add e.g. 'band_wavelength_um: 0.8' (the band's effective wavelength, microns).",
+                "add e.g. 'band_wavelength_um: 0.8' (the band's effective wavelength, microns), or "
+                "'band_response: <file>' (columns wavelength_um, throughput).",
                 key=f"/photometry[{i}].band_wavelength_um",
+            )
+        if d.band_wavelength_um is not None and d.band_response is not None:
+            fail(
+                "give the band as one wavelength or as a response curve, not both.",
+                "remove 'band_wavelength_um' or 'band_response'.",
+                key=f"/photometry[{i}].band_response",
             )

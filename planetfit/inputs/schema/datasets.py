@@ -147,6 +147,8 @@ class Photometry(Dataset):
     baseline: BASELINES = "constant"
     planet_light: dict[str, PlanetLight] = {}
     band_wavelength_um: Optional[PositiveNumber] = None
+    band_response: Optional[str] = None
+    _band_response_path: Optional[Path] = PrivateAttr(None)
 
     def columns_used(self):
         extra = [("quality_column", self.quality_column)] if self.quality_column is not None else []
@@ -161,6 +163,16 @@ class Photometry(Dataset):
                 key="quality_keep_bits",
             )
         return self
+
+    def resolve(self, folder, section):
+        super().resolve(folder, section)
+        if self.band_response is not None:
+            self._band_response_path = (Path(folder) / self.band_response).resolve()
+
+    @property
+    def band_response_path(self):
+        """The band-response table, as an absolute path (None without one)."""
+        return self._band_response_path
 
     @property
     def band_name(self):
