@@ -95,4 +95,7 @@ def resolved_config(config):
             dict(entry, file=[str(f) for f in c.files] if isinstance(entry.get("file"), list) else str(c.path))
             for entry, c in zip(raw.get(section) or [], items)
         ]
+    for entry, c in zip(raw["photometry"], config.photometry):
+        if c.band_response is not None:
+            entry["band_response"] = str(c.band_response_path)
     return yaml.safe_dump(raw, sort_keys=False)
