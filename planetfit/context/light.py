@@ -18,7 +18,8 @@ import numpy as np
 
 from planetfit.core.eclipse import eclipse_bjd
 from planetfit.core.stats import stat
-from planetfit.core.units import C_SI, H_SI, K_B_SI, PPM, R_SUN_M
+from planetfit.core.units import C_SI, H_SI, K_B_SI, M_EARTH_KG, M_SUN_KG, PPM, R_SUN_M
+from planetfit.fitting.components.light import star_terms_ppm
 
 #: Bracket of the brightness-temperature search, K.
 TEMPERATURE_RANGE_K = (1.0, 1.0e5)
@@ -86,15 +87,21 @@ def _fixed(light, key):
     return light.declared[key].prior.fixed
 
 
-def _band_block(light, values, q, star_teff):
+def _band_block(light, values, q, star):
     """One band's block (STATs) and its per-sample brightness temperatures (day, night or None)."""
     depth = light.value(values, "eclipse_depth_ppm") * PPM
     night = light.value(values, "nightside_ppm") * PPM
     k, w, e = q["radius_ratio"], np.radians(q["omega_deg"]), q["eccentricity"]
+    star_teff = star["teff_k"]
     t_day = brightness_temp_k(depth, k, star_teff, light.response)
     t_night = None if _fixed(light, "nightside_ppm") else brightness_temp_k(night, k, star_teff, light.response)
     distance_r = q["a_over_rstar"] * (1 - e * e) / (1 - e * np.sin(w))
     block = {key: stat(light.value(values, key)) for key in light.declared}
+    if light.predicted:
+        mass_ratio = q["mass_earth"] * M_EARTH_KG / (star["mass_msun"] * M_SUN_KG)
+        sin_i = np.sin(np.radians(q["inclination_deg"]))
+        terms = star_terms_ppm(mass_ratio, q["a_over_rstar"], sin_i, q["rv_amplitude_ms"], *light.coefficients)
+        block.update(ellipsoidal_ppm=stat(terms[0]), beaming_ppm=stat(terms[1]), star_terms_predicted=True)
     block.update(
         dayside_brightness_temp_k=stat(t_day),
         nightside_brightness_temp_k=None if t_night is None else stat(t_night),
@@ -125,7 +132,7 @@ def light_context(model, planet, derived):
     )
     out = {"planet_light": {}, "bond_albedo": None, "heat_redistribution": None}
     for light in lights:
-        block, t_day, t_night = _band_block(light, values, q, star["teff_k"])
+        block, t_day, t_night = _band_block(light, values, q, star)
         out["planet_light"][light.band] = block
         if t_night is not None and out["bond_albedo"] is None and not _fixed(light, "eclipse_depth_ppm"):
             albedo, eps = bond_albedo_redistribution(t_day, t_night, star["teff_k"] / np.sqrt(q["a_over_rstar"]))

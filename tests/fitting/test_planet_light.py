@@ -10,7 +10,7 @@ import pytest
 from scipy.optimize import brentq
 
 from planetfit.core.eclipse import eclipse_bjd
-from planetfit.fitting.components.light import PlanetLight, PlanetLightTerm
+from planetfit.fitting.components.light import PlanetLight, PlanetLightTerm, star_terms_ppm
 from planetfit.fitting.components.transit import TransitLightCurve
 from planetfit.fitting.keplerian import periastron_bjd
 from planetfit.inputs.schema import PlanetLight as PlanetLightBlock
@@ -125,3 +125,33 @@ def test_model_matches_brute_force_disks_to_1ppm(case):
     assert np.ptp(ref[np.abs(t - t_ecl) < 0.09]) > 1e-3
     no_delay = reference_flux(t, dict(s, rstar=1e-9))
     assert np.max(np.abs(model - no_delay)) > 5e-6
+
+
+def test_star_terms_predicted_from_the_mass():
+    # value from memory: A_ell = alpha_ell (Mp/M*) (R*/a)^3 sin^2 i and A_beam = alpha_beam 4 K / c
+    # (as reviewed by Shporer 2017, PASP 129, 072001); constants from astropy.
+    mass_ratio = (const.M_jup / const.M_sun).value
+    ell, beam = star_terms_ppm(mass_ratio, 5.0, 1.0, 140.0, 1.0, 1.0)
+    assert ell == pytest.approx(1e6 * mass_ratio / 125, rel=1e-12)
+    assert ell == pytest.approx(7.6, abs=0.05)
+    assert beam == pytest.approx(1e6 * 4 * 140 / const.c.value, rel=1e-12)
+    # in the model: -A_ell at both conjunctions; a quarter orbit after transit the star approaches us fastest
+    # (RV = K cos(f + w) = -K there), so beaming brightens it: A_ell + A_beam
+    planet = SimpleNamespace(
+        name="b",
+        period=SimpleNamespace(name="P"),
+        transit_time=SimpleNamespace(name="T0"),
+        radius_ratio=SimpleNamespace(name="k"),
+        amplitude=SimpleNamespace(name="K"),
+    )
+    block = PlanetLightBlock(eclipse_depth_ppm=0.0, star_terms_from_mass=True)
+    light = PlanetLight(planet, "band", block, None)
+    t = np.array([0.0, 0.75, 1.5])  # transit, a quarter orbit later, half an orbit later
+    star = SimpleNamespace(radius=SimpleNamespace(name="R"), mass=SimpleNamespace(name="M"))
+    term = PlanetLightTerm(light, TransitLightCurve(t, 1e-4, 1), star)
+    values = {"P": 3.0, "T0": 0.0, "k": 0.1, "R": 1.0, "M": 1.0, "K": 140.0}
+    values.update({p.name: p.prior.value for p in light.parameters})
+    orbit = {"e": 0.0, "omega_rad": math.pi / 2, "periastron_bjd": 0.0, "a_over_rstar": 5.0, "cos_i": 0.0}
+    orbit["mass_kg"] = const.M_jup.value
+    flux = term.flux_ppm(values, orbit)
+    assert flux == pytest.approx([-ell, ell + beam, -ell], abs=1e-9)

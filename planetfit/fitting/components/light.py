@@ -28,7 +28,7 @@ from batman import _eclipse, _rsky
 
 from planetfit.core.eclipse import eclipse_bjd, light_travel_delay_days
 from planetfit.core.quantities import band_quantity
-from planetfit.core.units import PPM, R_SUN_M
+from planetfit.core.units import C_SI, M_SUN_KG, PPM, R_SUN_M
 from planetfit.fitting.parameters import Parameter
 
 #: batman's code for a secondary eclipse.
@@ -46,9 +46,12 @@ class PlanetLight:
 
     def __init__(self, planet, band, block, response):
         self.planet, self.band, self.response = planet, band, response  # response: inputs.bands.Band
+        self.predicted = block.star_terms_from_mass
+        self.coefficients = (block.ellipsoidal_coefficient, block.beaming_coefficient)
+        keys = LIGHT_KEYS[:3] if self.predicted else LIGHT_KEYS
         self.declared = {
             key: Parameter(planet.name, f"{band}.{key}", getattr(block, key), band_quantity(key, band), "planet")
-            for key in LIGHT_KEYS
+            for key in keys
         }
         self.parameters = list(self.declared.values())
 
@@ -82,6 +85,17 @@ def orbital_angle(times, period_days, periastron_bjd, e, omega_rad):
         return mean + omega_rad
     grid = true_anomaly_grid(e)
     return mean + np.interp(mean, MEAN_ANOMALY_GRID, grid) + omega_rad
+
+
+def star_terms_ppm(mass_ratio, a_over_rstar, sin_i, k_ms, ellipsoidal_coefficient, beaming_coefficient):
+    """Ellipsoidal and beaming amplitudes (ppm) predicted from the orbit (reviewed by Shporer 2017, PASP 129,
+    072001; beaming: Loeb & Gaudi 2003, ApJ 588, L117).
+
+    A_ell = alpha_ell (Mp / M*) (R*/a)^3 sin^2 i and A_beam = alpha_beam 4 K / c; the coefficients, of order
+    one, depend on the band through limb and gravity darkening (alpha_ell) and the stellar spectrum (alpha_beam).
+    """
+    ellipsoidal = ellipsoidal_coefficient * mass_ratio * a_over_rstar**-3 * sin_i**2
+    return ellipsoidal / PPM, beaming_coefficient * 4 * k_ms / C_SI / PPM
 
 
 def phase_coefficients(eclipse_ppm, nightside_ppm, offset_deg):
@@ -144,11 +158,21 @@ class PlanetLightTerm:
         planet = a - b * np.sin(theta + delta)
         index, seen = self.visible_fraction(values, orbit)
         planet[index] *= seen
-        ellipsoidal, beaming = light.value(values, "ellipsoidal_ppm"), light.value(values, "beaming_ppm")
+        ellipsoidal, beaming = self.star_terms(values, orbit)
         if ellipsoidal or beaming:
             cos_theta = np.cos(theta)
             planet += ellipsoidal * (2 * cos_theta * cos_theta - 1) - beaming * (cos_theta + e * math.cos(w))
         return planet
+
+    def star_terms(self, values, orbit):
+        """(ellipsoidal, beaming) amplitudes in ppm: fitted, or predicted from the sampled mass."""
+        light = self.light
+        if not light.predicted:
+            return light.value(values, "ellipsoidal_ppm"), light.value(values, "beaming_ppm")
+        mass_ratio = orbit["mass_kg"] / (values[self.star.mass.name] * M_SUN_KG)
+        sin_i = math.sqrt(1 - orbit["cos_i"] ** 2)
+        k_ms = values[self.planet.amplitude.name]
+        return star_terms_ppm(mass_ratio, orbit["a_over_rstar"], sin_i, k_ms, *light.coefficients)
 
     def deficit(self, values, orbit):
         """(every index, minus the added flux): the planet's light raises the flux."""

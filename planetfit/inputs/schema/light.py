@@ -3,16 +3,20 @@
 Per planet, the eclipse depth (the planet's flux over the star's at
 superior conjunction), the nightside flux (at inferior conjunction), the
 offset of the phase curve's peak (eastward positive) and optional
-ellipsoidal and Doppler-beaming amplitudes of the star. Datasets of one
+ellipsoidal and Doppler-beaming amplitudes of the star, fitted or predicted
+from the sampled mass (``star_terms_from_mass``, with coefficients of
+order one that depend on the band). Datasets of one
 ``band`` share these parameters; one of them declares the block.
 """
 
 import math
 from typing import Annotated
 
+from pydantic import model_validator
+
 from ..priors import Fixed
 from .base import Block
-from .fields import PriorSpec, prior_within
+from .fields import PositiveNumber, PriorSpec, fail, prior_within
 
 NonNegativeFlux = prior_within(
     0.0,
@@ -38,3 +42,17 @@ class PlanetLight(Block):
     hotspot_offset_deg: Annotated[PriorSpec, HotspotOffset] = Fixed(0.0)
     ellipsoidal_ppm: Annotated[PriorSpec, NonNegativeFlux] = Fixed(0.0)
     beaming_ppm: PriorSpec = Fixed(0.0)
+    star_terms_from_mass: bool = False
+    ellipsoidal_coefficient: PositiveNumber = 1.0
+    beaming_coefficient: PositiveNumber = 1.0
+
+    @model_validator(mode="after")
+    def _predicted_or_fitted(self):
+        for key in ("ellipsoidal_ppm", "beaming_ppm"):
+            if self.star_terms_from_mass and key in self.model_fields_set:
+                fail(
+                    f"with 'star_terms_from_mass: true' the {key.split('_')[0]} amplitude follows from the mass.",
+                    f"remove '{key}', or set 'star_terms_from_mass: false' to fit it.",
+                    key=key,
+                )
+        return self
