@@ -42,11 +42,17 @@ def _warnings(run, planets, window, last_bjd):
     if run.has_velocities and any(s.coefficients for s in run.model.velocity.spectrographs):
         out.append("The run decorrelates activity indicators; the new RVs are planned without such terms.")
     for name, p in planets.items():
-        decisive = [r.get("p_decisive") for r in p["counts"] if r.get("p_decisive") is not None]
+        rows = [r for r in p["counts"] if r.get("p_decisive") is not None]
+        decisive = [r["p_decisive"] for r in rows]
         if decisive and np.min(np.diff(decisive), initial=0.0) < -FALL_TOLERANCE:
+            now = p["now"]["p_rocky"]
             out.append(
-                f"Planet {name}: the probability of a decisive verdict falls with more RVs in this plan "
-                "(draws too few, or a posterior the Gaussian approximation describes badly)."
+                f"Planet {name}: the probability of a decisive verdict falls from {max(decisive):.0%} to "
+                f"{decisive[-1]:.0%} at {rows[-1]['n_rvs']} new RVs. "
+                + (f"The present p_rocky ({now:.2f}) averages over the mass uncertainty; " if now is not None else "")
+                + "a sharper mass moves p_rocky towards the value of the true mass, which for the masses near the "
+                "composition boundary the posterior allows is less decisive. More RVs cannot fix that; a more "
+                "precise radius can."
             )
     return out
 

@@ -122,10 +122,13 @@ def plan_figure(plan):
                     )
         target = next(iter(plan["planets"].values()))["target_precision"]
         left.axhline(100 * target, color="black", lw=0.6, ls="--", label=f"target {100 * target:.0f}%")
+        if not right.lines:
+            right.text(0.5, 0.5, "no transiting planet:\nno composition verdict", ha="center", va="center")
         for ax in (left, right):
             ax.set_xscale("log")
             ax.set_xlabel("new RVs")
-            ax.legend(loc="best")
+            if ax.lines:
+                ax.legend(loc="best")
         left.set_ylabel(r"expected $\sigma_M / M$ (%)")
         right.set_ylabel("probability of a decisive verdict")
         right.set_ylim(-0.02, 1.02)

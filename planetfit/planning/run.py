@@ -100,5 +100,10 @@ def load_run(run_dir, seed=0):
             file=run_dir,
             fix="rerun the fit with --force.",
         )
+    return from_samples(checked, samples, summary, run_dir, seed)
+
+
+def from_samples(checked, samples, summary=None, run_dir=None, seed=0):
+    """A :class:`FinishedRun` from a checked config and posterior samples in sampler coordinates."""
     quantities = derived.derive(checked.config, checked.posterior.model, samples, np.random.default_rng([seed, 2]))
-    return FinishedRun(run_dir, checked, quantities["parameters"], quantities["planets"], summary)
+    return FinishedRun(run_dir, checked, quantities["parameters"], quantities["planets"], summary or {})
