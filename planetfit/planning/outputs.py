@@ -33,7 +33,7 @@ def _planet_markdown(name, p):
         f"## Planet {name}",
         "",
         f"Now: mass precision {_pct(now['mass_precision'])}, p_rocky "
-        + ("-" if now["p_rocky"] is None else f"{now['p_rocky']:.2f}")
+        + ("-" if now["p_rocky"] is None else f"{now['p_rocky']:.2f}" + (" (decisive)" if now["decisive"] else ""))
         + ".",
         "",
         "| new RVs | sigma_M / M, median (16-84%) | sigma_K m/s | p_rocky median (16-84%) | P(decisive) |",
@@ -71,7 +71,8 @@ def plan_markdown(plan):
         f"{s['jitter_ms']:g} m/s, BJD_TDB {s['window_bjd'][0]:.2f} to {s['window_bjd'][1]:.2f}, at most "
         f"{s['per_night']} per night; {s['draws']} parameter sets drawn from the posterior.",
         "",
-        "P(decisive): the probability that the expected posterior gives p_rocky > 0.95 or < 0.05.",
+        "P(decisive): the probability that the expected posterior gives p_rocky > 0.95 or < 0.05. Columns are "
+        "medians and 16th-84th percentiles over the parameter sets drawn from the posterior (each taken as the truth).",
         "",
     ]
     for name, p in plan["planets"].items():
@@ -152,6 +153,8 @@ def assumptions(mass_source, noise_text):
         "terms; the jitter is taken as known.",
         "Scheduling: random nights of the window, at most the given number per night, spread over an "
         "8-hour night; no weather, moon, airmass or visibility constraints.",
-        "p_rocky is the interior model's verdict (planetfit.context.interior) for Gaussian (mass, radius) "
-        "samples of the expected posterior; its own assumptions (cold, differentiated, no atmosphere) apply.",
+        "p_rocky is the interior model's verdict (planetfit.context.interior): the run's own samples weighted by "
+        "the simulated RVs' likelihood while enough of them keep weight (effective sample size >= 200; the share "
+        "of draws is 'verdict_reweighted_fraction'), else Gaussian (mass, radius) samples of the expected "
+        "posterior; the interior model's own assumptions (cold, differentiated, no atmosphere) apply.",
     ]

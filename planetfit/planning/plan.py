@@ -13,6 +13,7 @@ import numpy as np
 from threadpoolctl import threadpool_limits
 
 from planetfit.context.interior import composition
+from planetfit.context.interior.composition import rocky_flags
 from planetfit.core.errors import InputError
 from planetfit.core.stats import stat
 from planetfit.planning import forecast, massprior
@@ -23,6 +24,8 @@ from planetfit.planning.schedule import check_window, window_capacity
 DECISIVE = 0.95
 #: Counts tried (besides the asked ones) to find the number of RVs that reaches the target precision.
 SEARCH_COUNTS = 16
+#: Old samples weighted by the new RVs' likelihood for the reweighted verdict.
+REWEIGHT_SAMPLES = 4000
 #: The largest count the search tries (dense covariances of the new RVs stay fast).
 SEARCH_MAX = 500
 
@@ -89,18 +92,32 @@ def _summarise(results, planet, counts, asked, rng):
             continue
         row = {"n_rvs": n, "mass_precision": stat(precision[:, j]), "sigma_k_ms": stat(sigma_k[:, j])}
         if transits:
-            p = np.array(
-                [forecast.p_rocky(composition, r.mean_mr[planet][j], r.cov_mr[planet][j], normals) for r in results],
-                dtype=float,
-            )
+            p = np.array([r.p_rocky_reweighted[planet][j] for r in results], dtype=float)
+            gaussian = ~np.isfinite(p)
+            p[gaussian] = [
+                forecast.p_rocky(composition, r.mean_mr[planet][j], r.cov_mr[planet][j], normals)
+                for r, g in zip(results, gaussian)
+                if g
+            ]
             row.update(
                 p_rocky=stat(p),
                 p_decisive=float(np.mean((p > DECISIVE) | (p < 1 - DECISIVE))),
                 p_decisive_rocky=float(np.mean(p > DECISIVE)),
                 p_decisive_volatile=float(np.mean(p < 1 - DECISIVE)),
+                verdict_reweighted_fraction=float(np.mean(~gaussian)),
             )
         rows.append(row)
     return rows, np.median(precision, axis=0)
+
+
+def _reweighting(run, values, coords, rng):
+    """The run's samples (at most ``REWEIGHT_SAMPLES``) and their rocky flags, for reweighted verdicts."""
+    keep = rng.choice(run.size, size=min(REWEIGHT_SAMPLES, run.size), replace=False)
+    flags = {}
+    for p in run.model.transiting:
+        q = run.planets[p.name]
+        flags[p.name] = rocky_flags(q["mass_earth"][keep], q["radius_earth"][keep])
+    return forecast.Reweighting(coords.z[keep], flags)
 
 
 def needed_count(counts, medians, target):
@@ -121,9 +138,11 @@ def _now(run, planet):
     mass = run.planets[planet]["mass_earth"]
     comp = entry.get("composition") or {}
     measured = run.has_velocities
+    p = comp.get("p_rocky") if measured else None
     return {
         "mass_precision": float(np.std(mass) / np.median(mass)) if measured else None,
-        "p_rocky": comp.get("p_rocky") if measured else None,
+        "p_rocky": p,
+        "decisive": None if p is None else bool(p > DECISIVE or p < 1 - DECISIVE),
     }
 
 
@@ -138,14 +157,13 @@ def make_plan(run, settings, noise):
         uninformed = {p.amplitude.name for p in run.model.transiting}
     names = forecast.planner_parameters(run.model, values)
     coords = forecast.coordinates(values, names, uninformed)
+    reweighting = None if uninformed else _reweighting(run, values, coords, rng)
+    forecaster = forecast.Forecaster(
+        run.model, values, coords, noise, settings.window_bjd, settings.per_night, reweighting
+    )
     rows = rng.choice(run.size, size=min(settings.draws, run.size), replace=False)
     with threadpool_limits(limits=1):  # small matrices: BLAS threads would only contend for the cores
-        results = [
-            forecast.simulate_draw(
-                run.model, values, coords, i, counts, noise, settings.window_bjd, settings.per_night, rng
-            )
-            for i in rows
-        ]
+        results = [forecaster.draw(i, counts, rng) for i in rows]
     planets = {}
     for p in run.model.planets:
         table, medians = _summarise(results, p.name, counts, set(settings.counts), rng)
