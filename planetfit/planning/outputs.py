@@ -90,7 +90,8 @@ def _precision_panel(ax, name, p, colour):
     lo = [100 * r["mass_precision"]["lower"] for r in rows]
     hi = [100 * r["mass_precision"]["upper"] for r in rows]
     ax.fill_between(n, lo, hi, color=colour, alpha=BAND_ALPHA, lw=0)
-    ax.plot(n, med, "o-", color=colour, label=f"{name}: median, 16-84% band")
+    label = f"{name} (M sin i)" if p["mass_is_minimum"] else name
+    ax.plot(n, med, "o-", color=colour, label=f"{label}: median, 16-84% band")
     if p["now"]["mass_precision"] is not None:
         now = 100 * p["now"]["mass_precision"]
         ax.axhline(now, color=colour, ls=":", lw=0.8, label=f"{name}: now ({now:.0f}%)")
@@ -101,7 +102,7 @@ def _precision_panel(ax, name, p, colour):
 def plan_figure(plan):
     """Mass precision (left) and the probability of a decisive verdict (right) against the number of new RVs."""
     with style():
-        fig = new_figure(PAGE_WIDTH_IN, 2.6)
+        fig = new_figure(PAGE_WIDTH_IN, 3.4)
         left, right = fig.subplots(1, 2)
         colours = (BLUE, VERMILLION, GREY)
         for (name, p), colour in zip(plan["planets"].items(), colours * 4):
@@ -123,13 +124,14 @@ def plan_figure(plan):
                     )
         target = next(iter(plan["planets"].values()))["target_precision"]
         left.axhline(100 * target, color="black", lw=0.6, ls="--", label=f"target {100 * target:.0f}%")
+        left.set_ylim(0, 1.1 * max(left.get_ylim()[1], 100 * target))
         if not right.lines:
             right.text(0.5, 0.5, "no transiting planet:\nno composition verdict", ha="center", va="center")
         for ax in (left, right):
             ax.set_xscale("log")
             ax.set_xlabel("new RVs")
             if ax.lines:
-                ax.legend(loc="best")
+                ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncols=2)
         left.set_ylabel(r"expected $\sigma_M / M$ (%)")
         right.set_ylabel("probability of a decisive verdict")
         right.set_ylim(-0.02, 1.02)

@@ -171,6 +171,7 @@ def make_plan(run, settings, noise):
         reached = now["mass_precision"] is not None and now["mass_precision"] <= settings.target_precision
         planets[p.name] = {
             "transits": p.transits,
+            "mass_is_minimum": not p.transits and p.inclination is None,
             "now": now,
             "counts": table,
             "target_precision": settings.target_precision,
