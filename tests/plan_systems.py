@@ -20,7 +20,7 @@ def planet_block(period, transit, k_prior, transits=False):
     """Planet b: a circular orbit, K with ``k_prior``; ephemeris priors (or fixed numbers) given."""
     block = {"period_days": period, "transit_bjd": transit, "rv_amplitude_ms": k_prior, "orbit": "circular"}
     if transits:
-        block.update(radius_ratio={"normal": [0.025, 0.0005]}, impact={"truncnormal": [0.3, 0.02, 0.0, 1.0]})
+        block.update(impact={"truncnormal": [0.3, 0.02, 0.0, 1.0]})
     else:
         block = {"transits": False, **block}
     return block
@@ -47,11 +47,21 @@ def write_rv_system(folder, datasets, planet, max_steps=600):
     return write_config(folder, config)
 
 
-def write_transit_only_system(folder):
-    """A transiting planet with a flat light curve of 60 points and no RVs (K fixed at zero)."""
+def write_transiting_system(folder, k_prior=0.0, radius_ratio=0.025, velocities=()):
+    """A transiting planet with a flat light curve of 60 points; without ``velocities`` K is fixed at zero.
+
+    ``velocities``: (name, times, rv, error) datasets as for :func:`write_rv_system`.
+    """
     t = BTJD + 3000 + np.linspace(0, 2, 60)
     phot = write_photometry(folder, t, np.ones(t.size), 1e-3, 2.0, supersample=1)
-    planet = planet_block(PERIOD_DAYS, TRANSIT_BJD, 0.0, transits=True)
+    planet = planet_block(PERIOD_DAYS, TRANSIT_BJD, k_prior, transits=True)
+    planet["radius_ratio"] = {"normal": [radius_ratio, 0.0005]}
     config = {"system": "Plan-2", "seed": 5, "output": "run", "star": STAR, "planets": {"b": planet}}
     config["photometry"] = [phot]
+    config["velocities"] = [
+        write_velocities(folder, name, f"{name}.txt", t, rv, err, offset_ms={"uniform": [-30, 30]}, jitter_ms=0.0)
+        for name, t, rv, err in velocities
+    ]
+    if not velocities:
+        del config["velocities"]
     return write_config(folder, config)

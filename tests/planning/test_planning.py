@@ -3,13 +3,14 @@ the mass function, and the schedule's rules."""
 
 import numpy as np
 import pytest
-from plan_systems import PERIOD_DAYS, TRANSIT_BJD, planet_block, write_rv_system, write_transit_only_system
+from plan_systems import PERIOD_DAYS, TRANSIT_BJD, planet_block, write_rv_system, write_transiting_system
 
 from planetfit import pipeline
+from planetfit.context.interior import composition
 from planetfit.core.errors import InputError
 from planetfit.core.geometry import planet_mass_kg, rv_amplitude_ms
 from planetfit.core.units import M_EARTH_KG, M_SUN_KG
-from planetfit.planning import massprior, plan
+from planetfit.planning import forecast, massprior, plan
 from planetfit.planning.fisher import NoiseModel
 from planetfit.planning.run import from_samples
 from planetfit.planning.schedule import NIGHT_HOURS, observation_times
@@ -52,7 +53,7 @@ def test_transit_only_run_with_a_mass_guess(tmp_path):
     # With a known mass (guess 5 +- 0.001 Earth masses) and no RVs yet, 50 RVs measure K to sigma sqrt(2/50)
     # and the mass to (sigma_K / K) combined with 2/3 of the star's fractional mass error (M ∝ K M*^(2/3)).
     # source: the mass function Mp sin i ∝ K P^(1/3) M*^(2/3) (Lovis & Fischer 2010, eq. 14) and the result above
-    run = _prior_run(write_transit_only_system(tmp_path))
+    run = _prior_run(write_transiting_system(tmp_path))
     b = _plan(run, [50], (TRANSIT_BJD + 10, TRANSIT_BJD + 210), draws=100, mass_guess=(5.0, 1e-3))
     row = b["counts"][0]
     sigma_k = SIGMA_MS * np.sqrt(2 / 50)
@@ -61,6 +62,32 @@ def test_transit_only_run_with_a_mass_guess(tmp_path):
     assert row["sigma_k_ms"]["median"] == pytest.approx(sigma_k, rel=0.10)
     assert row["mass_precision"]["median"] == pytest.approx(expected, rel=0.10)
     assert 0.0 <= row["p_decisive"] <= 1.0 and b["now"]["mass_precision"] is None
+
+
+def test_reweighted_and_gaussian_verdicts_agree(tmp_path):
+    # common practice, no published source: two computations of one quantity. The old posterior is Gaussian
+    # (its prior: K ~ N(2.2, 0.4) m/s; 3 old RVs at 10 km/s carry no information), so the Gaussian verdict is
+    # near exact, and weighting the old samples by the simulated RVs' likelihood must give the same p_rocky.
+    # Radius ratio 0.02 gives 1.70 Earth radii, near the silicate curve at about 5 Earth masses: p_rocky ~ 0.5.
+    old = ("old", TRANSIT_BJD + np.array([1.0, 2.0, 3.0]), np.zeros(3), 1e4)
+    config = write_transiting_system(tmp_path, {"normal": [2.2, 0.4]}, radius_ratio=0.02, velocities=[old])
+    run = _prior_run(config, n=4000)
+    names = forecast.planner_parameters(run.model, run.values)
+    coords = forecast.coordinates(run.values, names)
+    rng = np.random.default_rng(6)
+    forecaster = forecast.Forecaster(
+        run.model, run.values, coords, NoiseModel(SIGMA_MS, 0.0), (TRANSIT_BJD + 10, TRANSIT_BJD + 100), 1,
+        plan._reweighting(run, run.values, coords, rng),
+    )  # fmt: skip
+    normals = rng.standard_normal((4000, 2))
+    pairs = []
+    for row in rng.choice(run.size, 40, replace=False):
+        r = forecaster.draw(row, [10], rng)
+        gaussian = forecast.p_rocky(composition, r.mean_mr["b"][0], r.cov_mr["b"][0], normals)
+        pairs.append((r.p_rocky_reweighted["b"][0], gaussian))
+    pairs = np.array(pairs)
+    assert np.isfinite(pairs[:, 0]).all() and 0.2 < np.mean(pairs[:, 1]) < 0.8
+    assert np.mean(np.abs(pairs[:, 0] - pairs[:, 1])) < 0.04, pairs
 
 
 def test_earth_sun_semi_amplitude():

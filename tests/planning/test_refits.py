@@ -75,7 +75,6 @@ def test_planner_agrees_with_refits(old_run, tmp_path):
     ]
     # common practice, no published source: the Fisher approximation is exact for a linear Gaussian model;
     # here the ephemeris enters non-linearly and the refits' widths are Monte Carlo estimates.
-    print(f"refits {np.mean(refits):.4f} (sd {np.std(refits):.4f}), planner {expected}")
     assert np.mean(refits) == pytest.approx(expected["median"], rel=0.25), (refits, expected)
 
 
