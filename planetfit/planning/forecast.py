@@ -74,7 +74,9 @@ def coordinates(values, names, uninformed=()):
     informed = np.array([n not in uninformed for n in names] + [False])
     precision = np.zeros((len(names) + 1,) * 2)
     cov = np.atleast_2d(np.cov(z[:, informed[:-1]], rowvar=False))
-    precision[np.ix_(informed, informed)] = np.linalg.inv(cov)
+    precision[np.ix_(informed, informed)] = np.linalg.pinv(
+        cov, hermitian=True
+    )  # pinv: no information along degenerate directions
     return Coordinates(list(names), centre, scale, z, precision)
 
 

@@ -209,6 +209,8 @@ def check_settings(settings):
             key="--rv-error-ms",
             fix="give the spectrograph's expected precision, e.g. --rv-error-ms 1.5.",
         )
+    if settings.jitter_ms is None or not settings.jitter_ms >= 0:
+        raise InputError("--jitter-ms must be zero or positive.", key="--jitter-ms", fix="e.g. --jitter-ms 1.0.")
     if min(settings.counts) < 2:
         raise InputError("every count of new RVs must be at least 2.", key="--counts", fix="e.g. --counts 10 20 40 80.")
     if not 0 < settings.target_precision < 1:
