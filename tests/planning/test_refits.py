@@ -49,10 +49,10 @@ def _refit(folder, old, truth, rng):
     checked = pipeline.check(config)
     layout = checked.posterior.layout
     centre = layout.to_sampler([truth.get(n, 0.0) for n in layout.free])
-    walkers = centre + 1e-3 * rng.standard_normal((24, layout.ndim)) * layout.geometry()[1]
-    sampler = emcee.EnsembleSampler(24, layout.ndim, checked.posterior.log_prob_many, vectorize=True)
-    sampler.run_mcmc(walkers, 900, progress=False)
-    samples = sampler.get_chain(discard=300, flat=True)
+    walkers = centre + 1e-3 * rng.standard_normal((16, layout.ndim)) * layout.geometry()[1]
+    sampler = emcee.EnsembleSampler(16, layout.ndim, checked.posterior.log_prob_many, vectorize=True)
+    sampler.run_mcmc(walkers, 700, progress=False)
+    samples = sampler.get_chain(discard=200, flat=True)
     mass = derive(checked.config, checked.posterior.model, samples, rng)["planets"]["b"]["mass_earth"]
     return np.std(mass) / np.median(mass)
 
@@ -60,7 +60,7 @@ def _refit(folder, old, truth, rng):
 def test_planner_agrees_with_refits(old_run, tmp_path):
     run_dir, old = old_run
     run = load_run(run_dir)
-    settings = plan.PlanSettings(SIGMA_MS, 0.0, [NEW_RVS], WINDOW, draws=200)
+    settings = plan.PlanSettings(SIGMA_MS, 0.0, [NEW_RVS], WINDOW, draws=100)
     expected = plan.make_plan(run, settings, NoiseModel(SIGMA_MS, 0.0))[0]["b"]["counts"][0]["mass_precision"]
     rng = np.random.default_rng(12)
     rows = rng.choice(run.size, REFITS, replace=False)
