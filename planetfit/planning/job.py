@@ -51,8 +51,13 @@ def _warnings(run, planets, window, last_bjd):
                 f"{decisive[-1]:.0%} at {rows[-1]['n_rvs']} new RVs. "
                 + (f"The present p_rocky ({now:.2f}) averages over the mass uncertainty; " if now is not None else "")
                 + "a sharper mass moves p_rocky towards the value of the true mass, which for the masses near the "
-                "composition boundary the posterior allows is less decisive. More RVs cannot fix that; a more "
-                "precise radius can."
+                "composition boundary the posterior allows is less decisive"
+                + (
+                    f" (with the mass known exactly: {p['p_decisive_mass_known']:.0%})"
+                    if p.get("p_decisive_mass_known") is not None
+                    else ""
+                )
+                + ". More RVs cannot fix that; a more precise radius can."
             )
     return out
 

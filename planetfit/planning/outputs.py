@@ -51,6 +51,12 @@ def _planet_markdown(name, p):
         )
     target, needed = p["target_precision"], p["n_rvs_for_target"]
     lines.append("")
+    if p.get("p_decisive_mass_known") is not None:
+        lines += [
+            f"If the mass were known exactly (the limit of many RVs; the radius as it is), the verdict would be "
+            f"decisive with probability {_pct(p['p_decisive_mass_known'])}.",
+            "",
+        ]
     if needed is None:
         lines.append(
             f"A median mass precision of {_pct(target)} is not reached with up to {p['searched_up_to']} new RVs "
@@ -113,6 +119,10 @@ def plan_figure(plan):
                 right.plot(
                     n, [r["p_decisive"] for r in rows], "o-", color=colour, label=f"{name}: p_rocky > 0.95 or < 0.05"
                 )
+                if p.get("p_decisive_mass_known") is not None:
+                    right.axhline(
+                        p["p_decisive_mass_known"], color=colour, ls="-.", lw=0.7, label=f"{name}: mass known exactly"
+                    )
                 for key, marker, text in (("rocky", "^--", "> 0.95"), ("volatile", "v:", "< 0.05")):
                     right.plot(
                         n,

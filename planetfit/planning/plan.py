@@ -24,6 +24,8 @@ from planetfit.planning.schedule import check_window, window_capacity
 DECISIVE = 0.95
 #: Counts tried (besides the asked ones) to find the number of RVs that reaches the target precision.
 SEARCH_COUNTS = 16
+#: Kernel width, in mass posterior widths, of the exact-mass limit. # common practice, no published source
+KERNEL_FRACTION = 0.1
 #: Old samples weighted by the new RVs' likelihood for the reweighted verdict.
 REWEIGHT_SAMPLES = 4000
 #: The largest count the search tries (dense covariances of the new RVs stay fast).
@@ -120,6 +122,26 @@ def _reweighting(run, values, coords, rng):
     return forecast.Reweighting(coords.z[keep], flags)
 
 
+def decisive_with_exact_mass(mass, radius, rows):
+    """P(decisive) if the mass were known exactly, the radius as it is: the limit of many RVs.
+
+    For each drawn true mass, ``p_rocky`` is the rocky fraction of the run's samples of nearly that
+    mass (a Gaussian kernel a tenth of the mass posterior's width), so the radius keeps its posterior.
+    """
+    flags = rocky_flags(mass, radius)
+    ok = np.isfinite(flags)
+    m, f = mass[ok], flags[ok]
+    if m.size == 0:
+        return None
+    width = KERNEL_FRACTION * np.std(m)
+    p = []
+    for m0 in mass[rows]:
+        w = np.exp(-0.5 * ((m - m0) / width) ** 2)
+        p.append(np.sum(w * f) / np.sum(w))
+    p = np.array(p)
+    return float(np.mean((p > DECISIVE) | (p < 1 - DECISIVE)))
+
+
 def needed_count(counts, medians, target):
     """The fewest RVs whose median precision reaches ``target`` (log-log interpolation), or None."""
     reached = np.flatnonzero(medians <= target)
@@ -178,6 +200,11 @@ def make_plan(run, settings, noise):
             "n_rvs_for_target": 0 if reached else needed_count(counts, medians, settings.target_precision),
             "searched_up_to": int(max(counts)),
         }
+        if p.transits and run.has_velocities:
+            q = run.planets[p.name]
+            planets[p.name]["p_decisive_mass_known"] = decisive_with_exact_mass(
+                q["mass_earth"], q["radius_earth"], rows
+            )
     return planets, {"mass_source": mass_source, "noise": _noise_text(noise), "parameters": names}
 
 

@@ -119,3 +119,14 @@ def test_schedule_keeps_to_the_window_and_the_nights():
     assert np.all(t - window[0] - night <= NIGHT_HOURS / 24)
     with pytest.raises(InputError, match="do not fit"):
         observation_times(rng, 91, window, per_night=3)
+
+
+def test_decisive_with_the_mass_known_is_set_by_the_radius():
+    # common practice, no published source: with the radius exact, knowing the mass settles the verdict
+    # (p_rocky 0 or 1 away from the silicate curve); with a radius uncertain by 20%, it cannot.
+    rng = np.random.default_rng(9)
+    mass = rng.uniform(2.0, 8.0, 6000)
+    rows = rng.choice(mass.size, 200, replace=False)
+    exact = plan.decisive_with_exact_mass(mass, np.full(mass.size, 1.5), rows)
+    vague = plan.decisive_with_exact_mass(mass, rng.normal(1.6, 0.32, mass.size), rows)
+    assert exact > 0.85 and vague < 0.3, (exact, vague)
