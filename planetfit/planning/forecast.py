@@ -55,12 +55,14 @@ class Coordinates:
 
 
 def planner_parameters(model, values):
-    """Names of the varying parameters of every Keplerian and trend, the star, and the transits' shape."""
+    """Names of the varying parameters of every Keplerian and trend, known inclinations, the star and the transits'
+    shape."""
     names = []
     for p in model.planets:
         names += [p.period.name, p.transit_time.name, p.amplitude.name] + [q.name for q in p.orbit.parameters]
     if model.velocity is not None and model.velocity.trend is not None:
         names += [q.name for q in model.velocity.trend.parameters]
+    names += [p.inclination.name for p in model.planets if p.inclination is not None]
     names += [model.star.mass.name, model.star.radius.name]
     names += [q.name for p in model.transiting for q in (p.radius_ratio, p.impact)]
     return [n for n in dict.fromkeys(names) if np.ndim(values[n]) and np.ptp(values[n]) > 0]

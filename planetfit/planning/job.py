@@ -27,11 +27,16 @@ def resolve_window(window, last_bjd):
     return start, end
 
 
-def _warnings(run, planets, window, last_bjd):
+def plan_warnings(run, planets, window, last_bjd):
+    """The plan's warnings: the run's state, what the plan cannot model, and a decisiveness that falls."""
     out = []
     sampling = run.summary.get("sampling", {})
     if sampling.get("converged") is False:
         out.append("The run did not converge: its posterior, and so this plan, is not reliable.")
+    if len(sampling.get("modes") or []) > 1:
+        out.append(
+            "The run's posterior has several modes: the plan's Gaussian approximation of it (one covariance) is crude."
+        )
     if not run.has_velocities:
         out.append(
             "The run has no RVs: no mass is measured, and the plan rests on the assumed mass distribution "
@@ -110,7 +115,7 @@ def plan_run(run_dir, out_dir=None, **options):
         "planets": planets,
         "method": method,
         "assumptions": outputs.assumptions(method["mass_source"], method["noise"]),
-        "warnings": _warnings(run, planets, settings.window_bjd, last),
+        "warnings": plan_warnings(run, planets, settings.window_bjd, last),
     }
     result["seconds"] = round(time.monotonic() - started, 2)
     out_dir = Path(out_dir) if out_dir is not None else run.run_dir / "plan"

@@ -17,6 +17,7 @@ from planetfit.cli import main
 from planetfit.context.derived import derive
 from planetfit.planning import plan
 from planetfit.planning.fisher import NoiseModel
+from planetfit.planning.job import plan_warnings
 from planetfit.planning.run import load_run
 from planetfit.planning.schedule import observation_times
 
@@ -108,3 +109,23 @@ def test_plan_command_names_a_missing_or_unfinished_run(tmp_path, capsys):
     assert main(["plan", str(tmp_path / "half")]) == 2
     err = capsys.readouterr().err
     assert "summary.json is missing" in err and "--resume" in err
+
+
+def test_plan_warns_of_an_unconverged_run_and_a_falling_verdict(old_run):
+    # common practice, no published source: a plan on a doubtful run, or one whose verdict gets less
+    # decisive with more RVs, says so
+    run = load_run(old_run[0])
+    run.summary["sampling"].update(converged=False, modes=[{}, {}])
+    planets = {
+        "b": {
+            "now": {"p_rocky": 0.97},
+            "counts": [{"n_rvs": 10, "p_decisive": 0.99}, {"n_rvs": 40, "p_decisive": 0.85}],
+            "p_decisive_mass_known": 0.86,
+        }
+    }
+    last = run.last_data_bjd()
+    text = " ".join(plan_warnings(run, planets, (last - 5, last + 60), last))
+    assert "did not converge" in text and "several modes" in text and "before the run's last data point" in text
+    assert "falls from 99% to 85% at 40 new RVs" in text and "mass known exactly: 86%" in text
+    planets["b"]["counts"][1]["p_decisive"] = 0.99
+    assert not any("falls" in w for w in plan_warnings(run, planets, (last + 1, last + 60), last))
