@@ -12,6 +12,7 @@ from planetfit.core.geometry import planet_mass_kg, rv_amplitude_ms
 from planetfit.core.units import M_EARTH_KG, M_SUN_KG
 from planetfit.planning import forecast, massprior, plan
 from planetfit.planning.fisher import NoiseModel
+from planetfit.planning.job import resolve_window
 from planetfit.planning.run import from_samples
 from planetfit.planning.schedule import NIGHT_HOURS, observation_times
 
@@ -130,3 +131,11 @@ def test_decisive_with_the_mass_known_is_set_by_the_radius():
     exact = plan.decisive_with_exact_mass(mass, np.full(mass.size, 1.5), rows)
     vague = plan.decisive_with_exact_mass(mass, rng.normal(1.6, 0.32, mass.size), rows)
     assert exact > 0.85 and vague < 0.3, (exact, vague)
+
+
+def test_window_in_bjd_or_in_days_after_the_last_data_point():
+    # common practice, no published source: the --window-days convention of planetfit plan
+    last = 2460050.3
+    assert resolve_window(None, last) == pytest.approx((last + 1, last + 181))
+    assert resolve_window((10, 70), last) == pytest.approx((last + 10, last + 70))
+    assert resolve_window((2460100.0, 2460200.0), last) == (2460100.0, 2460200.0)
