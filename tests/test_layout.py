@@ -25,6 +25,7 @@ STAGES = {
     "pipeline": 5,
     "batch": 6,
     "demo": 6,
+    "planning": 6,
     "cli": 7,
 }
 MAX_MODULE_LINES = 400

@@ -176,6 +176,39 @@ def redraw(args):
     print(f"figures and tables rebuilt in {args.rundir}")
 
 
+def plan(args):
+    """``planetfit plan``: expected mass precision and verdict per number of new RVs, from a finished run."""
+    from planetfit.planning.job import plan_run
+
+    if args.draws < 10:
+        raise InputError(f"--draws must be at least 10, got {args.draws}.", fix="use e.g. --draws 300.")
+    result, paths = plan_run(
+        args.rundir,
+        args.out,
+        rv_error_ms=args.rv_error_ms,
+        jitter_ms=args.jitter_ms,
+        counts=args.counts,
+        window=args.window_days,
+        per_night=args.per_night,
+        target_precision=args.target_precision,
+        draws=args.draws,
+        mass_guess=None if args.mass_guess is None else tuple(args.mass_guess),
+        seed=args.seed,
+    )
+    for name, p in result["planets"].items():
+        print(f"planet {name}:")
+        for row in p["counts"]:
+            text = f"  {row['n_rvs']:4d} new RVs: sigma_M/M {100 * row['mass_precision']['median']:.1f}%"
+            if "p_decisive" in row:
+                text += f", p_rocky {row['p_rocky']['median']:.2f}, decisive verdict {100 * row['p_decisive']:.0f}%"
+            print(text)
+        needed = p["n_rvs_for_target"]
+        print(f"  for sigma_M/M <= {p['target_precision']:g}: {needed if needed is not None else 'not reached'}")
+    for warning in result["warnings"]:
+        print(f"WARNING: {warning}")
+    print(f"plan written to {paths[0].parent} ({result['seconds']:.1f} s)")
+
+
 def schema(args):
     """``planetfit schema``: the config's JSON Schema, for editors."""
     from planetfit.inputs.schema import json_schema

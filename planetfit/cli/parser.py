@@ -30,6 +30,42 @@ def _add_run_options(p, default_cores=1):
     p.add_argument("--no-figures", action="store_true", help="write numbers and tables only (faster, for batches)")
 
 
+def _add_plan_parser(sub):
+    p = sub.add_parser("plan", help="how many new RVs settle the mass and the composition verdict of a finished run")
+    p.set_defaults(func=commands.plan)
+    p.add_argument("rundir", help="folder of a finished 'planetfit run'")
+    p.add_argument("--rv-error-ms", type=float, metavar="S", help="error of one new RV (default: the run's median)")
+    p.add_argument("--jitter-ms", type=float, metavar="J", help="jitter of the new RVs (default: the run's median)")
+    p.add_argument("--counts", type=int, nargs="+", metavar="N", help="numbers of new RVs (default 10 20 40 80)")
+    p.add_argument(
+        "--window-days",
+        type=float,
+        nargs=2,
+        metavar=("START", "END"),
+        help="observing window, BJD_TDB or days after the run's last data point (default: 1 to 181 days after)",
+    )
+    p.add_argument("--per-night", type=int, default=1, metavar="N", help="at most N RVs per night (default 1)")
+    p.add_argument(
+        "--target-precision",
+        type=float,
+        default=0.2,
+        metavar="P",
+        help="mass precision sigma_M/M to reach (default 0.2)",
+    )
+    p.add_argument(
+        "--mass-guess",
+        type=float,
+        nargs=2,
+        metavar=("M", "SIG"),
+        help="transit-only run: mass guess in Earth masses (default: Chen & Kipping 2017 mass-radius relation)",
+    )
+    p.add_argument(
+        "--draws", type=int, default=300, metavar="N", help="parameter sets drawn from the posterior (default 300)"
+    )
+    p.add_argument("--seed", type=int, default=0, help="random seed of the draws and schedules (default 0)")
+    p.add_argument("--out", metavar="DIR", help="output folder (default: RUNDIR/plan)")
+
+
 def build_parser():
     """The ``planetfit`` parser; each sub-command's ``func`` does its job."""
     parser = _Parser(prog="planetfit", description="Joint transit + radial-velocity fits of transiting planets.")
@@ -81,6 +117,7 @@ def build_parser():
     p.add_argument("--albedo", type=float, default=0.3)
     p.add_argument("--tau", type=float, default=0.94)
     p.add_argument("--json", action="store_true")
+    _add_plan_parser(sub)
     p = sub.add_parser(
         "schema", help="print the config's JSON Schema (for editors: planetfit schema > config.schema.json)"
     )

@@ -80,6 +80,13 @@ def derive(config, model, samples, rng):
     return {"star": star, "planets": planets, "parameters": values, "prior_only": flagged}
 
 
+def planet_quantities(planet, star, values):
+    """Derived quantities of one planet (mass, radius, ...) from parameter values, scalars or arrays."""
+    shape = np.broadcast_shapes(*(np.shape(v) for v in values.values()))
+    values = {k: np.broadcast_to(np.asarray(v, dtype=float), shape) for k, v in values.items()}
+    return _planet(planet, values, star, values[star.mass.name], values[star.radius.name])
+
+
 def _planet(planet, values, star, mstar_msun, rstar_rsun):
     """Derived quantities of one planet component from parameter value arrays."""
     per, k_ms = values[planet.period.name], values[planet.amplitude.name]

@@ -86,3 +86,19 @@ def transit_duration_days(period_days, a_over_rstar, radius_ratio, impact, cos_i
     t14 = period_days / np.pi * np.arcsin(np.clip(arg, 0, 1))
     t14 = t14 * np.sqrt(1 - e * e) / (1 + e * np.sin(omega_rad))
     return np.where(impact < 1 + radius_ratio, t14, np.nan)
+
+
+def rv_amplitude_ms(planet_mass_kg, period_days, e, sin_i, star_mass_kg):
+    """Semi-amplitude K (m/s) of the star's reflex motion: the mass function solved for K.
+
+    K = (2 pi G / P)^(1/3) Mp sin i / (M* + Mp)^(2/3) / sqrt(1 - e^2)
+    (Lovis & Fischer 2010, eq. 14); the inverse of :func:`planet_mass_kg`.
+    """
+    p = period_days * SECONDS_PER_DAY
+    return (
+        np.cbrt(2 * np.pi * G_SI / p)
+        * planet_mass_kg
+        * sin_i
+        / np.cbrt(star_mass_kg + planet_mass_kg) ** 2
+        / (np.sqrt(1 - e * e))
+    )

@@ -15,6 +15,7 @@ from planetfit.context.interior import (
     reference_radius_earth,
     solve_structure,
 )
+from planetfit.context.interior.composition import rocky_flags
 from planetfit.context.interior.eos import IRON, IRON_EPSILON, PEROVSKITE, SILICATE, WATER
 from planetfit.core.units import KG_M3_TO_G_CM3
 
@@ -204,3 +205,14 @@ def test_reference_curve_spans_the_grid():
     assert np.all(np.isfinite(radius)) and np.all(np.diff(radius) > 0)
     with pytest.raises(KeyError, match="earth_like"):
         reference_radius_earth("earthlike", 1.0)
+
+
+def test_rocky_flags_are_the_samples_behind_p_rocky():
+    # common practice, no published source: the per-sample flags and the verdict's fraction are one count
+    rng = np.random.default_rng(8)
+    hi = load_grid().mass_range_earth[1]
+    mass = np.r_[rng.normal(5.0, 1.5, 3000), hi * 3]
+    radius = np.r_[rng.normal(1.65, 0.1, 3000), 1.0]
+    flags = rocky_flags(mass, radius)
+    assert np.isnan(flags[-1]) and set(np.unique(flags[:-1][np.isfinite(flags[:-1])])) <= {0.0, 1.0}
+    assert np.nanmean(flags) == pytest.approx(composition(mass, radius)["p_rocky"], abs=1e-12)

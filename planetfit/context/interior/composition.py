@@ -98,6 +98,19 @@ def _fractions(grid, m, r, rocky, between):
     return iron, water
 
 
+def rocky_flags(mass_earth, radius_earth):
+    """Per sample: 1.0 at or below the pure-silicate curve (rocky, as :func:`composition` counts it), 0.0 above
+    it, NaN outside the grid or for a non-positive radius."""
+    m = np.asarray(mass_earth, dtype=float).ravel()
+    r = np.asarray(radius_earth, dtype=float).ravel()
+    grid = load_grid()
+    usable = grid.inside(m) & np.isfinite(r) & (r > 0)
+    out = np.full(m.size, np.nan)
+    silicate = grid.radius_at_mass(m[usable], *grid.node_index(*REFERENCE_CURVES["silicate"]))
+    out[usable] = (r[usable] <= silicate).astype(float)
+    return out
+
+
 def composition(mass_earth, radius_earth):
     """Composition verdict from joint mass and radius samples.
 
