@@ -175,6 +175,14 @@ def redraw(args):
     print(f"figures and tables rebuilt in {args.rundir}")
 
 
+def export(args):
+    """``planetfit export``: the posterior of a finished run in another format."""
+    from planetfit import pipeline
+
+    path = pipeline.export(args.rundir, args.format, out=args.out)
+    print(f"posterior written to {path}")
+
+
 def schema(args):
     """``planetfit schema``: the config's JSON Schema, for editors."""
     from planetfit.inputs.schema import json_schema
