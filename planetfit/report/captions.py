@@ -40,7 +40,8 @@ FAMILIES = (
     (
         "corner_",
         "Posterior of planet {planet}'s mass, radius and density with its main fitted parameters (1 and 2 "
-        "sigma contours; minimum mass for a planet seen only in RVs).",
+        "sigma contours); for a planet seen only in RVs, its minimum mass M sin i with period, semi-amplitude "
+        "and eccentricity.",
     ),
     (
         "mass_radius",
@@ -55,8 +56,9 @@ FAMILIES = (
     ),
     (
         "convergence",
-        "Top: the largest autocorrelation time against steps, with the stopping rule's line; below: walker "
-        "traces of the slowest-mixing parameters, burn-in shaded.",
+        "Top: the largest autocorrelation time estimate against steps, with the stopping rule's line (steps "
+        "over sampling.autocorr_factor); below: every walker's trace of the slowest-mixing parameters, the dashed "
+        "line marking the end of burn-in.",
     ),
 )
 

@@ -127,8 +127,14 @@ def diagnostics(idata, chain_after_burn_in, names):
     return out
 
 
-def sampling_facts(per_parameter):
-    """summary.json sampling entries from :func:`diagnostics`, and the warnings they call for."""
+def sampling_facts(per_parameter, steps_after_burn_in):
+    """summary.json sampling entries from :func:`diagnostics`, and the warnings they call for.
+
+    For a chain of N steps with autocorrelation time tau, split R-hat is
+    about sqrt(1 + 2 tau / N) (each half-chain holds N / (2 tau) independent
+    draws), so R-hat < 1.01 needs N of about 100 tau; the warning says how
+    far the run is from that.
+    """
     facts = {"parameter_diagnostics": per_parameter}
     rhats = {n: d["rhat"] for n, d in per_parameter.items() if "rhat" in d}
     if not rhats:
@@ -142,9 +148,13 @@ def sampling_facts(per_parameter):
     high = [n for n, r in rhats.items() if r > RHAT_LIMIT]
     if not high:
         return facts, []
+    tau = max(d["autocorr_steps"] for d in per_parameter.values())
     return facts, [
-        f"R-hat above {RHAT_LIMIT} for {len(high)} parameter(s), largest {rhats[worst]:.3f} for {worst}: the "
-        "walkers do not yet agree on the posterior; run longer (sampling.max_steps) before quoting uncertainties"
+        f"R-hat above {RHAT_LIMIT} for {len(high)} of {len(rhats)} parameters (largest {rhats[worst]:.3f}, "
+        f"{worst}): the walkers, read as separate chains, do not yet agree. Split R-hat falls below {RHAT_LIMIT} "
+        f"when each walker runs about 100 autocorrelation times after burn-in; this chain ran "
+        f"{steps_after_burn_in / tau:.0f}. Run longer (sampling.autocorr_factor 100 and enough max_steps) before "
+        "quoting the uncertainties"
     ]
 
 
@@ -188,4 +198,4 @@ def write_posterior(run_dir, checked, derived, facts):
         log.info("no posterior.nc, R-hat or ESS: %s", INSTALL_HINT)
     else:
         write_netcdf(idata, run_dir / "posterior.nc")
-    return sampling_facts(diagnostics(idata, stats[2], derived["parameter_names"]))
+    return sampling_facts(diagnostics(idata, stats[2], derived["parameter_names"]), len(stats[2]))
