@@ -22,14 +22,17 @@ SAMPLE_GROUPS = ("posterior", inference.DERIVED_GROUP, "sample_stats")
 
 
 def csv_text(groups):
-    """One row per sample: ``chain``, ``draw``, then every variable of :data:`SAMPLE_GROUPS` (``group/name``)."""
+    """One row per sample: ``chain``, ``draw``, then every variable of :data:`SAMPLE_GROUPS` (``group/name``).
+
+    Numbers have 17 significant digits, so they read back as the same floats.
+    """
     columns = {f"{g}/{name}": a for g in SAMPLE_GROUPS for name, a in groups[g].items()}
     walkers, draws = groups["sample_stats"]["lp"].shape
     chain, draw = np.meshgrid(np.arange(walkers), np.arange(draws), indexing="ij")
     table = np.column_stack([chain.ravel(), draw.ravel()] + [np.ravel(a).astype(float) for a in columns.values()])
     buf = io.StringIO()
     buf.write(",".join(["chain", "draw", *columns]) + "\n")
-    np.savetxt(buf, table, delimiter=",", fmt=["%d", "%d"] + ["%.10g"] * len(columns))
+    np.savetxt(buf, table, delimiter=",", fmt=["%d", "%d"] + ["%.17g"] * len(columns))
     return buf.getvalue()
 
 
