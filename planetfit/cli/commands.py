@@ -13,6 +13,7 @@ def print_summary(run_dir):
     print(
         f"\n{summary['system']}: {s['steps']} steps x {s['walkers']} walkers, "
         f"{s['independent_samples']} independent samples, converged: {s['converged']}"
+        + (f", R-hat max {s['rhat_max']:.3f}, bulk ESS min {s['ess_bulk_min']}" if "rhat_max" in s else "")
     )
     for name, p in summary["planets"].items():
         parts = []

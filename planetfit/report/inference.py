@@ -197,5 +197,8 @@ def write_posterior(run_dir, checked, derived, facts):
     if idata is None:
         log.info("no posterior.nc, R-hat or ESS: %s", INSTALL_HINT)
     else:
-        write_netcdf(idata, run_dir / "posterior.nc")
+        try:
+            write_netcdf(idata, run_dir / "posterior.nc")
+        except (ImportError, ValueError) as exc:  # arviz without a NetCDF engine: the run's other outputs go on
+            log.warning("posterior.nc not written (%s): %s", exc, INSTALL_HINT)
     return sampling_facts(diagnostics(idata, stats[2], derived["parameter_names"]), len(stats[2]))
