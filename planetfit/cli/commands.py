@@ -35,7 +35,7 @@ def print_summary(run_dir):
             print(f"     {p['composition']['verdict']}")
     for warning in s.get("warnings", []):
         print(f"WARNING: {warning}")
-    print(f"outputs in {run_dir}")
+    print(f"outputs in {run_dir}; open {Path(run_dir) / 'report.html'} for the whole run on one page")
 
 
 def run(args, config=None):

@@ -67,9 +67,13 @@ def _family(stem):
     return next((k for k, (prefix, _) in enumerate(FAMILIES) if stem.startswith(prefix)), len(FAMILIES))
 
 
+#: Figures for diagnosis, shown after every other one (including those this module does not know).
+DIAGNOSTIC = ("corner_sampled", "convergence")
+
+
 def order(stems):
-    """File stems in reading order: by family as in :data:`FAMILIES`, then by name."""
-    return sorted(stems, key=lambda s: (_family(s), s))
+    """File stems in reading order: by family as in :data:`FAMILIES`, unknown ones next, :data:`DIAGNOSTIC` last."""
+    return sorted(stems, key=lambda s: (s in DIAGNOSTIC, _family(s), s))
 
 
 def caption(stem, planets):

@@ -12,7 +12,7 @@ from browser import Chromium, find_chromium
 from markupsafe import escape
 
 from planetfit import pipeline
-from planetfit.report import html, tables
+from planetfit.report import captions, html, tables
 from planetfit.report.rounding import value_text
 
 #: The issue's limit on the page's size.
@@ -82,3 +82,17 @@ def test_blocks_the_page_has_no_words_for_still_appear(run):
 def test_a_run_without_figures_says_so(run, tmp_path):
     page = html.render(run["summary"], run["rows"], tmp_path / "no-figures")
     assert "No figures were drawn for this run" in page and "<img" not in page
+
+
+def test_figures_are_ordered_for_reading_and_new_ones_keep_a_caption():
+    stems = ["convergence", "corner_sampled", "corner_b", "phase_curve_b", "transit_b_cam", "rv_time"]
+    assert captions.order(stems) == [
+        "transit_b_cam",
+        "rv_time",
+        "corner_b",
+        "phase_curve_b",
+        "corner_sampled",
+        "convergence",
+    ]
+    assert captions.caption("transit_b_camera-2min", ["b", "c"]).startswith("Transits of planet b in camera-2min,")
+    assert captions.caption("phase_curve_b", ["b"]) == "Figure phase_curve_b (see figures/phase_curve_b.pdf)."
