@@ -85,15 +85,17 @@ def inference_data(groups, attrs):
     if az is None:
         return None
     dims = {k: [k.rpartition(".")[0] + ".point"] for k in groups["observed_data"]}
-    idata = az.from_dict(
-        posterior=groups["posterior"],
-        sample_stats=groups["sample_stats"],
-        observed_data=groups["observed_data"],
-        dims=dims,
-        attrs=attrs,
-    )
     with warnings.catch_warnings():
-        warnings.simplefilter("ignore", UserWarning)  # a group outside arviz's schema is named as such
+        # arviz guesses a transposed array when a short run has more walkers than draws; ours are (walker, draw).
+        warnings.filterwarnings("ignore", message="More chains", category=UserWarning)
+        warnings.filterwarnings("ignore", message="the default dims", category=UserWarning)  # as we mean them
+        idata = az.from_dict(
+            posterior=groups["posterior"],
+            sample_stats=groups["sample_stats"],
+            observed_data=groups["observed_data"],
+            dims=dims,
+            attrs=attrs,
+        )
         idata.add_groups({DERIVED_GROUP: groups[DERIVED_GROUP]}, warn_on_custom_groups=False)
     return idata
 
