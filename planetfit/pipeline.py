@@ -20,7 +20,7 @@ from planetfit.fitting.mcmc import run_sampler
 from planetfit.fitting.posterior import JointPosterior
 from planetfit.inputs.config import load_config
 from planetfit.inputs.datasets import load_all
-from planetfit.report import outputs
+from planetfit.report import exports, inference, outputs
 from planetfit.report import summary as summary_out
 from planetfit.report.files import write_text_atomic
 
@@ -152,19 +152,26 @@ def run_warnings(checked, samples):
     return diagnostics.unconstrained_warnings(layout, samples) + diagnostics.jitter_warnings(layout, samples, jitters)
 
 
-def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
-    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
+def _derive(checked, samples):
+    """Derived quantities of the samples with their context (the same draws for the same seed), and the blocks."""
     config, post = checked.config, checked.posterior
     rng = np.random.default_rng([config.seed, 1])
     quantities = derived.derive(config, post.model, samples, rng)
     quantities["parameter_names"] = post.layout.free
-    context = blocks.add_context(config, post.model, quantities, rng)
-    new = run_warnings(checked, samples) + light_warnings(context)
+    return quantities, blocks.add_context(config, post.model, quantities, rng)
+
+
+def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
+    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
+    config, post = checked.config, checked.posterior
+    quantities, context = _derive(checked, samples)
+    stats, stats_warnings = inference.write_posterior(run_dir, checked, quantities, sampling_facts)
+    new = run_warnings(checked, samples) + light_warnings(context) + stats_warnings
     for warning in new:
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new
     summary = summary_out.build_summary(
-        config, post.model, quantities, context, dict(sampling_facts, warnings=warnings)
+        config, post.model, quantities, context, dict(sampling_facts, **stats, warnings=warnings)
     )
     summary["data"] = checked.data_counts()
     summary_out.write_summary_json(run_dir / "summary.json", summary)
@@ -184,3 +191,15 @@ def redraw(run_dir, cores=1):
         return finish(run_dir, checked, samples, facts, cores=cores)
     finally:
         rundir.stop_logging()
+
+
+def export(run_dir, fmt, out=None):
+    """Write the posterior of a finished run as ``fmt`` (csv, json or nc) to ``out`` or the run directory."""
+    run_dir = Path(run_dir).resolve()
+    facts, samples = chainfile.read_posterior(run_dir / "samples.h5")
+    checked = check(run_dir / "config.resolved.yaml", output=run_dir)
+    quantities, _ = _derive(checked, samples)
+    stats = chainfile.read_sample_stats(run_dir / "samples.h5", facts["discard"], facts["thin"])
+    groups = inference.posterior_groups(checked, quantities, stats)
+    path = Path(out) if out else run_dir / exports.DEFAULT_NAMES.get(fmt, "posterior_export")
+    return exports.write_export(groups, fmt, path, inference.run_attrs(checked))

@@ -16,6 +16,8 @@ RUN_FILES = (
     "table.tex",
     "samples.h5",
     "posterior.csv",
+    "posterior.nc",
+    "report.html",
     "run.log",
     "config.resolved.yaml",
 )

@@ -1,4 +1,7 @@
-"""Test helpers shared by every test folder: the synthetic-system writers (``synthetic``, ``variability``)."""
+"""Test helpers shared by every test folder.
+
+The synthetic-system writers (``synthetic``, ``variability``) and a headless browser (``browser``).
+"""
 
 import sys
 from pathlib import Path

@@ -13,6 +13,7 @@ def print_summary(run_dir):
     print(
         f"\n{summary['system']}: {s['steps']} steps x {s['walkers']} walkers, "
         f"{s['independent_samples']} independent samples, converged: {s['converged']}"
+        + (f", R-hat max {s['rhat_max']:.3f}, bulk ESS min {s['ess_bulk_min']}" if "rhat_max" in s else "")
     )
     for name, p in summary["planets"].items():
         parts = []
@@ -34,7 +35,7 @@ def print_summary(run_dir):
             print(f"     {p['composition']['verdict']}")
     for warning in s.get("warnings", []):
         print(f"WARNING: {warning}")
-    print(f"outputs in {run_dir}")
+    print(f"outputs in {run_dir}; open {Path(run_dir) / 'report.html'} for the whole run on one page")
 
 
 def run(args, config=None):
@@ -207,6 +208,14 @@ def plan(args):
     for warning in result["warnings"]:
         print(f"WARNING: {warning}")
     print(f"plan written to {paths[0].parent} ({result['seconds']:.1f} s)")
+
+
+def export(args):
+    """``planetfit export``: the posterior of a finished run in another format."""
+    from planetfit import pipeline
+
+    path = pipeline.export(args.rundir, args.format, out=args.out)
+    print(f"posterior written to {path}")
 
 
 def schema(args):

@@ -104,6 +104,13 @@ def build_parser():
     p.set_defaults(func=commands.redraw)
     p.add_argument("rundir")
     p.add_argument("--cores", type=int, default=1, help="processes drawing the figures (default 1)")
+    p = sub.add_parser("export", help="a run's posterior as CSV, JSON or NetCDF (ArviZ) for other tools")
+    p.set_defaults(func=commands.export)
+    p.add_argument("rundir")
+    p.add_argument("--format", required=True, choices=("csv", "json", "nc"), help="file format")
+    p.add_argument(
+        "--out", metavar="FILE", help="file to write (default: posterior_export.csv/.json or posterior.nc in RUNDIR)"
+    )
     p = sub.add_parser("interior", help="composition verdict for a mass and radius (Earth units)")
     p.set_defaults(func=commands.interior)
     p.add_argument("--mass", nargs=2, type=float, required=True, metavar=("M", "SIG"))

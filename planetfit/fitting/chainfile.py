@@ -190,6 +190,21 @@ def read_chain(h5_path):
     return history, emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True).get_chain()
 
 
+def read_sample_stats(h5_path, discard, thin):
+    """Log-probability and acceptance of the kept steps, (kept steps, walkers), and the chain after burn-in.
+
+    The kept steps are those of the posterior samples (``discard``, ``thin``);
+    the chain after burn-in, (steps, walkers, ndim), is not thinned (for
+    autocorrelation times). emcee stores only each walker's count of accepted moves; a step was
+    accepted where the walker's position differs from the step before it.
+    """
+    backend = emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True)
+    chain = backend.get_chain()
+    moved = np.concatenate([np.ones((1, chain.shape[1]), bool), np.any(chain[1:] != chain[:-1], axis=-1)])
+    kept = slice(discard + thin - 1, None, thin)  # the steps emcee's get_chain(discard, thin) returns
+    return backend.get_log_prob()[kept], moved[kept], chain[discard:]
+
+
 def save_modes(path, modes):
     """Write the optimiser's modes (position, log-probability, Laplace covariance) into the chain file."""
     with h5py.File(path, "a") as f:

@@ -1,11 +1,11 @@
-"""Every human-facing output of a run: summary.md, table.tex and figures (PNG + PDF)."""
+"""Every human-facing output of a run: summary.md, table.tex, figures (PNG + PDF, SVG when small) and report.html."""
 
 import logging
 import multiprocessing
 import time
 from pathlib import Path
 
-from planetfit.report import tables
+from planetfit.report import html, tables
 from planetfit.report.figures import figure_builders
 from planetfit.report.files import write_text_atomic
 from planetfit.report.markdown import summary_markdown
@@ -15,7 +15,7 @@ log = logging.getLogger("planetfit")
 
 
 def write_all(run_dir, checked, posterior, samples, derived, summary, figures=True, cores=1):
-    """Write table.tex, summary.md and every figure into ``run_dir`` and ``run_dir/figures``.
+    """Write table.tex, summary.md, every figure (into ``run_dir/figures``) and then report.html.
 
     Parameters
     ----------
@@ -37,9 +37,10 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
     rows = tables.table_rows(summary, posterior.model, checked.config.star)
     write_text_atomic(run_dir / "table.tex", tables.latex_table(summary, rows))
     write_text_atomic(run_dir / "summary.md", summary_markdown(summary, rows))
-    if not figures:
-        return
-    draw_figures(figure_builders(run_dir, checked, posterior, samples, derived, summary), run_dir / "figures", cores)
+    if figures:
+        builders = figure_builders(run_dir, checked, posterior, samples, derived, summary)
+        draw_figures(builders, run_dir / "figures", cores)
+    html.write_report(run_dir / "report.html", summary, rows, run_dir / "figures")
 
 
 def draw_figures(builders, folder, cores=1):

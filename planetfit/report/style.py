@@ -8,6 +8,7 @@ canvas, no pyplot state), so many can be drawn in one process without
 leaking memory or needing a display.
 """
 
+import io
 from pathlib import Path
 
 import matplotlib
@@ -18,6 +19,8 @@ matplotlib.use("Agg")
 COLUMN_WIDTH_IN = 3.4
 PAGE_WIDTH_IN = 7.1
 PNG_DPI = 200
+#: Figures whose SVG is larger than this are kept as PNG only (scatter-heavy panels draw slowly as vectors).
+MAX_SVG_BYTES = 400_000
 
 # Okabe & Ito (2008) colour-blind-safe palette.
 BLACK = "#000000"
@@ -88,14 +91,24 @@ def new_figure(width_in=COLUMN_WIDTH_IN, height_in=None):
 
 
 def save_figure(fig, folder, name):
-    """Write ``name.png`` and ``name.pdf`` into ``folder``; return both paths.
+    """Write ``name.png`` and ``name.pdf`` into ``folder``, and ``name.svg`` when under :data:`MAX_SVG_BYTES`.
 
-    PDF metadata carry no creation date, so a redraw gives the same bytes.
+    PDF and SVG metadata carry no date, so a redraw gives the same bytes.
+    SVG text is drawn as paths (matplotlib's default), so it needs no fonts.
+    Returns the paths written.
     """
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
-    paths = (folder / f"{name}.png", folder / f"{name}.pdf")
+    paths = [folder / f"{name}.png", folder / f"{name}.pdf"]
+    svg = io.BytesIO()
     with style():
         fig.savefig(paths[0], dpi=PNG_DPI)
         fig.savefig(paths[1], metadata={"CreationDate": None})
-    return paths
+        fig.savefig(svg, format="svg", metadata={"Date": None})
+    svg_path = folder / f"{name}.svg"
+    if svg.tell() <= MAX_SVG_BYTES:
+        svg_path.write_bytes(svg.getvalue())
+        paths.append(svg_path)
+    else:
+        svg_path.unlink(missing_ok=True)  # a redraw must not leave an earlier, smaller drawing behind
+    return tuple(paths)

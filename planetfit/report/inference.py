@@ -1,0 +1,206 @@
+"""The posterior by walker and draw: groups for posterior.nc and the exports, and arviz's convergence diagnostics.
+
+Each emcee walker is one chain and each kept step one draw, the way
+arviz reads ensemble samplers. The walkers of an ensemble are not
+independent chains (every move uses the others), which R-hat and the
+effective sample sizes assume; they are reported beside planetfit's own
+autocorrelation times, not instead of them.
+"""
+
+import logging
+import os
+import warnings
+
+import emcee
+import numpy as np
+
+from planetfit.fitting.chainfile import read_sample_stats
+
+log = logging.getLogger("planetfit")
+
+#: R-hat above this is a warning (Vehtari et al. 2021 recommend 1.01).
+RHAT_LIMIT = 1.01
+#: Group holding the derived quantities, beside arviz's standard groups.
+DERIVED_GROUP = "derived"
+INSTALL_HINT = "install the 'stats' extra (pip install 'planetfit[stats]') for posterior.nc, R-hat and ESS"
+
+
+def by_walker(flat, walkers):
+    """Flat samples in emcee's order (step-major) as (walker, draw) arrays."""
+    flat = np.asarray(flat, dtype=float)
+    return flat.reshape(-1, walkers).T
+
+
+def posterior_groups(checked, derived, sample_stats):
+    """Every group of the posterior as ``{group: {variable: array}}``, first two axes (walker, draw).
+
+    Parameters
+    ----------
+    checked : pipeline.Checked
+        The datasets give the ``observed_data`` group (one axis per dataset).
+    derived : dict
+        :func:`planetfit.context.derived.derive` output after context.
+    sample_stats : tuple
+        :func:`planetfit.fitting.chainfile.read_sample_stats` output.
+
+    Returns
+    -------
+    dict
+        ``posterior`` (sampled parameters in physical units, by their
+        summary.json names), ``derived`` (``star.<key>``, ``<planet>.<key>``),
+        ``sample_stats`` (``lp``, ``accepted``) and ``observed_data``
+        (``<dataset>.time_bjd`` and the flux or RV with its errors).
+    """
+    log_prob, accepted, _ = sample_stats
+    walkers = log_prob.shape[1]
+    posterior = {n: by_walker(derived["parameters"][n], walkers) for n in derived["parameter_names"]}
+    quantities = {f"star.{k}": v for k, v in derived["star"].items()}
+    for planet, values in derived["planets"].items():
+        quantities.update({f"{planet}.{k}": v for k, v in values.items()})
+    observed = {}
+    for d in checked.photometry:
+        observed.update({f"{d.name}.time_bjd": d.time, f"{d.name}.flux": d.flux, f"{d.name}.flux_error": d.error})
+    for d in checked.velocities:
+        observed.update({f"{d.name}.time_bjd": d.time, f"{d.name}.rv_ms": d.rv, f"{d.name}.rv_error_ms": d.error})
+    return {
+        "posterior": posterior,
+        DERIVED_GROUP: {k: by_walker(v, walkers) for k, v in quantities.items() if np.size(v) == log_prob.size},
+        "sample_stats": {"lp": log_prob.T, "accepted": accepted.T},
+        "observed_data": observed,
+    }
+
+
+def _arviz():
+    """arviz, or None when the optional ``stats`` extra is not installed."""
+    try:
+        import arviz
+    except ImportError:
+        return None
+    return arviz
+
+
+def inference_data(groups, attrs):
+    """The groups as an arviz InferenceData (None without arviz)."""
+    az = _arviz()
+    if az is None:
+        return None
+    dims = {k: [k.rpartition(".")[0] + ".point"] for k in groups["observed_data"]}
+    with warnings.catch_warnings():
+        # arviz guesses a transposed array when a short run has more walkers than draws; ours are (walker, draw).
+        warnings.filterwarnings("ignore", message="More chains", category=UserWarning)
+        warnings.filterwarnings("ignore", message="the default dims", category=UserWarning)  # as we mean them
+        idata = az.from_dict(
+            posterior=groups["posterior"],
+            sample_stats=groups["sample_stats"],
+            observed_data=groups["observed_data"],
+            dims=dims,
+            attrs=attrs,
+        )
+        idata.add_groups({DERIVED_GROUP: groups[DERIVED_GROUP]}, warn_on_custom_groups=False)
+    return idata
+
+
+def diagnostics(idata, chain_after_burn_in, names):
+    """Per sampled parameter: rank-normalised split R-hat, bulk and tail ESS (arviz), and emcee's autocorrelation.
+
+    Parameters
+    ----------
+    idata : arviz.InferenceData or None
+    chain_after_burn_in : ndarray, shape (steps, walkers, ndim)
+        Sampler coordinates, not thinned (the autocorrelation times are in steps).
+    names : list of str
+
+    Returns
+    -------
+    dict
+        ``{name: {"rhat", "ess_bulk", "ess_tail", "autocorr_steps"}}``; the
+        arviz entries are absent without arviz.
+    """
+    tau = emcee.autocorr.integrated_time(chain_after_burn_in, tol=0, quiet=True)
+    out = {n: {"autocorr_steps": round(float(t), 2)} for n, t in zip(names, tau)}
+    if idata is None:
+        return out
+    az = _arviz()
+    rhat = az.rhat(idata.posterior, method="rank")
+    bulk = az.ess(idata.posterior, method="bulk")
+    tail = az.ess(idata.posterior, method="tail")
+    for n in names:
+        out[n].update(rhat=round(float(rhat[n]), 4), ess_bulk=round(float(bulk[n])), ess_tail=round(float(tail[n])))
+    return out
+
+
+def sampling_facts(per_parameter, steps_after_burn_in):
+    """summary.json sampling entries from :func:`diagnostics`, and the warnings they call for.
+
+    For a chain of N steps with autocorrelation time tau, split R-hat is
+    about sqrt(1 + 2 tau / N) (each half-chain holds N / (2 tau) independent
+    draws), so R-hat < 1.01 needs N of about 100 tau; the warning says how
+    far the run is from that.
+    """
+    facts = {"parameter_diagnostics": per_parameter}
+    rhats = {n: d["rhat"] for n, d in per_parameter.items() if "rhat" in d}
+    if not rhats:
+        return facts, []
+    worst = max(rhats, key=rhats.get)
+    facts.update(
+        rhat_max=rhats[worst],
+        ess_bulk_min=min(d["ess_bulk"] for d in per_parameter.values()),
+        ess_tail_min=min(d["ess_tail"] for d in per_parameter.values()),
+    )
+    high = [n for n, r in rhats.items() if r > RHAT_LIMIT]
+    if not high:
+        return facts, []
+    tau = max(d["autocorr_steps"] for d in per_parameter.values())
+    return facts, [
+        f"R-hat above {RHAT_LIMIT} for {len(high)} of {len(rhats)} parameters (largest {rhats[worst]:.3f}, "
+        f"{worst}): the walkers, read as separate chains, do not yet agree. Split R-hat falls below {RHAT_LIMIT} "
+        f"when each walker runs about 100 autocorrelation times after burn-in; this chain ran "
+        f"{steps_after_burn_in / tau:.0f}. Run longer (sampling.autocorr_factor 100 and enough max_steps) before "
+        "quoting the uncertainties"
+    ]
+
+
+def run_attrs(checked):
+    """Attributes of the exported posterior: the system, and what chains and draws are."""
+    return {
+        "system": str(checked.config.system),
+        "chains": "emcee walkers (not independent chains)",
+        "draws": "steps after burn-in, thinned as the run's posterior samples",
+        "observed_data": "points used in the fit, times in BJD_TDB (photometry far from transits left out)",
+    }
+
+
+def write_netcdf(idata, path):
+    """Write ``idata`` to ``path`` (NetCDF 4 through h5netcdf) by way of a temporary file and a rename."""
+    tmp = path.with_name(f".{path.name}.tmp")
+    try:
+        idata.to_netcdf(str(tmp))
+        os.replace(tmp, path)
+    finally:
+        tmp.unlink(missing_ok=True)
+
+
+def write_posterior(run_dir, checked, derived, facts):
+    """Write posterior.nc (with arviz) and return the diagnostics' summary.json entries and warnings.
+
+    Parameters
+    ----------
+    run_dir : Path
+        Holds samples.h5; receives posterior.nc.
+    checked : pipeline.Checked
+    derived : dict
+        :func:`planetfit.context.derived.derive` output after context.
+    facts : dict
+        The run's sampling facts (``discard``, ``thin``).
+    """
+    stats = read_sample_stats(run_dir / "samples.h5", facts["discard"], facts["thin"])
+    groups = posterior_groups(checked, derived, stats)
+    idata = inference_data(groups, run_attrs(checked))
+    if idata is None:
+        log.info("no posterior.nc, R-hat or ESS: %s", INSTALL_HINT)
+    else:
+        try:
+            write_netcdf(idata, run_dir / "posterior.nc")
+        except (ImportError, ValueError) as exc:  # arviz without a NetCDF engine: the run's other outputs go on
+            log.warning("posterior.nc not written (%s): %s", exc, INSTALL_HINT)
+    return sampling_facts(diagnostics(idata, stats[2], derived["parameter_names"]), len(stats[2]))
