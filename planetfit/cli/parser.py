@@ -66,6 +66,57 @@ def _add_plan_parser(sub):
     p.add_argument("--out", metavar="DIR", help="output folder (default: RUNDIR/plan)")
 
 
+def _add_batch_parser(sub):
+    """``planetfit batch``: many configs as Dask tasks."""
+    p = sub.add_parser("batch", help="fit many configs as Dask tasks; write batch_summary.csv")
+    p.set_defaults(func=commands.batch)
+    p.add_argument("configs", nargs="+", metavar="CONFIG")
+    p.add_argument("--workers", type=int, help="processes of the local cluster (default: the machine's cores)")
+    p.add_argument(
+        "--scheduler", metavar="ADDRESS", help="use the Dask scheduler at ADDRESS instead of a local cluster"
+    )
+    p.add_argument(
+        "--out",
+        metavar="DIR",
+        help="run directories in DIR/<config stem> and batch_summary.csv in DIR "
+        "(default: each config's 'output', summary in the current folder)",
+    )
+    p.add_argument("--figures", action="store_true", help="also draw each system's figures (slower)")
+    p.add_argument("--force", action="store_true", help="replace the outputs of earlier runs in the folders")
+
+
+def _add_rundir_parsers(sub):
+    """Sub-commands that read a finished run directory: ``redraw`` and ``export``."""
+    p = sub.add_parser("redraw", help="figures and tables again from a run's saved samples")
+    p.set_defaults(func=commands.redraw)
+    p.add_argument("rundir")
+    p.add_argument("--cores", type=int, default=1, help="processes drawing the figures (default 1)")
+    p = sub.add_parser("export", help="a run's posterior as CSV, JSON or NetCDF (ArviZ) for other tools")
+    p.set_defaults(func=commands.export)
+    p.add_argument("rundir")
+    p.add_argument("--format", required=True, choices=("csv", "json", "nc"), help="file format")
+    p.add_argument(
+        "--out", metavar="FILE", help="file to write (default: posterior_export.csv/.json or posterior.nc in RUNDIR)"
+    )
+
+
+def _add_calculator_parsers(sub):
+    """One-off calculators that need no config: ``interior`` and ``climate``."""
+    p = sub.add_parser("interior", help="composition verdict for a mass and radius (Earth units)")
+    p.set_defaults(func=commands.interior)
+    p.add_argument("--mass", nargs=2, type=float, required=True, metavar=("M", "SIG"))
+    p.add_argument("--radius", nargs=2, type=float, required=True, metavar=("R", "SIG"))
+    p.add_argument("--json", action="store_true")
+    p = sub.add_parser("climate", help="temperatures and habitable-zone position for one star and orbit")
+    p.set_defaults(func=commands.climate)
+    p.add_argument("--teff", type=float, required=True, metavar="K")
+    p.add_argument("--radius-rsun", type=float, required=True, metavar="R")
+    p.add_argument("--a-au", type=float, required=True, metavar="A")
+    p.add_argument("--albedo", type=float, default=0.3)
+    p.add_argument("--tau", type=float, default=0.94)
+    p.add_argument("--json", action="store_true")
+
+
 def build_parser():
     """The ``planetfit`` parser; each sub-command's ``func`` does its job."""
     parser = _Parser(prog="planetfit", description="Joint transit + radial-velocity fits of transiting planets.")
@@ -85,45 +136,9 @@ def build_parser():
         help="another bundled system: 'hot-giant' (transit, secondary eclipse and phase curve of a close-in giant)",
     )
     p.set_defaults(func=commands.demo)
-    p = sub.add_parser("batch", help="fit many configs as Dask tasks; write batch_summary.csv")
-    p.set_defaults(func=commands.batch)
-    p.add_argument("configs", nargs="+", metavar="CONFIG")
-    p.add_argument("--workers", type=int, help="processes of the local cluster (default: the machine's cores)")
-    p.add_argument(
-        "--scheduler", metavar="ADDRESS", help="use the Dask scheduler at ADDRESS instead of a local cluster"
-    )
-    p.add_argument(
-        "--out",
-        metavar="DIR",
-        help="run directories in DIR/<config stem> and batch_summary.csv in DIR "
-        "(default: each config's 'output', summary in the current folder)",
-    )
-    p.add_argument("--figures", action="store_true", help="also draw each system's figures (slower)")
-    p.add_argument("--force", action="store_true", help="replace the outputs of earlier runs in the folders")
-    p = sub.add_parser("redraw", help="figures and tables again from a run's saved samples")
-    p.set_defaults(func=commands.redraw)
-    p.add_argument("rundir")
-    p.add_argument("--cores", type=int, default=1, help="processes drawing the figures (default 1)")
-    p = sub.add_parser("export", help="a run's posterior as CSV, JSON or NetCDF (ArviZ) for other tools")
-    p.set_defaults(func=commands.export)
-    p.add_argument("rundir")
-    p.add_argument("--format", required=True, choices=("csv", "json", "nc"), help="file format")
-    p.add_argument(
-        "--out", metavar="FILE", help="file to write (default: posterior_export.csv/.json or posterior.nc in RUNDIR)"
-    )
-    p = sub.add_parser("interior", help="composition verdict for a mass and radius (Earth units)")
-    p.set_defaults(func=commands.interior)
-    p.add_argument("--mass", nargs=2, type=float, required=True, metavar=("M", "SIG"))
-    p.add_argument("--radius", nargs=2, type=float, required=True, metavar=("R", "SIG"))
-    p.add_argument("--json", action="store_true")
-    p = sub.add_parser("climate", help="temperatures and habitable-zone position for one star and orbit")
-    p.set_defaults(func=commands.climate)
-    p.add_argument("--teff", type=float, required=True, metavar="K")
-    p.add_argument("--radius-rsun", type=float, required=True, metavar="R")
-    p.add_argument("--a-au", type=float, required=True, metavar="A")
-    p.add_argument("--albedo", type=float, default=0.3)
-    p.add_argument("--tau", type=float, default=0.94)
-    p.add_argument("--json", action="store_true")
+    _add_batch_parser(sub)
+    _add_rundir_parsers(sub)
+    _add_calculator_parsers(sub)
     _add_plan_parser(sub)
     p = sub.add_parser(
         "schema", help="print the config's JSON Schema (for editors: planetfit schema > config.schema.json)"
