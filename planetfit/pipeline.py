@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from planetfit import rundir
-from planetfit.context import blocks, derived, diagnostics
+from planetfit.context import blocks, derived, diagnostics, dynamics
 from planetfit.core.units import PPM
 from planetfit.fitting import chainfile
 from planetfit.fitting.mcmc import run_sampler
@@ -158,7 +158,8 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     quantities = derived.derive(config, post.model, samples, rng)
     quantities["parameter_names"] = post.layout.free
     context = blocks.add_context(config, post.model, quantities, rng)
-    new = run_warnings(checked, samples)
+    stability, stability_warnings = dynamics.dynamics_block(config, post.model, quantities, rng)
+    new = run_warnings(checked, samples) + stability_warnings
     for warning in new:
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new
@@ -166,6 +167,8 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
         config, post.model, quantities, context, dict(sampling_facts, warnings=warnings)
     )
     summary["data"] = checked.data_counts()
+    if stability is not None:
+        summary["dynamics"] = stability
     summary_out.write_summary_json(run_dir / "summary.json", summary)
     summary_out.write_posterior_csv(run_dir / "posterior.csv", quantities)
     outputs.write_all(run_dir, checked, post, samples, quantities, summary, figures=figures, cores=cores)
