@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from planetfit import rundir
-from planetfit.context import blocks, derived, diagnostics, dynamics
+from planetfit.context import blocks, derived, diagnostics, dynamics, transit_times
 from planetfit.core.units import PPM
 from planetfit.fitting import chainfile
 from planetfit.fitting.mcmc import run_sampler
@@ -22,6 +22,7 @@ from planetfit.inputs.datasets import load_all
 from planetfit.report import outputs
 from planetfit.report import summary as summary_out
 from planetfit.report.files import write_text_atomic
+from planetfit.report.transit_times import write_transit_times_csv
 
 log = logging.getLogger("planetfit")
 
@@ -159,6 +160,9 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     quantities["parameter_names"] = post.layout.free
     context = blocks.add_context(config, post.model, quantities, rng)
     stability, stability_warnings = dynamics.dynamics_block(config, post.model, quantities, rng)
+    quantities["transit_times"] = transit_times.transit_times(post.model, config, quantities["parameters"])
+    for name, timing in quantities["transit_times"].items():
+        context[name].update(timing.block())
     new = run_warnings(checked, samples) + stability_warnings
     for warning in new:
         log.warning("WARNING: %s", warning)
@@ -171,6 +175,8 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
         summary["dynamics"] = stability
     summary_out.write_summary_json(run_dir / "summary.json", summary)
     summary_out.write_posterior_csv(run_dir / "posterior.csv", quantities)
+    if quantities["transit_times"]:
+        write_transit_times_csv(run_dir / "transit_times.csv", quantities["transit_times"])
     outputs.write_all(run_dir, checked, post, samples, quantities, summary, figures=figures, cores=cores)
     log.info("outputs written to %s", run_dir)
     return summary

@@ -21,6 +21,7 @@ from planetfit.fitting.components.gp import KERNELS, GaussianProcessNoise, Rotat
 from planetfit.fitting.components.noise import SumsOfSquares, WhiteNoise
 from planetfit.fitting.components.planets import Planet, Star
 from planetfit.fitting.components.registry import component_for
+from planetfit.fitting.components.timing import individual_transit_times
 from planetfit.fitting.components.transit import LIMB_DARKENING, TransitLightCurve, TransitTerm
 from planetfit.fitting.components.velocity import TRENDS, Spectrograph
 from planetfit.fitting.likelihoods import PhotometryModel, SummedPhotometryModel, VelocityModel
@@ -141,6 +142,9 @@ def build_model(config, photometry, velocities):
     """The :class:`Model` of a validated config and its datasets."""
     star = Star(config.star)
     planets = [Planet(b) for b in config.planets]
+    for planet, block in zip(planets, config.planets):
+        if planet.transits and block.free_transit_times:
+            planet.attach_timing(individual_transit_times(config, block, photometry))
     bands, phot = _photometry_models(config, photometry, planets)
     rv = _velocity_model(config, velocities, planets)
     transits = any(p.transits for p in planets)
