@@ -79,17 +79,23 @@ class IndividualTransitTimes:
         ]
         #: The largest offset the priors allow, days.
         self.reach_days = self.halfwidth_days * float(np.abs(self.basis).sum(axis=1).max())
+        # Epoch (shifted by 1 - first) -> its slot, or N (offset 0) for epochs without their own time.
+        self._first = int(self.epochs.min()) - 1
+        self._slots = np.full(int(self.epochs.max()) - self._first + 2, self.epochs.size)
+        self._slots[self.epochs - self._first] = np.arange(self.epochs.size)
+        self._names = [p.name for p in self.parameters]
 
     def offsets_days(self, values):
         """Offsets d_n of every observed epoch: shape (N,) for scalar values, (n, N) for arrays of n."""
-        z = np.stack([np.asarray(values[p.name], dtype=float) for p in self.parameters], axis=-1)
+        z = np.stack([np.asarray(values[name], dtype=float) for name in self._names], axis=-1)
         return z @ self.basis.T
 
     def point_offsets_days(self, values, times, period_days, transit_bjd):
-        """The offset of the transit nearest each of ``times`` (0 for an epoch without its own time)."""
-        epoch = np.rint((times - transit_bjd) / period_days).astype(int)
-        slot = np.clip(self.epochs.searchsorted(epoch), 0, self.epochs.size - 1)
-        return np.where(self.epochs[slot] == epoch, self.offsets_days(values)[slot], 0.0)
+        """The offset of the transit nearest each of ``times`` (one walker's float values; 0 for an epoch
+        without its own time)."""
+        offsets = np.append(self.basis @ np.array([values[name] for name in self._names]), 0.0)
+        epoch = np.rint((times - transit_bjd) / period_days).astype(np.intp) - self._first
+        return offsets[np.take(self._slots, epoch, mode="clip")]
 
 
 def individual_transit_times(config, block, photometry):
