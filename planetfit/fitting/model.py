@@ -147,7 +147,8 @@ def build_model(config, photometry, velocities):
             planet.attach_timing(individual_transit_times(config, block, photometry))
     bands, phot = _photometry_models(config, photometry, planets)
     rv = _velocity_model(config, velocities, planets)
-    transits = any(p.transits for p in planets)
+    # The star enters through a/R* of a transiting planet, or through the masses of a Hill-stability prior.
+    transits = any(p.transits for p in planets) or (config.dynamics.hill_prior and len(planets) > 1)
     params = list(star.parameters) if transits else []
     params += [q for p in planets for q in p.parameters]
     params += [q for ld in bands.values() for q in ld.parameters]
