@@ -41,7 +41,8 @@ def o_minus_c_figure(timing):
         ax.set_xlabel("Epoch")
         ax.set_ylabel("O - C [min]")
         ax.set_title(
-            f"planet {timing.planet}: rms {np.sqrt(np.mean(oc**2)):.2f} min, chi2 {timing.chi2:.1f} ({timing.dof} dof)",
+            f"planet {timing.planet}: rms {np.sqrt(np.mean(oc**2)):.2f} min, "
+            f"$\\chi^2$ {timing.chi2:.1f} ({timing.dof} dof)",
             fontsize=7,
         )
         ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.22), ncol=3, frameon=False, fontsize=6)
