@@ -11,6 +11,7 @@ prior gives their true mass.
 
 import numpy as np
 
+from planetfit.context.nbody import megno_block
 from planetfit.core.stability import hill_margin, orbits_cross
 from planetfit.core.stats import stat
 from planetfit.core.units import M_EARTH_KG, M_SUN_KG
@@ -62,42 +63,25 @@ def dynamics_block(config, model, derived, rng):
         pair's orbits cross), per pair the same with the Hill margin
         (left over right side of Gladman's inequality), ``samples``,
         ``minimum_mass_planets``, ``assumptions``; for ``stability: nbody``
-        also ``p_megno_stable`` and the integration settings.
+        also ``p_megno_stable`` and the integration settings. Without RVs
+        no mass is measured: the Hill and N-body probabilities are null.
     warnings : list of str
     """
     if len(model.planets) < 2:
         return None, []
-    pairs = pair_checks(model, derived)
-    stable = np.logical_and.reduce([m > 1 for _, _, m, _ in pairs])
-    crossing = np.logical_or.reduce([c for _, _, _, c in pairs])
-    block = {
-        "p_hill_stable": float(np.mean(stable)),
-        "p_orbits_cross": float(np.mean(crossing)),
-        "samples": int(stable.size),
-        "pairs": [
-            {
-                "inner": i,
-                "outer": o,
-                "p_hill_stable": float(np.mean(m > 1)),
-                "p_orbits_cross": float(np.mean(c)),
-                "hill_margin": stat(m),
-            }
-            for i, o, m, c in pairs
-        ],
-        "minimum_mass_planets": _minimum_mass_planets(model, config.velocities),
-        "assumptions": ASSUMPTIONS,
-    }
+    weighed = bool(config.velocities)
+    block = _pairs_block(pair_checks(model, derived), weighed)
+    block["minimum_mass_planets"] = _minimum_mass_planets(model, config.velocities)
+    block["assumptions"] = ASSUMPTIONS
     if block["minimum_mass_planets"]:
         block["assumptions"] += (
             f"; {', '.join(block['minimum_mass_planets'])} entered with minimum masses (M sin i, i.e. coplanar with "
             "an edge-on orbit): heavier true masses make a pair less stable"
         )
-    if not config.velocities:
-        block["assumptions"] += "; no RVs: planet masses are not measured, so the Hill test has no meaning here"
+    if not weighed:
+        block["assumptions"] += "; no RVs: planet masses are not measured, so only orbit crossing is tested"
     warnings = _warnings(block)
-    if config.dynamics.nbody:
-        from planetfit.context.nbody import megno_block
-
+    if config.dynamics.nbody and weighed:
         nbody = megno_block(_order(model, derived), derived, config.dynamics, rng)
         block.update(nbody)
         if nbody["p_megno_stable"] < MOST_UNSTABLE:
@@ -109,9 +93,34 @@ def dynamics_block(config, model, derived, rng):
     return block, warnings
 
 
+def _pairs_block(pairs, weighed):
+    """The probabilities of the whole system and per pair (Hill ones null without measured masses)."""
+    stable = np.logical_and.reduce([m > 1 for _, _, m, _ in pairs])
+    crossing = np.logical_or.reduce([c for _, _, _, c in pairs])
+
+    def hill(x):
+        return float(np.mean(x)) if weighed else None
+
+    return {
+        "p_hill_stable": hill(stable),
+        "p_orbits_cross": float(np.mean(crossing)),
+        "samples": int(stable.size),
+        "pairs": [
+            {
+                "inner": i,
+                "outer": o,
+                "p_hill_stable": hill(m > 1),
+                "p_orbits_cross": float(np.mean(c)),
+                "hill_margin": stat(m) if weighed else None,
+            }
+            for i, o, m, c in pairs
+        ],
+    }
+
+
 def _warnings(block):
     out = []
-    if block["p_hill_stable"] < MOST_UNSTABLE:
+    if block["p_hill_stable"] is not None and block["p_hill_stable"] < MOST_UNSTABLE:
         out.append(
             f"dynamics: only {block['p_hill_stable']:.0%} of the posterior samples are Hill stable (Gladman 1993): "
             "most of the fitted systems could not last; consider 'dynamics: {stability_prior: hill}' or check "

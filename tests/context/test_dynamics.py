@@ -144,3 +144,20 @@ def test_nbody_without_rebound_names_the_extra(tmp_path, monkeypatch):
     monkeypatch.setitem(sys.modules, "rebound", None)  # import rebound now raises ImportError
     with pytest.raises(InputError, match=r"planetfit\[dynamics\]"):
         _block(checked, 10)
+
+
+def test_without_rvs_only_crossing_is_tested(tmp_path):
+    # common practice, no published source: without masses the Hill criterion has nothing to work with
+    planets = {
+        "b": planet_truth(3.0, 2460001.5, 0.0, radius_ratio=0.05, impact=0.3),
+        "c": planet_truth(7.0, 2460002.0, 0.0, radius_ratio=0.04, impact=0.2),
+    }
+    path = write_system(tmp_path, planets, seed=6, days=8.0)
+    raw = yaml.safe_load(path.read_text())
+    del raw["velocities"]
+    for p in raw["planets"].values():
+        p["rv_amplitude_ms"] = 0.0
+    path.write_text(yaml.safe_dump(raw))
+    block, warnings = _block(check(path), 200)
+    assert block["p_hill_stable"] is None and block["p_orbits_cross"] == 0.0
+    assert "only orbit crossing" in block["assumptions"] and warnings == []
