@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from planetfit import rundir
-from planetfit.context import blocks, derived, diagnostics
+from planetfit.context import blocks, derived, diagnostics, dynamics, transit_times
 from planetfit.context.light import light_warnings
 from planetfit.core.units import PPM
 from planetfit.fitting import chainfile
@@ -23,6 +23,7 @@ from planetfit.inputs.datasets import load_all
 from planetfit.report import exports, inference, outputs
 from planetfit.report import summary as summary_out
 from planetfit.report.files import write_text_atomic
+from planetfit.report.transit_times import write_transit_times_csv
 
 log = logging.getLogger("planetfit")
 
@@ -158,15 +159,22 @@ def _derive(checked, samples):
     rng = np.random.default_rng([config.seed, 1])
     quantities = derived.derive(config, post.model, samples, rng)
     quantities["parameter_names"] = post.layout.free
-    return quantities, blocks.add_context(config, post.model, quantities, rng)
+    context = blocks.add_context(config, post.model, quantities, rng)
+    quantities["transit_times"] = transit_times.transit_times(post.model, config, quantities["parameters"])
+    for name, timing in quantities["transit_times"].items():
+        context[name].update(timing.block())
+    return quantities, context
 
 
 def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
     config, post = checked.config, checked.posterior
     quantities, context = _derive(checked, samples)
+    stability, stability_warnings = dynamics.dynamics_block(
+        config, post.model, quantities, np.random.default_rng([config.seed, 2])
+    )
     stats, stats_warnings = inference.write_posterior(run_dir, checked, quantities, sampling_facts)
-    new = run_warnings(checked, samples) + light_warnings(context) + stats_warnings
+    new = run_warnings(checked, samples) + light_warnings(context) + stability_warnings + stats_warnings
     for warning in new:
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new
@@ -174,8 +182,12 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
         config, post.model, quantities, context, dict(sampling_facts, **stats, warnings=warnings)
     )
     summary["data"] = checked.data_counts()
+    if stability is not None:
+        summary["dynamics"] = stability
     summary_out.write_summary_json(run_dir / "summary.json", summary)
     summary_out.write_posterior_csv(run_dir / "posterior.csv", quantities)
+    if quantities["transit_times"]:
+        write_transit_times_csv(run_dir / "transit_times.csv", quantities["transit_times"])
     outputs.write_all(run_dir, checked, post, samples, quantities, summary, figures=figures, cores=cores)
     log.info("outputs written to %s", run_dir)
     return summary

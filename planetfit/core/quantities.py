@@ -62,6 +62,9 @@ MINIMUM_MASS = {
     "mass_earth": Quantity("Minimum mass", r"$M_p\sin i$", "M_earth", r"$M_\oplus$"),
     "mass_jup": Quantity("Minimum mass", r"$M_p\sin i$", "M_jup", r"$M_\mathrm{J}$"),
 }
+#: A coordinate of a planet's individual transit times (their offsets from the linear ephemeris, in an
+#: orthonormal basis of offsets with no linear trend).
+TRANSIT_TIME_MODE = Quantity("Transit-time offset coordinate", r"$\delta t$", "d", "d")
 #: Conjunction time of planets that do not transit.
 CONJUNCTION = Quantity("Time of conjunction", r"$T_\mathrm{c}$", "BJD_TDB", r"BJD$_\mathrm{TDB}$")
 

@@ -22,6 +22,7 @@ from planetfit.fitting.components.light import PlanetLight, PlanetLightTerm
 from planetfit.fitting.components.noise import SumsOfSquares, WhiteNoise
 from planetfit.fitting.components.planets import Planet, Star
 from planetfit.fitting.components.registry import component_for
+from planetfit.fitting.components.timing import individual_transit_times
 from planetfit.fitting.components.transit import LIMB_DARKENING, TransitLightCurve, TransitTerm
 from planetfit.fitting.components.velocity import TRENDS, Spectrograph
 from planetfit.fitting.likelihoods import PhotometryModel, SummedPhotometryModel, VelocityModel
@@ -155,10 +156,14 @@ def build_model(config, photometry, velocities):
     """The :class:`Model` of a validated config and its datasets."""
     star = Star(config.star)
     planets = [Planet(b) for b in config.planets]
+    for planet, block in zip(planets, config.planets):
+        if planet.transits and block.free_transit_times:
+            planet.attach_timing(individual_transit_times(config, block, photometry))
     lights = _lights(config, planets)
     bands, phot = _photometry_models(config, photometry, planets, star, lights)
     rv = _velocity_model(config, velocities, planets)
-    transits = any(p.transits for p in planets)
+    # The star enters through a/R* of a transiting planet, or through the masses of a Hill-stability prior.
+    transits = any(p.transits for p in planets) or (config.dynamics.hill_prior and len(planets) > 1)
     params = list(star.parameters) if transits else []
     params += [q for p in planets for q in p.parameters]
     params += [q for ld in bands.values() for q in ld.parameters]

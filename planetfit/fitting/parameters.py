@@ -14,8 +14,9 @@ import numpy as np
 from planetfit.core.quantities import Quantity
 from planetfit.inputs.priors import Prior
 
-#: Table groups of fitted parameters, in table order.
-GROUPS = ("star", "planet", "instrument")
+#: Table groups of fitted parameters, in table order ("timing": a planet's transit-time coordinates, reported in
+#: transit_times.csv rather than the table).
+GROUPS = ("star", "planet", "instrument", "timing")
 
 
 @dataclasses.dataclass(frozen=True)
@@ -31,7 +32,7 @@ class Parameter:
     prior : Prior
     quantity : Quantity
         How tables and figures name it.
-    group : {"star", "planet", "instrument"}
+    group : {"star", "planet", "instrument", "timing"}
         Where the parameter table lists it.
     """
 

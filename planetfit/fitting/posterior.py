@@ -10,6 +10,7 @@ import math
 
 import numpy as np
 
+from planetfit.fitting.components.stability import HillStabilityPrior
 from planetfit.fitting.likelihoods import Batch
 from planetfit.fitting.model import build_model
 
@@ -37,7 +38,8 @@ class JointPosterior:
     Callable on one parameter vector, and :meth:`log_prob_many` on a batch.
     Returns ``-inf`` outside the prior support or for unphysical orbits (no
     transit for a transiting planet, periastron inside the star, e above
-    the planet's cap).
+    the planet's cap) and, with ``dynamics: {stability_prior: hill}``, for
+    Hill-unstable systems.
     """
 
     def __init__(self, config, photometry, velocities):
@@ -46,6 +48,8 @@ class JointPosterior:
         self.layout = self.model.layout
         self.planets = self.model.planets
         self.photometry, self.velocities = photometry, velocities
+        hill = config.dynamics.hill_prior and len(self.planets) > 1
+        self.stability = HillStabilityPrior(self.planets, self.model.star) if hill else None
 
     def __call__(self, theta):
         return float(self.log_prob_many(np.reshape(theta, (1, -1)))[0])
@@ -56,6 +60,8 @@ class JointPosterior:
         physical = True
         for p in self.planets:
             physical = physical & p.physical(values, orbits[p.name])
+        if self.stability is not None:
+            physical = physical & self.stability.allowed(values, orbits)
         return orbits, physical
 
     def orbits(self, values):

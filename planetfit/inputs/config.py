@@ -69,6 +69,10 @@ class Config:
     def sampling(self):
         return self.blocks.sampling
 
+    @property
+    def dynamics(self):
+        return self.blocks.dynamics
+
     def line(self, key):
         """The line of a dotted key, or of its nearest enclosing block."""
         while key and key not in self.lines:

@@ -51,9 +51,23 @@ def _context(name, planet):
             f"{value_text(atm['transmission_signal_ppm'])} ppm, TSM {value_text(atm['tsm'])}, "
             f"ESM {value_text(atm['esm'])} (Kempton et al. 2018).",
         ]
+    if "ttv_chi2" in planet:
+        out += [
+            "",
+            f"Transit times: {planet['transit_epochs']} transits, O-C rms {planet['ttv_rms_minutes']:.2f} min; "
+            f"linear ephemeris chi2 {planet['ttv_chi2']:.1f} for {planet['ttv_dof']} dof, "
+            f"p = {planet['ttv_p_value']:.2g}.",
+        ]
     if planet.get("note"):
         out += ["", f"Note: {planet['note']}."]
     return out
+
+
+def _dynamics(d):
+    text = f"Hill stable (Gladman 1993): {_pct(d['p_hill_stable'])}; orbits crossing: {_pct(d['p_orbits_cross'])}"
+    if "p_megno_stable" in d:
+        text += f"; regular in N-body integrations (MEGNO < {d['megno_stable_below']:g}): {_pct(d['p_megno_stable'])}"
+    return ["", "## Dynamics", "", f"{text} of {d['samples']} samples. Assumptions: {d['assumptions']}."]
 
 
 def summary_markdown(summary, rows):
@@ -71,6 +85,8 @@ def summary_markdown(summary, rows):
     out += ["", NOTE_TEXT, "", "## Context"]
     for name, planet in summary["planets"].items():
         out += _context(name, planet)
+    if summary.get("dynamics"):
+        out += _dynamics(summary["dynamics"])
     s = summary["sampling"]
     out += [
         "",

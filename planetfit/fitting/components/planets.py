@@ -49,6 +49,12 @@ class Planet:
         self.inclination = declare("inclination_deg", incl) if incl is not None else None
         shape = [self.radius_ratio, self.impact] if self.transits else []
         self.parameters = [self.period, self.transit_time, *shape, self.amplitude, *self.orbit.parameters]
+        self.timing = None  # individual transit times (IndividualTransitTimes), or None for a linear ephemeris
+
+    def attach_timing(self, timing):
+        """Give each observed transit its own mid-time (:mod:`planetfit.fitting.components.timing`)."""
+        self.timing = timing
+        self.parameters = self.parameters + timing.parameters
 
     @property
     def prior_only(self):

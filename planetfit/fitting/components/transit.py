@@ -77,15 +77,21 @@ class TransitLightCurve:
         speed_factor = math.sqrt(1 - e * e) / (1 - e)  # longest at apoastron
         return WINDOW_MARGIN * period_days / (2 * math.pi) * math.asin(chord) * speed_factor + self.pad_days
 
-    def flux(self, index, period_days, transit_bjd, a_over_rstar, inc_rad, e, omega_rad, radius_ratio, u1, u2):
+    def flux(
+        self, index, period_days, transit_bjd, a_over_rstar, inc_rad, e, omega_rad, radius_ratio, u1, u2, shift=None
+    ):
         """Relative flux at ``self.times[index]`` (exposure-integrated).
+
+        ``shift`` (days, one per index) is subtracted from the times: a transit
+        ``shift`` late on the linear ephemeris.
 
         Returns
         -------
         ndarray
             One value per index; 1 means no transit.
         """
-        t = self.times[index] if self.supersample == 1 else (self.times[index, None] + self.offsets).ravel()
+        t = self.times[index] if shift is None else self.times[index] - shift
+        t = t if self.supersample == 1 else (t[:, None] + self.offsets).ravel()
         d = _rsky._rsky(t, transit_bjd, period_days, a_over_rstar, inc_rad, e, omega_rad, _PRIMARY, 1)
         f = _quadratic_ld._quadratic_ld(d, radius_ratio, u1, u2, 1)
         if self.supersample > 1:
@@ -134,13 +140,24 @@ class TransitTerm:
         p, lc = self.planet, self.light_curve
         per, t0, k = values[p.period.name], values[p.transit_time.name], values[p.radius_ratio.name]
         sin_i = math.sqrt(1 - orbit["cos_i"] ** 2)
-        index = lc.window(
-            per, t0, lc.half_window_days(per, orbit["a_over_rstar"], k, sin_i, orbit["e"], orbit["omega_rad"])
-        )
+        half = lc.half_window_days(per, orbit["a_over_rstar"], k, sin_i, orbit["e"], orbit["omega_rad"])
+        timing = p.timing
+        index = lc.window(per, t0, half if timing is None else half + timing.reach_days)
         if not index.size:
             return None
+        shift = None if timing is None else timing.point_offsets_days(values, lc.times[index], per, t0)
         u1, u2 = self.limb_darkening.coefficients(values)
         f = lc.flux(
-            index, per, t0, orbit["a_over_rstar"], math.acos(orbit["cos_i"]), orbit["e"], orbit["omega_rad"], k, u1, u2
+            index,
+            per,
+            t0,
+            orbit["a_over_rstar"],
+            math.acos(orbit["cos_i"]),
+            orbit["e"],
+            orbit["omega_rad"],
+            k,
+            u1,
+            u2,
+            shift,
         )
         return index, 1 - f

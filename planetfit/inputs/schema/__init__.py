@@ -20,6 +20,7 @@ from .datasets import (
     SharedGP,
     Velocities,
 )
+from .dynamics import Dynamics
 from .light import PlanetLight
 from .planets import PLANET_VARIANTS, CircularKeys, EccentricKeys, RvOnlyKeys, Star, TransitKeys
 from .settings import Climate, LinearTrend, NoTrend, QuadraticTrend, RvActivity, Sampling
@@ -30,6 +31,7 @@ __all__ = [
     "Climate",
     "ConfigFile",
     "ConstantBaseline",
+    "Dynamics",
     "EccentricKeys",
     "LinearBaseline",
     "LinearTrend",

@@ -9,6 +9,7 @@ from ..priors import LogUniform
 from ..timesystems import NEEDS_COORDINATES
 from .base import Block
 from .datasets import PhotometryDataset, SharedGP, Velocities, _OwnGP
+from .dynamics import Dynamics
 from .fields import fail
 from .planets import Planet, Star
 from .settings import Climate, NoTrend, RvActivity, RvTrend, Sampling
@@ -42,6 +43,7 @@ class ConfigFile(Block):
     rv_activity: Optional[RvActivity] = None
     climate: Annotated[Climate, BeforeValidator(lambda v: {} if v is None else v)] = Climate()
     sampling: Annotated[Sampling, BeforeValidator(lambda v: {} if v is None else v)] = Sampling()
+    dynamics: Annotated[Dynamics, BeforeValidator(lambda v: {} if v is None else v)] = Dynamics()
 
     @model_validator(mode="after")
     def _cross_checks(self):

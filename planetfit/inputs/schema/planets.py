@@ -13,7 +13,7 @@ from pydantic import AfterValidator, Field, PrivateAttr, model_validator
 
 from ..priors import Uniform
 from .base import Block, variants
-from .fields import Number, PriorSpec, fail, lowest, positive_prior, prior_within
+from .fields import Number, PositiveNumber, PriorSpec, fail, lowest, positive_prior, prior_within
 
 ORBITS = Literal["circular", "eccentric"]
 
@@ -74,11 +74,37 @@ class EccentricKeys(Block):
 
 
 class TransitKeys(Block):
-    """A transiting planet: radius ratio and impact parameter."""
+    """A transiting planet: radius ratio and impact parameter; its transit times on a line or each its own.
+
+    ``transit_times: free`` gives every observed transit its own mid-time
+    offset from the linear ephemeris, with a uniform prior of half-width
+    ``transit_time_halfwidth_min`` (default: a quarter of the expected
+    duration); ``transit_times_sinusoid: true`` adds a sinusoid fit to the
+    O-C figure and summary.
+    """
 
     transits: Literal[True] = True
     radius_ratio: Annotated[PriorSpec, positive_prior("the radius ratio")]
     impact: PriorSpec
+    transit_times: Literal["linear", "free"] = "linear"
+    transit_time_halfwidth_min: Optional[PositiveNumber] = None
+    transit_times_sinusoid: bool = False
+
+    @property
+    def free_transit_times(self):
+        """Whether each transit has its own mid-time."""
+        return self.transit_times == "free"
+
+    @model_validator(mode="after")
+    def _timing_keys_need_free_times(self):
+        for key in ("transit_time_halfwidth_min", "transit_times_sinusoid"):
+            if key in self.model_fields_set and not self.free_transit_times:
+                fail(
+                    "this key applies to individual transit times only.",
+                    "add 'transit_times: free' to the planet, or remove the key.",
+                    key=key,
+                )
+        return self
 
     @model_validator(mode="after")
     def _transit_possible(self):

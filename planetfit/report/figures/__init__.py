@@ -17,6 +17,7 @@ from planetfit.report.figures.habitable_zone import habitable_zone_figure
 from planetfit.report.figures.mass_radius import mass_radius_figure
 from planetfit.report.figures.phase_curve import phase_curve_figure
 from planetfit.report.figures.transit import light_curve_figure, transit_figure
+from planetfit.report.figures.transit_times import o_minus_c_figure
 from planetfit.report.figures.velocity import rv_phase_figure, rv_time_figure
 
 
@@ -72,6 +73,7 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
         out += [(f"rv_phase_{file_stem(p.name)}", partial(rv_phase_figure, posterior, view, p)) for p in planets]
         out.append(("rv_time", partial(rv_time_figure, posterior, view)))
     out += [(f"corner_{file_stem(p.name)}", partial(physical_corner, derived, p)) for p in planets]
+    out += [(f"o_minus_c_{file_stem(n)}", partial(o_minus_c_figure, t)) for n, t in derived["transit_times"].items()]
     # Planets with a measured mass (a transit-only fit has none) go on the mass-radius diagram.
     weighed = [
         p

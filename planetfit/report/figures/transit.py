@@ -56,7 +56,11 @@ def _folded_data(posterior, view, planet, index, half_hr):
     flux, level = detrended(posterior, v, orbits, index)
     full = predictions.photometry_model(posterior, v, orbits, index)
     own = predictions.photometry_model(posterior, v, orbits, index, planets=[planet.name], parts=["transit"])
-    x_hr = phase_days(d.time, v[planet.period.name], v[planet.transit_time.name]) * HOURS_PER_DAY
+    per, t0 = v[planet.period.name], v[planet.transit_time.name]
+    x_days = phase_days(d.time, per, t0)
+    if planet.timing is not None:  # folded on each transit's own mid-time
+        x_days = x_days - planet.timing.point_offsets_days(v, d.time, per, t0)
+    x_hr = x_days * HOURS_PER_DAY
     sel = np.abs(x_hr) <= half_hr
     return (x_hr[sel], ((flux - (full - own))[sel] / level[sel] - 1.0) / PPM, (flux - full)[sel] / level[sel] / PPM)
 
@@ -75,7 +79,8 @@ def _model_curves(posterior, view, planet, index, half_hr):
 def transit_figure(posterior, view, planet, index, duration_hr):
     """Figure of ``planet``'s transits in photometric dataset ``index``.
 
-    Data are folded on the median ephemeris with the other planets' transits,
+    Data are folded on the median ephemeris (on each transit's own median
+    mid-time with individual transit times) with the other planets' transits,
     the GP prediction of the variability (for ``baseline: gp``) and the
     baseline divided out; raw points faint, binned points with
     standard errors; the median-parameter model and the 68% band of
