@@ -16,6 +16,7 @@ from planetfit.context import blocks, derived, diagnostics
 from planetfit.core.units import PPM
 from planetfit.fitting import chainfile
 from planetfit.fitting.mcmc import run_sampler
+from planetfit.fitting.nested import CHECKPOINT, run_nested
 from planetfit.fitting.posterior import JointPosterior
 from planetfit.inputs.config import load_config
 from planetfit.inputs.datasets import load_all
@@ -118,7 +119,7 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
     run_dir = config.output
     rundir.prepare(run_dir, resume, force)
     h5 = run_dir / "samples.h5"
-    if resume:
+    if resume and not config.sampling.nested:
         chainfile.check_resumable(h5, post.layout.ndim, config.sampling.walkers)
     rundir.start_logging(run_dir, quiet)
     try:
@@ -128,19 +129,28 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
         for warning in checked.warnings:
             log.warning("WARNING: %s", warning)
         write_text_atomic(run_dir / "config.resolved.yaml", rundir.resolved_config(config))
-        rng = np.random.default_rng(config.seed)
-        result = run_sampler(
-            post, post.layout, config.sampling, h5, rng, cores=cores, progress=not quiet, resume=resume
-        )
-        facts = result.summary()
-        facts.update(
-            discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings), modes=result.modes
-        )
-        chainfile.write_facts(h5, post.layout.free, facts, result.autocorr_history)
-        finish(run_dir, checked, result.samples, facts, figures=figures, cores=cores)
+        samples, facts = _sample(checked, run_dir, np.random.default_rng(config.seed), cores, quiet, resume)
+        finish(run_dir, checked, samples, facts, figures=figures, cores=cores)
     finally:
         rundir.stop_logging()
     return run_dir
+
+
+def _sample(checked, run_dir, rng, cores, quiet, resume):
+    """Sample the posterior with the config's method into ``run_dir/samples.h5``; return (samples, facts)."""
+    post, settings, h5 = checked.posterior, checked.config.sampling, run_dir / "samples.h5"
+    if settings.nested:
+        result = run_nested(post, settings, run_dir / CHECKPOINT, rng, cores=cores, progress=not quiet, resume=resume)
+        facts = dict(result.summary(), cores=cores, warnings=list(result.warnings), modes=result.modes)
+        chainfile.write_nested(h5, post.layout.free, facts, result)
+        return result.samples, facts
+    result = run_sampler(post, post.layout, settings, h5, rng, cores=cores, progress=not quiet, resume=resume)
+    facts = result.summary()
+    facts.update(
+        discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings), modes=result.modes
+    )
+    chainfile.write_facts(h5, post.layout.free, facts, result.autocorr_history)
+    return result.samples, facts
 
 
 def run_warnings(checked, samples):

@@ -7,6 +7,7 @@ import shutil
 import yaml
 
 from planetfit.core.errors import InputError
+from planetfit.fitting.nested import CHECKPOINT
 
 log = logging.getLogger("planetfit")
 
@@ -18,6 +19,7 @@ RUN_FILES = (
     "posterior.csv",
     "run.log",
     "config.resolved.yaml",
+    CHECKPOINT,
 )
 
 
@@ -46,9 +48,9 @@ def prepare(run_dir, resume, force):
         )
     if run_dir.exists() and any(run_dir.iterdir()):
         if resume:
-            if not (run_dir / "samples.h5").exists():
+            if not any((run_dir / name).exists() for name in ("samples.h5", CHECKPOINT)):
                 raise InputError(
-                    "there is no samples.h5 to resume from.",
+                    f"there is no samples.h5 or {CHECKPOINT} to resume from.",
                     file=run_dir,
                     fix="run without --resume to start a new fit.",
                 )

@@ -8,12 +8,11 @@ from planetfit.core.errors import InputError
 
 def print_summary(run_dir):
     """The end-of-run summary: sampling facts, each planet's mass, radius and density, and every warning."""
+    from planetfit.report.markdown import sampling_text
+
     summary = json.loads((Path(run_dir) / "summary.json").read_text())
     s = summary["sampling"]
-    print(
-        f"\n{summary['system']}: {s['steps']} steps x {s['walkers']} walkers, "
-        f"{s['independent_samples']} independent samples, converged: {s['converged']}"
-    )
+    print(f"\n{summary['system']}: {sampling_text(s)}")
     for name, p in summary["planets"].items():
         parts = []
         for key, label, unit in (
