@@ -51,9 +51,9 @@ class Checked:
         return out
 
 
-def check(config_path, output=None):
+def check(config_path, output=None, sampling_method=None):
     """Validate the config, read and check every dataset, build the model; fit nothing."""
-    config = load_config(config_path, output=output)
+    config = load_config(config_path, output=output, sampling_method=sampling_method)
     phot, rvs = load_all(config)
     return Checked(config, phot, rvs, JointPosterior(config, phot, rvs))
 
@@ -112,9 +112,9 @@ def overview(checked):
     return rows
 
 
-def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False, figures=True):
-    """The whole job for one config; returns the run directory."""
-    checked = check(config_path, output=output)
+def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False, figures=True, sampling_method=None):
+    """The whole job for one config (``sampling_method`` overrides its ``sampling.method``); returns the run folder."""
+    checked = check(config_path, output=output, sampling_method=sampling_method)
     config, post = checked.config, checked.posterior
     run_dir = config.output
     rundir.prepare(run_dir, resume, force)
