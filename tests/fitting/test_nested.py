@@ -9,58 +9,14 @@ import math
 
 import numpy as np
 import pytest
+from rv_models import K_MS, PERIOD, SIGMA_MS, TC, circular, eccentric, rv_data, second_planet, write_rv_model
 from scipy import stats
-from synthetic import planet_truth, radial_velocity, write_config, write_velocities
+from synthetic import planet_truth
 from two_seasons import alias_weights, write_two_season_system
 
 from planetfit import pipeline
 from planetfit.fitting.mcmc import run_sampler
 from planetfit.fitting.nested import run_nested
-
-T_START, SPAN_DAYS, N_RV, SIGMA_MS = 2460000.0, 40.0, 30, 2.0
-PERIOD, TC, K_MS, OFFSET_MS = 5.0, 2460001.3, 10.0, 4.0
-STAR = {"mass_msun": 0.9, "radius_rsun": 0.85, "teff_k": 5300}
-
-
-def _rvs(seed, planets, n=N_RV):
-    rng = np.random.default_rng(seed)
-    t = np.sort(rng.uniform(T_START, T_START + SPAN_DAYS, n))
-    return t, radial_velocity(t, planets) + OFFSET_MS + rng.normal(0, SIGMA_MS, n)
-
-
-def write_rv_model(folder, t, rv, planets, live_points=150, jitter_ms=0.0, **sampling):
-    """An RV-only config of ``planets`` (config blocks) fitted by nested sampling; returns its path."""
-    folder.mkdir(parents=True, exist_ok=True)
-    entry = write_velocities(
-        folder, "spec", "rv.txt", t, rv, SIGMA_MS, offset_ms={"uniform": [-50, 50]}, jitter_ms=jitter_ms
-    )
-    settings = {"method": "nested", "live_points": live_points, "min_effective_samples": 100, **sampling}
-    return write_config(
-        folder,
-        {
-            "system": "Model-1",
-            "seed": 3,
-            "output": "run",
-            "star": STAR,
-            "planets": planets,
-            "velocities": [entry],
-            "sampling": settings,
-        },
-    )
-
-
-def circular(**priors):
-    """Planet b with the known ephemeris (period and conjunction fixed, as from transits) and a free K."""
-    return {
-        "transits": False,
-        "period_days": PERIOD,
-        "transit_bjd": TC,
-        "rv_amplitude_ms": {"uniform": [0, 40]},
-    } | priors
-
-
-def eccentric():
-    return circular(orbit="eccentric")
 
 
 def nested_fit(config, seed=1):
@@ -95,7 +51,7 @@ def no_figures(monkeypatch):
 
 
 def test_evidence_of_a_linear_gaussian_model_matches_the_closed_form(tmp_path, no_figures):
-    t, rv = _rvs(4, {"b": planet_truth(PERIOD, TC, K_MS)})
+    t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
     config = write_rv_model(tmp_path, t, rv, {"b": circular()}, live_points=250)
     run_dir = pipeline.run(config, quiet=True, figures=False)
     s = json.loads((run_dir / "summary.json").read_text())["sampling"]
@@ -119,28 +75,22 @@ def test_evidence_of_a_linear_gaussian_model_matches_the_closed_form(tmp_path, n
     ids=["eccentric-data", "circular-data"],
 )
 def test_evidence_chooses_the_orbit(tmp_path, truth_e, models, check):
-    t, rv = _rvs(7, {"b": planet_truth(PERIOD, TC, K_MS, e=truth_e, omega_deg=60.0)})
+    t, rv = rv_data(7, {"b": planet_truth(PERIOD, TC, K_MS, e=truth_e, omega_deg=60.0)})
     ln_z = [nested_fit(write_rv_model(tmp_path / str(i), t, rv, {"b": m}))[0].ln_evidence for i, m in enumerate(models)]
     # common practice, no published source: Delta ln Z > 5 is "very strong" on Kass & Raftery's scale.
     assert check(ln_z[1] - ln_z[0]), ln_z
 
 
 def test_one_planet_data_give_no_support_for_a_second(tmp_path):
-    t, rv = _rvs(9, {"b": planet_truth(PERIOD, TC, K_MS)})
-    second = {
-        "transits": False,
-        "period_days": {"uniform": [8, 30]},
-        "transit_bjd": {"uniform": [T_START, T_START + 30]},
-        "rv_amplitude_ms": {"uniform": [0, 20]},
-    }
+    t, rv = rv_data(9, {"b": planet_truth(PERIOD, TC, K_MS)})
     one = nested_fit(write_rv_model(tmp_path / "one", t, rv, {"b": circular()}))[0]
-    two = nested_fit(write_rv_model(tmp_path / "two", t, rv, {"b": circular(), "c": second}))[0]
+    two = nested_fit(write_rv_model(tmp_path / "two", t, rv, {"b": circular(), "c": second_planet()}))[0]
     # common practice, no published source: ln B < 1 is "not worth more than a bare mention" (Kass & Raftery 1995).
     assert two.ln_evidence - one.ln_evidence < 1, (one.ln_evidence, two.ln_evidence)
 
 
 def test_nested_and_mcmc_posteriors_agree(tmp_path):
-    t, rv = _rvs(5, {"b": planet_truth(PERIOD, TC, K_MS)})
+    t, rv = rv_data(5, {"b": planet_truth(PERIOD, TC, K_MS)})
     planet = circular(period_days={"uniform": [4.9, 5.1]}, transit_bjd={"uniform": [TC - 0.5, TC + 0.5]})
     config = write_rv_model(
         tmp_path, t, rv, {"b": planet}, live_points=500, jitter_ms={"loguniform": [0.01, 10]}, walkers=32
