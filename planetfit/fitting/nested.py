@@ -7,7 +7,8 @@ CDF (:meth:`ParameterLayout.from_unit_cube`), the worst replaced again and
 again by a prior draw of higher likelihood, until the evidence still held
 by the live points, ln(Z + L_max X) - ln Z, falls below ``dlogz``. dynesty
 picks how to draw by the dimension (uniform draws inside bounding
-ellipsoids below 10 parameters, random walks up to 20, slices above).
+ellipsoids enlarged by :data:`ENLARGE` below 10 parameters, random walks
+up to 20, slices above).
 Separated modes are explored by construction: each is weighed by its
 evidence without any move between them.
 
@@ -38,6 +39,11 @@ log = logging.getLogger("planetfit")
 CHECKPOINT = "nested_checkpoint.pkl"
 #: Seconds between checkpoints.
 CHECKPOINT_SECONDS = 60.0
+#: Volume factor of dynesty's bounding ellipsoids (its own default for every method but uniform draws). For uniform
+#: draws dynesty's default instead enlarges them by bootstrap resampling, which on a posterior with several period
+#: aliases (tests/two_seasons.py, 200 live points) took 1,190,000 likelihood calls against 34,000 with this factor,
+#: for the same mode fractions.
+ENLARGE = 1.25
 EVIDENCE_NOTE = (
     "dynesty's ln Z of the dead and final live points; error sqrt(H / live_points) accumulated over the run "
     "(Skilling 2006), H the information, the statistical scatter of the prior-volume shrinkage only"
@@ -166,6 +172,7 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
                     pool=pool,
                     queue_size=pool.size if pool else None,
                     use_pool={"prior_transform": False, "update_bound": False},
+                    enlarge=ENLARGE,
                 )
             with warnings.catch_warnings():
                 warnings.filterwarnings("ignore", message="You are resuming a finished static run")

@@ -15,8 +15,10 @@ from synthetic import planet_truth
 from two_seasons import alias_weights, write_two_season_system
 
 from planetfit import pipeline
+from planetfit.fitting import nested
 from planetfit.fitting.mcmc import run_sampler
 from planetfit.fitting.nested import run_nested
+from planetfit.fitting.posterior import JointPosterior
 
 
 def nested_fit(config, seed=1):
@@ -116,7 +118,7 @@ def test_nested_and_mcmc_posteriors_agree(tmp_path):
 
 def test_two_period_aliases_come_back_with_their_weights(tmp_path):
     config = write_two_season_system(tmp_path)
-    raw = config.read_text().replace("sampling:\n", "sampling:\n  method: nested\n  live_points: 300\n")
+    raw = config.read_text().replace("sampling:\n", "sampling:\n  method: nested\n  live_points: 800\n")
     config.write_text(raw)
     result, _ = nested_fit(config)
     grid = alias_weights(tmp_path)
@@ -129,3 +131,29 @@ def test_two_period_aliases_come_back_with_their_weights(tmp_path):
         if weight > 0.05:
             assert match and abs(match[0] - weight) < 0.1, (grid, periods)
     assert sum(w for _, w in grid if w > 0.2) > 0.9  # the data have two aliases of comparable weight
+
+
+def test_an_interrupted_nested_run_resumes_from_its_checkpoint(tmp_path, monkeypatch, no_figures):
+    t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
+    config = write_rv_model(tmp_path, t, rv, {"b": circular()}, live_points=100)
+    monkeypatch.setattr(nested, "CHECKPOINT_SECONDS", 0.0)
+    calls, original = [0], JointPosterior.log_likelihood_many
+
+    def interrupted(self, thetas):
+        calls[0] += 1
+        if calls[0] > 1500:
+            raise KeyboardInterrupt
+        return original(self, thetas)
+
+    monkeypatch.setattr(JointPosterior, "log_likelihood_many", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        pipeline.run(config, quiet=True, figures=False)
+    assert (tmp_path / "run" / nested.CHECKPOINT).exists() and not (tmp_path / "run" / "summary.json").exists()
+    monkeypatch.setattr(JointPosterior, "log_likelihood_many", original)
+    s = json.loads((pipeline.run(config, resume=True, quiet=True, figures=False) / "summary.json").read_text())
+    resumed_calls = s["likelihood_calls"]
+    # The resumed run continued the saved one: its calls count those before the interruption, and its ln Z is right.
+    assert resumed_calls > 1400 and s["converged"]
+    # source: closed-form integral of a Gaussian likelihood over a uniform prior box (closed_form_ln_evidence).
+    expected = closed_form_ln_evidence(t, rv, (0, 40), (-50, 50))
+    assert abs(s["ln_evidence"]["value"] - expected) < 3 * s["ln_evidence"]["error"]
