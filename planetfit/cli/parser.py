@@ -30,6 +30,21 @@ def _add_run_options(p, default_cores=1):
     p.add_argument("--no-figures", action="store_true", help="write numbers and tables only (faster, for batches)")
 
 
+def _add_compare(sub):
+    """``planetfit compare CONFIG... [--out DIR] [--cores N] [--quiet]``."""
+    p = sub.add_parser("compare", help="fit models of the same data by nested sampling; rank them by evidence")
+    p.set_defaults(func=commands.compare)
+    p.add_argument("configs", nargs="+", metavar="CONFIG")
+    p.add_argument(
+        "--out",
+        metavar="DIR",
+        help="run directories in DIR/<config stem> and comparison.json/.md/.tex in DIR "
+        "(default: each config's 'output', '<output>-nested' if it samples by MCMC; the files in the current folder)",
+    )
+    p.add_argument("--cores", type=int, default=1, help="processes drawing proposals (default 1)")
+    p.add_argument("--quiet", action="store_true", help="no progress bars or progress messages")
+
+
 def build_parser():
     """The ``planetfit`` parser; each sub-command's ``func`` does its job."""
     parser = _Parser(prog="planetfit", description="Joint transit + radial-velocity fits of transiting planets.")
@@ -59,17 +74,7 @@ def build_parser():
     )
     p.add_argument("--figures", action="store_true", help="also draw each system's figures (slower)")
     p.add_argument("--force", action="store_true", help="replace the outputs of earlier runs in the folders")
-    p = sub.add_parser("compare", help="fit models of the same data by nested sampling; rank them by evidence")
-    p.set_defaults(func=commands.compare)
-    p.add_argument("configs", nargs="+", metavar="CONFIG")
-    p.add_argument(
-        "--out",
-        metavar="DIR",
-        help="run directories in DIR/<config stem> and comparison.json/.md/.tex in DIR "
-        "(default: each config's 'output', '<output>-nested' if it samples by MCMC; the files in the current folder)",
-    )
-    p.add_argument("--cores", type=int, default=1, help="processes drawing proposals (default 1)")
-    p.add_argument("--quiet", action="store_true", help="no progress bars or progress messages")
+    _add_compare(sub)
     p = sub.add_parser("redraw", help="figures and tables again from a run's saved samples")
     p.set_defaults(func=commands.redraw)
     p.add_argument("rundir")

@@ -163,17 +163,7 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
                 sampler = _restore(checkpoint, pool, layout.ndim)
                 log.info("resuming nested sampling from iteration %d in %s", sampler.it, checkpoint)
             else:
-                sampler = dynesty.NestedSampler(
-                    loglike,
-                    transform,
-                    layout.ndim,
-                    nlive=settings.live_points,
-                    rstate=np.random.default_rng(int(rng.integers(2**63))),
-                    pool=pool,
-                    queue_size=pool.size if pool else None,
-                    use_pool={"prior_transform": False, "update_bound": False},
-                    enlarge=ENLARGE,
-                )
+                sampler = _new_sampler(loglike, transform, layout.ndim, settings, rng, pool)
             with warnings.catch_warnings():
                 warnings.filterwarnings("ignore", message="You are resuming a finished static run")
                 sampler.run_nested(
@@ -191,6 +181,21 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
     return _result(results, posterior, settings, rng, time.perf_counter() - start)
 
 
+def _new_sampler(loglike, transform, ndim, settings, rng, pool):
+    """dynesty's static sampler with planetfit's settings (queue of one proposal per process)."""
+    return dynesty.NestedSampler(
+        loglike,
+        transform,
+        ndim,
+        nlive=settings.live_points,
+        rstate=np.random.default_rng(int(rng.integers(2**63))),
+        pool=pool,
+        queue_size=pool.size if pool else None,
+        use_pool={"prior_transform": False, "update_bound": False},
+        enlarge=ENLARGE,
+    )
+
+
 def _restore(checkpoint, pool, ndim):
     """The sampler saved in ``checkpoint``, checked to sample ``ndim`` parameters."""
     try:
@@ -201,9 +206,9 @@ def _restore(checkpoint, pool, ndim):
             file=checkpoint,
             fix="run again with --force to start a new fit in this folder.",
         ) from None
-    if sampler.npdim != ndim:
+    if sampler.ndim != ndim:
         raise InputError(
-            f"the checkpoint samples {sampler.npdim} parameters, but this config has {ndim}.",
+            f"the checkpoint samples {sampler.ndim} parameters, but this config has {ndim}.",
             file=checkpoint,
             fix="resume with the config that started the run, or use --force to start a new fit.",
         )

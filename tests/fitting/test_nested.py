@@ -150,7 +150,9 @@ def test_an_interrupted_nested_run_resumes_from_its_checkpoint(tmp_path, monkeyp
         pipeline.run(config, quiet=True, figures=False)
     assert (tmp_path / "run" / nested.CHECKPOINT).exists() and not (tmp_path / "run" / "summary.json").exists()
     monkeypatch.setattr(JointPosterior, "log_likelihood_many", original)
-    s = json.loads((pipeline.run(config, resume=True, quiet=True, figures=False) / "summary.json").read_text())
+    s = json.loads((pipeline.run(config, resume=True, quiet=True, figures=False) / "summary.json").read_text())[
+        "sampling"
+    ]
     resumed_calls = s["likelihood_calls"]
     # The resumed run continued the saved one: its calls count those before the interruption, and its ln Z is right.
     assert resumed_calls > 1400 and s["converged"]
