@@ -17,6 +17,7 @@ from planetfit.context.light import light_warnings
 from planetfit.core.units import PPM
 from planetfit.fitting import chainfile
 from planetfit.fitting.mcmc import run_sampler
+from planetfit.fitting.nested import CHECKPOINT, run_nested
 from planetfit.fitting.posterior import JointPosterior
 from planetfit.inputs.config import load_config
 from planetfit.inputs.datasets import load_all
@@ -52,9 +53,9 @@ class Checked:
         return out
 
 
-def check(config_path, output=None):
+def check(config_path, output=None, sampling_method=None):
     """Validate the config, read and check every dataset, build the model; fit nothing."""
-    config = load_config(config_path, output=output)
+    config = load_config(config_path, output=output, sampling_method=sampling_method)
     phot, rvs = load_all(config)
     return Checked(config, phot, rvs, JointPosterior(config, phot, rvs))
 
@@ -113,14 +114,14 @@ def overview(checked):
     return rows
 
 
-def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False, figures=True):
-    """The whole job for one config; returns the run directory."""
-    checked = check(config_path, output=output)
+def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False, figures=True, sampling_method=None):
+    """The whole job for one config (``sampling_method`` overrides its ``sampling.method``); returns the run folder."""
+    checked = check(config_path, output=output, sampling_method=sampling_method)
     config, post = checked.config, checked.posterior
     run_dir = config.output
     rundir.prepare(run_dir, resume, force)
     h5 = run_dir / "samples.h5"
-    if resume:
+    if resume and not config.sampling.nested:
         chainfile.check_resumable(h5, post.layout.ndim, config.sampling.walkers)
     rundir.start_logging(run_dir, quiet)
     try:
@@ -130,19 +131,28 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
         for warning in checked.warnings:
             log.warning("WARNING: %s", warning)
         write_text_atomic(run_dir / "config.resolved.yaml", rundir.resolved_config(config))
-        rng = np.random.default_rng(config.seed)
-        result = run_sampler(
-            post, post.layout, config.sampling, h5, rng, cores=cores, progress=not quiet, resume=resume
-        )
-        facts = result.summary()
-        facts.update(
-            discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings), modes=result.modes
-        )
-        chainfile.write_facts(h5, post.layout.free, facts, result.autocorr_history)
-        finish(run_dir, checked, result.samples, facts, figures=figures, cores=cores)
+        samples, facts = _sample(checked, run_dir, np.random.default_rng(config.seed), cores, quiet, resume)
+        finish(run_dir, checked, samples, facts, figures=figures, cores=cores)
     finally:
         rundir.stop_logging()
     return run_dir
+
+
+def _sample(checked, run_dir, rng, cores, quiet, resume):
+    """Sample the posterior with the config's method into ``run_dir/samples.h5``; return (samples, facts)."""
+    post, settings, h5 = checked.posterior, checked.config.sampling, run_dir / "samples.h5"
+    if settings.nested:
+        result = run_nested(post, settings, run_dir / CHECKPOINT, rng, cores=cores, progress=not quiet, resume=resume)
+        facts = dict(result.summary(), cores=cores, warnings=list(result.warnings), modes=result.modes)
+        chainfile.write_nested(h5, post.layout.free, facts, result)
+        return result.samples, facts
+    result = run_sampler(post, post.layout, settings, h5, rng, cores=cores, progress=not quiet, resume=resume)
+    facts = result.summary()
+    facts.update(
+        discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings), modes=result.modes
+    )
+    chainfile.write_facts(h5, post.layout.free, facts, result.autocorr_history)
+    return result.samples, facts
 
 
 def run_warnings(checked, samples):

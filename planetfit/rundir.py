@@ -7,6 +7,7 @@ import shutil
 import yaml
 
 from planetfit.core.errors import InputError
+from planetfit.fitting.nested import CHECKPOINT
 
 log = logging.getLogger("planetfit")
 
@@ -20,6 +21,7 @@ RUN_FILES = (
     "report.html",
     "run.log",
     "config.resolved.yaml",
+    CHECKPOINT,
 )
 
 
@@ -48,9 +50,9 @@ def prepare(run_dir, resume, force):
         )
     if run_dir.exists() and any(run_dir.iterdir()):
         if resume:
-            if not (run_dir / "samples.h5").exists():
+            if not any((run_dir / name).exists() for name in ("samples.h5", CHECKPOINT)):
                 raise InputError(
-                    "there is no samples.h5 to resume from.",
+                    f"there is no samples.h5 or {CHECKPOINT} to resume from.",
                     file=run_dir,
                     fix="run without --resume to start a new fit.",
                 )

@@ -24,6 +24,7 @@ STAGES = {
     "rundir": 5,
     "pipeline": 5,
     "batch": 6,
+    "compare": 6,
     "demo": 6,
     "planning": 6,
     "cli": 7,

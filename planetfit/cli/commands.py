@@ -8,13 +8,11 @@ from planetfit.core.errors import InputError
 
 def print_summary(run_dir):
     """The end-of-run summary: sampling facts, each planet's mass, radius and density, and every warning."""
+    from planetfit.report.markdown import sampling_text
+
     summary = json.loads((Path(run_dir) / "summary.json").read_text())
     s = summary["sampling"]
-    print(
-        f"\n{summary['system']}: {s['steps']} steps x {s['walkers']} walkers, "
-        f"{s['independent_samples']} independent samples, converged: {s['converged']}"
-        + (f", R-hat max {s['rhat_max']:.3f}, bulk ESS min {s['ess_bulk_min']}" if "rhat_max" in s else "")
-    )
+    print(f"\n{summary['system']}: {sampling_text(s)}")
     for name, p in summary["planets"].items():
         parts = []
         for key, label, unit in (
@@ -81,6 +79,32 @@ def batch(args):
     if not failed:
         return EXIT_OK
     return EXIT_INPUT if set(failed.values()) == {STATUS_INPUT} else EXIT_INTERNAL
+
+
+def compare(args):
+    """``planetfit compare``: each config fitted (or reused) by nested sampling, the models ranked by evidence."""
+    from planetfit.compare import compare as compare_models
+
+    if args.cores < 1:
+        raise InputError(f"--cores must be at least 1, got {args.cores}.", fix="use e.g. --cores 2.")
+
+    def show(path, run_dir, reused):
+        print(f"{'reused' if reused else 'fitted'}  {path}: {run_dir}", flush=True)
+
+    rows, warnings, paths = compare_models(args.configs, args.out, cores=args.cores, quiet=args.quiet, on_model=show)
+    print(
+        f"\n{'model':<24s} {'free':>4s} {'ln Z':>16s} {'Delta ln Z':>10s} {'B':>9s}  {'reading':<36s} {'max ln L':>9s}"
+    )
+    for r in rows:
+        z = f"{r['ln_evidence']:.2f} +- {r['ln_evidence_error']:.2f}"
+        print(
+            f"{r['model']:<24s} {r['free_parameters']:>4d} {z:>16s} {r['delta_ln_evidence']:>10.2f} "
+            f"{r['bayes_factor']:>9.3g}  {r['reading']:<36s} {r['max_log_likelihood']:>9.2f}"
+        )
+    print("(reading: Kass & Raftery 1995 scale of 2 ln B, B = Z_best / Z of the model)")
+    for warning in warnings:
+        print(f"WARNING: {warning}")
+    print("written: " + ", ".join(str(p) for p in paths))
 
 
 def check(args):

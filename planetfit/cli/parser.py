@@ -66,6 +66,21 @@ def _add_plan_parser(sub):
     p.add_argument("--out", metavar="DIR", help="output folder (default: RUNDIR/plan)")
 
 
+def _add_compare(sub):
+    """``planetfit compare CONFIG... [--out DIR] [--cores N] [--quiet]``."""
+    p = sub.add_parser("compare", help="fit models of the same data by nested sampling; rank them by evidence")
+    p.set_defaults(func=commands.compare)
+    p.add_argument("configs", nargs="+", metavar="CONFIG")
+    p.add_argument(
+        "--out",
+        metavar="DIR",
+        help="run directories in DIR/<config stem> and comparison.json/.md/.tex in DIR "
+        "(default: each config's 'output', '<output>-nested' if it samples by MCMC; the files in the current folder)",
+    )
+    p.add_argument("--cores", type=int, default=1, help="processes drawing proposals (default 1)")
+    p.add_argument("--quiet", action="store_true", help="no progress bars or progress messages")
+
+
 def _add_batch_parser(sub):
     """``planetfit batch``: many configs as Dask tasks."""
     p = sub.add_parser("batch", help="fit many configs as Dask tasks; write batch_summary.csv")
@@ -137,6 +152,7 @@ def build_parser():
     )
     p.set_defaults(func=commands.demo)
     _add_batch_parser(sub)
+    _add_compare(sub)
     _add_rundir_parsers(sub)
     _add_calculator_parsers(sub)
     _add_plan_parser(sub)

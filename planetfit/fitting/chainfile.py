@@ -2,7 +2,10 @@
 
 emcee's HDF5 backend holds the walkers' chain (group ``chain``); planetfit
 adds a group ``planetfit`` with the sampled parameters' names, the facts of
-the run (JSON) and the autocorrelation history. No other module opens the file.
+the run (JSON) and the autocorrelation history. A nested-sampling run has
+group ``nested`` instead of ``chain``: its equal-weight samples, the
+weighted points (``points``, ``log_weights``, ``log_likelihood``). No other
+module opens the file.
 """
 
 import json
@@ -16,7 +19,7 @@ from planetfit.core.errors import InputError
 from planetfit.fitting.modes import Mode
 
 #: The chain's group (emcee's) and planetfit's group in samples.h5.
-CHAIN_GROUP, FACTS_GROUP, MODES_GROUP = "chain", "planetfit", "modes"
+CHAIN_GROUP, FACTS_GROUP, MODES_GROUP, NESTED_GROUP = "chain", "planetfit", "modes", "nested"
 _RESUME_FIX = (
     "move samples.h5 away (it is never overwritten silently) and run again, or use --force to start a new "
     "fit in this folder."
@@ -159,6 +162,36 @@ def write_facts(h5_path, names, facts, history):
         g["autocorr_history"] = np.array(history, dtype=float).reshape(-1, 2)
 
 
+def write_nested(h5_path, names, facts, result):
+    """Write a nested-sampling run: equal-weight samples, the weighted points and their log-likelihoods, the facts.
+
+    Parameters
+    ----------
+    h5_path : Path
+    names : list of str
+        The sampled parameters' names.
+    facts : dict
+        The run's ``sampling`` facts (JSON).
+    result : NestedResult
+    """
+    with h5py.File(h5_path, "w") as fh:
+        g = fh.create_group(NESTED_GROUP)
+        g["samples"] = result.samples
+        g["points"] = result.points
+        g["log_weights"] = result.log_weights
+        g["log_likelihood"] = result.log_likelihood
+    write_facts(h5_path, names, facts, [])
+
+
+def _read_samples(h5_path, facts):
+    """The posterior samples of a run: the nested run's equal-weight ones, or the chain without burn-in, thinned."""
+    if facts.get("method") == "nested":
+        with h5py.File(h5_path, "r") as fh:
+            return fh[NESTED_GROUP]["samples"][()]
+    backend = emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True)
+    return backend.get_chain(discard=facts["discard"], thin=facts["thin"], flat=True)
+
+
 def read_posterior(h5_path):
     """The run's facts and its posterior samples (burn-in discarded, thinned as the run did).
 
@@ -172,8 +205,7 @@ def read_posterior(h5_path):
     try:
         with h5py.File(h5_path, "r") as fh:
             facts = json.loads(fh[FACTS_GROUP].attrs["sampling_json"])
-        backend = emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True)
-        samples = backend.get_chain(discard=facts["discard"], thin=facts["thin"], flat=True)
+        samples = _read_samples(h5_path, facts)
     except (OSError, KeyError, ValueError) as exc:
         raise InputError(
             f"samples.h5 is unreadable or incomplete ({exc}).",

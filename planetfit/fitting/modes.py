@@ -175,11 +175,13 @@ class ModeGroup:
     fractions: list
     jumps: list
     moves: int
-    found_by: str  # "optimiser" or "samples"
+    found_by: str  # "optimiser", "samples" (an MCMC chain's) or "nested" (weighted samples)
 
     @property
     def mixed(self):
         """Whether every mode's fraction is measured: at least MIN_JUMPS moves and sd(f) <= MAX_FRACTION_SD."""
+        if self.found_by == "nested":  # weighed by their evidence, not by walkers moving between them
+            return True
         return all(
             j >= MIN_JUMPS and 2 * f * (1 - f) / math.sqrt(j) <= MAX_FRACTION_SD
             for f, j in zip(self.fractions, self.jumps)
@@ -198,6 +200,8 @@ class ModeGroup:
         if len(self.names) > 1:
             text += f" (also separated in {', '.join(self.names[1:])})"
         text += ": " + (", ".join(listed[:-1]) + " and " + listed[-1])
+        if self.found_by == "nested":
+            return text + "; nested sampling weighs each mode by its evidence (fractions of the posterior weight)"
         if self.mixed:
             return text + f"; walkers moved between them {self.moves} times"
         if self.moves == 0:
@@ -271,27 +275,80 @@ def _sample_group(chain, log_prob, thin, labels, k, params, split, layout):
     )
 
 
-def _sample_groups(chain, log_prob, thin, labels, layout):
-    """Modes of single parameters within each of the optimiser's modes: the groups the optimiser did not find.
+def _partitions(samples, weights=None):
+    """Separated modes of single parameters, parameters whose modes split the samples alike taken together.
 
-    Parameters whose modes split the samples alike are one group.
+    Returns
+    -------
+    list of (list of int, SampleModes)
+        The parameters of each partition (the first the one whose modes are given) and its modes.
     """
+    found = []  # (parameter indices, SampleModes of the first, its labels of the samples)
+    for j in range(samples.shape[-1]):
+        split = sample_modes(samples[:, j], weights)
+        if split.splits.size:
+            own = split.label(samples[:, j])
+            same = [f for f in found if _same_partition(f[2], own)]
+            if same:
+                same[0][0].append(j)
+            else:
+                found.append(([j], split, own))
+    return [(params, split) for params, split, _ in found]
+
+
+def _sample_groups(chain, log_prob, thin, labels, layout):
+    """Modes of single parameters within each of the optimiser's modes: the groups the optimiser did not find."""
     samples = chain[thin - 1 :: thin].reshape(-1, chain.shape[-1])
     flat_labels = labels[thin - 1 :: thin].ravel()
     groups = []
     for k in np.unique(flat_labels):
-        inside = flat_labels == k
-        found = []  # (parameter indices, SampleModes of the first, its labels of the samples inside)
-        for j in range(chain.shape[-1]):
-            split = sample_modes(samples[inside, j])
-            if split.splits.size:
-                own = split.label(samples[inside, j])
-                same = [f for f in found if _same_partition(f[2], own)]
-                if same:
-                    same[0][0].append(j)
-                else:
-                    found.append(([j], split, own))
-        groups += [_sample_group(chain, log_prob, thin, labels, k, params, split, layout) for params, split, _ in found]
+        found = _partitions(samples[flat_labels == k])
+        groups += [_sample_group(chain, log_prob, thin, labels, k, params, split, layout) for params, split in found]
+    return groups
+
+
+def describe_weighted(samples, weights, log_prob, layout):
+    """Every group of separated modes of single parameters in weighted samples (nested sampling's dead points).
+
+    Each mode's fraction is its share of the weights: nested sampling
+    weighs separated modes by their evidence without moving between them,
+    so every group counts as mixed.
+
+    Parameters
+    ----------
+    samples : ndarray, shape (n, ndim)
+        Sampler coordinates.
+    weights : ndarray, shape (n,)
+        Importance weights (any normalisation).
+    log_prob : ndarray, shape (n,)
+        Log posterior density (unnormalised) of each sample.
+    layout : ParameterLayout
+
+    Returns
+    -------
+    list of ModeGroup
+    """
+    weights = np.asarray(weights, dtype=float) / np.sum(weights)
+    groups = []
+    for params, split in _partitions(samples, weights):
+        j, prior = params[0], layout.priors[layout.free[params[0]]]
+        labels, values = split.label(samples[:, j]), prior.from_sampler(samples[:, j])
+        fractions = [float(np.sum(weights[labels == m])) for m in range(split.locations.size)]
+        sds = [
+            float(np.sqrt(np.cov(values[labels == m], aweights=weights[labels == m]))) for m in range(len(fractions))
+        ]
+        groups.append(
+            ModeGroup(
+                names=[layout.free[i] for i in params],
+                locations=[float(prior.from_sampler(x)) for x in split.locations],
+                sds=sds,
+                log_probs=[float(np.max(log_prob[labels == m])) for m in range(split.locations.size)],
+                fractions=fractions,
+                jumps=[0] * len(fractions),
+                moves=0,
+                found_by="nested",
+            )
+        )
     return groups
 
 

@@ -70,8 +70,12 @@ class JointPosterior:
             orbits, physical = self.solve(values)
         return orbits if bool(physical) else None
 
-    def log_prob_many(self, thetas):
-        """Log-probabilities of an (n, ndim) array of sampler vectors, shape (n,)."""
+    def log_likelihood_many(self, thetas):
+        """Log-likelihoods (no prior) of an (n, ndim) array of sampler vectors; -inf outside the prior's support."""
+        return self.log_prob_many(thetas, with_prior=False)
+
+    def log_prob_many(self, thetas, with_prior=True):
+        """Log-probabilities (log-likelihoods if not ``with_prior``) of (n, ndim) sampler vectors, shape (n,)."""
         thetas = np.asarray(thetas, dtype=float)
         out = np.full(len(thetas), -math.inf)
         lp = np.array([self.layout.log_prior(t) for t in thetas])
@@ -92,5 +96,5 @@ class JointPosterior:
             for likelihood in self.model.likelihoods:
                 ll += likelihood.log_likelihood(batch)
         keep = rows[good]
-        out[keep] = np.where(np.isfinite(ll), lp[keep] + ll, -math.inf)
+        out[keep] = np.where(np.isfinite(ll), lp[keep] * with_prior + ll, -math.inf)
         return out

@@ -80,7 +80,7 @@ class Config:
         return self.lines.get(key)
 
 
-def load_config(path, output=None):
+def load_config(path, output=None, sampling_method=None):
     """Read and validate a config file.
 
     Parameters
@@ -89,6 +89,8 @@ def load_config(path, output=None):
         The YAML file.
     output : str or Path, optional
         Run directory overriding the config's ``output`` key.
+    sampling_method : str, optional
+        ``sampling.method`` overriding the config's (``planetfit compare`` samples every model by nested sampling).
 
     Returns
     -------
@@ -101,6 +103,8 @@ def load_config(path, output=None):
     """
     path = Path(path).resolve()
     data, lines = read_yaml(path)
+    if sampling_method is not None and isinstance(data, dict):
+        data["sampling"] = dict(data.get("sampling") or {}, method=sampling_method)
     try:
         blocks = ConfigFile.model_validate(data)
     except ValidationError as exc:

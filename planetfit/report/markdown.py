@@ -70,6 +70,24 @@ def _dynamics(d):
     return ["", "## Dynamics", "", f"{text} of {d['samples']} samples. Assumptions: {d['assumptions']}."]
 
 
+def sampling_text(s):
+    """One sentence of the sampling facts: emcee's walkers and autocorrelation, or nested sampling's evidence."""
+    converged = f"converged: {'yes' if s['converged'] else 'NO (see the warnings)'}; {s['seconds']:.0f} s."
+    if s.get("method") == "nested":
+        z = s["ln_evidence"]
+        return (
+            f"nested sampling (dynesty), {s['live_points']} live points, {s['iterations']} iterations, "
+            f"{s['likelihood_calls']} likelihood calls; ln Z = {z['value']:.2f} +- {z['error']:.2f}; evidence left "
+            f"in the live points {s['dlogz']:.3f}; {s['effective_samples']} effective samples; " + converged
+        )
+    return (
+        f"{s['walkers']} walkers x {s['steps']} steps; autocorrelation time {s['autocorr_steps']:.1f} steps; "
+        f"{s['independent_samples']} independent samples; acceptance fraction {s['acceptance_fraction']:.3f}; "
+        + (f"R-hat max {s['rhat_max']:.3f}, bulk ESS min {s['ess_bulk_min']}; " if "rhat_max" in s else "")
+        + converged
+    )
+
+
 def summary_markdown(summary, rows):
     """Markdown text of a run.
 
@@ -88,14 +106,7 @@ def summary_markdown(summary, rows):
     if summary.get("dynamics"):
         out += _dynamics(summary["dynamics"])
     s = summary["sampling"]
-    out += [
-        "",
-        "## Sampling",
-        "",
-        f"{s['walkers']} walkers x {s['steps']} steps; autocorrelation time {s['autocorr_steps']:.1f} steps; "
-        f"{s['independent_samples']} independent samples; acceptance fraction {s['acceptance_fraction']:.3f}; "
-        f"converged: {'yes' if s['converged'] else 'NO (see the warnings)'}; {s['seconds']:.0f} s.",
-    ]
+    out += ["", "## Sampling", "", sampling_text(s)]
     if s.get("warnings"):
         out += ["", "Warnings:", ""] + [f"- {w}" for w in s["warnings"]]
     return "\n".join(out) + "\n"

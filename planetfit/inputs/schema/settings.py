@@ -115,11 +115,25 @@ class Climate(Block):
 
 
 class Sampling(Block):
-    """How the posterior is sampled and when the chain counts as converged."""
+    """How the posterior is sampled and when the run counts as converged.
 
+    ``method: mcmc`` (emcee; walkers and the autocorrelation rule) or
+    ``nested`` (dynesty; live points and the evidence's stopping rule).
+    """
+
+    method: Literal["mcmc", "nested"] = "mcmc"
     walkers: Count = 48
     max_steps: Count = 20000
     check_every: Count = 200
     autocorr_factor: PositiveNumber = 50.0
     autocorr_tolerance: PositiveNumber = 0.01
     optimiser_starts: Count = 4
+    live_points: Count = 400
+    dlogz: PositiveNumber = 0.1
+    min_effective_samples: Count = 1000
+    max_likelihood_calls: Count = 50_000_000
+
+    @property
+    def nested(self):
+        """Whether the posterior is sampled by nested sampling (dynesty) rather than emcee."""
+        return self.method == "nested"

@@ -85,7 +85,8 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
     if weighed:
         out.append(("mass_radius", partial(mass_radius_figure, derived, weighed)))
     out.append(("habitable_zone", partial(habitable_zone_figure, derived, planets)))
-    out.append(
-        ("convergence", partial(_convergence, run_dir, posterior, summary, checked.config.sampling.autocorr_factor))
-    )
+    if summary["sampling"].get("method") != "nested":  # a chain's figure; nested sampling has no walkers
+        out.append(
+            ("convergence", partial(_convergence, run_dir, posterior, summary, checked.config.sampling.autocorr_factor))
+        )
     return out

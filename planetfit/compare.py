@@ -1,0 +1,126 @@
+"""``planetfit compare``: fit several models of the same data by nested sampling and rank them by evidence.
+
+Each config is fitted with ``sampling.method: nested`` whatever its own
+method, into ``DIR/<config stem>`` with ``--out DIR``, else into its own
+``output`` when it already samples by nested sampling and into
+``<output>-nested`` when it does not (an MCMC run there is never replaced).
+A finished run directory is reused when its config.resolved.yaml equals
+the config as resolved now and no data file changed after its
+summary.json; an interrupted one is resumed; any other is fitted anew.
+"""
+
+import json
+import logging
+from pathlib import Path
+
+from planetfit import pipeline, rundir
+from planetfit.batch import run_directories
+from planetfit.fitting.nested import CHECKPOINT
+from planetfit.inputs.config import load_config
+from planetfit.report import comparison
+
+log = logging.getLogger("planetfit")
+
+NESTED = "nested"
+
+
+def _data_files(config):
+    return [f for d in config.photometry + config.velocities for f in d.files]
+
+
+def _finished(run_dir, config):
+    """Whether ``run_dir`` holds a finished nested run of exactly this config and its current data."""
+    summary_path = run_dir / "summary.json"
+    resolved = run_dir / "config.resolved.yaml"
+    if not (summary_path.exists() and resolved.exists()):
+        return False
+    if resolved.read_text() != rundir.resolved_config(config):
+        return False
+    if "ln_evidence" not in json.loads(summary_path.read_text()).get("sampling", {}):
+        return False
+    written = summary_path.stat().st_mtime
+    return all(Path(f).stat().st_mtime < written for f in _data_files(config))
+
+
+def run_directory(config_path, output):
+    """The run directory ``planetfit compare`` uses for one config (``output``: from ``--out``, or None)."""
+    if output is not None:
+        return Path(output)
+    own = load_config(config_path)
+    if own.sampling.nested:
+        return own.output
+    return own.output.with_name(own.output.name + "-nested")
+
+
+def fit_model(config_path, output=None, cores=1, quiet=False):
+    """Fit one model by nested sampling, or reuse its finished run; return (run directory, reused)."""
+    run_dir = run_directory(config_path, output)
+    config = load_config(config_path, output=run_dir, sampling_method=NESTED)
+    if _finished(run_dir, config):
+        return run_dir, True
+    resume = (run_dir / CHECKPOINT).exists() and not (run_dir / "summary.json").exists()
+    pipeline.run(
+        config_path,
+        output=run_dir,
+        resume=resume,
+        force=not resume,
+        cores=cores,
+        quiet=quiet,
+        figures=False,
+        sampling_method=NESTED,
+    )
+    return run_dir, False
+
+
+def _entry(config_path, run_dir):
+    summary = json.loads((run_dir / "summary.json").read_text())
+    s = summary["sampling"]
+    return {
+        "model": Path(config_path).stem,
+        "system": summary["system"],
+        "config": str(Path(config_path).resolve()),
+        "run_dir": str(run_dir),
+        "free_parameters": len(summary["fitted_parameters"]),
+        "ln_evidence": s["ln_evidence"]["value"],
+        "ln_evidence_error": s["ln_evidence"]["error"],
+        "max_log_likelihood": s["max_log_likelihood"],
+        "converged": s["converged"],
+        "data": {name: counts["points"] for name, counts in summary.get("data", {}).items()},
+    }
+
+
+def compare(config_paths, out_dir=None, cores=1, quiet=False, on_model=None):
+    """Fit (or reuse) each config by nested sampling and write the comparison table.
+
+    Parameters
+    ----------
+    config_paths : list of str or Path
+    out_dir : str or Path, optional
+        Run directories in ``out_dir/<config stem>`` and the comparison files in ``out_dir``
+        (default: see the module's notes; the files go into the current folder).
+    cores : int
+    quiet : bool
+    on_model : callable, optional
+        Called with (config path, run directory, reused) after each model.
+
+    Returns
+    -------
+    rows, warnings, paths
+        :func:`planetfit.report.comparison.comparison_rows`, the warnings and the three files written.
+    """
+    entries = []
+    for path, output in zip(config_paths, run_directories(config_paths, out_dir)):
+        run_dir, reused = fit_model(path, output=output, cores=cores, quiet=quiet)
+        if on_model is not None:
+            on_model(path, run_dir, reused)
+        entries.append(_entry(path, run_dir))
+    rows = comparison.comparison_rows(entries)
+    warnings = comparison.comparison_warnings(rows)
+    if len({json.dumps(e["data"], sort_keys=True) for e in entries}) > 1:
+        warnings.append(
+            "the models were fitted to different data (datasets or point counts differ): their evidences "
+            "cannot be compared."
+        )
+    folder = Path(out_dir) if out_dir is not None else Path.cwd()
+    folder.mkdir(parents=True, exist_ok=True)
+    return rows, warnings, comparison.write_comparison(folder, rows, warnings)
