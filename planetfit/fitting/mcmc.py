@@ -166,20 +166,7 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
             proposal, burn_in = load_proposal(h5_path)
         else:
             backend.reset(nwalkers, ndim)
-            modes = _find_modes(log_prob, layout, settings, rng, workers)
-            save_modes(h5_path, modes)
-            counts = mode_finding.walker_counts(modes, nwalkers)
-            if len(modes) > 1:
-                log.info("walkers per mode: %s", ", ".join(str(n) for n in counts))
-            initial = np.concatenate(
-                [initial_walkers(workers, layout, m, n, rng) for m, n in zip(modes, counts) if n > 0]
-            )
-            proposal, burn_in = None, 0
-            if settings.moves == "fitted_proposal":
-                proposal, initial, burn_in = run_burn_in(
-                    workers, initial, walker_moves(len(modes) > 1), modes, settings, _random_state(rng)
-                )
-                save_proposal(h5_path, proposal, burn_in)
+            initial, modes, proposal, burn_in = _start(log_prob, layout, settings, rng, workers, nwalkers, h5_path)
         sampler = emcee.EnsembleSampler(
             nwalkers, ndim, workers, vectorize=True, backend=backend, moves=walker_moves(len(modes) > 1, proposal)
         )
@@ -190,6 +177,29 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
     result = _result(backend, settings, nwalkers, converged, history, time.perf_counter() - start, modes, layout)
     result.moves, result.burn_in_steps = ("fitted_proposal" if proposal else "differential_evolution"), burn_in
     return result
+
+
+def _start(log_prob, layout, settings, rng, workers, nwalkers, h5_path):
+    """Walkers placed in the optimiser's modes (and burnt in for a staged chain); both saved in the chain file.
+
+    Returns
+    -------
+    initial, modes, proposal, burn_in_steps
+        ``proposal`` is None (and ``burn_in_steps`` 0) for differential evolution.
+    """
+    modes = _find_modes(log_prob, layout, settings, rng, workers)
+    save_modes(h5_path, modes)
+    counts = mode_finding.walker_counts(modes, nwalkers)
+    if len(modes) > 1:
+        log.info("walkers per mode: %s", ", ".join(str(n) for n in counts))
+    initial = np.concatenate([initial_walkers(workers, layout, m, n, rng) for m, n in zip(modes, counts) if n > 0])
+    if settings.moves != "fitted_proposal":
+        return initial, modes, None, 0
+    proposal, initial, burn_in = run_burn_in(
+        workers, initial, walker_moves(len(modes) > 1), modes, settings, _random_state(rng)
+    )
+    save_proposal(h5_path, proposal, burn_in)
+    return initial, modes, proposal, burn_in
 
 
 def _random_state(rng):
