@@ -40,8 +40,12 @@ class FittedProposal:
 
     def __post_init__(self):
         self.weights = np.asarray(self.weights, dtype=float) / np.sum(self.weights)
+        # Each component in standardised coordinates (its correlation matrix): sampler coordinates span
+        # ten decades in scale (periods to 1e-5 d, offsets to 1 m/s), beyond scipy's positive-definiteness test.
+        self._sds = np.sqrt(np.array([np.diag(shape) for shape in self.shapes]))
         self._components = [
-            stats.multivariate_t(loc, shape, df=self.df) for loc, shape in zip(self.locations, self.shapes)
+            stats.multivariate_t(np.zeros(sd.size), shape / np.outer(sd, sd), df=self.df)
+            for shape, sd in zip(self.shapes, self._sds)
         ]
 
     @classmethod
@@ -73,7 +77,10 @@ class FittedProposal:
     def log_density(self, x):
         """Log density of the mixture at each row of ``x`` (n, ndim)."""
         x = np.atleast_2d(x)
-        terms = [np.log(w) + np.atleast_1d(c.logpdf(x)) for w, c in zip(self.weights, self._components)]
+        terms = [
+            np.log(w) + np.atleast_1d(c.logpdf((x - loc) / sd)) - np.sum(np.log(sd))
+            for w, c, loc, sd in zip(self.weights, self._components, self.locations, self._sds)
+        ]
         return logsumexp(terms, axis=0)
 
     def draw(self, random, n):
@@ -83,7 +90,8 @@ class FittedProposal:
         for j, c in enumerate(self._components):
             chosen = which == j
             if chosen.any():
-                out[chosen] = np.atleast_2d(c.rvs(size=int(chosen.sum()), random_state=random))
+                z = np.atleast_2d(c.rvs(size=int(chosen.sum()), random_state=random))
+                out[chosen] = self.locations[j] + z * self._sds[j]
         return out
 
     def arrays(self):

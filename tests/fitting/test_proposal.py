@@ -74,3 +74,16 @@ def test_fitted_proposal_has_one_component_per_mode(fractions):
     draws = proposal.draw(np.random.RandomState(1), 20000)
     near_second = np.mean(draws[:, 0] > 5) if len(modes) > 1 else 0.0
     assert near_second == pytest.approx(expected[-1] if len(modes) > 1 else 0.0, abs=0.01)
+
+
+def test_proposal_spanning_ten_decades_of_scale():
+    # source: scipy.stats.multivariate_t, where it accepts the matrix. Sampler coordinates span periods
+    # known to 1e-6 d and offsets to 1e3 m/s; scipy's positive-definiteness test refuses that covariance.
+    corr = np.array([[1.0, 0.5, 0.0], [0.5, 1.0, 0.2], [0.0, 0.2, 1.0]])
+    loc, rng = np.array([1.0, 2.0, 3.0]), np.random.default_rng(1)
+    for scale in (np.array([1e-2, 1.0, 1e2]), np.array([1e-6, 1.0, 1e3])):
+        cov = corr * np.outer(scale, scale)
+        proposal = FittedProposal(np.ones(1), loc[None], cov[None])
+        x = loc + rng.normal(size=(5, 3)) * scale
+        reference = stats.multivariate_t(np.zeros(3), corr, df=5).logpdf((x - loc) / scale) - np.sum(np.log(scale))
+        assert np.allclose(proposal.log_density(x), reference, rtol=0, atol=1e-9)
