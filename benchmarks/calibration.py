@@ -14,7 +14,7 @@ at a uniformly distributed rank among its samples; the Kolmogorov-Smirnov
 p-value of each quantity's ranks against the uniform distribution is
 reported too.
 
-Usage: python benchmarks/calibration.py [--systems N] [--processes P] [--steps S]
+Usage: python benchmarks/calibration.py [--systems N] [--processes P] [--steps S] [--moves M]
 Prints one JSON object; each system's result goes to stderr as one JSON line.
 """
 
@@ -54,7 +54,7 @@ CHECK_EVERY = 100
 QUANTITIES = ("mass_earth", "radius_earth", "rv_amplitude_ms", "radius_ratio")
 
 
-def _config(phot_file, rv_file, steps, seed):
+def _config(phot_file, rv_file, steps, seed, moves):
     """A config dict whose priors are PRIOR (limb darkening, flux level and jitters fixed)."""
     return {
         "system": "Calibration",
@@ -83,7 +83,8 @@ def _config(phot_file, rv_file, steps, seed):
                 "offset_ms": PRIOR["offset_ms"],
             }
         ],
-        "sampling": {"walkers": 24, "max_steps": steps, "check_every": CHECK_EVERY, "optimiser_starts": 2},
+        "sampling": {"walkers": 24, "max_steps": steps, "check_every": CHECK_EVERY, "optimiser_starts": 2}
+        | ({"moves": moves} if moves else {}),
     }
 
 
@@ -91,7 +92,7 @@ def _write_table(path, columns, header):
     np.savetxt(path, np.column_stack(columns), delimiter=",", header=header, comments="", fmt="%.9f")
 
 
-def simulate_system(seed, folder, steps):
+def simulate_system(seed, folder, steps, moves=None):
     """Draw system ``seed`` from the prior and write its data and config into ``folder``.
 
     Returns
@@ -112,7 +113,9 @@ def simulate_system(seed, folder, steps):
     # Placeholder tables give the posterior the observation times; the model then makes the data.
     _write_table(folder / "phot.csv", [t_phot, np.ones_like(t_phot), np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
     _write_table(folder / "rv.csv", [t_rv, np.zeros(N_RV), np.full(N_RV, RV_ERROR_MS)], "t,v,e")
-    (folder / "config.yaml").write_text(yaml.safe_dump(_config(folder / "phot.csv", folder / "rv.csv", steps, seed)))
+    (folder / "config.yaml").write_text(
+        yaml.safe_dump(_config(folder / "phot.csv", folder / "rv.csv", steps, seed, moves))
+    )
     config = load_config(folder / "config.yaml")
     post = JointPosterior(config, *load_all(config))
     while True:  # a draw from the prior with a transit and a finite probability
@@ -133,13 +136,13 @@ def simulate_system(seed, folder, steps):
 
 def fit_one(args):
     """Draw one system from the prior, simulate data, fit it; return truth and posterior intervals."""
-    seed, steps = args
+    seed, steps, moves = args
     from planetfit.context import derived as physics
     from planetfit.core.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
     from planetfit.fitting.mcmc import run_sampler
 
     with tempfile.TemporaryDirectory() as tmp:
-        config, post, values, orbits = simulate_system(seed, tmp, steps)
+        config, post, values, orbits = simulate_system(seed, tmp, steps, moves)
         rng = np.random.default_rng(seed + 1_000_000)  # the fit's own stream, apart from the simulation's
         result = run_sampler(post, post.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
         derived = physics.derive(config, post.model, result.samples, rng)["planets"]["b"]
@@ -172,16 +175,19 @@ def _quiet_worker():
         os.environ[var] = "1"
 
 
-def calibrate(systems, processes, steps, first_seed=1000):
-    """Fit ``systems`` synthetic systems of at most ``steps`` steps each; return ``coverage`` of them."""
+def calibrate(systems, processes, steps, moves=None, first_seed=1000):
+    """Fit ``systems`` synthetic systems of at most ``steps`` steps each; return ``coverage`` of them.
+
+    ``moves`` is ``sampling.moves`` (planetfit's default if None).
+    """
     start = time.perf_counter()
-    jobs = [(first_seed + i, steps) for i in range(systems)]
+    jobs = [(first_seed + i, steps, moves) for i in range(systems)]
     results = []
     with multiprocessing.get_context("fork").Pool(processes, initializer=_quiet_worker) as pool:
         for r in pool.imap_unordered(fit_one, jobs):
             results.append(r)
             print(json.dumps(r), file=sys.stderr, flush=True)  # one line per system, for partial runs
-    return coverage(results, steps, time.perf_counter() - start)
+    return dict(moves=moves or "default", **coverage(results, steps, time.perf_counter() - start))
 
 
 def _fractions(results, level):
@@ -219,8 +225,13 @@ def main():
     parser.add_argument("--systems", type=int, default=200)
     parser.add_argument("--processes", type=int, default=2)
     parser.add_argument("--steps", type=int, default=20000, help="max emcee steps per fit")
+    parser.add_argument(
+        "--moves",
+        choices=["differential_evolution", "fitted_proposal"],
+        help="sampling.moves (planetfit's default if not given)",
+    )
     args = parser.parse_args()
-    print(json.dumps(calibrate(args.systems, args.processes, args.steps), indent=2))
+    print(json.dumps(calibrate(args.systems, args.processes, args.steps, args.moves), indent=2))
 
 
 if __name__ == "__main__":

@@ -21,6 +21,10 @@ overhead_vs_floor
     supersampled points.
 independent_samples_per_second
     Of a full ``pipeline.run`` of the dataset (figures off).
+demo
+    The demo's samplers side by side and the whole demo
+    (:mod:`demo_speed`: ``seconds_in_all``, ``independent_samples_per_cpu_second``
+    per sampler, ``gain_vs_de_only``).
 memory
     Peak resident memory of a short fit of ten 2-min sectors (~190,000
     points), in a fresh process.
@@ -45,6 +49,7 @@ import batman
 import numpy as np
 import yaml
 from batman import _quadratic_ld, _rsky
+from demo_speed import demo_figures
 from radvel import kepler, orbit
 from threadpoolctl import threadpool_limits
 
@@ -459,7 +464,7 @@ def memory_figures(folder, max_steps):
     return result
 
 
-SECTIONS = ("evaluation", "fit", "memory", "hot-giant")
+SECTIONS = ("evaluation", "fit", "demo", "memory", "hot-giant")
 
 
 def main():
@@ -480,6 +485,8 @@ def main():
             report["evaluation"] = evaluation_figures(config_path)
         if "fit" in args.sections:
             report["fit"] = fit_figures(config_path, args.cores)
+        if "demo" in args.sections:
+            report["demo"] = demo_figures(args.cores)
         if "memory" in args.sections:
             report["memory"] = memory_figures(folder / "memory", args.memory_steps)
         if "hot-giant" in args.sections:

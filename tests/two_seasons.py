@@ -16,7 +16,7 @@ TC = T0 + SEASON_DAYS / 2
 PERIOD_PRIOR, TC_HALF_WIDTH, K_MAX = (4.6, 5.0), 2.3, 30.0  # the Tc prior is 4.6 d wide: each phase once at most
 
 
-def write_two_season_system(folder, seed=11, noise=True, walkers=32, max_steps=8000):
+def write_two_season_system(folder, seed=11, noise=True, walkers=32, max_steps=8000, moves="differential_evolution"):
     """RVs of one circular planet in two 18-d seasons 200 d apart, and a config fitting them; returns its path.
 
     Jitter is fixed at zero and the star's mass and radius are fixed (they enter no RV-only circular fit),
@@ -45,7 +45,13 @@ def write_two_season_system(folder, seed=11, noise=True, walkers=32, max_steps=8
                 }
             },
             "velocities": [entry],
-            "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 100, "optimiser_starts": 4},
+            "sampling": {
+                "walkers": walkers,
+                "max_steps": max_steps,
+                "check_every": 100,
+                "optimiser_starts": 4,
+                "moves": moves,
+            },
         },
     )
 

@@ -17,9 +17,11 @@ import numpy as np
 
 from planetfit.core.errors import InputError
 from planetfit.fitting.modes import Mode
+from planetfit.fitting.proposal import FittedProposal
 
 #: The chain's group (emcee's) and planetfit's group in samples.h5.
-CHAIN_GROUP, FACTS_GROUP, MODES_GROUP, NESTED_GROUP = "chain", "planetfit", "modes", "nested"
+CHAIN_GROUP, FACTS_GROUP, MODES_GROUP = "chain", "planetfit", "modes"
+NESTED_GROUP, PROPOSAL_GROUP = "nested", "proposal"
 _RESUME_FIX = (
     "move samples.h5 away (it is never overwritten silently) and run again, or use --force to start a new "
     "fit in this folder."
@@ -255,3 +257,24 @@ def load_modes(path):
             return []
         g = f[MODES_GROUP]
         return [Mode(theta, float(lp), cov) for theta, lp, cov in zip(g["theta"][()], g["log_prob"][()], g["cov"][()])]
+
+
+def save_proposal(path, proposal, burn_in_steps):
+    """Write the staged sampler's fitted proposal and its burn-in's length into the chain file (for a resume)."""
+    with h5py.File(path, "a") as f:
+        if PROPOSAL_GROUP in f:
+            del f[PROPOSAL_GROUP]
+        g = f.create_group(PROPOSAL_GROUP)
+        for name, value in proposal.arrays().items():
+            g[name] = value
+        g.attrs["burn_in_steps"] = int(burn_in_steps)
+
+
+def load_proposal(path):
+    """(proposal, burn-in steps) as :func:`save_proposal` wrote them; (None, 0) for a differential-evolution chain."""
+    with h5py.File(path, "r") as f:
+        if PROPOSAL_GROUP not in f:
+            return None, 0
+        g = f[PROPOSAL_GROUP]
+        proposal = FittedProposal(g["weights"][()], g["locations"][()], g["shapes"][()], float(g["df"][()]))
+        return proposal, int(g.attrs["burn_in_steps"])

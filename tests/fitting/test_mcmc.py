@@ -11,6 +11,8 @@ import numpy as np
 import pytest
 
 from planetfit.fitting.mcmc import walker_moves
+from planetfit.fitting.modes import Mode
+from planetfit.fitting.proposal import FittedProposal
 
 # Six parameters on scales from 1e-3 to 1, like a transit + RV fit. In scaled
 # units y = x / SCALE: y0 ~ N(0, 1); y1 | y0 ~ N(y0^2, 0.3^2) (a curved
@@ -30,11 +32,23 @@ def _draw(rng, n):
     return y * SCALE
 
 
-@pytest.mark.parametrize("several_modes", [False, True], ids=["one-mode moves", "several-mode mixture"])
-def test_walkers_drawn_from_the_target_stay_in_it(several_modes):
+def _fitted(samples, modes):
+    """The staged sampler's proposal fitted to ``samples`` of known ``modes`` (nearest mode in x0)."""
+    labels = np.argmin([np.abs(samples[:, 0] - m.theta[0]) for m in modes], axis=0)
+    return FittedProposal.fit(samples, labels, modes)
+
+
+MOVES = [(False, False), (True, False), (False, True)]
+MOVE_IDS = ["one-mode moves", "several-mode mixture", "with fitted proposal"]
+
+
+@pytest.mark.parametrize(("several_modes", "fitted"), MOVES, ids=MOVE_IDS)
+def test_walkers_drawn_from_the_target_stay_in_it(several_modes, fitted):
     rng = np.random.default_rng(7)
+    # The proposal is fitted to other draws (a burn-in), Gaussian in shape: the target's y1 is not.
+    proposal = _fitted(_draw(rng, 2000), [Mode(np.zeros(SCALE.size), 0.0, np.eye(SCALE.size))]) if fitted else None
     sampler = emcee.EnsembleSampler(
-        WALKERS, SCALE.size, _log_prob, vectorize=True, moves=walker_moves(several_modes=several_modes)
+        WALKERS, SCALE.size, _log_prob, vectorize=True, moves=walker_moves(several_modes, proposal)
     )
     sampler.random_state = np.random.RandomState(7).get_state()
     sampler.run_mcmc(_draw(rng, WALKERS), STEPS, progress=False)
@@ -61,13 +75,20 @@ def _two_modes(x):
     )
 
 
-@pytest.mark.parametrize("several_modes", [False, True], ids=["one-mode moves", "several-mode mixture"])
-def test_jump_moves_cross_between_modes_and_keep_their_weights(several_modes):
+def _two_mode_draws(rng, n):
+    x = rng.normal(size=(n, MODE_DIM))
+    x[rng.uniform(size=n) < SECOND_WEIGHT, 0] += SEPARATION
+    return x
+
+
+@pytest.mark.parametrize(("several_modes", "fitted"), MOVES, ids=MOVE_IDS)
+def test_jump_moves_cross_between_modes_and_keep_their_weights(several_modes, fitted):
     rng = np.random.default_rng(1)
-    start = rng.normal(size=(WALKERS, MODE_DIM))
-    start[rng.uniform(size=WALKERS) < SECOND_WEIGHT, 0] += SEPARATION
+    start = _two_mode_draws(rng, WALKERS)
+    modes = [Mode(np.eye(MODE_DIM)[0] * x, 0.0, np.eye(MODE_DIM)) for x in (0.0, SEPARATION)]
+    proposal = _fitted(_two_mode_draws(rng, 2000), modes) if fitted else None
     sampler = emcee.EnsembleSampler(
-        WALKERS, MODE_DIM, _two_modes, vectorize=True, moves=walker_moves(several_modes=several_modes)
+        WALKERS, MODE_DIM, _two_modes, vectorize=True, moves=walker_moves(several_modes, proposal)
     )
     sampler.random_state = np.random.RandomState(1).get_state()
     sampler.run_mcmc(start, STEPS, progress=False)
@@ -78,4 +99,5 @@ def test_jump_moves_cross_between_modes_and_keep_their_weights(several_modes):
     # moves between the modes in these 100 steps; differential evolution alone (gamma = 2.38 / sqrt(2 d)
     # takes a walker only half-way from one mode to the other) made none.
     assert abs(np.mean(in_second[-1]) - SECOND_WEIGHT) < 0.03
-    assert (jumps > 100) if several_modes else (jumps == 0)
+    # The fitted proposal has a component in each mode, so its independence moves jump between them.
+    assert (jumps > 100) if several_modes or fitted else (jumps == 0)

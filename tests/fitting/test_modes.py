@@ -41,8 +41,9 @@ def no_figures(monkeypatch):
     monkeypatch.setattr(pipeline.outputs, "write_all", lambda *args, **kwargs: None)
 
 
-def test_two_period_aliases_are_both_sampled_with_their_weights(tmp_path):
-    config = write_two_season_system(tmp_path)
+@pytest.mark.parametrize("moves", ["differential_evolution", "fitted_proposal"])
+def test_two_period_aliases_are_both_sampled_with_their_weights(tmp_path, moves):
+    config = write_two_season_system(tmp_path, moves=moves)
     run_dir = pipeline.run(config, quiet=True, figures=False)
     s = _sampling(run_dir)
     grid = alias_weights(tmp_path)
@@ -67,7 +68,9 @@ def test_walkers_that_never_jump_make_the_run_not_converged(tmp_path, monkeypatc
     # Metropolis steps about a quarter of each alias's width (period, conjunction time, K, offset) mix the
     # walkers within the alias they start in and never reach another 0.11 d away.
     steps = np.array([1e-3, 1e-2, 0.2, 0.1]) ** 2
-    monkeypatch.setattr(sampling, "walker_moves", lambda several_modes=False: [emcee.moves.GaussianMove(steps)])
+    monkeypatch.setattr(
+        sampling, "walker_moves", lambda several_modes=False, proposal=None: [emcee.moves.GaussianMove(steps)]
+    )
     config = write_two_season_system(tmp_path, max_steps=1000)
     s = _sampling(pipeline.run(config, quiet=True, figures=False))
     found = _mode_warnings(s)
@@ -79,8 +82,9 @@ def test_walkers_that_never_jump_make_the_run_not_converged(tmp_path, monkeypatc
     )
 
 
-def test_redraw_and_resume_keep_the_modes(tmp_path, no_figures):
-    config = write_two_season_system(tmp_path, max_steps=1500)
+@pytest.mark.parametrize("moves", ["differential_evolution", "fitted_proposal"])
+def test_redraw_and_resume_keep_the_modes(tmp_path, no_figures, moves):
+    config = write_two_season_system(tmp_path, max_steps=1500, moves=moves)
     run_dir = pipeline.run(config, quiet=True, figures=False)
     first = _sampling(run_dir)
     assert _mode_warnings(first)
@@ -94,6 +98,9 @@ def test_redraw_and_resume_keep_the_modes(tmp_path, no_figures):
     # The modes come from samples.h5: the resumed chain is assigned to the optimiser's same modes.
     assert [round(m["location"], 4) for m in resumed["modes"]] == [round(m["location"], 4) for m in first["modes"]]
     assert len(_mode_warnings(resumed)) == 1
+    # A staged chain continues with the proposal and burn-in of samples.h5.
+    assert (resumed["moves"], resumed["burn_in_steps"]) == (first["moves"], first["burn_in_steps"])
+    assert (resumed["burn_in_steps"] > 0) == (moves == "fitted_proposal")
 
 
 def test_a_one_mode_system_has_no_mode_warning(tmp_path):

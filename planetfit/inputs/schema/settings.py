@@ -128,6 +128,9 @@ class Sampling(Block):
     autocorr_factor: PositiveNumber = 50.0
     autocorr_tolerance: PositiveNumber = 0.01
     optimiser_starts: Count = 4
+    #: "fitted_proposal": a burn-in of differential evolution fits a proposal, then differential evolution
+    #: and independence moves from it (planetfit.fitting.burnin).
+    moves: Literal["differential_evolution", "fitted_proposal"] = "differential_evolution"
     live_points: Count = 400
     dlogz: PositiveNumber = 0.1
     min_effective_samples: Count = 1000

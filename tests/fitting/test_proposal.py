@@ -1,0 +1,89 @@
+"""The independence move keeps a non-Gaussian target, and the fitted proposal follows the burn-in's modes."""
+
+import emcee
+import numpy as np
+import pytest
+from scipy import stats
+
+from planetfit.fitting.modes import Mode
+from planetfit.fitting.proposal import FittedProposal, IndependenceMove
+
+# Target: a bivariate Student-t with 3 degrees of freedom (heavier tails than the proposal's 5), correlated.
+TARGET_DF, SHAPE = 3.0, np.array([[1.0, 0.6], [0.6, 2.0]])
+TARGET = stats.multivariate_t(np.zeros(2), SHAPE, df=TARGET_DF)
+WALKERS, STEPS = 4000, 60
+LEVELS = np.array([0.05, 0.25, 0.5, 0.75, 0.95])
+
+
+class UncorrectedMove(IndependenceMove):
+    """The same proposal without the Hastings factor g(x) / g(x'): not a valid move (the negative control)."""
+
+    def _propose(self, coords, random):
+        return self.proposal.draw(random, coords.shape[0]), np.zeros(coords.shape[0])
+
+
+def _run(move_class, seed):
+    # A proposal unlike the target: shifted by half a width, 1.5 times too wide, other tails.
+    proposal = FittedProposal(np.ones(1), np.array([[0.5, -0.5]]), 1.5 * SHAPE[None])
+    sampler = emcee.EnsembleSampler(WALKERS, 2, TARGET.logpdf, vectorize=True, moves=[move_class(proposal)])
+    sampler.random_state = np.random.RandomState(seed).get_state()
+    sampler.run_mcmc(TARGET.rvs(size=WALKERS, random_state=seed), STEPS, progress=False)
+    return sampler
+
+
+def _largest_quantile_error(sampler):
+    """Largest difference, in target CDF units, between the walkers' quantiles and the target's, over both axes."""
+    x = sampler.get_last_sample().coords
+    errors = []
+    for j in range(2):
+        marginal = stats.t(TARGET_DF, scale=np.sqrt(SHAPE[j, j]))  # a multivariate t's marginals are t
+        errors.append(np.max(np.abs(marginal.cdf(np.quantile(x[:, j], LEVELS)) - LEVELS)))
+    return max(errors)
+
+
+def test_independence_move_keeps_a_student_t_target():
+    sampler = _run(IndependenceMove, 3)
+    # source: scipy.stats.t, the marginal of the bivariate t by construction. The quantiles of 4000
+    # draws scatter by sqrt(p (1 - p) / 4000) <= 0.008 in CDF units; 0.03 is four of those. Over five seeds
+    # the largest error was 0.007-0.019, acceptance 0.64.
+    assert _largest_quantile_error(sampler) < 0.03
+    assert 0.2 < np.mean(sampler.acceptance_fraction) < 0.95  # the walkers moved and rejections happened
+
+
+def test_the_check_sees_a_move_without_the_hastings_factor():
+    # common practice, no published source: a negative control. Without g(x) / g(x') the walkers drift
+    # towards the proposal (measured: largest CDF errors 0.14-0.15 after these steps over five seeds).
+    assert _largest_quantile_error(_run(UncorrectedMove, 3)) > 0.05
+
+
+@pytest.mark.parametrize("fractions", [(1.0,), (0.7, 0.3), (1.0, 0.0)], ids=["one mode", "two modes", "empty mode"])
+def test_fitted_proposal_has_one_component_per_mode(fractions):
+    rng = np.random.default_rng(5)
+    modes = [Mode(np.array([10.0 * k, 0.0]), 0.0, np.eye(2)) for k in range(len(fractions))]
+    counts = [int(4000 * f) for f in fractions]
+    samples = np.concatenate([m.theta + rng.normal(size=(n, 2)) * [1.0, 2.0] for m, n in zip(modes, counts)])
+    labels = np.repeat(np.arange(len(modes)), counts)
+    proposal = FittedProposal.fit(samples, labels, modes)
+    # source: the draws' own weights, means and variances by construction (sd of a mean of 1200 draws < 0.06);
+    # a mode without samples keeps its Laplace covariance and the least weight.
+    expected = np.maximum(fractions, 0.05) / np.sum(np.maximum(fractions, 0.05))
+    assert np.allclose(proposal.weights, expected, atol=1e-9)
+    for m, n, loc, shape in zip(modes, counts, proposal.locations, proposal.shapes):
+        assert np.allclose(loc, m.theta, atol=0.25)
+        assert np.allclose(np.diag(shape), [1.0, 4.0] if n else [1.0, 1.0], rtol=0.1)
+    draws = proposal.draw(np.random.RandomState(1), 20000)
+    near_second = np.mean(draws[:, 0] > 5) if len(modes) > 1 else 0.0
+    assert near_second == pytest.approx(expected[-1] if len(modes) > 1 else 0.0, abs=0.01)
+
+
+def test_proposal_spanning_ten_decades_of_scale():
+    # source: scipy.stats.multivariate_t, where it accepts the matrix. Sampler coordinates span periods
+    # known to 1e-6 d and offsets to 1e3 m/s; scipy's positive-definiteness test refuses that covariance.
+    corr = np.array([[1.0, 0.5, 0.0], [0.5, 1.0, 0.2], [0.0, 0.2, 1.0]])
+    loc, rng = np.array([1.0, 2.0, 3.0]), np.random.default_rng(1)
+    for scale in (np.array([1e-2, 1.0, 1e2]), np.array([1e-6, 1.0, 1e3])):
+        cov = corr * np.outer(scale, scale)
+        proposal = FittedProposal(np.ones(1), loc[None], cov[None])
+        x = loc + rng.normal(size=(5, 3)) * scale
+        reference = stats.multivariate_t(np.zeros(3), corr, df=5).logpdf((x - loc) / scale) - np.sum(np.log(scale))
+        assert np.allclose(proposal.log_density(x), reference, rtol=0, atol=1e-9)
