@@ -14,6 +14,7 @@ import numpy as np
 from planetfit import rundir
 from planetfit.context import blocks, derived, diagnostics, dynamics, transit_times
 from planetfit.context.light import light_warnings
+from planetfit.core.errors import InputError
 from planetfit.core.units import PPM
 from planetfit.fitting import chainfile
 from planetfit.fitting.mcmc import run_sampler
@@ -183,7 +184,10 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     stability, stability_warnings = dynamics.dynamics_block(
         config, post.model, quantities, np.random.default_rng([config.seed, 2])
     )
-    stats, stats_warnings = inference.write_posterior(run_dir, checked, quantities, sampling_facts)
+    if config.sampling.nested:  # posterior.nc, R-hat and ESS read emcee's walkers; nested runs have ln Z instead
+        stats, stats_warnings = {}, []
+    else:
+        stats, stats_warnings = inference.write_posterior(run_dir, checked, quantities, sampling_facts)
     new = run_warnings(checked, samples) + light_warnings(context) + stability_warnings + stats_warnings
     for warning in new:
         log.warning("WARNING: %s", warning)
@@ -220,6 +224,11 @@ def export(run_dir, fmt, out=None):
     run_dir = Path(run_dir).resolve()
     facts, samples = chainfile.read_posterior(run_dir / "samples.h5")
     checked = check(run_dir / "config.resolved.yaml", output=run_dir)
+    if checked.config.sampling.nested:
+        raise InputError(
+            f"{run_dir} holds a nested-sampling run; 'planetfit export' writes emcee walkers and their statistics.",
+            fix="use the run's posterior.csv (its equal-weight samples), or fit with 'sampling: {method: mcmc}'.",
+        )
     quantities, _ = _derive(checked, samples)
     stats = chainfile.read_sample_stats(run_dir / "samples.h5", facts["discard"], facts["thin"])
     groups = inference.posterior_groups(checked, quantities, stats)
