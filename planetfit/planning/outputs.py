@@ -10,13 +10,13 @@ from planetfit.report.summary import write_summary_json
 
 
 def write_plan(out_dir, plan):
-    """Write plan.json, plan.md and the figure (PNG and PDF) into ``out_dir``; return their paths."""
+    """Write plan.json, plan.md and the figure (PNG, PDF, and SVG when small) into ``out_dir``; return their paths."""
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
     write_summary_json(out_dir / "plan.json", plan)
     write_text_atomic(out_dir / "plan.md", plan_markdown(plan))
-    png, pdf = save_figure(plan_figure(plan), out_dir, "plan")
-    return [out_dir / "plan.json", out_dir / "plan.md", png, pdf]
+    figures = save_figure(plan_figure(plan), out_dir, "plan")
+    return [out_dir / "plan.json", out_dir / "plan.md", *figures]
 
 
 def _pct(x):
