@@ -49,7 +49,7 @@ SAMPLING_SPECIAL = ("warnings", "parameter_diagnostics", "modes")
 #: Headline quantities of each planet's verdict.
 HEADLINE = (("mass_earth", "Mass", "M⊕"), ("radius_earth", "Radius", "R⊕"), ("density_gcc", "Density", "g cm⁻³"))
 #: PNG figures larger than this are left out of the page (it stays under 15 MB).
-MAX_FIGURE_BYTES = 3_000_000
+MAX_FIGURE_BYTES = 6_000_000
 #: Lists of texts with one longer than this are shown as bullets, not joined by commas.
 LONG_TEXT = 40
 #: CSS pixels per inch of a figure on the page: a journal-column figure (3.4 in) shows 510 px wide.

@@ -21,7 +21,7 @@ PHYSICAL_PANEL_IN = 1.0
 PHYSICAL_MARGIN_IN = 0.8
 #: Panel size of the diagnostic corner and its margin for names and ticks, inches.
 PANEL_IN = 0.6
-NAME_MARGIN_IN = 1.7
+NAME_MARGIN_IN = 2.1
 
 _TRANSITING = ("mass_earth", "radius_earth", "density_gcc", "radius_ratio", "impact", "rv_amplitude_ms")
 _RV_ONLY = ("mass_earth", "period_days", "rv_amplitude_ms")
