@@ -467,6 +467,11 @@ def memory_figures(folder, max_steps):
 SECTIONS = ("evaluation", "fit", "demo", "memory", "hot-giant")
 
 
+def _plain(value):
+    """numpy scalars (counts and flags from the sampler's result) as JSON numbers."""
+    return value.item() if isinstance(value, np.generic) else str(value)
+
+
 def main():
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     parser.add_argument("--sections", nargs="+", choices=SECTIONS, default=list(SECTIONS))
@@ -496,7 +501,7 @@ def main():
     finally:
         shutil.rmtree(folder, ignore_errors=True)
     report["load_average_at_end"] = [round(x, 2) for x in os.getloadavg()]
-    print(json.dumps(report, indent=2))
+    print(json.dumps(report, indent=2, default=_plain))
 
 
 if __name__ == "__main__":
