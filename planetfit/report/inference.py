@@ -173,7 +173,8 @@ def sampling_facts(per_parameter, steps_after_burn_in):
         f"R-hat above what the chain length explains for {len(high)} of {len(rhats)} parameters (largest "
         f"{rhats[first]:.3f} for {first}, against {limits[first]:.3f} expected from its autocorrelation time of "
         f"{per_parameter[first]['autocorr_steps']:.0f} steps over {steps_after_burn_in} steps): the walkers, read "
-        "as separate chains, do not share one distribution (a stuck walker or unmixed modes). Do not quote these "
+        "as separate chains, do not share one distribution (not yet mixed from their starts, a stuck walker, or "
+        "unmixed modes). Do not quote these "
         "uncertainties before a longer run agrees"
     ]
 
