@@ -5,6 +5,9 @@ and events to descriptor 4, each message JSON ended by a NUL byte; no
 websocket client or browser-automation package is needed.
 """
 
+# source: Chrome DevTools Protocol documentation (chromedevtools.github.io/devtools-protocol): the pipe transport
+# on fds 3/4 with NUL-ended JSON messages, and the Page, Runtime, Log and Network domains used below.
+
 import base64
 import contextlib
 import json

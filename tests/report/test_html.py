@@ -16,6 +16,7 @@ from planetfit.report import captions, html, tables
 from planetfit.report.rounding import value_text
 
 #: The issue's limit on the page's size.
+# common practice, no published source: the project's own bound on one emailable page (its issue asks < 15 MB).
 MAX_REPORT_BYTES = 15_000_000
 
 
@@ -38,6 +39,8 @@ def test_report_opens_in_chromium_with_every_figure_drawn(run, tmp_path):
         seen = browser.load(page.as_uri(), tmp_path / "report.png")
     finally:
         browser.close()
+    # common practice, no published source: a self-contained page loads nothing but itself and its data: URIs,
+    # logs no console error, and shows every figure at a non-zero size (no physics is checked here).
     assert seen["failed"] == [] and seen["errors"] == [], seen
     # Self-contained: the page itself, and its figures as data URIs, are all it asks for.
     assert {u for u in seen["requests"] if not u.startswith("data:image/")} == {page.as_uri()}
