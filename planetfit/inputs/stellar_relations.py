@@ -184,6 +184,14 @@ def is_m_dwarf(star):
     return False
 
 
+def _rounded_normal(draws):
+    """The normal prior of the draws' mean and standard deviation, both to two significant digits of the latter
+    (the Monte Carlo error of 20000 draws is below that rounding)."""
+    sd = float(np.std(draws))
+    digits = 1 - int(np.floor(np.log10(sd)))
+    return Normal(round(float(np.mean(draws)), digits), round(sd, digits))
+
+
 def relation_priors(star, scatter=True, needed=("mass_msun", "radius_rsun")):
     """Normal mass and radius priors for ``star`` (a schema ``Star``) from the relation its inputs select.
 
@@ -208,7 +216,7 @@ def relation_priors(star, scatter=True, needed=("mass_msun", "radius_rsun")):
         if key in errors:
             raise errors[key]
     priors = {
-        key: None if key in errors else Normal(float(np.mean(draws)), float(np.std(draws)))
+        key: None if key in errors else _rounded_normal(draws)
         for key, draws in (("mass_msun", mass), ("radius_rsun", radius))
     }
     return RelationPriors(priors["mass_msun"], priors["radius_rsun"], names, text, inputs)
