@@ -77,6 +77,7 @@ def test_eccentric_planet_fitted_as_circular_raises_the_density_warning(tmp_path
     summary = json.loads((run_dir / "summary.json").read_text())
     tension = summary["star"]["density_tension_sigma"]
     density_warnings = [w for w in summary["sampling"]["warnings"] if w.startswith("stellar density")]
+    print(f"fitted as {orbit}: stellar density {tension:.1f} prior sigma from its prior")
     assert bool(density_warnings) is warned, (tension, density_warnings)
     assert (tension > 3.0) is warned
     if warned:
