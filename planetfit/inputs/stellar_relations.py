@@ -187,7 +187,15 @@ def is_m_dwarf(star):
 def _rounded_normal(draws):
     """The normal prior of the draws' mean and standard deviation, both to two significant digits of the latter
     (the Monte Carlo error of 20000 draws is below that rounding)."""
-    sd = float(np.std(draws))
+    draws = draws[np.isfinite(draws) & (draws > 0)]  # a parallax draw at or below zero has no magnitude
+    sd = float(np.std(draws)) if draws.size > 1 else 0.0
+    if not 0.0 < sd < np.inf:
+        raise RelationError(
+            "the relation's inputs give no finite spread of mass or radius.",
+            "give 'teff_k', 'logg_cgs', 'feh_dex' or 'parallax_mas' as priors with a width, or "
+            + _FIX.format(key="teff_k"),
+            "teff_k",
+        )
     digits = 1 - int(np.floor(np.log10(sd)))
     return Normal(round(float(np.mean(draws)), digits), round(sd, digits))
 
