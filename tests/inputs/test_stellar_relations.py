@@ -121,6 +121,11 @@ def test_scatter_widens_the_prior():
         ({"teff_k": 3300.0, "mag_k": 7.0}, "parallax_mas", "'parallax_mas' is missing"),
         ({"teff_k": 5600.0, "logg_cgs": 2.5, "feh_dex": 0.0}, "logg_cgs", "outside the relation's range"),
         (
+            {"teff_k": 5772.0, "mass_msun": 1.0, "radius_rsun": 1.0, "feh_dex": 0.0, "mgh_dex": 0.1},
+            "sih_dex",
+            "together",
+        ),
+        (
             {"teff_k": 5772.0, "logg_cgs": 4.44, "feh_dex": 0.0, "mass_msun": {"normal": [0.5, 0.02]}},
             "mass_msun",
             "contradict",
@@ -133,4 +138,4 @@ def test_bad_star_inputs_name_the_key_and_the_fix(keys, key, words):
     error = info.value.errors()[0]
     assert words in error["msg"]
     assert error["ctx"]["key"] == key
-    assert "mass_msun" in error["ctx"]["fix"] or "parallax_mas" in error["ctx"]["fix"]
+    assert any(k in error["ctx"]["fix"] for k in ("mass_msun", "parallax_mas", "sih_dex"))

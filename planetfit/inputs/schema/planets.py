@@ -57,6 +57,14 @@ class Star(Block):
         except RelationError as exc:
             fail(exc.problem, exc.fix + ".", key=exc.key)
         self.mass_msun, self.radius_rsun = priors["mass_msun"], priors["radius_rsun"]
+        abundances = {"feh_dex": self.feh_dex, "mgh_dex": self.mgh_dex, "sih_dex": self.sih_dex}
+        missing = [k for k, v in abundances.items() if v is None]
+        if (self.mgh_dex is not None or self.sih_dex is not None) and missing:
+            fail(
+                "the star-built iron fraction needs [Fe/H], [Mg/H] and [Si/H] together.",
+                f"add '{missing[0]}' (a prior in dex), or remove {', '.join(repr(k) for k in ('mgh_dex', 'sih_dex'))}.",
+                key=missing[0],
+            )
         return self
 
     @property
