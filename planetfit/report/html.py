@@ -139,7 +139,7 @@ def _verdicts(summary):
                 "name": name,
                 "transits": p.get("transits"),
                 "headline": headline,
-                "verdict": comp.get("verdict"),
+                "verdict": " ".join(t for t in (comp.get("verdict"), comp.get("star_iron_verdict")) if t) or None,
                 "note": p.get("note"),
                 "assumptions": _texts(comp.get("assumptions")),
                 "climate": _climate_line(clim),

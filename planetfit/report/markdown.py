@@ -35,6 +35,8 @@ def _context(name, planet):
     comp = planet.get("composition")
     if comp:
         out += ["", f"Composition: {comp['verdict']}"]
+        if comp.get("star_iron_verdict"):
+            out += ["", f"From the star: {comp['star_iron_verdict']}"]
     clim = planet.get("climate")
     if clim:
         out += [
