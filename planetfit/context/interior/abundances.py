@@ -21,10 +21,10 @@ from planetfit.context.interior.composition import _fraction_from_curves
 from planetfit.context.interior.grid import REFERENCE_CURVES, load_grid
 from planetfit.core.stats import stat
 
-#: Solar photospheric abundances log eps(X) = log10(N_X / N_H) + 12 and their uncertainties:
-#: source: Asplund, Grevesse, Sauval & Scott (2009, ARA&A 47, 481), Table 1.
+#: Solar photospheric abundances log eps(X) = log10(N_X / N_H) + 12 and their uncertainties, Asplund, Grevesse,
+#: Sauval & Scott (2009, ARA&A 47, 481), Table 1 (value from memory: Fe 7.50, Mg 7.60, Si 7.51 and their errors).
 SOLAR_LOG_EPS = {"Fe": (7.50, 0.04), "Mg": (7.60, 0.04), "Si": (7.51, 0.03)}
-#: Standard atomic weights, g/mol: source: IUPAC/CIAAW (2013) conventional values.
+#: Standard atomic weights, g/mol, IUPAC/CIAAW (2013) conventional values (value from memory).
 ATOMIC_WEIGHT = {"Fe": 55.845, "Mg": 24.305, "Si": 28.085, "O": 15.999}
 #: The star's abundance keys and their elements.
 ABUNDANCE_KEYS = {"Fe": "feh_dex", "Mg": "mgh_dex", "Si": "sih_dex"}
