@@ -20,7 +20,8 @@ def _star(feh=0.0, mgh=0.0, sih=0.0, sd=0.02):
 
 
 def test_the_suns_composition_gives_an_earth_like_iron_fraction():
-    # source: solar abundances Asplund et al. (2009, ARA&A 47, 481) Table 1; Earth's iron mass fraction about
+    # source: solar abundances Asplund et al. (2009, ARA&A 47, 481) Table 1 (value from memory: Fe 7.50, Mg 7.60,
+    # Si 7.51); Earth's iron mass fraction about
     # 0.32-0.33 (McDonough 2003, Treatise on Geochemistry 2, 547: bulk Earth 32 wt% Fe; value from memory),
     # the 0.33 the issue names
     assert iron_fraction_from_abundances(0.0, 0.0, 0.0) == pytest.approx(0.332, abs=0.002)

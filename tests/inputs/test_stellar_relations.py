@@ -42,8 +42,8 @@ def test_the_sun_lies_within_the_relations_scatter_of_one_solar_mass_and_radius(
     "name, mass, radius, teff, feh",
     [
         # alpha Cen A and B, the one non-eclipsing system of Torres et al. (2010)'s calibration sample.
-        # source: masses (Pourbaix et al. 2002) and radii (Kervella et al. 2003) as Torres et al. (2010) list them,
-        # 1.105 +- 0.007 / 0.934 +- 0.006 M_sun and 1.224 +- 0.003 / 0.863 +- 0.005 R_sun;
+        # source: masses (Pourbaix et al. 2002) and radii (Kervella et al. 2003), 1.105 +- 0.007 / 0.934 +- 0.006
+        # M_sun and 1.224 +- 0.003 / 0.863 +- 0.005 R_sun (value from memory: that Torres et al. 2010 list these);
         # Teff and [Fe/H]: Porto de Mello, Lyra & Keller (2008, A&A 488, 653), abstract:
         # 5847 +- 27 K, +0.24 (A) and 5316 +- 28 K, +0.25 (B).
         ("alpha Cen A", 1.105, 1.224, 5847.0, 0.24),
