@@ -8,6 +8,7 @@ import yaml
 from synthetic import TINY_TRUTH, planet_truth, true_mass_radius, write_system, write_tiny_system
 
 from planetfit import pipeline
+from planetfit.cli import main
 from planetfit.inputs.schema import Star
 from planetfit.inputs.stellar_relations import relation_priors
 
@@ -30,6 +31,17 @@ def _fit(config_path, star):
 
 def _half_width(s):
     return 0.5 * (s["upper"] - s["lower"])
+
+
+def test_check_states_where_the_stars_priors_come_from(tmp_path, capsys):
+    config = write_tiny_system(tmp_path)
+    raw = yaml.safe_load(config.read_text())
+    raw["star"] = dict(SPECTROSCOPY, radius_rsun={"normal": [0.85, 0.02]})
+    config.write_text(yaml.safe_dump(raw, sort_keys=False))
+    assert main(["check", str(config)]) == 0
+    out = capsys.readouterr().out
+    assert "star mass_msun: N(0.907, 0.064) (the Torres, Andersen & Gimenez (2010)" in out
+    assert "star radius_rsun: N(0.85, 0.02) (user prior)" in out
 
 
 @pytest.mark.slow
