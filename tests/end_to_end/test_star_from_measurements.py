@@ -50,7 +50,7 @@ def test_planet_recovered_with_the_star_from_teff_logg_feh(tmp_path):
     # realisation; seed fixed)
     truth_planet = planet_truth(3.0, 2460001.5, 8.0, radius_ratio=0.04, impact=0.3)
     mass_truth, radius_truth = true_mass_radius(truth_planet, star=TINY_TRUTH)
-    run_dir, summary = _fit(write_tiny_system(tmp_path / "relation", max_steps=600), SPECTROSCOPY)
+    run_dir, summary = _fit(write_tiny_system(tmp_path / "relation", max_steps=1500), SPECTROSCOPY)
     b = summary["planets"]["b"]
     assert abs(b["mass_earth"]["median"] - mass_truth) <= _half_width(b["mass_earth"]), b["mass_earth"]
     assert abs(b["radius_earth"]["median"] - radius_truth) <= _half_width(b["radius_earth"]), b["radius_earth"]
@@ -63,7 +63,7 @@ def test_planet_recovered_with_the_star_from_teff_logg_feh(tmp_path):
     # The same data with the relation's prior made without its intrinsic scatter: narrower radius error bars.
     bare = relation_priors(Star.model_validate(SPECTROSCOPY), scatter=False)
     star = dict(SPECTROSCOPY, mass_msun=bare.mass_msun.as_config(), radius_rsun=bare.radius_rsun.as_config())
-    _, without = _fit(write_tiny_system(tmp_path / "no_scatter", max_steps=600), star)
+    _, without = _fit(write_tiny_system(tmp_path / "no_scatter", max_steps=1500), star)
     with_sd, without_sd = _half_width(b["radius_earth"]), _half_width(without["planets"]["b"]["radius_earth"])
     print(f"radius_earth 1-sigma: {with_sd:.4f} with the relation's scatter, {without_sd:.4f} without")
     print(
