@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from planetfit import rundir
-from planetfit.context import blocks, derived, diagnostics, dynamics, transit_times
+from planetfit.context import blocks, derived, diagnostics, dynamics, stellar_density, transit_times
 from planetfit.context.light import light_warnings
 from planetfit.core.errors import InputError
 from planetfit.core.units import PPM
@@ -188,13 +188,18 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
         stats, stats_warnings = {}, []
     else:
         stats, stats_warnings = inference.write_posterior(run_dir, checked, quantities, sampling_facts)
-    new = run_warnings(checked, samples) + light_warnings(context) + stability_warnings + stats_warnings
+    density, density_warnings = stellar_density.density_check(
+        config, post.model, quantities, np.random.default_rng([config.seed, 3])
+    )
+    new = run_warnings(checked, samples) + density_warnings + light_warnings(context) + stability_warnings
+    new += stats_warnings
     for warning in new:
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new
     summary = summary_out.build_summary(
         config, post.model, quantities, context, dict(sampling_facts, **stats, warnings=warnings)
     )
+    summary["star"].update(density)
     summary["data"] = checked.data_counts()
     if stability is not None:
         summary["dynamics"] = stability

@@ -119,6 +119,10 @@ def check(args):
     )
     for row in pipeline.overview(checked):
         print("  {:<18s} {:<10s} {:6d} points ({} NaN rows dropped), BJD_TDB {:.3f} to {:.3f}, {}".format(*row))
+    for key, source in c.star.mass_radius_source.items():
+        relation = source.get("intrinsic_scatter")
+        origin = f"the {source['from']}, scatter {relation}, from {source['inputs']}" if relation else source["from"]
+        print(f"  star {key}: {source['prior']} ({origin})")
     layout = checked.posterior.layout
     print(f"  {layout.ndim} free parameters: {', '.join(layout.free)}")
     for warning in checked.warnings:

@@ -10,6 +10,7 @@ summary.json; for a planet whose light is fitted, its ``planet_light`` keys
 import numpy as np
 
 from planetfit.context import atmosphere, climate, interior
+from planetfit.context.interior.abundances import star_iron_block
 from planetfit.context.light import light_context
 
 #: Caution of a climate block that uses the measured Bond albedo.
@@ -62,6 +63,7 @@ def add_context(config, model, derived, rng):
             block["climate"]["cautions"].append(_MEASURED.format(planet_settings.albedo, settings.albedo))
         if p.transits and np.any(q["mass_earth"] > 0):
             block["composition"] = interior.composition(q["mass_earth"], q["radius_earth"])
+            block["composition"].update(star_iron_block(config.star, q["mass_earth"], q["radius_earth"], rng))
             block["atmosphere"] = atmosphere.atmosphere_block(
                 q["radius_earth"],
                 q["mass_earth"],

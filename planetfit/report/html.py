@@ -19,7 +19,7 @@ from planetfit.report import captions
 from planetfit.report.files import write_text_atomic
 from planetfit.report.rounding import number_text, value_text
 from planetfit.report.style import PNG_DPI
-from planetfit.report.tables import NOTE_TEXT, prior_text
+from planetfit.report.tables import NOTE_TEXT, prior_text, star_note
 
 #: Distributions whose versions the page lists (those not installed are left out).
 DISTRIBUTIONS = (
@@ -139,7 +139,7 @@ def _verdicts(summary):
                 "name": name,
                 "transits": p.get("transits"),
                 "headline": headline,
-                "verdict": comp.get("verdict"),
+                "verdict": " ".join(t for t in (comp.get("verdict"), comp.get("star_iron_verdict")) if t) or None,
                 "note": p.get("note"),
                 "assumptions": _texts(comp.get("assumptions")),
                 "climate": _climate_line(clim),
@@ -249,7 +249,7 @@ def page_context(summary, rows, figures_folder):
         "planets": columns_table({name: _planet_facts(p) for name, p in summary["planets"].items()}),
         "data": columns_table(summary.get("data") or {}),
         "tables": _table_sections(rows),
-        "table_note": NOTE_TEXT,
+        "table_note": f"{NOTE_TEXT} {star_note(summary)}".strip(),
         "figures": [f for f in figures if f["name"] != "convergence"],
         "convergence_figure": next((f for f in figures if f["name"] == "convergence"), None),
         "context": [

@@ -1,7 +1,7 @@
 """summary.md: the parameter table of table.tex as Markdown, plus the run's context in words."""
 
 from planetfit.report.rounding import number_text, value_text
-from planetfit.report.tables import NOTE_TEXT, prior_text
+from planetfit.report.tables import NOTE_TEXT, prior_text, star_note
 
 _HEADER = ["| Parameter | Prior | Value | Unit | summary.json key |", "|---|---|---|---|---|"]
 
@@ -35,6 +35,8 @@ def _context(name, planet):
     comp = planet.get("composition")
     if comp:
         out += ["", f"Composition: {comp['verdict']}"]
+        if comp.get("star_iron_verdict"):
+            out += ["", f"From the star: {comp['star_iron_verdict']}"]
     clim = planet.get("climate")
     if clim:
         out += [
@@ -100,7 +102,7 @@ def summary_markdown(summary, rows):
     """
     out = [f"# {summary['system']}"]
     out += _table(rows)
-    out += ["", NOTE_TEXT, "", "## Context"]
+    out += ["", f"{NOTE_TEXT} {star_note(summary)}".strip(), "", "## Context"]
     for name, planet in summary["planets"].items():
         out += _context(name, planet)
     if summary.get("dynamics"):

@@ -63,6 +63,7 @@ def build_summary(config, model, derived, blocks, sampling):
     """
     flagged = derived["prior_only"]
     star = {k: _stat(derived["star"][k], k in flagged["star"]) for k in STAR_KEYS if k in derived["star"]}
+    star["mass_radius_source"] = config.star.mass_radius_source
     planets = {}
     for p, block in zip(model.planets, config.planets):
         q = derived["planets"][p.name]

@@ -45,6 +45,30 @@ NOTE_TEXT = (
 )
 
 
+_STAR_UNITS = {"mass_msun": ("mass", "M_sun"), "radius_rsun": ("radius", "R_sun")}
+
+
+def star_note(summary):
+    """Where the star's mass and radius priors came from, and the density check, as plain sentences ("" if none)."""
+    star = summary["star"]
+    parts = []
+    for key, source in (star.get("mass_radius_source") or {}).items():
+        label, unit = _STAR_UNITS[key]
+        if "intrinsic_scatter" in source:
+            parts.append(
+                f"{label} prior {source['prior']} {unit} from the {source['from']} (intrinsic scatter "
+                f"{source['intrinsic_scatter']}, propagated with the uncertainties of {source['inputs']} by "
+                "Monte Carlo)"
+            )
+        else:
+            parts.append(f"{label} prior {source['prior']} {unit} given in the config")
+    text = f"Stellar {'; '.join(parts)}." if parts else ""
+    tension = star.get("density_tension_sigma")
+    if tension is not None:
+        text += f" The transit moves the stellar density {tension:.1f} prior sigma from its prior."
+    return text.strip()
+
+
 # ----------------------------------------------------------------- priors
 
 _PRIOR_FORMS = {  # config spelling -> (text symbol, LaTeX symbol)
@@ -257,5 +281,6 @@ def latex_table(summary, rows):
     ]
     out += _float(f"Fitted parameters of {system} and their priors.", f"tab:{slug}-fitted", fitted, True, NOTE_FITTED)
     out.append("")
-    out += _float(f"Derived parameters of {system}.", f"tab:{slug}-derived", rows[split + 1 :], False, NOTE_DERIVED)
+    note = f"{NOTE_DERIVED} {tex_escape(star_note(summary))}".strip()
+    out += _float(f"Derived parameters of {system}.", f"tab:{slug}-derived", rows[split + 1 :], False, note)
     return "\n".join(out) + "\n"

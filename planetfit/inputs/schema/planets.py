@@ -12,10 +12,15 @@ from typing import Annotated, Literal, Optional
 from pydantic import AfterValidator, Field, PrivateAttr, model_validator
 
 from ..priors import Uniform
+from ..stellar_relations import RelationError, resolve_mass_radius
 from .base import Block, variants
 from .fields import Number, PositiveNumber, PriorSpec, fail, lowest, positive_prior, prior_within
 
 ORBITS = Literal["circular", "eccentric"]
+_LOGG_PROBLEM = "the prior reaches beyond log g 2 to 6 (cgs): not the surface gravity of a planet host in cm/s^2."
+_LOGG_FIX = "give log g in cgs (the Sun: 4.438), e.g. '{normal: [4.4, 0.1]}'."
+_ABUNDANCE_PROBLEM = "the prior reaches beyond -5 to +1.5 dex: not a logarithmic abundance relative to the Sun."
+_ABUNDANCE_FIX = "give [X/H] in dex relative to the Sun, e.g. '{normal: [0.0, 0.1]}'."
 
 Unbound = prior_within(
     -1.0,
@@ -26,16 +31,46 @@ Unbound = prior_within(
 
 
 class Star(Block):
-    """The host star: priors on mass, radius, Teff (age optional), magnitudes and sky position."""
+    """The host star: mass and radius priors, or what is measured (Teff, log g, [Fe/H]; parallax and K magnitude)
+    turned into them by published relations (:mod:`planetfit.inputs.stellar_relations`); magnitudes, sky position,
+    and the refractory abundances [Mg/H], [Si/H] for the composition block."""
 
-    mass_msun: Annotated[PriorSpec, positive_prior("mass_msun")]
-    radius_rsun: Annotated[PriorSpec, positive_prior("radius_rsun")]
+    mass_msun: Optional[Annotated[PriorSpec, positive_prior("mass_msun")]] = None
+    radius_rsun: Optional[Annotated[PriorSpec, positive_prior("radius_rsun")]] = None
     teff_k: Annotated[PriorSpec, positive_prior("teff_k")]
+    logg_cgs: Optional[Annotated[PriorSpec, prior_within(2.0, 6.0, _LOGG_PROBLEM, _LOGG_FIX)]] = None
+    feh_dex: Optional[Annotated[PriorSpec, prior_within(-5.0, 1.5, _ABUNDANCE_PROBLEM, _ABUNDANCE_FIX)]] = None
+    mgh_dex: Optional[Annotated[PriorSpec, prior_within(-5.0, 1.5, _ABUNDANCE_PROBLEM, _ABUNDANCE_FIX)]] = None
+    sih_dex: Optional[Annotated[PriorSpec, prior_within(-5.0, 1.5, _ABUNDANCE_PROBLEM, _ABUNDANCE_FIX)]] = None
+    parallax_mas: Optional[Annotated[PriorSpec, positive_prior("parallax_mas")]] = None
     age_gyr: Optional[PriorSpec] = None
     mag_j: Optional[Number] = None
     mag_k: Optional[Number] = None
     ra_deg: Optional[Annotated[Number, Field(ge=0, lt=360)]] = None
     dec_deg: Optional[Annotated[Number, Field(ge=-90, le=90)]] = None
+    _mass_radius_source: dict = PrivateAttr(default_factory=dict)
+
+    @model_validator(mode="after")
+    def _mass_and_radius(self):
+        try:
+            priors, self._mass_radius_source = resolve_mass_radius(self)
+        except RelationError as exc:
+            fail(exc.problem, exc.fix + ".", key=exc.key)
+        self.mass_msun, self.radius_rsun = priors["mass_msun"], priors["radius_rsun"]
+        abundances = {"feh_dex": self.feh_dex, "mgh_dex": self.mgh_dex, "sih_dex": self.sih_dex}
+        missing = [k for k, v in abundances.items() if v is None]
+        if (self.mgh_dex is not None or self.sih_dex is not None) and missing:
+            fail(
+                "the star-built iron fraction needs [Fe/H], [Mg/H] and [Si/H] together.",
+                f"add '{missing[0]}' (a prior in dex), or remove {', '.join(repr(k) for k in ('mgh_dex', 'sih_dex'))}.",
+                key=missing[0],
+            )
+        return self
+
+    @property
+    def mass_radius_source(self):
+        """Quantity -> where its prior came from (``from``, ``prior`` and, for a relation, ``intrinsic_scatter``)."""
+        return self._mass_radius_source
 
 
 def _non_negative_amplitude(prior):

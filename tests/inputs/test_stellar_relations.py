@@ -1,0 +1,141 @@
+"""The star's mass and radius from Teff, log g, [Fe/H] or from parallax and K magnitude, against published values."""
+
+import math
+
+import pytest
+from pydantic import ValidationError
+
+from planetfit.inputs import stellar_relations as sr
+from planetfit.inputs.schema import Star
+
+
+def star(**keys):
+    """A validated star block from config spellings."""
+    return Star.model_validate(keys)
+
+
+def logg_of(mass_msun, radius_rsun):
+    """log g (cgs) of a star from mass and radius, the Sun's 4.438 as reference."""
+    # source: Prsa et al. (2016, AJ 152, 41), IAU 2015 nominal solar values: log g_sun = 4.438
+    return 4.438 + math.log10(mass_msun) - 2.0 * math.log10(radius_rsun)
+
+
+def test_torres_relation_reproduces_the_papers_own_solar_values():
+    # source: Torres, Andersen & Gimenez (2010), Sect. 8: "applied to the Sun itself, the results are
+    # M = 1.051 M_sun and R = 1.018 R_sun" (Teff 5777 K, log g 4.438, [Fe/H] 0)
+    mass, radius = sr.torres_mass_radius(5777.0, 4.438, 0.0)
+    assert mass == pytest.approx(1.051, abs=0.002)
+    assert radius == pytest.approx(1.018, abs=0.002)
+
+
+def test_the_sun_lies_within_the_relations_scatter_of_one_solar_mass_and_radius():
+    # source: Prsa et al. (2016, AJ 152, 41): nominal solar Teff 5772 K, log g 4.438; [Fe/H] = 0 by definition
+    s = star(teff_k={"normal": [5772, 20]}, logg_cgs={"normal": [4.438, 0.01]}, feh_dex={"normal": [0.0, 0.01]})
+    for prior, scatter in ((s.mass_msun, "mass_msun"), (s.radius_rsun, "radius_rsun")):
+        # source: Torres et al. (2010), Sect. 8: scatter 0.027 dex in mass, 0.014 dex in radius
+        limit = 10 ** sr.TORRES_SCATTER_DEX[scatter] - 1.0
+        assert abs(prior.mean - 1.0) <= limit, (scatter, prior.describe())
+        assert prior.sd == pytest.approx(limit, rel=0.25)  # the prior's width is the scatter (inputs near exact)
+
+
+@pytest.mark.parametrize(
+    "name, mass, radius, teff, feh",
+    [
+        # alpha Cen A and B, the one non-eclipsing system of Torres et al. (2010)'s calibration sample.
+        # source: masses (Pourbaix et al. 2002) and radii (Kervella et al. 2003), 1.105 +- 0.007 / 0.934 +- 0.006
+        # M_sun and 1.224 +- 0.003 / 0.863 +- 0.005 R_sun (value from memory: that Torres et al. 2010 list these);
+        # Teff and [Fe/H]: Porto de Mello, Lyra & Keller (2008, A&A 488, 653), abstract:
+        # 5847 +- 27 K, +0.24 (A) and 5316 +- 28 K, +0.25 (B).
+        ("alpha Cen A", 1.105, 1.224, 5847.0, 0.24),
+        ("alpha Cen B", 0.934, 0.863, 5316.0, 0.25),
+    ],
+)
+def test_benchmark_stars_of_the_calibration_within_one_sigma(name, mass, radius, teff, feh):
+    s = star(
+        teff_k={"normal": [teff, 27]},
+        logg_cgs={"normal": [logg_of(mass, radius), 0.01]},
+        feh_dex={"normal": [feh, 0.03]},
+    )
+    assert abs(s.mass_msun.mean - mass) <= s.mass_msun.sd, (name, s.mass_msun.describe())
+    assert abs(s.radius_rsun.mean - radius) <= s.radius_rsun.sd, (name, s.radius_rsun.describe())
+
+
+def test_m_dwarf_at_absolute_k_6():
+    # source: Mann et al. (2015, ApJ 804, 64) eq. 4 with Table 1 (a, b, c = 1.9515, -0.3520, 0.01680):
+    # R(M_K = 6.0) = 0.4443 R_sun; Mann et al. (2019, ApJ 871, 63) eq. 4 with Table 6 (n = 5):
+    # M(M_K = 6.0) = 0.4404 M_sun. Worked by hand from the printed coefficients (no tabulated star at
+    # exactly M_K = 6.0 was at hand; value from memory: Mann et al. 2019 give ~0.44 M_sun near M_K = 6).
+    s = star(teff_k={"normal": [3700, 60]}, parallax_mas={"normal": [100.0, 0.01]}, mag_k=6.0)
+    assert s.radius_rsun.mean == pytest.approx(0.4443, abs=0.002)
+    assert s.mass_msun.mean == pytest.approx(0.4404, abs=0.002)
+    # source: the relations' scatter, 2.89 % (Mann et al. 2015) and 2.0 % (Mann et al. 2019)
+    assert s.radius_rsun.sd / s.radius_rsun.mean == pytest.approx(0.0289, rel=0.1)
+    assert s.mass_msun.sd / s.mass_msun.mean == pytest.approx(0.020, rel=0.1)
+
+
+def test_trappist_like_ultracool_dwarf_mass_from_mann_2019():
+    # source: Mann et al. (2019) software README (github.com/awmann/M_-M_K-): K = 10.296 +- 0.023 at
+    # 12.136 +- 0.118 pc gives 0.089 +- 0.004 M_sun (their worked example, a star of the paper's binaries' range)
+    parallax = 1000.0 / 12.136
+    s = star(
+        teff_k={"normal": [2566, 26]},
+        parallax_mas={"normal": [parallax, parallax * 0.118 / 12.136]},
+        mag_k=10.296,
+        radius_rsun={"normal": [0.12, 0.003]},  # M_K 9.88 lies beyond the radius relation's 9.8
+    )
+    assert abs(s.mass_msun.mean - 0.089) <= 0.004
+    assert s.mass_radius_source["radius_rsun"]["from"] == "user prior"
+
+
+def test_explicit_priors_win_and_say_so():
+    s = star(
+        mass_msun={"normal": [1.0, 0.05]},
+        radius_rsun={"normal": [1.0, 0.03]},
+        teff_k={"normal": [5772, 50]},
+        logg_cgs={"normal": [4.44, 0.05]},
+        feh_dex={"normal": [0.0, 0.05]},
+    )
+    assert s.mass_msun.describe() == "N(1, 0.05)"
+    assert s.mass_radius_source["mass_msun"] == {"from": "user prior", "prior": "N(1, 0.05)"}
+
+
+def test_one_explicit_prior_and_the_other_from_the_relation():
+    s = star(radius_rsun={"normal": [1.0, 0.03]}, teff_k={"normal": [5772, 50]}, logg_cgs=4.44, feh_dex=0.0)
+    assert s.radius_rsun.describe() == "N(1, 0.03)"
+    assert s.mass_radius_source["mass_msun"]["from"] == sr.TORRES_NAME
+    assert s.mass_radius_source["mass_msun"]["intrinsic_scatter"] == "0.027 dex"
+
+
+def test_scatter_widens_the_prior():
+    s = star(teff_k={"normal": [5772, 50]}, logg_cgs={"normal": [4.44, 0.03]}, feh_dex={"normal": [0.0, 0.05]})
+    without = sr.relation_priors(s, scatter=False)
+    assert s.radius_rsun.sd > without.radius_rsun.sd * 1.05
+    assert s.mass_msun.sd > without.mass_msun.sd * 1.05
+
+
+@pytest.mark.parametrize(
+    "keys, key, words",
+    [
+        ({"teff_k": 5600.0, "feh_dex": 0.0}, "logg_cgs", "'logg_cgs' is missing"),
+        ({"teff_k": 3300.0, "parallax_mas": {"normal": [100.0, 0.1]}, "mag_k": 11.0}, "parallax_mas", "M_K (from"),
+        ({"teff_k": 3300.0, "mag_k": 7.0}, "parallax_mas", "'parallax_mas' is missing"),
+        ({"teff_k": 5600.0, "logg_cgs": 2.5, "feh_dex": 0.0}, "logg_cgs", "outside the relation's range"),
+        (
+            {"teff_k": 5772.0, "mass_msun": 1.0, "radius_rsun": 1.0, "feh_dex": 0.0, "mgh_dex": 0.1},
+            "sih_dex",
+            "together",
+        ),
+        (
+            {"teff_k": 5772.0, "logg_cgs": 4.44, "feh_dex": 0.0, "mass_msun": {"normal": [0.5, 0.02]}},
+            "mass_msun",
+            "contradict",
+        ),
+    ],
+)
+def test_bad_star_inputs_name_the_key_and_the_fix(keys, key, words):
+    with pytest.raises(ValidationError) as info:
+        star(**keys)
+    error = info.value.errors()[0]
+    assert words in error["msg"]
+    assert error["ctx"]["key"] == key
+    assert any(k in error["ctx"]["fix"] for k in ("mass_msun", "parallax_mas", "sih_dex"))
