@@ -28,8 +28,8 @@ SEED = 2010
 
 #: Torres et al. (2010), Sect. 8: log M = a1 + a2 X + a3 X^2 + a4 X^3 + a5 (log g)^2 + a6 (log g)^3 + a7 [Fe/H],
 #: log R the same with b1..b7, X = log Teff - 4.1; their coefficient table (value from memory: the table is
-#: Table 4 of the journal version). a1..a7 are those of the paper as public implementations print them; b1..b7:
-#: value from memory: Torres et al. 2010 b1..b7 (they give the paper's own solar radius 1.018, Sect. 8, to 0.002).
+#: Table 4 of the journal version). value from memory: a1..a7 and b1..b7, not re-checked against the journal text
+#: here; they give the paper's own solar mass 1.051 and radius 1.018 (Sect. 8) to 0.001 and 0.002.
 TORRES_MASS = (1.5689, 1.3787, 0.4243, 1.139, -0.1425, 0.01969, 0.1010)
 TORRES_RADIUS = (2.4427, 0.6679, 0.1771, 0.705, -0.21415, 0.02306, 0.04173)
 #: Torres et al. (2010), Sect. 8: scatter of the calibrations, dex (6.4 % in mass, 3.2 % in radius).
@@ -40,12 +40,13 @@ TORRES_MIN_MASS_MSUN = 0.6
 TORRES_RANGE = {"teff_k": (4000.0, 7500.0), "logg_cgs": (3.5, 5.0), "feh_dex": (-1.0, 0.5)}
 
 #: Mann et al. (2015), eq. 4 and Table 1: R = a + b M_K + c M_K^2, scatter 2.89 %, valid for 4.6 < M_K < 9.8
-#: (value from memory: the range; coefficients and scatter as public implementations print them).
+#: (value from memory: the range, the coefficients and the scatter, not re-checked against the journal text here).
 MANN15_RADIUS = (1.9515, -0.3520, 0.01680)
 MANN15_SCATTER = 0.0289
 MANN15_RANGE = (4.6, 9.8)
 #: Mann et al. (2019), eq. 4 and Table 6 (n = 5): log10 M = sum a_i (M_K - 7.5)^i, scatter 2.0 %,
-#: valid for 4.5 < M_K < 10.5 (value from memory: the M_K range; the paper's abstract gives 0.075-0.70 M_sun).
+#: valid for 4.5 < M_K < 10.5 (value from memory: the M_K range and the coefficients, not re-checked against the
+#: journal text here; the paper's abstract gives 0.075-0.70 M_sun).
 MANN19_MASS = (-0.642, -0.208, -8.43e-4, 7.87e-3, 1.42e-4, -2.13e-4)
 MANN19_ZERO_POINT = 7.5
 MANN19_SCATTER = 0.020
