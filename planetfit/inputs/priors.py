@@ -7,9 +7,12 @@ number is :class:`Fixed`). Construction validates the arguments and raises
 """
 
 import math
+import reprlib
 
 import numpy as np
 from scipy import special, stats
+
+from .yamlfile import number_as_text
 
 #: An unbounded normal prior's span: mean +- this many standard deviations.
 NORMAL_SPAN_SD = 3.0
@@ -87,7 +90,16 @@ class Prior:
         raise NotImplementedError
 
 
+_REPR = reprlib.Repr()
+_REPR.maxlevel, _REPR.maxlist, _REPR.maxdict, _REPR.maxstring, _REPR.maxother = 2, 6, 4, 40, 40
+#: A user's value as messages show it: nested and long values cut short (a config can hold megabytes).
+_short = _REPR.repr
+
+
 def _finite(*values):
+    hints = [h for h in map(number_as_text, values) if h]
+    if hints:
+        raise ValueError(f"all arguments must be finite numbers; {hints[0]}")
     if not all(isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v) for v in values):
         raise ValueError("all arguments must be finite numbers")
 
@@ -293,15 +305,15 @@ def make_prior(spec):
     """
     forms = "a number (fixed) or one of " + ", ".join(f"{{{k}: [{n} numbers]}}" for k, (_, n) in PRIOR_KINDS.items())
     if isinstance(spec, bool):
-        raise ValueError(f"expected {forms}, got {spec!r}")
+        raise ValueError(f"expected {forms}, got {_short(spec)}")
     if isinstance(spec, (int, float)):
         return Fixed(spec)
     if not isinstance(spec, dict) or len(spec) != 1:
-        raise ValueError(f"expected {forms}, got {spec!r}")
+        raise ValueError(f"expected {forms}, got {_short(spec)}")
     ((kind, args),) = spec.items()
     if kind not in PRIOR_KINDS:
-        raise ValueError(f"unknown prior '{kind}'; expected {forms}")
+        raise ValueError(f"unknown prior {_short(kind)}; expected {forms}")
     cls, nargs = PRIOR_KINDS[kind]
     if not isinstance(args, (list, tuple)) or len(args) != nargs:
-        raise ValueError(f"'{kind}' takes a list of {nargs} numbers, got {args!r}")
+        raise ValueError(f"{_short(kind)} takes a list of {nargs} numbers, got {_short(args)}")
     return cls(*args)
