@@ -96,6 +96,18 @@ _REPR.maxlevel, _REPR.maxlist, _REPR.maxdict, _REPR.maxstring, _REPR.maxother = 
 _short = _REPR.repr
 
 
+def _texts(scale, *values):
+    """``values`` as text with at least 6 significant digits, and enough to show ``scale`` (a width) to two.
+
+    ``U(2460412.05, 2460412.25)``, not ``U(2.46e+06, 2.46e+06)``.
+    """
+    largest = max((abs(v) for v in values if v), default=1.0)
+    digits = 6
+    if scale > 0 and math.isfinite(scale):
+        digits = max(digits, math.floor(math.log10(largest)) - math.floor(math.log10(scale)) + 2)
+    return [f"{v:.{digits}g}" for v in values]
+
+
 def _finite(*values):
     hints = [h for h in map(number_as_text, values) if h]
     if hints:
@@ -124,7 +136,7 @@ class Fixed(Prior):
         return (self.value, self.value)
 
     def describe(self):
-        return f"fixed {self.value:g}"
+        return f"fixed {self.value:.15g}"
 
     def from_unit(self, u):
         return np.full(np.shape(u), self.value) if np.ndim(u) else self.value
@@ -154,7 +166,7 @@ class Uniform(Prior):
         return (self.lo, self.hi)
 
     def describe(self):
-        return f"U({self.lo:g}, {self.hi:g})"
+        return "U({}, {})".format(*_texts(self.hi - self.lo, self.lo, self.hi))
 
     def from_unit(self, u):
         return self.lo + np.asarray(u) * (self.hi - self.lo)
@@ -185,7 +197,7 @@ class LogUniform(Prior):
         return (self.lo, self.hi)
 
     def describe(self):
-        return f"logU({self.lo:g}, {self.hi:g})"
+        return "logU({}, {})".format(*_texts(self.hi - self.lo, self.lo, self.hi))
 
     def from_unit(self, u):
         return np.exp(self._ylo + np.asarray(u) * (self._yhi - self._ylo))
@@ -223,7 +235,7 @@ class Normal(Prior):
         return rng.normal(self.mean, self.sd, size)
 
     def describe(self):
-        return f"N({self.mean:g}, {self.sd:g})"
+        return "N({}, {})".format(*_texts(self.sd, self.mean, self.sd))
 
     @property
     def span(self):
@@ -266,7 +278,9 @@ class TruncNormal(Prior):
         return (self.lo, self.hi)
 
     def describe(self):
-        return f"N({self.mean:g}, {self.sd:g}) in [{self.lo:g}, {self.hi:g}]"
+        return "N({}, {}) in [{}, {}]".format(
+            *_texts(min(self.sd, self.hi - self.lo), self.mean, self.sd, self.lo, self.hi)
+        )
 
     def from_unit(self, u):
         lo, hi = special.ndtr(self._a), special.ndtr(self._b)
