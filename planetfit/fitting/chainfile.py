@@ -14,6 +14,7 @@ import time
 import emcee
 import h5py
 import numpy as np
+from emcee.ensemble import walkers_independent
 
 from planetfit.core.errors import InputError
 from planetfit.fitting.modes import Mode
@@ -177,7 +178,23 @@ def check_resumable(h5_path, ndim, walkers):
             fix="resume with the config that started the run (sampling.walkers and the free "
             "parameters must not change), or " + _RESUME_FIX,
         )
+    if steps > 0:
+        _check_last_step(h5_path)
     return steps
+
+
+def _check_last_step(h5_path):
+    """Raise if the saved chain's last step cannot start the walkers again (zeroed, or walkers not independent)."""
+    backend = emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True)
+    last = backend.get_last_sample()
+    if not np.all(np.isfinite(last.coords)) or not walkers_independent(last.coords):
+        raise InputError(
+            f"the last saved step ({backend.iteration}) of the chain is damaged: its walkers' positions are not "
+            "finite or not independent of each other (a step zeroed or written twice), so sampling cannot go on "
+            "from it.",
+            file=h5_path,
+            fix=_RESUME_FIX,
+        )
 
 
 def write_facts(h5_path, names, facts, history):
