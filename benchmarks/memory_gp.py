@@ -36,7 +36,8 @@ from astropy.io import fits
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 
-from synthetic import BTJD, STAR, light_curve, planet_truth, radial_velocity  # noqa: E402
+from gp_two_sectors import two_sector_config  # noqa: E402 (beside this script)
+from synthetic import BTJD, light_curve, planet_truth, radial_velocity  # noqa: E402
 
 from planetfit.core.units import PPM  # noqa: E402
 from planetfit.demo.generate import quasi_periodic, sector_times  # noqa: E402
@@ -86,46 +87,25 @@ def write(folder, max_steps, seed=7):
         header="bjd rv err",
         comments="",
     )
-    p = PLANET
-    config = {
-        "system": "Two-sector-GP",
-        "seed": seed,
-        "output": "run",
-        "star": {
-            "mass_msun": {"normal": [STAR["mass_msun"], 0.03]},
-            "radius_rsun": {"normal": [STAR["radius_rsun"], 0.02]},
-            "teff_k": {"normal": [5400, 80]},
-        },
-        "planets": {
-            "b": {
-                "period_days": {"uniform": [p["period_days"] - 0.005, p["period_days"] + 0.005]},
-                "transit_bjd": {"uniform": [p["transit_bjd"] - 0.03, p["transit_bjd"] + 0.03]},
-                "radius_ratio": {"uniform": [0.005, 0.1]},
-                "impact": {"uniform": [0.0, 1.0]},
-                "rv_amplitude_ms": {"uniform": [0.0, 20.0]},
-            }
-        },
-        "photometry": [
-            {
-                "name": "cam",
-                "file": files,
-                "columns": {"time": "TIME", "flux": "PDCSAP_FLUX", "error": "PDCSAP_FLUX_ERR"},
-                "quality_column": "QUALITY",
-                "exposure_min": 2.0,
-                "baseline": "gp",
-            }
-        ],
-        "velocities": [
-            {
-                "name": "spec",
-                "file": "rv.txt",
-                "columns": {"time": "bjd", "rv": "rv", "error": "err"},
-                "offset_ms": {"uniform": [-30, 30]},
-                "jitter_ms": {"loguniform": [0.01, 10]},
-            }
-        ],
-        "sampling": {"walkers": WALKERS, "max_steps": max_steps, "check_every": 20, "optimiser_starts": 1},
+    photometry = {
+        "name": "cam",
+        "file": files,
+        "columns": {"time": "TIME", "flux": "PDCSAP_FLUX", "error": "PDCSAP_FLUX_ERR"},
+        "quality_column": "QUALITY",
+        "exposure_min": 2.0,
+        "baseline": "gp",
     }
+    sampling = {"walkers": WALKERS, "max_steps": max_steps, "check_every": 20, "optimiser_starts": 1}
+    config = two_sector_config("Two-sector-GP", seed, PLANET, photometry, sampling)
+    config["velocities"] = [
+        {
+            "name": "spec",
+            "file": "rv.txt",
+            "columns": {"time": "bjd", "rv": "rv", "error": "err"},
+            "offset_ms": {"uniform": [-30, 30]},
+            "jitter_ms": {"loguniform": [0.01, 10]},
+        }
+    ]
     (folder / "config.yaml").write_text(yaml.safe_dump(config, sort_keys=False))
     return folder / "config.yaml", points
 

@@ -18,13 +18,12 @@ import time
 import h5py
 import pytest
 import yaml
-from rv_models import K_MS, PERIOD, TC, circular, rv_data, write_rv_model
-from synthetic import planet_truth, write_tiny_system
+from rv_models import interrupted_nested_run
+from synthetic import write_tiny_system
 
 from planetfit import pipeline
 from planetfit.cli import main
 from planetfit.fitting import chainfile, mcmc, nested
-from planetfit.fitting.posterior import JointPosterior
 
 TIME_LIMIT_S = 60
 
@@ -52,20 +51,7 @@ class _WritesAFile:
 
 
 def test_a_planted_checkpoint_pickle_is_never_unpickled(tmp_path, monkeypatch):
-    t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
-    config = write_rv_model(tmp_path, t, rv, {"b": circular()}, live_points=60)
-    monkeypatch.setattr(nested, "CHECKPOINT_SECONDS", 0.0)
-    calls, original = [0], JointPosterior.log_likelihood_many
-
-    def interrupted(self, thetas):
-        calls[0] += 1
-        if calls[0] > 300:
-            raise KeyboardInterrupt
-        return original(self, thetas)
-
-    monkeypatch.setattr(JointPosterior, "log_likelihood_many", interrupted)
-    with pytest.raises(KeyboardInterrupt):
-        pipeline.run(config, quiet=True, figures=False)
+    config, _, _ = interrupted_nested_run(tmp_path, monkeypatch, live_points=60, after_calls=300)
     checkpoint = tmp_path / "run" / nested.CHECKPOINT
     assert checkpoint.read_bytes().startswith(b"planetfit-hmac-sha256 ")  # the real one is signed
     target = tmp_path / "pwned.txt"
