@@ -55,7 +55,10 @@ def _check_destination(path):
         raise InputError("--out names a folder.", file=path, key="--out", fix="give a file name, e.g. --out DIR/x.csv.")
     if not path.parent.is_dir():
         raise InputError(
-            "the folder of --out does not exist.", file=path.parent, key="--out", fix="create it first, or give another."
+            "the folder of --out does not exist.",
+            file=path.parent,
+            key="--out",
+            fix="create it first, or give another.",
         )
 
 

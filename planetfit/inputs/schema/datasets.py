@@ -169,8 +169,7 @@ class Photometry(Dataset):
             fail(
                 f"{n} sub-exposures per exposure take {8 * n / 2**30:.3g} GiB per data point at every model "
                 f"evaluation ({8 * n / 2**30 * 1000:.3g} GiB for a thousand points).",
-                f"give at most {MAX_SUPERSAMPLE} (30 sub-exposures integrate a 30-min exposure to well below "
-                "typical errors), or remove 'supersample' to have it chosen.",
+                f"give at most {MAX_SUPERSAMPLE}, or remove 'supersample' to have it chosen for the data's errors.",
                 key="supersample",
             )
         return self
