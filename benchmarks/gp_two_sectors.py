@@ -33,6 +33,33 @@ PLANET = planet_truth(5.3, 2460001.7, 0.0, radius_ratio=0.03, impact=0.2)
 NOISE_PPM = 600.0
 
 
+def two_sector_config(system, seed, planet, photometry, sampling):
+    """The config of a two-sector GP fit: the synthetic star, ``planet`` (truth; its K fixed at 0 when 0), one
+    photometry block and the sampling settings (two optimiser starts unless given)."""
+    p = planet
+    return {
+        "system": system,
+        "seed": seed,
+        "output": "run",
+        "star": {
+            "mass_msun": {"normal": [STAR["mass_msun"], 0.03]},
+            "radius_rsun": {"normal": [STAR["radius_rsun"], 0.02]},
+            "teff_k": {"normal": [5400, 80]},
+        },
+        "planets": {
+            "b": {
+                "period_days": {"uniform": [p["period_days"] - 0.005, p["period_days"] + 0.005]},
+                "transit_bjd": {"uniform": [p["transit_bjd"] - 0.03, p["transit_bjd"] + 0.03]},
+                "radius_ratio": {"uniform": [0.005, 0.1]},
+                "impact": {"uniform": [0.0, 1.0]},
+                "rv_amplitude_ms": {"uniform": [0.0, 20.0]} if p["rv_amplitude_ms"] else 0.0,
+            }
+        },
+        "photometry": [photometry],
+        "sampling": {"optimiser_starts": 2, **sampling},
+    }
+
+
 def write(folder, seed=7, max_steps=6000):
     rng = np.random.default_rng(seed)
     t = np.concatenate([sector_times(2460000.0, 27.0, 2.0), sector_times(2460027.9, 27.0, 2.0)])
@@ -49,38 +76,18 @@ def write(folder, seed=7, max_steps=6000):
         comments="",
         fmt="%.8f",
     )
-    p = PLANET
-    config = {
-        "system": "Two-sector",
-        "seed": seed,
-        "output": "run",
-        "star": {
-            "mass_msun": {"normal": [STAR["mass_msun"], 0.03]},
-            "radius_rsun": {"normal": [STAR["radius_rsun"], 0.02]},
-            "teff_k": {"normal": [5400, 80]},
-        },
-        "planets": {
-            "b": {
-                "period_days": {"uniform": [p["period_days"] - 0.005, p["period_days"] + 0.005]},
-                "transit_bjd": {"uniform": [p["transit_bjd"] - 0.03, p["transit_bjd"] + 0.03]},
-                "radius_ratio": {"uniform": [0.005, 0.1]},
-                "impact": {"uniform": [0.0, 1.0]},
-                "rv_amplitude_ms": 0.0,
-            }
-        },
-        "photometry": [
-            {
-                "name": "cam",
-                "file": "phot.csv",
-                "columns": {"time": "bjd", "flux": "flux", "error": "flux_err"},
-                "exposure_min": 2.0,
-                "baseline": "gp",
-                "limb_darkening_q1": {"truncnormal": [0.42, 0.1, 0.0, 1.0]},
-                "limb_darkening_q2": {"truncnormal": [0.34, 0.1, 0.0, 1.0]},
-            }
-        ],
-        "sampling": {"walkers": 32, "max_steps": max_steps, "check_every": 200, "optimiser_starts": 2},
+    photometry = {
+        "name": "cam",
+        "file": "phot.csv",
+        "columns": {"time": "bjd", "flux": "flux", "error": "flux_err"},
+        "exposure_min": 2.0,
+        "baseline": "gp",
+        "limb_darkening_q1": {"truncnormal": [0.42, 0.1, 0.0, 1.0]},
+        "limb_darkening_q2": {"truncnormal": [0.34, 0.1, 0.0, 1.0]},
     }
+    config = two_sector_config(
+        "Two-sector", seed, PLANET, photometry, {"walkers": 32, "max_steps": max_steps, "check_every": 200}
+    )
     (folder / "config.yaml").write_text(yaml.safe_dump(config, sort_keys=False))
     return folder / "config.yaml", t.size
 

@@ -27,7 +27,10 @@ demo
     per sampler, ``gain_vs_de_only``).
 memory
     Peak resident memory of a short fit of ten 2-min sectors (~190,000
-    points), in a fresh process.
+    points), in a fresh process; and (``whole_run_gp``, :mod:`memory_gp`) of a
+    whole run, figures and report included, of two 2-min sectors (34,344
+    points, ``baseline: gp``) and 40 RVs, then of its redraw facing 432,000
+    kept samples (goal: under 2 GB).
 hot_giant
     The hot-giant example's evaluation cost (transit, eclipse, phase curve,
     RVs) over batman's kernels on the same points (``planet_light_speed.py``).
@@ -46,6 +49,7 @@ import time
 from pathlib import Path
 
 import batman
+import memory_gp  # beside this script
 import numpy as np
 import yaml
 from batman import _quadratic_ld, _rsky
@@ -494,6 +498,7 @@ def main():
             report["demo"] = demo_figures(args.cores)
         if "memory" in args.sections:
             report["memory"] = memory_figures(folder / "memory", args.memory_steps)
+            report["memory"]["whole_run_gp"] = memory_gp.memory_figures()
         if "hot-giant" in args.sections:
             from planet_light_speed import hot_giant_figures  # beside this script
 

@@ -139,6 +139,18 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
     return run_dir
 
 
+def saved_progress(config_path, output=None):
+    """What an interrupted run of ``config_path`` left to resume (text), or None if nothing was sampled yet."""
+    try:
+        run_dir = load_config(config_path, output=output).output
+    except (InputError, OSError):
+        return None
+    if (run_dir / CHECKPOINT).exists():
+        return f"the nested-sampling checkpoint {CHECKPOINT}"
+    steps = chainfile.saved_steps(run_dir / "samples.h5")
+    return f"{steps} steps in samples.h5" if steps else None
+
+
 def _sample(checked, run_dir, rng, cores, quiet, resume):
     """Sample the posterior with the config's method into ``run_dir/samples.h5``; return (samples, facts)."""
     post, settings, h5 = checked.posterior, checked.config.sampling, run_dir / "samples.h5"

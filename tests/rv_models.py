@@ -1,7 +1,8 @@
 """RV-only systems with a known ephemeris, fitted by nested sampling in seconds (evidence and model comparison)."""
 
 import numpy as np
-from synthetic import radial_velocity, write_config, write_velocities
+import pytest
+from synthetic import planet_truth, radial_velocity, write_config, write_velocities
 
 T_START, SPAN_DAYS, N_RV, SIGMA_MS = 2460000.0, 40.0, 30, 2.0
 PERIOD, TC, K_MS, OFFSET_MS = 5.0, 2460001.3, 10.0, 4.0
@@ -58,3 +59,28 @@ def second_planet():
         "transit_bjd": {"uniform": [T_START, T_START + 30]},
         "rv_amplitude_ms": {"uniform": [0, 20]},
     }
+
+
+def interrupted_nested_run(folder, monkeypatch, live_points, after_calls):
+    """Start a nested fit of planet b (RV seed 4) with a checkpoint at every iteration, and stop it by a
+    KeyboardInterrupt after ``after_calls`` likelihood calls. Returns (config path, times, RVs)."""
+    from planetfit import pipeline
+    from planetfit.fitting import nested
+    from planetfit.fitting.posterior import JointPosterior
+
+    t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
+    config = write_rv_model(folder, t, rv, {"b": circular()}, live_points=live_points)
+    monkeypatch.setattr(nested, "CHECKPOINT_SECONDS", 0.0)
+    calls, original = [0], JointPosterior.log_likelihood_many
+
+    def interrupted(self, thetas):
+        calls[0] += 1
+        if calls[0] > after_calls:
+            raise KeyboardInterrupt
+        return original(self, thetas)
+
+    monkeypatch.setattr(JointPosterior, "log_likelihood_many", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        pipeline.run(config, quiet=True, figures=False)
+    monkeypatch.setattr(JointPosterior, "log_likelihood_many", original)
+    return config, t, rv

@@ -23,7 +23,13 @@ def _resume_hint(args):
     out = f" --out {args.out}" if args.out else ""
     example = f" --example {args.example}" if getattr(args, "example", None) else ""
     target = f"run {args.config}" if args.command == "run" else f"demo{example}"
-    return f"the chain is saved in samples.h5 up to the last step; continue with 'planetfit {target} --resume{out}'."
+    from planetfit.pipeline import saved_progress
+
+    config = getattr(args, "config_used", None) or getattr(args, "config", None)
+    saved = saved_progress(config, args.out) if config is not None else None
+    if saved is None:
+        return f"nothing was sampled yet, so nothing is saved; start again with 'planetfit {target}{out} --force'."
+    return f"{saved} hold the sampling so far; continue with 'planetfit {target} --resume{out}'."
 
 
 #: The process that runs ``main``; forked workers have other ids.

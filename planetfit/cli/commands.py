@@ -41,6 +41,7 @@ def run(args, config=None):
     from planetfit import pipeline
 
     config = args.config if config is None else config
+    args.config_used = config  # for the resume hint after Ctrl-C
     if args.cores < 1:
         raise InputError(f"--cores must be at least 1, got {args.cores}.", fix="use e.g. --cores 2.")
     run_dir = pipeline.run(

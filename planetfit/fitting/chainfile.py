@@ -14,6 +14,7 @@ import time
 import emcee
 import h5py
 import numpy as np
+from emcee.ensemble import walkers_independent
 
 from planetfit.core.errors import InputError
 from planetfit.fitting.modes import Mode
@@ -22,6 +23,8 @@ from planetfit.fitting.proposal import FittedProposal
 #: The chain's group (emcee's) and planetfit's group in samples.h5.
 CHAIN_GROUP, FACTS_GROUP, MODES_GROUP = "chain", "planetfit", "modes"
 NESTED_GROUP, PROPOSAL_GROUP = "nested", "proposal"
+#: Attribute of the chain group: seconds the run has taken so far, over all its segments.
+SECONDS_ATTR = "planetfit_seconds"
 _RESUME_FIX = (
     "move samples.h5 away (it is never overwritten silently) and run again, or use --force to start a new "
     "fit in this folder."
@@ -47,9 +50,24 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
         self._last_flush = time.monotonic()
         self._positions = None  # (capacity, walkers, ndim) copy of the chain ...
         self._stored = 0  # ... filled up to here (counted here: reading the file's count opens it)
+        self._opened, self._seconds_before = time.monotonic(), self._saved_seconds()
+
+    def _saved_seconds(self):
+        """Seconds of sampling the file records from earlier segments of the run (0 for a new file)."""
+        try:
+            with h5py.File(self.filename, "r") as fh:
+                return float(fh[self.name].attrs.get(SECONDS_ATTR, 0.0))
+        except (OSError, KeyError):
+            return 0.0
+
+    @property
+    def seconds(self):
+        """Seconds of the run in all its segments: earlier ones (before a --resume) and this one."""
+        return self._seconds_before + time.monotonic() - self._opened
 
     def reset(self, nwalkers, ndim):
         self._pending = []
+        self._seconds_before = 0.0
         self._positions, self._stored = np.empty((0, nwalkers, ndim)), 0
         super().reset(nwalkers, ndim)
 
@@ -83,6 +101,7 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
             g["accepted"][:] += np.sum(accepted, axis=0)
             for i, v in enumerate(self._pending[-1][3]):
                 g.attrs[f"random_state_{i}"] = v
+            g.attrs[SECONDS_ATTR] = self.seconds
             g.attrs["iteration"] = first + len(coords)
         self._pending = []
 
@@ -114,6 +133,15 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
 def open_chain(h5_path):
     """The chain file for writing and resuming."""
     return BufferedHDFBackend(str(h5_path), name=CHAIN_GROUP)
+
+
+def saved_steps(h5_path):
+    """Steps of the chain saved in ``h5_path`` (0 if there is no file or no chain in it)."""
+    try:
+        with h5py.File(h5_path, "r") as fh:
+            return int(fh[CHAIN_GROUP].attrs["iteration"])
+    except (OSError, KeyError, ValueError):
+        return 0
 
 
 def check_resumable(h5_path, ndim, walkers):
@@ -150,7 +178,23 @@ def check_resumable(h5_path, ndim, walkers):
             fix="resume with the config that started the run (sampling.walkers and the free "
             "parameters must not change), or " + _RESUME_FIX,
         )
+    if steps > 0:
+        _check_last_step(h5_path)
     return steps
+
+
+def _check_last_step(h5_path):
+    """Raise if the saved chain's last step cannot start the walkers again (zeroed, or walkers not independent)."""
+    backend = emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True)
+    last = backend.get_last_sample()
+    if not np.all(np.isfinite(last.coords)) or not walkers_independent(last.coords):
+        raise InputError(
+            f"the last saved step ({backend.iteration}) of the chain is damaged: its walkers' positions are not "
+            "finite or not independent of each other (a step zeroed or written twice), so sampling cannot go on "
+            "from it.",
+            file=h5_path,
+            fix=_RESUME_FIX,
+        )
 
 
 def write_facts(h5_path, names, facts, history):

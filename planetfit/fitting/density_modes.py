@@ -15,6 +15,50 @@ from scipy import ndimage, signal
 VALLEY_RATIO = 0.1
 MIN_SAMPLE_FRACTION = 0.02  # a mode of one parameter's samples holds at least this fraction of them
 MIN_SAMPLES = 50  # fewest (effective) samples for the density test
+#: A mode whose median lies within this many kernel bandwidths of a prior bound is a pile-up against the bound
+#: (the posterior reaching the prior's edge, or walkers sticking there), not a separate mode.
+EDGE_BANDWIDTHS = 2.0
+
+
+#: Unit text of a parameter from the end of its name.
+_UNITS = {"days": " d", "bjd": " BJD_TDB", "ms": " m/s", "ppm": " ppm", "msun": " M_sun", "rsun": " R_sun"}
+
+
+def value_text(name, value, sd):
+    """``value`` with two significant digits of ``sd`` and the unit its name carries."""
+    places = max(0, 1 - math.floor(math.log10(sd))) if sd > 0 and math.isfinite(sd) else 4
+    return f"{value:.{places}f}{_UNITS.get(name.rsplit('_', 1)[-1], '')}"
+
+
+@dataclasses.dataclass
+class BoundaryPile:
+    """Samples of parameter ``name`` piled up against its prior's bound: reported, not counted as a mode.
+
+    ``bound`` and ``median`` are sampler coordinates (``prior`` converts them). Like a mode group it has a
+    warning, no summary.json mode entries, and it never holds back convergence.
+    """
+
+    name: str
+    prior: object
+    bound: float
+    fraction: float
+    median: float
+    mixed = True
+
+    def warning(self):
+        """The sentence: the parameter, the bound, how many samples pile up there and how close."""
+        bound, median = (float(self.prior.from_sampler(v)) for v in (self.bound, self.median))
+        distance = abs(median - bound)
+        return (
+            f"{self.name}: {100 * self.fraction:.1f}% of the samples pile up against its prior bound "
+            f"{bound:.10g} (median {value_text(self.name, median, distance)}); they are "
+            "counted with the posterior beside them, not as a separate mode. The posterior reaches the edge of the "
+            "prior there, or walkers stick against it: if the bound is not a physical limit, widen the prior"
+        )
+
+    def entries(self):
+        """No summary.json mode entries: a pile-up is not a mode."""
+        return []
 
 
 @dataclasses.dataclass
@@ -24,6 +68,7 @@ class SampleModes:
     locations: np.ndarray
     splits: np.ndarray
     fractions: np.ndarray
+    piles: tuple = ()  # (bound, fraction, median) of each pile-up against a prior bound, counted with its neighbour
 
     def label(self, x):
         """Index of the mode of each value."""
@@ -53,7 +98,26 @@ def _merge_peaks(density, mass, peaks):
     return peaks, [], np.ones(1)
 
 
-def sample_modes(x, weights=None):
+def _boundary_piles(x, w, splits, masses, bounds, h):
+    """Fold an end mode whose median lies within EDGE_BANDWIDTHS h of a prior bound into its neighbour.
+
+    Returns the remaining splits and fractions and the piles, (bound, fraction, median) each.
+    """
+    splits, masses, piles = list(splits), list(masses), []
+    for end in (0, -1):
+        while splits:
+            inside = x <= splits[0] if end == 0 else x > splits[-1]
+            median = _weighted_quantiles(x[inside], w[inside], [0.5])[0]
+            if not abs(median - bounds[end]) <= EDGE_BANDWIDTHS * h:
+                break
+            piles.append((float(bounds[end]), float(masses[end]), float(median)))
+            splits.pop(end)
+            merged = masses.pop(end)
+            masses[end] += merged
+    return np.array(splits), np.array(masses), tuple(piles)
+
+
+def sample_modes(x, weights=None, bounds=(-math.inf, math.inf)):
     """Separated modes in the samples of one parameter: a kernel-density valley test.
 
     The density is a Gaussian kernel estimate (binned) with Silverman's
@@ -70,6 +134,10 @@ def sample_modes(x, weights=None):
     weights : ndarray, optional
         Sample weights (e.g. nested sampling's importance weights); the
         effective number of samples is (sum w)^2 / sum w^2.
+    bounds : (float, float)
+        The prior's support: an end mode piled up against a bound (its
+        median within :data:`EDGE_BANDWIDTHS` bandwidths of it) is counted
+        with its neighbour and listed in ``piles``.
 
     Returns
     -------
@@ -95,7 +163,9 @@ def sample_modes(x, weights=None):
     peaks, valleys, masses = _merge_peaks(density, mass, peaks)
     if len(peaks) < 2:
         return single
-    splits = 0.5 * (edges[1:] + edges[:-1])[valleys]
+    splits, masses, piles = _boundary_piles(x, w, 0.5 * (edges[1:] + edges[:-1])[valleys], masses, bounds, h)
+    if not splits.size:
+        return dataclasses.replace(single, piles=piles)
     labels = np.searchsorted(splits, x)
-    medians = [_weighted_quantiles(x[labels == k], w[labels == k], [0.5])[0] for k in range(len(peaks))]
-    return SampleModes(np.array(medians), splits, masses)
+    medians = [_weighted_quantiles(x[labels == k], w[labels == k], [0.5])[0] for k in range(splits.size + 1)]
+    return SampleModes(np.array(medians), splits, masses, piles)

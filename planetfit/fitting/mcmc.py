@@ -32,7 +32,6 @@ evolution with an independence move drawing from that fixed proposal
 
 import dataclasses
 import logging
-import time
 
 import emcee
 import numpy as np
@@ -153,8 +152,7 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
         log.warning(
             "walkers raised to %d: emcee needs at least twice the number of free parameters (%d)", nwalkers, ndim
         )
-    backend = open_chain(h5_path)
-    start = time.perf_counter()
+    backend = open_chain(h5_path)  # its clock counts the seconds of every segment of the run
     # One log-probability is too small a job for a threaded BLAS: its threads only contend with the
     # walkers' processes and other programs for the cores (6x slower evaluations on a loaded 2-core machine).
     with threadpool_limits(limits=1), WorkerProcesses(log_prob, cores) as workers:
@@ -174,7 +172,7 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
             converged, history = _sample(sampler, backend, initial, settings, rng, progress)
         finally:  # also on Ctrl-C: every step taken is saved for --resume
             backend.flush()
-    result = _result(backend, settings, nwalkers, converged, history, time.perf_counter() - start, modes, layout)
+    result = _result(backend, settings, nwalkers, converged, history, backend.seconds, modes, layout)
     result.moves, result.burn_in_steps = ("fitted_proposal" if proposal else "differential_evolution"), burn_in
     return result
 

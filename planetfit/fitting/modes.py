@@ -22,7 +22,7 @@ import math
 
 import numpy as np
 
-from planetfit.fitting.density_modes import sample_modes
+from planetfit.fitting.density_modes import BoundaryPile, sample_modes, value_text
 from planetfit.fitting.laplace import laplace_covariance, log_evidence
 
 #: Two optima are distinct when some parameter differs by more than this many Laplace widths (sd).
@@ -139,16 +139,6 @@ def assign(points, modes, parameters):
     return np.argmin(distances, axis=0)
 
 
-#: Unit text of a parameter from the end of its name.
-_UNITS = {"days": " d", "bjd": " BJD_TDB", "ms": " m/s", "ppm": " ppm", "msun": " M_sun", "rsun": " R_sun"}
-
-
-def _value_text(name, value, sd):
-    """``value`` with two significant digits of ``sd`` and the unit its name carries."""
-    places = max(0, 1 - math.floor(math.log10(sd))) if sd > 0 and math.isfinite(sd) else 4
-    return f"{value:.{places}f}{_UNITS.get(name.rsplit('_', 1)[-1], '')}"
-
-
 def _moves(labels, k=None):
     """Walker moves from one step to the next between labels (those into or out of ``k`` if given)."""
     change = labels[1:] != labels[:-1]
@@ -191,7 +181,7 @@ class ModeGroup:
         """The sentence naming the parameters, each mode's location, height and fraction, and the mixing."""
         name = self.names[0]
         listed = [
-            f"{_value_text(name, x, sd)} (ln p {lp:.1f}, {100 * f:.0f}%{' of samples' if i == 0 else ''})"
+            f"{value_text(name, x, sd)} (ln p {lp:.1f}, {100 * f:.0f}%{' of samples' if i == 0 else ''})"
             for i, (x, sd, lp, f) in enumerate(zip(self.locations, self.sds, self.log_probs, self.fractions))
         ]
         text = f"{name} has {len(listed)} separated modes"
@@ -275,8 +265,10 @@ def _sample_group(chain, log_prob, thin, labels, k, params, split, layout):
     )
 
 
-def _partitions(samples, weights=None):
+def _partitions(samples, layout, weights=None, piles=None):
     """Separated modes of single parameters, parameters whose modes split the samples alike taken together.
+
+    Pile-ups against a prior bound are not modes: they go into ``piles`` (a list) as :class:`BoundaryPile`.
 
     Returns
     -------
@@ -284,8 +276,11 @@ def _partitions(samples, weights=None):
         The parameters of each partition (the first the one whose modes are given) and its modes.
     """
     found = []  # (parameter indices, SampleModes of the first, its labels of the samples)
-    for j in range(samples.shape[-1]):
-        split = sample_modes(samples[:, j], weights)
+    for j, name in enumerate(layout.free):
+        prior = layout.priors[name]
+        split = sample_modes(samples[:, j], weights, bounds=prior.to_sampler(np.array(prior.bounds, dtype=float)))
+        if piles is not None:
+            piles += [BoundaryPile(name, prior, *pile) for pile in split.piles]
         if split.splits.size:
             own = split.label(samples[:, j])
             same = [f for f in found if _same_partition(f[2], own)]
@@ -300,11 +295,11 @@ def _sample_groups(chain, log_prob, thin, labels, layout):
     """Modes of single parameters within each of the optimiser's modes: the groups the optimiser did not find."""
     samples = chain[thin - 1 :: thin].reshape(-1, chain.shape[-1])
     flat_labels = labels[thin - 1 :: thin].ravel()
-    groups = []
+    groups, piles = [], []
     for k in np.unique(flat_labels):
-        found = _partitions(samples[flat_labels == k])
+        found = _partitions(samples[flat_labels == k], layout, piles=piles)
         groups += [_sample_group(chain, log_prob, thin, labels, k, params, split, layout) for params, split in found]
-    return groups
+    return groups + piles
 
 
 def describe_weighted(samples, weights, log_prob, layout):
@@ -329,8 +324,8 @@ def describe_weighted(samples, weights, log_prob, layout):
     list of ModeGroup
     """
     weights = np.asarray(weights, dtype=float) / np.sum(weights)
-    groups = []
-    for params, split in _partitions(samples, weights):
+    groups, piles = [], []
+    for params, split in _partitions(samples, layout, weights, piles):
         j, prior = params[0], layout.priors[layout.free[params[0]]]
         labels, values = split.label(samples[:, j]), prior.from_sampler(samples[:, j])
         fractions = [float(np.sum(weights[labels == m])) for m in range(split.locations.size)]
@@ -349,7 +344,7 @@ def describe_weighted(samples, weights, log_prob, layout):
                 found_by="nested",
             )
         )
-    return groups
+    return groups + piles
 
 
 def describe(chain, log_prob, thin, modes, layout):
@@ -368,9 +363,10 @@ def describe(chain, log_prob, thin, modes, layout):
 
     Returns
     -------
-    list of ModeGroup
+    list of ModeGroup and BoundaryPile
         The optimiser's modes first (when there are several), then modes
-        of single parameters found in the samples of any one of them.
+        of single parameters found in the samples of any one of them, then
+        pile-ups against a prior bound (reported, not modes).
     """
     if len(modes) > 1:
         group, labels = _optimiser_group(chain, thin, modes, layout)

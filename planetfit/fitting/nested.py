@@ -30,12 +30,13 @@ import numpy as np
 from threadpoolctl import threadpool_limits
 
 from planetfit.core.errors import InputError
+from planetfit.fitting import checkpoint as signed_checkpoint
 from planetfit.fitting import modes as mode_finding
 from planetfit.fitting.workers import WorkerProcesses
 
 log = logging.getLogger("planetfit")
 
-#: dynesty's checkpoint file in the run directory.
+#: dynesty's checkpoint file in the run directory (signed: :mod:`planetfit.fitting.checkpoint`).
 CHECKPOINT = "nested_checkpoint.pkl"
 #: Seconds between checkpoints.
 CHECKPOINT_SECONDS = 60.0
@@ -163,7 +164,7 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
                 sampler = _restore(checkpoint, pool, layout.ndim)
                 log.info("resuming nested sampling from iteration %d in %s", sampler.it, checkpoint)
             else:
-                sampler = _new_sampler(loglike, transform, layout.ndim, settings, rng, pool)
+                sampler = signed_checkpoint.attach(_new_sampler(loglike, transform, layout.ndim, settings, rng, pool))
             with warnings.catch_warnings():
                 warnings.filterwarnings("ignore", message="You are resuming a finished static run")
                 sampler.run_nested(
@@ -199,7 +200,9 @@ def _new_sampler(loglike, transform, ndim, settings, rng, pool):
 def _restore(checkpoint, pool, ndim):
     """The sampler saved in ``checkpoint``, checked to sample ``ndim`` parameters."""
     try:
-        sampler = dynesty.NestedSampler.restore(str(checkpoint), pool=pool)
+        sampler = signed_checkpoint.restore(checkpoint, pool)  # the signature is checked before unpickling
+    except InputError:
+        raise
     except Exception as exc:
         raise InputError(
             f"the nested-sampling checkpoint cannot be read ({exc}).",

@@ -100,7 +100,9 @@ def _largest_e_cos_w(p):
 
 def _running_median(times, flux, window_days):
     """Median of ``flux`` over about ``window_days`` around each point (regular cadence assumed)."""
-    cadence = np.median(np.diff(times)) if times.size > 1 else window_days
+    steps = np.diff(times)
+    steps = steps[steps > 0]  # repeated time stamps are kept (a file listed twice): they set no cadence
+    cadence = np.median(steps) if steps.size else window_days
     size = int(max(3, min(times.size, round(window_days / cadence))) // 2 * 2 + 1)
     return ndimage.median_filter(flux, size=size, mode="nearest")
 

@@ -164,7 +164,9 @@ def label_warning(cfg, path, label_columns, what):
 
 def _text_table(cfg, path, columns, what):
     """Columns of a text table (times in full JD of the dataset's system) and a label warning or None."""
-    table = read_table(path, columns, header=cfg.header, select=cfg.select, key_prefix=f"{cfg.section}.")
+    table = read_table(
+        path, columns, header=cfg.header, select=cfg.select, key_prefix=f"{cfg.section}.", max_mb=cfg.max_file_mb
+    )
     out = dict(table.columns)
     out["time"] = out["time"] + cfg.time_offset_days
     return out, (table.rows_read, table.rows_kept), label_warning(cfg, path, table.label_columns, what)
@@ -192,7 +194,7 @@ def _read_light_curve(cfg, path):
                 key=f"{cfg.section}.time_offset_days",
                 fix="remove 'time_offset_days' from this dataset.",
             )
-        table = read_fits_table(path, columns)
+        table = read_fits_table(path, columns, cfg.max_file_mb, f"{cfg.section}.")
         rows = (table["time"].size,) * 2
     else:
         table, rows, warning = _text_table(cfg, path, columns, "one flux level and one jitter")

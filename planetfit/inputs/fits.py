@@ -12,6 +12,7 @@ import numpy as np
 from astropy.io import fits
 
 from planetfit.core.errors import DATA_FILE_MISSING_FIX, InputError, reading
+from planetfit.inputs.files import MAX_TABLE_MB, check_readable, excerpt, excerpts
 
 #: File name endings read as FITS.
 FITS_SUFFIXES = (".fits", ".fit", ".fts", ".fits.gz", ".fit.gz")
@@ -72,7 +73,26 @@ def reference_bjd(headers, path):
     return float(integer), float(fraction)
 
 
-def read_fits_table(path, columns):
+def _column(hdu, name, path, key):
+    """One column of the table as floats; a vector column (several values per row) is refused."""
+    try:
+        values = np.array(hdu.data[name], dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(
+            f"column '{excerpt(name)}' does not hold numbers.", file=path, key=key, fix="name a numeric column."
+        ) from None
+    if values.ndim != 1:
+        raise InputError(
+            f"column '{excerpt(name)}' holds {int(np.prod(values.shape[1:]))} values per row (a vector column); "
+            "planetfit needs one.",
+            file=path,
+            key=key,
+            fix="name a column with one value per row, or write the wanted element into a table of its own.",
+        )
+    return values
+
+
+def read_fits_table(path, columns, max_mb=MAX_TABLE_MB, key_prefix=""):
     """Read the named columns of a FITS light curve.
 
     Parameters
@@ -81,12 +101,18 @@ def read_fits_table(path, columns):
     columns : dict
         Our name -> the table's column name (matched ignoring case). The
         ``time`` column is shifted by BJDREFI + BJDREFF to absolute BJD_TDB.
+    max_mb : float
+        Largest file read (:func:`planetfit.inputs.files.check_readable`).
+    key_prefix : str
+        The dataset's config key (``photometry[0].``), put before the keys messages name.
 
     Returns
     -------
     dict of ndarray
         Our name -> float array (NaN kept; the caller decides).
     """
+    lift = f"set '{key_prefix}max_file_mb' above the file's size to read it, or give a smaller file."
+    check_readable(path, "FITS file", max_mb, key=f"{key_prefix}file" if key_prefix else None, lift=lift)
     with reading(
         path,
         "FITS file",
@@ -103,12 +129,12 @@ def read_fits_table(path, columns):
         for ours, theirs in columns.items():
             if theirs.lower() not in names:
                 raise InputError(
-                    f"no column named '{theirs}' (for {ours}); the table has: {', '.join(hdu.columns.names)}.",
+                    f"no column named '{excerpt(theirs)}' (for {ours}); the table has: {excerpts(hdu.columns.names)}.",
                     file=path,
-                    key=f"columns.{ours}",
+                    key=f"{key_prefix}columns.{ours}",
                     fix=f"set 'columns: {{{ours}: <one of those names>}}' in the config.",
                 )
-            out[ours] = np.array(hdu.data[names[theirs.lower()]], dtype=float)
+            out[ours] = _column(hdu, names[theirs.lower()], path, f"{key_prefix}columns.{ours}")
     # Integer and fraction added separately keep sub-microsecond precision.
     out["time"] = (out["time"] + ref_frac) + ref_int
     return out

@@ -14,6 +14,7 @@ from pydantic import BaseModel
 from ..core.errors import InputError
 from .schema.base import TAG_PREFIX
 from .schema.fields import ERROR_TYPE
+from .yamlfile import number_as_text
 
 _SHORT = reprlib.Repr()
 _SHORT.maxlevel, _SHORT.maxlist, _SHORT.maxdict, _SHORT.maxstring = 2, 4, 4, 40
@@ -42,6 +43,10 @@ _TEMPLATES = {
         "write each entry under '{name}:' as '- ...'.",
     ),
 }
+
+
+#: Quoted YAML 1.1 booleans, and the value they were meant to be.
+_QUOTED_BOOLEANS = dict.fromkeys(("true", "yes", "on"), "true") | dict.fromkeys(("false", "no", "off"), "false")
 
 
 def dotted(loc):
@@ -148,6 +153,16 @@ def to_input_error(error, path, lines, raw, model):
         problem, fix = (t.format(value=value, name=name, limit=limit, choices=choices) for t in _TEMPLATES[kind])
         if kind == "missing":
             key, problem, fix = _missing(key, name, raw, problem, fix)
+        elif number_as_text(error.get("input")):
+            fix = number_as_text(error.get("input")) + "."
+        elif (
+            kind == "literal_error"
+            and {"True", "False"} & set(choices.replace(",", " ").split())
+            and str(error.get("input")).strip().lower() in _QUOTED_BOOLEANS
+        ):
+            word = _QUOTED_BOOLEANS[str(error["input"]).strip().lower()]
+            problem = f"{value} is text (it is quoted), not the value {word}."
+            fix = f"write '{name}: {word}' without quotes."
     return InputError(problem, file=path, key=key, line=_line(key, lines), fix=fix)
 
 

@@ -7,9 +7,12 @@ number is :class:`Fixed`). Construction validates the arguments and raises
 """
 
 import math
+import reprlib
 
 import numpy as np
 from scipy import special, stats
+
+from .yamlfile import number_as_text
 
 #: An unbounded normal prior's span: mean +- this many standard deviations.
 NORMAL_SPAN_SD = 3.0
@@ -87,7 +90,28 @@ class Prior:
         raise NotImplementedError
 
 
+_REPR = reprlib.Repr()
+_REPR.maxlevel, _REPR.maxlist, _REPR.maxdict, _REPR.maxstring, _REPR.maxother = 2, 6, 4, 40, 40
+#: A user's value as messages show it: nested and long values cut short (a config can hold megabytes).
+_short = _REPR.repr
+
+
+def _texts(scale, *values):
+    """``values`` as text with at least 6 significant digits, and enough to show ``scale`` (a width) to two.
+
+    ``U(2460412.05, 2460412.25)``, not ``U(2.46e+06, 2.46e+06)``.
+    """
+    largest = max((abs(v) for v in values if v), default=1.0)
+    digits = 6
+    if scale > 0 and math.isfinite(scale):
+        digits = max(digits, math.floor(math.log10(largest)) - math.floor(math.log10(scale)) + 2)
+    return [f"{v:.{digits}g}" for v in values]
+
+
 def _finite(*values):
+    hints = [h for h in map(number_as_text, values) if h]
+    if hints:
+        raise ValueError(f"all arguments must be finite numbers; {hints[0]}")
     if not all(isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v) for v in values):
         raise ValueError("all arguments must be finite numbers")
 
@@ -112,7 +136,7 @@ class Fixed(Prior):
         return (self.value, self.value)
 
     def describe(self):
-        return f"fixed {self.value:g}"
+        return f"fixed {self.value:.15g}"
 
     def from_unit(self, u):
         return np.full(np.shape(u), self.value) if np.ndim(u) else self.value
@@ -142,7 +166,7 @@ class Uniform(Prior):
         return (self.lo, self.hi)
 
     def describe(self):
-        return f"U({self.lo:g}, {self.hi:g})"
+        return "U({}, {})".format(*_texts(self.hi - self.lo, self.lo, self.hi))
 
     def from_unit(self, u):
         return self.lo + np.asarray(u) * (self.hi - self.lo)
@@ -173,7 +197,7 @@ class LogUniform(Prior):
         return (self.lo, self.hi)
 
     def describe(self):
-        return f"logU({self.lo:g}, {self.hi:g})"
+        return "logU({}, {})".format(*_texts(self.hi - self.lo, self.lo, self.hi))
 
     def from_unit(self, u):
         return np.exp(self._ylo + np.asarray(u) * (self._yhi - self._ylo))
@@ -211,7 +235,7 @@ class Normal(Prior):
         return rng.normal(self.mean, self.sd, size)
 
     def describe(self):
-        return f"N({self.mean:g}, {self.sd:g})"
+        return "N({}, {})".format(*_texts(self.sd, self.mean, self.sd))
 
     @property
     def span(self):
@@ -254,7 +278,9 @@ class TruncNormal(Prior):
         return (self.lo, self.hi)
 
     def describe(self):
-        return f"N({self.mean:g}, {self.sd:g}) in [{self.lo:g}, {self.hi:g}]"
+        return "N({}, {}) in [{}, {}]".format(
+            *_texts(min(self.sd, self.hi - self.lo), self.mean, self.sd, self.lo, self.hi)
+        )
 
     def from_unit(self, u):
         lo, hi = special.ndtr(self._a), special.ndtr(self._b)
@@ -293,15 +319,15 @@ def make_prior(spec):
     """
     forms = "a number (fixed) or one of " + ", ".join(f"{{{k}: [{n} numbers]}}" for k, (_, n) in PRIOR_KINDS.items())
     if isinstance(spec, bool):
-        raise ValueError(f"expected {forms}, got {spec!r}")
+        raise ValueError(f"expected {forms}, got {_short(spec)}")
     if isinstance(spec, (int, float)):
         return Fixed(spec)
     if not isinstance(spec, dict) or len(spec) != 1:
-        raise ValueError(f"expected {forms}, got {spec!r}")
+        raise ValueError(f"expected {forms}, got {_short(spec)}")
     ((kind, args),) = spec.items()
     if kind not in PRIOR_KINDS:
-        raise ValueError(f"unknown prior '{kind}'; expected {forms}")
+        raise ValueError(f"unknown prior {_short(kind)}; expected {forms}")
     cls, nargs = PRIOR_KINDS[kind]
     if not isinstance(args, (list, tuple)) or len(args) != nargs:
-        raise ValueError(f"'{kind}' takes a list of {nargs} numbers, got {args!r}")
+        raise ValueError(f"{_short(kind)} takes a list of {nargs} numbers, got {_short(args)}")
     return cls(*args)

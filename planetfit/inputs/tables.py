@@ -14,6 +14,7 @@ import dataclasses
 import numpy as np
 
 from planetfit.core.errors import DATA_FILE_MISSING_FIX, InputError, reading
+from planetfit.inputs.files import MAX_TABLE_MB, check_readable, excerpt, excerpts
 
 #: A text column with this many distinct values or fewer (and at least two) looks like a label column.
 MAX_LABEL_VALUES = 12
@@ -64,9 +65,18 @@ def _column_index(path, names, column, key, line, header):
                 fix=f"number the columns from 1 to {len(names)} (1 = the first field of a row).",
             )
         return column - 1
+    if column not in names and len(names) == 1:
+        raise InputError(
+            "the first line is a single field (no commas or spaces between columns): this is not a table with a "
+            f"header naming '{excerpt(column)}'.",
+            file=path,
+            line=line,
+            key=key,
+            fix="name a CSV or whitespace-separated table whose first line names its columns.",
+        )
     if column not in names:
         raise InputError(
-            f"no column named '{column}'; the header has: {', '.join(names)}.",
+            f"no column named '{excerpt(column)}'; the header has: {excerpts(names)}.",
             file=path,
             line=line,
             key=key,
@@ -75,9 +85,11 @@ def _column_index(path, names, column, key, line, header):
     return names.index(column)
 
 
-def _data_rows(path):
+def _data_rows(path, max_mb, key_prefix):
+    lift = f"set '{key_prefix}max_file_mb' above the file's size to read it, or give a smaller file."
+    check_readable(path, "data file", max_mb, key=f"{key_prefix}file" if key_prefix else None, lift=lift)
     with reading(path, "data file", DATA_FILE_MISSING_FIX, "give a readable CSV or whitespace-separated text file."):
-        text = path.read_text()
+        text = path.read_text(encoding="utf-8-sig")
     rows = [(n + 1, ln) for n, ln in enumerate(text.splitlines()) if ln.strip() and not ln.lstrip().startswith("#")]
     if not rows:
         raise InputError("the file is empty.", file=path, fix="give a table with data rows.")
@@ -100,7 +112,7 @@ def _header(path, rows, header):
     if not header:
         if not any(_is_number(c) for c in cells):
             raise InputError(
-                f"'header: false' is set, but the first line looks like column names ({first.strip()}).",
+                f"'header: false' is set, but the first line looks like column names ({excerpt(first.strip())}).",
                 file=path,
                 line=first_line,
                 fix="remove 'header: false' and name the columns by the header's names.",
@@ -161,12 +173,12 @@ def _check_selected(path, chosen, cells_by_row, names, census, key_prefix):
             continue
         present = census.get(names[j])
         holds = (
-            ", ".join(f"{k} ({n} rows)" for k, n in present.items())
+            ", ".join(f"{excerpt(k)} ({n} rows)" for k, n in present.items())
             if present
-            else ", ".join(sorted({cells[j] for cells in cells_by_row})[:MAX_LABEL_VALUES])
+            else excerpts(sorted({cells[j] for cells in cells_by_row})[:MAX_LABEL_VALUES])
         )
         raise InputError(
-            f"no row has '{v}' in column '{c}'; the column holds: {holds}.",
+            f"no row has '{excerpt(v)}' in column '{excerpt(c)}'; the column holds: {holds}.",
             file=path,
             key=f"{key_prefix}select.{c}",
             fix="give one of those values (text is compared exactly, after removing surrounding spaces and quotes).",
@@ -182,7 +194,7 @@ def _numbers(path, kept, index, columns, selected):
                 out[ours][r] = float(cells[j])
             except ValueError:
                 raise InputError(
-                    f"'{cells[j]}' in column '{columns[ours]}' is not a number.",
+                    f"'{excerpt(cells[j])}' in column '{excerpt(columns[ours])}' is not a number.",
                     file=path,
                     line=lineno,
                     fix="remove or correct the row (write NaN for a missing value)"
@@ -192,7 +204,7 @@ def _numbers(path, kept, index, columns, selected):
     return out
 
 
-def read_table(path, columns, header=True, select=None, key_prefix=""):
+def read_table(path, columns, header=True, select=None, key_prefix="", max_mb=MAX_TABLE_MB):
     """Read the named columns of a CSV or whitespace text table.
 
     Parameters
@@ -206,12 +218,14 @@ def read_table(path, columns, header=True, select=None, key_prefix=""):
         Column -> value: keep only the rows whose column equals the value.
     key_prefix : str
         The dataset's config key (``velocities[0].``), put before the keys messages name.
+    max_mb : float
+        Largest file read (:func:`planetfit.inputs.files.check_readable`).
 
     Returns
     -------
     Table
     """
-    rows = _data_rows(path)
+    rows = _data_rows(path, max_mb, key_prefix)
     names, sep, data = _header(path, rows, header)
     head = rows[0][0]
     index = {o: _column_index(path, names, c, f"{key_prefix}columns.{o}", head, header) for o, c in columns.items()}

@@ -230,9 +230,15 @@ def run_defaults(run):
 
 def check_settings(settings):
     """Raise :class:`InputError` for settings no plan can use."""
-    if settings.rv_error_ms is None or not settings.rv_error_ms > 0:
+    if settings.rv_error_ms is None:
         raise InputError(
-            "the new RVs need a positive error: the run has no RVs to take a default from.",
+            "the new RVs need an error, and the run has no RVs to take a default from.",
+            key="--rv-error-ms",
+            fix="give the spectrograph's expected precision, e.g. --rv-error-ms 1.5.",
+        )
+    if not settings.rv_error_ms > 0:
+        raise InputError(
+            f"the error of a new RV must be positive, got {settings.rv_error_ms:g} m/s.",
             key="--rv-error-ms",
             fix="give the spectrograph's expected precision, e.g. --rv-error-ms 1.5.",
         )

@@ -5,7 +5,7 @@ stem this module does not know keeps its place at the end with a caption
 that names its file.
 """
 
-from planetfit.report.figures.common import file_stem
+from planetfit.core.names import file_stem
 
 #: (file-stem prefix, caption template) in reading order; ``{planet}`` and ``{dataset}`` are filled from the stem.
 FAMILIES = (

@@ -7,6 +7,7 @@ and kept step (draw).
 
 import io
 import json
+from pathlib import Path
 
 import numpy as np
 
@@ -48,6 +49,19 @@ def json_text(groups, attrs):
     return json.dumps(out, separators=(",", ":")) + "\n"
 
 
+def _check_destination(path):
+    """Refuse an output path that is a folder or lies in a folder that does not exist."""
+    if path.is_dir():
+        raise InputError("--out names a folder.", file=path, key="--out", fix="give a file name, e.g. --out DIR/x.csv.")
+    if not path.parent.is_dir():
+        raise InputError(
+            "the folder of --out does not exist.",
+            file=path.parent,
+            key="--out",
+            fix="create it first, or give another.",
+        )
+
+
 def write_export(groups, fmt, path, attrs):
     """Write ``groups`` to ``path`` as ``fmt`` (one of :data:`FORMATS`); return the path.
 
@@ -58,6 +72,7 @@ def write_export(groups, fmt, path, attrs):
     """
     if fmt not in FORMATS:
         raise InputError(f"unknown export format '{fmt}'.", key="--format", fix=f"use one of {', '.join(FORMATS)}.")
+    _check_destination(Path(path))
     if fmt == "csv":
         write_text_atomic(path, csv_text(groups))
     elif fmt == "json":

@@ -1,6 +1,7 @@
 """Noise models against dense linear algebra: the celerite2 GP likelihood and its per-instrument amplitudes."""
 
 import math
+import tracemalloc
 
 import numpy as np
 import pytest
@@ -8,6 +9,7 @@ from scipy import stats
 
 from planetfit.core.quantities import DATASET
 from planetfit.core.units import PPM
+from planetfit.fitting.components import gp as gp_module
 from planetfit.fitting.components.gp import GaussianProcessNoise, Matern32Kernel, OscillatorKernel, RotationKernel
 from planetfit.fitting.components.noise import WhiteNoise
 from planetfit.fitting.parameters import Parameter
@@ -112,3 +114,30 @@ def test_gp_prediction_follows_a_slow_signal(data):
     # common practice, no published source: the conditional mean follows a well-sampled signal to within the noise
     assert np.std(pred - signal) < 0.3
     assert np.all(WhiteNoise(np.ones(3), _jitters("d")).predict(np.ones(3), {"d.jitter_ms": 0.0}) == 0)
+
+
+def test_prediction_sd_in_blocks_equals_the_dense_conditional(data, monkeypatch):
+    t, y, err = data
+    values = _sho_values(1.7, 3.0, 2.0, 0.3)
+    noise = GaussianProcessNoise(t, err, _kernel("sho"), _jitters("d"))
+    grid = np.linspace(-1, 21, 40)
+    monkeypatch.setattr(gp_module, "PREDICT_BLOCK_ELEMENTS", 1000)  # 150 x 40 in 6 blocks
+    mean, sd = noise.predict(y, values, times=grid, return_sd=True)
+    # source: Rasmussen & Williams 2006, eq. 2.25-2.26 (the GP's conditional mean and covariance)
+    k = sho_covariance(t[:, None] - t[None, :], 1.7, 3.0, 2.0) + np.diag(err**2 + 0.3**2)
+    ks = sho_covariance(t[:, None] - grid[None, :], 1.7, 3.0, 2.0)
+    assert mean == pytest.approx(ks.T @ np.linalg.solve(k, y), abs=1e-8)
+    dense_var = 1.7**2 - np.sum(ks * np.linalg.solve(k, ks), axis=0)
+    assert sd == pytest.approx(np.sqrt(dense_var), abs=1e-8)
+
+
+def test_prediction_at_many_points_without_sd_builds_no_dense_matrix():
+    t = np.arange(40_000) * 2.0 / 1440  # a 2-min sector: a dense 40,000 x 40,000 matrix would take 12.8 GB
+    y = np.sin(2 * np.pi * t / 3.0)
+    noise = GaussianProcessNoise(t, np.full(t.size, 0.1), _kernel("sho"), _jitters("d"))
+    tracemalloc.start()
+    pred = noise.predict(y, _sho_values(1.0, 3.0, 2.0, 0.0))
+    peak = tracemalloc.get_traced_memory()[1]
+    tracemalloc.stop()
+    assert pred.shape == t.shape
+    assert peak < 50 * t.size * 8  # tens of vectors, never a matrix

@@ -264,3 +264,42 @@ def test_no_seeds_for_transiting_planets_or_narrow_priors(tmp_path):
 def _checked_parts(config):
     checked = pipeline.check(config)
     return checked.config, checked.photometry, checked.velocities
+
+
+def test_a_pile_up_at_a_prior_bound_is_not_a_separate_mode():
+    # Issue 29's case: an impact parameter's posterior around 0.245, and 2.5 % of the samples (one walker of 40)
+    # stuck within 0.0002 of the prior's bound 0: a density valley separates them, but they are no second mode.
+    rng = np.random.default_rng(1)
+    spike = rng.uniform(0, 0.0002, 10_000)
+    x = np.concatenate([np.abs(rng.normal(0.245, 0.08, 390_000)), spike])
+    assert density_modes.sample_modes(x).splits.size == 1  # without the prior's bounds: a "mode" at 0.0001
+    found = density_modes.sample_modes(x, bounds=(0.0, 1.0))
+    assert found.splits.size == 0 and found.locations[0] == pytest.approx(0.24, abs=0.01)
+    ((bound, fraction, median),) = found.piles
+    # source: the fraction and place of the spike by construction
+    assert bound == 0.0 and fraction == pytest.approx(0.025, abs=0.003) and median < 0.0002
+    # A mode near the bound but as wide as the posterior is a mode (12 bandwidths from the bound).
+    two = np.concatenate([rng.normal(0.15, 0.01, 5000), rng.normal(0.7, 0.01, 5000)])
+    found = density_modes.sample_modes(two, bounds=(0.0, 1.0))
+    assert found.splits.size == 1 and not found.piles
+    # Both bounds at once: spikes at 0 and at 1 around one broad mode; the pile at the upper bound is reported too.
+    three = np.concatenate([rng.normal(0.5, 0.05, 50_000), np.full(2000, 1e-5), np.full(2000, 1 - 1e-5)])
+    found = density_modes.sample_modes(three, bounds=(0.0, 1.0))
+    assert found.splits.size == 0 and [p[0] for p in found.piles] == [0.0, 1.0]
+
+
+def test_a_pile_up_is_reported_in_words_and_keeps_the_run_converged():
+    rng = np.random.default_rng(2)
+    chain = np.abs(rng.normal(0.245, 0.08, size=(10_000, 40, 1)))  # as many samples as issue 29's run
+    chain[:, 7, 0] = rng.uniform(0, 0.0002, 10_000)  # one walker stuck against the bound
+    layout = ParameterLayout([Parameter("b", "impact", Uniform(0, 1), PLANET["impact"], "planet")])
+    one = [modes.Mode(np.array([0.245]), 0.0, np.eye(1))]
+    (pile,) = modes.describe(chain, np.zeros(chain.shape[:2]), 1, one, layout)
+    assert pile.mixed and pile.entries() == []
+    # source: the stuck walker's share by construction (1 of 40, plus the few samples beside it below the valley)
+    assert pile.fraction == pytest.approx(0.025, abs=0.003)
+    assert pile.warning().startswith(
+        f"b.impact: {100 * pile.fraction:.1f}% of the samples pile up against its prior bound 0 (median 0.00011); "
+        "they are counted with the posterior beside them, not as a separate mode."
+    )
+    assert "separated modes" not in pile.warning()

@@ -9,7 +9,18 @@ import math
 
 import numpy as np
 import pytest
-from rv_models import K_MS, PERIOD, SIGMA_MS, TC, circular, eccentric, rv_data, second_planet, write_rv_model
+from rv_models import (
+    K_MS,
+    PERIOD,
+    SIGMA_MS,
+    TC,
+    circular,
+    eccentric,
+    interrupted_nested_run,
+    rv_data,
+    second_planet,
+    write_rv_model,
+)
 from scipy import stats
 from synthetic import planet_truth
 from two_seasons import alias_weights, write_two_season_system
@@ -18,7 +29,6 @@ from planetfit import pipeline
 from planetfit.fitting import nested
 from planetfit.fitting.mcmc import run_sampler
 from planetfit.fitting.nested import run_nested
-from planetfit.fitting.posterior import JointPosterior
 
 
 def nested_fit(config, seed=1):
@@ -134,22 +144,8 @@ def test_two_period_aliases_come_back_with_their_weights(tmp_path):
 
 
 def test_an_interrupted_nested_run_resumes_from_its_checkpoint(tmp_path, monkeypatch, no_figures):
-    t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
-    config = write_rv_model(tmp_path, t, rv, {"b": circular()}, live_points=100)
-    monkeypatch.setattr(nested, "CHECKPOINT_SECONDS", 0.0)
-    calls, original = [0], JointPosterior.log_likelihood_many
-
-    def interrupted(self, thetas):
-        calls[0] += 1
-        if calls[0] > 1500:
-            raise KeyboardInterrupt
-        return original(self, thetas)
-
-    monkeypatch.setattr(JointPosterior, "log_likelihood_many", interrupted)
-    with pytest.raises(KeyboardInterrupt):
-        pipeline.run(config, quiet=True, figures=False)
+    config, t, rv = interrupted_nested_run(tmp_path, monkeypatch, live_points=100, after_calls=1500)
     assert (tmp_path / "run" / nested.CHECKPOINT).exists() and not (tmp_path / "run" / "summary.json").exists()
-    monkeypatch.setattr(JointPosterior, "log_likelihood_many", original)
     s = json.loads((pipeline.run(config, resume=True, quiet=True, figures=False) / "summary.json").read_text())[
         "sampling"
     ]

@@ -69,3 +69,20 @@ def test_bad_spellings_say_what_is_wrong(spec, problem):
     with pytest.raises(ValueError, match=problem):
         make_prior(spec)
     assert make_prior(2.5).value == 2.5 and isinstance(make_prior(2.5), Fixed)
+
+
+def test_descriptions_keep_the_digits_that_tell_the_bounds_apart():
+    # Issue 29: a transit-time prior printed as "U(2.46e+06, 2.46e+06)".
+    assert Uniform(2460412.05, 2460412.25).describe() == "U(2460412.05, 2460412.25)"
+    assert Normal(2460412.1234, 0.0012).describe() == "N(2460412.1234, 0.0012)"
+    assert Fixed(2460412.12345).describe() == "fixed 2460412.12345"
+    assert Uniform(0, 1).describe() == "U(0, 1)" and LogUniform(0.01, 20).describe() == "logU(0.01, 20)"
+    assert TruncNormal(0.42, 0.1, 0, 1).describe() == "N(0.42, 0.1) in [0, 1]"
+
+
+def test_messages_cut_long_values_and_name_numbers_yaml_reads_as_text():
+    with pytest.raises(ValueError) as err:
+        make_prior({"uniform": ["y" * 50_000]})
+    assert len(str(err.value)) < 300
+    with pytest.raises(ValueError, match=r"write 0.01 or 1.0e-2"):
+        make_prior({"uniform": ["1e-2", 5.0]})

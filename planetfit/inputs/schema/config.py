@@ -4,6 +4,8 @@ from typing import Annotated, Optional
 
 from pydantic import BeforeValidator, Field, model_validator
 
+from planetfit.core.names import file_stem
+
 from ..fits import is_fits
 from ..priors import LogUniform
 from ..timesystems import NEEDS_COORDINATES
@@ -33,7 +35,7 @@ class ConfigFile(Block):
     """A planetfit config: the star, its planets, the datasets and the settings of the run."""
 
     system: Optional[str] = None
-    seed: Annotated[int, BeforeValidator(_seed)] = 0
+    seed: Annotated[int, BeforeValidator(_seed), Field(ge=0)] = 0
     output: Optional[str] = None
     star: Star
     planets: Annotated[dict[str, Planet], Field(min_length=1)]
@@ -77,13 +79,27 @@ class ConfigFile(Block):
 
 
 def _check_dataset_names(config):
-    seen = set()
+    seen, stems = set(), {}
     for section, items in (("photometry", config.photometry), ("velocities", config.velocities)):
         for i, d in enumerate(items):
             if d.name in seen:
                 fail(
                     f"the dataset name '{d.name}' is used twice.",
                     "give every dataset its own name.",
+                    key=f"/{section}[{i}].name",
+                )
+            if "/" in d.name:  # the group separator of posterior.nc (netCDF) and of file paths
+                fail(
+                    f"the dataset name '{d.name}' holds '/', which cannot be part of a file or posterior.nc name.",
+                    f"write e.g. '{d.name.replace('/', '-')}'.",
+                    key=f"/{section}[{i}].name",
+                )
+            other = stems.setdefault(file_stem(d.name), d.name)
+            if other != d.name:
+                fail(
+                    f"the datasets '{other}' and '{d.name}' would write the same figure files "
+                    f"('{file_stem(d.name)}': characters other than letters, digits, '-' and '_' become '_').",
+                    "give them names that differ in letters, digits, '-' or '_'.",
                     key=f"/{section}[{i}].name",
                 )
             if d.name in config.planets:

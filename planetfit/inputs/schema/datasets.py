@@ -12,6 +12,7 @@ from typing import Annotated, Literal, Optional, Union
 
 from pydantic import BeforeValidator, Field, PrivateAttr, WithJsonSchema, model_validator
 
+from ..files import MAX_TABLE_MB
 from ..priors import Fixed, LogUniform, Uniform
 from ..timesystems import TIME_SYSTEMS
 from .base import Block, variants
@@ -67,6 +68,8 @@ class Dataset(Block):
     time_system: Literal[TIME_SYSTEMS] = "BJD_TDB"
     header: bool = True
     select: Optional[Annotated[dict[Column, Union[str, int, float]], Field(min_length=1)]] = None
+    #: Largest file (MB) read without being asked: a bigger table takes several times its size in memory.
+    max_file_mb: PositiveNumber = MAX_TABLE_MB
     _files: list = PrivateAttr(default_factory=list)
     _section: str = PrivateAttr("")
 
@@ -116,6 +119,10 @@ class Dataset(Block):
         return self
 
 
+#: Most sub-exposures per exposure a config may ask for (8 kB per data point and evaluation).
+MAX_SUPERSAMPLE = 1000
+
+
 class Photometry(Dataset):
     """A light curve (text table or FITS), its cleaning, limb darkening, baseline level, jitter and dilution."""
 
@@ -153,6 +160,19 @@ class Photometry(Dataset):
     def columns_used(self):
         extra = [("quality_column", self.quality_column)] if self.quality_column is not None else []
         return super().columns_used() + extra
+
+    @model_validator(mode="after")
+    def _supersample_fits_in_memory(self):
+        """Each model evaluation computes ``supersample`` times per point: 8 bytes each."""
+        n = self.supersample or 1
+        if n > MAX_SUPERSAMPLE:
+            fail(
+                f"{n} sub-exposures per exposure take {8 * n / 2**30:.3g} GiB per data point at every model "
+                f"evaluation ({8 * n / 2**30 * 1000:.3g} GiB for a thousand points).",
+                f"give at most {MAX_SUPERSAMPLE}, or remove 'supersample' to have it chosen for the data's errors.",
+                key="supersample",
+            )
+        return self
 
     @model_validator(mode="after")
     def _keep_bits_need_a_column(self):

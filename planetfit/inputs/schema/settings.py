@@ -114,6 +114,10 @@ class Climate(Block):
         return MEAN_MOLECULAR_WEIGHTS.get(self.mean_molecular_weight, self.mean_molecular_weight)
 
 
+#: Most walkers, and the most GiB of chain per free parameter (walkers x max_steps x 8 bytes), a config may ask for.
+MAX_WALKERS, MAX_CHAIN_GIB_PER_PARAMETER = 100_000, 2.0
+
+
 class Sampling(Block):
     """How the posterior is sampled and when the run counts as converged.
 
@@ -135,6 +139,20 @@ class Sampling(Block):
     dlogz: PositiveNumber = 0.1
     min_effective_samples: Count = 1000
     max_likelihood_calls: Count = 50_000_000
+
+    @model_validator(mode="after")
+    def _chain_fits_in_memory(self):
+        """walkers x max_steps positions are kept (samples.h5, then read back for the outputs): 8 bytes each."""
+        gib = self.walkers * self.max_steps * 8 / 2**30
+        if self.walkers > MAX_WALKERS or gib > MAX_CHAIN_GIB_PER_PARAMETER:
+            fail(
+                f"{self.walkers} walkers x {self.max_steps} steps keep {self.walkers * self.max_steps:.3g} "
+                f"positions: {gib:.3g} GiB for every free parameter (at most {MAX_WALKERS} walkers and "
+                f"{MAX_CHAIN_GIB_PER_PARAMETER} GiB per parameter are accepted).",
+                "use tens to hundreds of walkers (two to four times the free parameters is plenty) and fewer steps.",
+                key="walkers",
+            )
+        return self
 
     @property
     def nested(self):

@@ -8,9 +8,10 @@ from functools import partial
 
 import numpy as np
 
+from planetfit.core.names import file_stem
 from planetfit.fitting import predictions
 from planetfit.fitting.chainfile import read_chain
-from planetfit.report.figures.common import PosteriorView, file_stem
+from planetfit.report.figures.common import PosteriorView
 from planetfit.report.figures.convergence import convergence_figure, physical_chain
 from planetfit.report.figures.corners import physical_corner, sampled_corner
 from planetfit.report.figures.habitable_zone import habitable_zone_figure

@@ -96,11 +96,6 @@ def offset_for_display(x):
     return float(round(np.floor(med / 10.0**power) * 10.0**power, max(0, -power)))
 
 
-def file_stem(text):
-    """A file-name-safe form of a planet or dataset name."""
-    return "".join(c if c.isalnum() or c in "-_" else "_" for c in str(text))
-
-
 def contours(ax, x, y, colour, scales):
     """Filled 1- and 2-sigma contours of paired samples (corner's hist2d), ``scales`` ("log"/"linear") per axis."""
     limits = [np.percentile(x, [0.1, 99.9]), np.percentile(y, [0.1, 99.9])]
