@@ -144,10 +144,17 @@ def _check_data_present(config):
                 "add a 'photometry' dataset, or set 'transits: false'.",
                 key=f"/planets.{name}.transits",
             )
-        if not config.velocities and not p.rv_amplitude_ms.fixed:
+        if not config.velocities and p.rv_amplitude_ms is not None and not p.rv_amplitude_ms.fixed:
             fail(
                 "no radial velocities are given to constrain it.",
-                "fix it to 0 (transit-only fit) or add a 'velocities' dataset.",
+                "remove 'rv_amplitude_ms' (a transit-only fit needs none: the mass is then not measured) or add a "
+                "'velocities' dataset.",
+                key=f"/planets.{name}.rv_amplitude_ms",
+            )
+        if config.velocities and p.rv_amplitude_ms is None:
+            fail(
+                "the planet has no RV semi-amplitude prior, and radial velocities are given.",
+                "add e.g. 'rv_amplitude_ms: {uniform: [0, 50]}' (or 0 to leave the planet out of the RV model).",
                 key=f"/planets.{name}.rv_amplitude_ms",
             )
 

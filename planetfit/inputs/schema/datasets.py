@@ -23,6 +23,10 @@ from .light import PlanetLight
 SHO_QUALITY_DEFAULT = 1 / math.sqrt(2)
 BASELINES = Literal["constant", "linear", "gp"]
 GP_KERNELS = Literal["sho", "matern32"]
+#: The flux of a mission light-curve product: the corrected one (PDCSAP) or the simple-aperture one (SAP).
+MISSION_FLUXES = Literal["pdcsap", "sap"]
+#: The ``quality_column`` value that turns quality filtering off, also for mission products.
+NO_QUALITY = "none"
 
 NonNegativeJitter = prior_within(0.0, math.inf, "a jitter cannot be negative.", "use a lower bound of 0 or above.")
 UnitInterval = prior_within(0.0, 1.0, "Kipping's q1 and q2 live in [0, 1].", "keep the prior inside [0, 1].")
@@ -120,7 +124,8 @@ class Photometry(Dataset):
     """A light curve (text table or FITS), its cleaning, limb darkening, baseline level, jitter and dilution."""
 
     columns: PhotometryColumns = PhotometryColumns()
-    exposure_min: PositiveNumber
+    exposure_min: Optional[PositiveNumber] = None
+    mission_flux: MISSION_FLUXES = "pdcsap"
     supersample: Optional[Count] = None
     band: Optional[str] = None
     limb_darkening: LimbDarkeningLaw = "quadratic"
@@ -151,15 +156,34 @@ class Photometry(Dataset):
     _band_response_path: Optional[Path] = PrivateAttr(None)
 
     def columns_used(self):
-        extra = [("quality_column", self.quality_column)] if self.quality_column is not None else []
-        return super().columns_used() + extra
+        named = self.named_quality_column
+        return super().columns_used() + ([("quality_column", named)] if named is not None else [])
+
+    @property
+    def quality_off(self):
+        """Whether quality filtering is turned off (``quality_column: none``)."""
+        return isinstance(self.quality_column, str) and self.quality_column.lower() == NO_QUALITY
+
+    @property
+    def named_quality_column(self):
+        """The quality column the config names (None: the mission product's own, or filtering off)."""
+        return None if self.quality_off else self.quality_column
+
+    @property
+    def simple_aperture(self):
+        """Whether a mission product's simple-aperture flux (SAP) is fitted instead of the corrected one."""
+        return self.mission_flux == "sap"
+
+    def column_given(self, ours):
+        """Whether the config names the file column of ``ours`` (else a mission product's column is used)."""
+        return ours in self.columns.model_fields_set
 
     @model_validator(mode="after")
     def _keep_bits_need_a_column(self):
-        if self.quality_keep_bits and self.quality_column is None:
+        if self.quality_keep_bits and self.quality_off:
             fail(
-                "bits to keep need a quality column.",
-                "add 'quality_column: <column name>' or remove 'quality_keep_bits'.",
+                "bits to keep need a quality column, and 'quality_column: none' turns quality filtering off.",
+                "remove 'quality_keep_bits', or name the quality column (mission products find their own).",
                 key="quality_keep_bits",
             )
         return self
