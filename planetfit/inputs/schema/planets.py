@@ -68,9 +68,8 @@ class PlanetBlock(Block):
 
     @property
     def mass_measured(self):
-        """Whether the planet's mass is sampled: a semi-amplitude is given and not fixed at 0."""
-        k = self.rv_amplitude_ms
-        return k is not None and not (k.fixed and k.value == 0.0)
+        """Whether the planet's mass is measured: its semi-amplitude is sampled (a prior, not a fixed value)."""
+        return self.rv_amplitude_ms is not None and not self.rv_amplitude_ms.fixed
 
 
 class CircularKeys(Block):
