@@ -34,7 +34,7 @@ def _fit(folder, seed, with_light):
     hot_giant.write(folder, seed=seed, truth=truth)
     config = yaml.safe_load(hot_giant.CONFIG.read_text())
     if not with_light:
-        del config["photometry"][0]["planet_light"], config["photometry"][0]["band_wavelength_um"]
+        del config["photometry"][0]["planet_light"], config["photometry"][0]["band_response"]
     (folder / "config.yaml").write_text(yaml.safe_dump(config))
     post = pipeline.check(folder / "config.yaml").posterior
     layout = post.layout

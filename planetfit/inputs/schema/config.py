@@ -183,8 +183,9 @@ def _check_planet_light(config):
         if d.planet_light and d.band_wavelength_um is None and d.band_response is None:
             fail(
                 "the planet's light needs the band's wavelength for its brightness temperature.",
-                "add e.g. 'band_wavelength_um: 0.8' (the band's effective wavelength, microns), or "
-                "'band_response: <file>' (columns wavelength_um, throughput).",
+                "add 'band_response: <band>' with a built-in band (kepler, tess, cheops, spitzer-3.6, spitzer-4.5) "
+                "or a table's path (columns wavelength_um, throughput), or 'band_wavelength_um: <microns>' (one "
+                "wavelength: too crude for a broad optical band).",
                 key=f"/photometry[{i}].band_wavelength_um",
             )
         if d.band_wavelength_um is not None and d.band_response is not None:

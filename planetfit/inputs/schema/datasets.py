@@ -27,6 +27,11 @@ GP_KERNELS = Literal["sho", "matern32"]
 MISSION_FLUXES = Literal["pdcsap", "sap"]
 #: The ``quality_column`` value that turns quality filtering off, also for mission products.
 NO_QUALITY = "none"
+#: Response tables any light curve may name by ``band_response: <name>`` (planetfit/data/bands/<name>.csv).
+BUILT_IN_BANDS = ("kepler", "tess", "cheops", "spitzer-3.6", "spitzer-4.5")
+BANDS_FOLDER = Path(__file__).resolve().parents[2] / "data" / "bands"
+#: Endings of a response table's file name (a ``band_response`` without one, and no folder, names a band).
+TABLE_SUFFIXES = (".csv", ".txt", ".dat", ".tsv", ".ecsv", ".tbl")
 
 NonNegativeJitter = prior_within(0.0, math.inf, "a jitter cannot be negative.", "use a lower bound of 0 or above.")
 UnitInterval = prior_within(0.0, 1.0, "Kipping's q1 and q2 live in [0, 1].", "keep the prior inside [0, 1].")
@@ -188,10 +193,32 @@ class Photometry(Dataset):
             )
         return self
 
+    @model_validator(mode="after")
+    def _band_is_known(self):
+        name = self.band_response
+        if name is None or name.lower() in BUILT_IN_BANDS:
+            return self
+        if "/" not in name and "\\" not in name and not name.lower().endswith(TABLE_SUFFIXES):
+            fail(
+                f"'{name}' is not a band planetfit knows, nor a response table's file name.",
+                f"use one of the built-in bands ({', '.join(BUILT_IN_BANDS)}), or give a table's path "
+                "(columns wavelength_um, throughput).",
+                key="band_response",
+            )
+        return self
+
     def resolve(self, folder, section):
         super().resolve(folder, section)
-        if self.band_response is not None:
+        if self.built_in_band is not None:
+            self._band_response_path = BANDS_FOLDER / f"{self.built_in_band}.csv"
+        elif self.band_response is not None:
             self._band_response_path = (Path(folder) / self.band_response).resolve()
+
+    @property
+    def built_in_band(self):
+        """The built-in band named by ``band_response`` (lower case), or None for a table of the user's."""
+        name = (self.band_response or "").lower()
+        return name if name in BUILT_IN_BANDS else None
 
     @property
     def band_response_path(self):
