@@ -72,6 +72,7 @@ class Photometry:
     clipped: int = 0
     dropped_far_from_transits: int = 0
     reading: Reading = dataclasses.field(default_factory=Reading)
+    regressors: dict = dataclasses.field(default_factory=dict)  # file column -> values (baseline regressors)
 
     def counts(self):
         """Point counts of the cleaning steps and how the rows were read (the ``data`` block of summary.json)."""
@@ -132,7 +133,7 @@ def _clean(path, table, cfg, rule=None):
             )
     bad = np.flatnonzero(t["error"] <= 0)
     if bad.size:
-        _non_positive_errors(path, t, bad, cfg, rule)
+        products.non_positive_errors(path, t, bad, cfg, rule)
     unsorted = bool(np.any(np.diff(t["time"]) < 0))
     if unsorted:  # published tables are often grouped by instrument or night, not sorted by time
         order = np.argsort(t["time"], kind="stable")
@@ -141,27 +142,6 @@ def _clean(path, table, cfg, rule=None):
     # Two exposures with the same recorded mid-time are two measurements: both are kept.
     repeated = int(np.sum(np.diff(t["time"]) == 0))
     return t, dropped, {"sorted_by_time": unsorted, "repeated_times": repeated}
-
-
-def _non_positive_errors(path, t, bad, cfg, rule):
-    """Stop on rows with zero or negative errors, saying how many carry quality flags the dataset keeps."""
-    problem = f"{bad.size} rows have zero or negative uncertainties (first at time {t['time'][bad[0]]:.6f})."
-    key, fix = f"{cfg.section}.columns.error", "give positive 1-sigma uncertainties, or remove those rows."
-    flags = t["quality"][bad].astype(np.int64) if "quality" in t else np.zeros(0, dtype=np.int64)
-    if np.any(flags):
-        bits = sorted({b + 1 for b in range(32) if np.any(flags & (1 << b))})
-        key = f"{cfg.section}.quality_keep_bits" if cfg.quality_keep_bits else f"{cfg.section}.quality_column"
-        problem += (
-            f" {np.count_nonzero(flags)} of them are flagged in the quality column '{rule.column}' (bits "
-            f"{', '.join(map(str, bits))}), flags this dataset keeps ({rule.source})."
-        )
-        fix = "drop them: leave those bits out of 'quality_keep_bits' (or remove it to use the mission's flags)."
-    elif rule is not None and rule.column is None:
-        fix += (
-            " If they are flagged cadences of a light-curve product, name its quality column with "
-            "'quality_column: <column>' to drop them."
-        )
-    raise InputError(problem, file=path, key=key, fix=fix)
 
 
 def quality_mask(quality, keep_bits):
@@ -185,7 +165,8 @@ def label_warning(cfg, path, label_columns, what):
 
 def _text_table(cfg, path, columns, what):
     """Columns of a text table (times in full JD of the dataset's system) and a label warning or None."""
-    table = read_table(path, columns, header=cfg.header, select=cfg.select, key_prefix=f"{cfg.section}.")
+    keys = {o: "baseline.regressors" for o in columns if o.startswith(products.REGRESSOR)}
+    table = read_table(path, columns, header=cfg.header, select=cfg.select, key_prefix=f"{cfg.section}.", keys=keys)
     out = dict(table.columns)
     out["time"] = out["time"] + cfg.time_offset_days
     return out, (table.rows_read, table.rows_kept), label_warning(cfg, path, table.label_columns, what)
@@ -213,6 +194,7 @@ def _read_light_curve(cfg, path):
         return table, rule, (table["time"].size,) * 2, cadence, None
     rule = products.quality_rule(cfg, None, path)
     columns = cfg.columns.model_dump() | ({"quality": rule.column} if rule.column is not None else {})
+    columns |= {f"{products.REGRESSOR}{c}": c for c in cfg.regressor_columns}
     table, rows, warning = _text_table(cfg, path, columns, "one flux level and one jitter")
     if "quality" in table:
         table["quality"] = np.nan_to_num(table["quality"], nan=0.0)
@@ -252,6 +234,7 @@ def read_photometry(cfg, star=None):
         log.info("%s: dropped %d rows with quality flags set (%s)", cfg.name, flagged, rule.source)
     table, dropped, facts = _clean(cfg.path, table, cfg, rule)
     table.pop("quality", None)
+    regressors = {c: table.pop(f"{products.REGRESSOR}{c}") for c in cfg.regressor_columns}
     reading = Reading(
         time_system=cfg.time_system, rows_read=int(rows[0]), rows_selected=int(rows[1]), warnings=warnings, **facts
     )
@@ -268,6 +251,7 @@ def read_photometry(cfg, star=None):
         segment=cleaning.segment_labels(time, cfg.segment_gap_days),
         dropped_quality=flagged,
         reading=reading,
+        regressors=regressors,
     )
 
 
@@ -329,7 +313,14 @@ def clean_photometry(d, cfg, planets=(), star=None, lit=()):
                 key=f"{cfg.section}.near_transits_hours",
                 fix="check the ephemeris priors, or widen the window.",
             )
-    return dataclasses.replace(d, time=d.time[keep], flux=d.flux[keep], error=d.error[keep], segment=d.segment[keep])
+    return dataclasses.replace(
+        d,
+        time=d.time[keep],
+        flux=d.flux[keep],
+        error=d.error[keep],
+        segment=d.segment[keep],
+        regressors={c: v[keep] for c, v in d.regressors.items()},
+    )
 
 
 def load_photometry(cfg, planets=(), star=None):

@@ -17,6 +17,8 @@ import numpy as np
 from planetfit.core.errors import InputError
 from planetfit.inputs.fits import cadence_min, open_light_curve
 
+#: Prefix of a baseline regressor's column among the columns read.
+REGRESSOR = "regressor:"
 #: Every quality bit (32 of them): with a named quality column, any set bit outside ``quality_keep_bits`` drops.
 ALL_BITS = (1 << 32) - 1
 
@@ -95,6 +97,9 @@ def read_fits_photometry(cfg, path):
         for ours, theirs in (("time", cfg.columns.time), ("flux", flux), ("error", error))
     }
     table["time"] = lc.times_bjd(table["time"])
+    for column in cfg.regressor_columns:
+        fix = "name columns of the file in 'baseline: {regressors: [...]}'."
+        table[f"{REGRESSOR}{column}"] = lc.column(column, f"{cfg.section}.baseline.regressors", fix)
     rule = quality_rule(cfg, lc.mission, path)
     if rule.column is not None:
         if lc.mission is not None and cfg.named_quality_column is None and not lc.has(rule.column):
@@ -144,3 +149,24 @@ def exposure_min(cfg, cadences):
             fix="give one dataset per cadence (they may share a 'band'), or set 'exposure_min'.",
         )
     return found[0][0], found[0][1]
+
+
+def non_positive_errors(path, t, bad, cfg, rule):
+    """Stop on rows with zero or negative errors, saying how many carry quality flags the dataset keeps."""
+    problem = f"{bad.size} rows have zero or negative uncertainties (first at time {t['time'][bad[0]]:.6f})."
+    key, fix = f"{cfg.section}.columns.error", "give positive 1-sigma uncertainties, or remove those rows."
+    flags = t["quality"][bad].astype(np.int64) if "quality" in t else np.zeros(0, dtype=np.int64)
+    if np.any(flags):
+        bits = sorted({b + 1 for b in range(32) if np.any(flags & (1 << b))})
+        key = f"{cfg.section}.quality_keep_bits" if cfg.quality_keep_bits else f"{cfg.section}.quality_column"
+        problem += (
+            f" {np.count_nonzero(flags)} of them are flagged in the quality column '{rule.column}' (bits "
+            f"{', '.join(map(str, bits))}), flags this dataset keeps ({rule.source})."
+        )
+        fix = "drop them: leave those bits out of 'quality_keep_bits' (or remove it to use the mission's flags)."
+    elif rule is not None and rule.column is None:
+        fix += (
+            " If they are flagged cadences of a light-curve product, name its quality column with "
+            "'quality_column: <column>' to drop them."
+        )
+    raise InputError(problem, file=path, key=key, fix=fix)

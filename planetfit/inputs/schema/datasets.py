@@ -1,7 +1,7 @@
 """The ``photometry`` and ``velocities`` dataset blocks.
 
-A photometric dataset is one of five variants by its baseline and noise:
-``baseline: constant`` or ``linear`` (white noise), or ``baseline: gp``
+A photometric dataset is one of six variants by its baseline and noise:
+``baseline: constant`` or ``linear`` or ``{regressors: [...]}`` (white noise), or ``baseline: gp``
 with its own damped-oscillator (``gp_kernel: sho``) or Matern-3/2 kernel,
 or with the kernel of another dataset (``gp_shared_with``).
 """
@@ -179,6 +179,11 @@ class Photometry(Dataset):
         """Whether a mission product's simple-aperture flux (SAP) is fitted instead of the corrected one."""
         return self.mission_flux == "sap"
 
+    @property
+    def regressor_columns(self):
+        """File columns the baseline is linear in (none but for ``baseline: {regressors: [...]}``)."""
+        return []
+
     def column_given(self, ours):
         """Whether the config names the file column of ``ours`` (else a mission product's column is used)."""
         return ours in self.columns.model_fields_set
@@ -241,6 +246,43 @@ class LinearBaseline(Photometry):
     slope_per_day: PriorSpec = Uniform(-0.01, 0.01)
 
 
+class Regressors(Block):
+    """Observing conditions the flux level follows linearly (columns of the file), and a polynomial in time.
+
+    Each regressor is standardised (its mean removed, divided by its standard deviation), so a coefficient is
+    the relative flux change per standard deviation of the regressor.
+    """
+
+    regressors: Annotated[list[Column], Field(min_length=1)]
+    time_degree: Annotated[int, Field(ge=0, le=3)] = 0
+    coefficient: PriorSpec = Uniform(-0.1, 0.1)
+
+
+class RegressorBaseline(Photometry):
+    """A ground-based light curve: F0 (1 + sum_j c_j z_j + sum_k p_k dt^k), z_j the standardised regressors."""
+
+    variant = {"baseline": "<regressors: [...]>"}
+    baseline: Regressors
+
+    def columns_used(self):
+        return super().columns_used() + [("baseline.regressors", c) for c in self.baseline.regressors]
+
+    @property
+    def regressor_columns(self):
+        return list(self.baseline.regressors)
+
+    @model_validator(mode="after")
+    def _regressors_are_other_columns(self):
+        for column in self.baseline.regressors:
+            if column in self.columns.model_dump().values():
+                fail(
+                    f"'{column}' is already the time, flux or error column.",
+                    "name columns of observing conditions (e.g. airmass, fwhm, x, y).",
+                    key="baseline.regressors",
+                )
+        return self
+
+
 class _OwnGP(Photometry):
     baseline: BASELINES
     gp_kernel: GP_KERNELS = "sho"
@@ -271,6 +313,8 @@ class SharedGP(Photometry):
 
 
 def _photometry_variant(raw):
+    if isinstance(raw.get("baseline"), dict):
+        return "RegressorBaseline"
     if raw.get("baseline") == "gp":
         if "gp_shared_with" in raw:
             return "SharedGP"
@@ -278,7 +322,7 @@ def _photometry_variant(raw):
     return "LinearBaseline" if raw.get("baseline") == "linear" else "ConstantBaseline"
 
 
-PHOTOMETRY_VARIANTS = (ConstantBaseline, LinearBaseline, OscillatorGP, Matern32GP, SharedGP)
+PHOTOMETRY_VARIANTS = (ConstantBaseline, LinearBaseline, RegressorBaseline, OscillatorGP, Matern32GP, SharedGP)
 PhotometryDataset = variants(_photometry_variant, *PHOTOMETRY_VARIANTS)
 
 
