@@ -21,11 +21,10 @@ import numpy as np
 from astropy.io import fits
 
 from planetfit.core.errors import DATA_FILE_MISSING_FIX, InputError, reading
-from planetfit.core.units import MINUTES_PER_DAY
+from planetfit.core.units import MINUTES_PER_DAY, SECONDS_PER_DAY
 
 #: File name endings read as FITS.
 FITS_SUFFIXES = (".fits", ".fit", ".fts", ".fits.gz", ".fit.gz")
-SECONDS_PER_MINUTE = 60.0
 
 
 @dataclasses.dataclass(frozen=True)
@@ -137,7 +136,7 @@ def cadence_min(headers):
         return float(timedel) * MINUTES_PER_DAY, "TIMEDEL"
     frame_s, frames = _keyword(headers, "FRAMETIM"), _keyword(headers, "NUM_FRM")
     if frame_s is not None and frames is not None and float(frame_s) * float(frames) > 0:
-        return float(frame_s) * float(frames) / SECONDS_PER_MINUTE, "FRAMETIM x NUM_FRM"
+        return float(frame_s) * float(frames) * MINUTES_PER_DAY / SECONDS_PER_DAY, "FRAMETIM x NUM_FRM"
     return None, None
 
 
