@@ -71,6 +71,9 @@ def _reading_text(d):
         parts.append("rows sorted by time")
     if r.repeated_times:
         parts.append(f"{r.repeated_times} repeated time stamp(s) kept")
+    if r.product:
+        p = r.product
+        parts.append(f"exposure {p['exposure_min']:.4g} min from {p['exposure_from']}, quality: {p['quality_flags']}")
     return ", ".join(parts)
 
 

@@ -284,7 +284,8 @@ def write_tiny_system(
                 "transit_bjd": {"uniform": [t0 - 0.05, t0 + 0.05]},
                 "radius_ratio": {"uniform": [0.005, 0.1]},
                 "impact": {"uniform": [0.0, 1.0]},
-                "rv_amplitude_ms": {"uniform": [0.0, 30.0]} if velocities else 0.0,
+                # A transit-only planet needs no semi-amplitude.
+                **({"rv_amplitude_ms": {"uniform": [0.0, 30.0]}} if velocities else {}),
             }
         },
         "sampling": {"walkers": walkers, "max_steps": max_steps, "check_every": 100, "optimiser_starts": 2},

@@ -13,6 +13,11 @@ from planetfit.context import atmosphere, climate, interior
 from planetfit.context.interior.abundances import star_iron_block
 from planetfit.context.light import light_context
 
+#: The composition verdict of a transiting planet whose mass is not measured.
+NEEDS_A_MASS = (
+    "needs a mass: the radius alone does not decide between rocky and volatile-rich interiors; fit radial "
+    "velocities (with rv_amplitude_ms) to measure the mass"
+)
 #: Caution of a climate block that uses the measured Bond albedo.
 _MEASURED = "Bond albedo {:.3g} is the measured posterior median (planet_light), not the config's {:g}."
 
@@ -61,22 +66,34 @@ def add_context(config, model, derived, rng):
         }
         if planet_settings is not settings:
             block["climate"]["cautions"].append(_MEASURED.format(planet_settings.albedo, settings.albedo))
-        if p.transits and np.any(q["mass_earth"] > 0):
-            block["composition"] = interior.composition(q["mass_earth"], q["radius_earth"])
-            block["composition"].update(star_iron_block(config.star, q["mass_earth"], q["radius_earth"], rng))
-            block["atmosphere"] = atmosphere.atmosphere_block(
-                q["radius_earth"],
-                q["mass_earth"],
-                q["surface_gravity_ms2"],
-                q["equilibrium_temp_k"],
-                star["radius_rsun"],
-                star["teff_k"],
-                mag_j=config.star.mag_j,
-                mag_k=config.star.mag_k,
-                mean_molecular_weight=settings.mu,
-            )
+        if p.transits:
+            block.update(_interior_and_atmosphere(config, p, q, star, rng))
         blocks[p.name] = block
     return blocks
+
+
+def _interior_and_atmosphere(config, p, q, star, rng):
+    """A transiting planet's ``composition`` and ``atmosphere`` blocks (without a mass: a verdict asking for one)."""
+    if not p.mass_measured:
+        return {"composition": {"verdict": NEEDS_A_MASS, "mass_measured": False, "p_rocky": None}}
+    if not np.any(q["mass_earth"] > 0):
+        return {}
+    composition = interior.composition(q["mass_earth"], q["radius_earth"])
+    composition.update(star_iron_block(config.star, q["mass_earth"], q["radius_earth"], rng))
+    return {
+        "composition": composition,
+        "atmosphere": atmosphere.atmosphere_block(
+            q["radius_earth"],
+            q["mass_earth"],
+            q["surface_gravity_ms2"],
+            q["equilibrium_temp_k"],
+            star["radius_rsun"],
+            star["teff_k"],
+            mag_j=config.star.mag_j,
+            mag_k=config.star.mag_k,
+            mean_molecular_weight=config.climate.mu,
+        ),
+    }
 
 
 def _measured_albedo(settings, light):

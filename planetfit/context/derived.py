@@ -25,6 +25,9 @@ from planetfit.core.units import (
     R_SUN_M,
 )
 
+#: Planet quantities that follow from the RV semi-amplitude: not measured when K is held fixed (a transit-only fit).
+MASS_KEYS = ("rv_amplitude_ms", "mass_earth", "mass_jup", "density_gcc", "surface_gravity_ms2")
+
 
 def bulk_density_gcc(mass_kg, radius_m):
     """Mean density M / (4/3 pi R^3) in g/cm^3."""
@@ -49,7 +52,9 @@ def derive(config, model, samples, rng):
         ``"star"`` -> {quantity: array}, ``"planets"`` -> {name: {quantity:
         array}}, ``"parameters"`` -> {parameter name: array} (sampled and
         prior-only ones), ``"prior_only"`` -> {"star": set of keys,
-        "planets": {name: set of keys}}, the quantities no data constrain.
+        "planets": {name: set of keys}}, the quantities no data constrain,
+        ``"unmeasured"`` -> {name: set of keys}, the :data:`MASS_KEYS` of
+        planets whose mass is not measured (K held fixed).
         Arrays have one value per sample.
     """
     n = samples.shape[0]
@@ -77,7 +82,8 @@ def derive(config, model, samples, rng):
     for p in model.planets:
         planets[p.name] = _planet(p, values, model.star, mstar, rstar)
         flagged["planets"][p.name] = {p.inclination.key} if p.inclination is not None else set()
-    return {"star": star, "planets": planets, "parameters": values, "prior_only": flagged}
+    unmeasured = {p.name: set(MASS_KEYS) for p in model.planets if not p.mass_measured}
+    return {"star": star, "planets": planets, "parameters": values, "prior_only": flagged, "unmeasured": unmeasured}
 
 
 def planet_quantities(planet, star, values):

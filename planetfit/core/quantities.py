@@ -109,6 +109,17 @@ LIGHT = {
 }
 
 
+def regressor_quantity(column):
+    """The :class:`Quantity` of a baseline's coefficient of regressor ``column`` (per standard deviation of it)."""
+    tex = str(column).replace("_", r"\_")
+    return Quantity(f"Regressor coefficient ({column})", rf"$c_\mathrm{{{tex}}}$", "per s.d.", "per s.d.")
+
+
+def time_power_quantity(power):
+    """The :class:`Quantity` of a baseline's coefficient of (t - t_mid)^power."""
+    return Quantity(f"Time polynomial coefficient ({power})", rf"$p_{power}$", f"1/d^{power}", rf"d$^{{-{power}}}$")
+
+
 def band_quantity(key, band):
     """The :class:`Quantity` of a planet-light key, its label naming the band."""
     q = LIGHT[key]

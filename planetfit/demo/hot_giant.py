@@ -39,7 +39,8 @@ TRUTH = {
         "omega_deg": 70.0,
     },
     # At 4.5 um: blackbody brightness temperatures of 2356 K (day) and 1437 K (night) against a
-    # 6300 K blackbody star, which Cowan & Agol (2011) eqs. 4-5 give for Bond albedo 0.1 and redistribution 0.3.
+    # 6300 K blackbody star, which Cowan & Agol (2011) eqs. 4-5 give for Bond albedo 0.1 and redistribution 0.3
+    # (over the whole warm-Spitzer 4.5 um band the example's config names, 2364 K and 1444 K).
     "light": {"eclipse_depth_ppm": 2526.4, "nightside_ppm": 883.3, "hotspot_offset_deg": 20.0},
     "limb_darkening_u": [0.08, 0.15],
 }

@@ -32,6 +32,7 @@ evolution with an independence move drawing from that fixed proposal
 
 import dataclasses
 import logging
+import sys
 
 import emcee
 import numpy as np
@@ -138,7 +139,8 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
     cores : int
         Processes running the optimiser starts and evaluating walkers side by side (:class:`WorkerProcesses`).
     progress : bool
-        Show a tqdm progress bar.
+        Report progress: a redrawn tqdm bar on a terminal, else (a log file, a batch job) only the
+        logged line of each convergence check.
     resume : bool
         Continue the chain in ``h5_path`` instead of starting anew.
 
@@ -223,12 +225,17 @@ def _find_modes(log_prob, layout, settings, rng, evaluate):
     return modes
 
 
+def redrawn_progress(progress):
+    """Whether progress may be a redrawn bar: asked for, and stderr is a terminal (not a log file or batch job)."""
+    return bool(progress) and sys.stderr.isatty()
+
+
 def _sample(sampler, backend, initial, settings, rng, progress):
     """Advance the chain until converged or max_steps; return (converged, history)."""
     sampler.random_state = _random_state(rng)
     history, converged, old_tau = [], False, np.inf
     bar = None
-    if progress:
+    if redrawn_progress(progress):
         from tqdm import tqdm
 
         bar = tqdm(

@@ -120,7 +120,7 @@ def _photometry_models(config, photometry, planets, star, lights):
         curve, choice = _light_curve(config, block, data, ld)
         terms = [TransitTerm(p, curve, ld) for p in transiting]
         terms += [PlanetLightTerm(light, curve, star) for (band, _), light in lights.items() if band == block.band_name]
-        baseline = component_for(block, BASELINES)(block, data.time)
+        baseline = component_for(block, BASELINES)(block, data)
         model, params = _photometry(block, data, baseline, terms, *_kernel(block, kernels))
         out.append((model, params, choice))
     return bands, out

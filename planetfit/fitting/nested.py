@@ -32,6 +32,7 @@ from threadpoolctl import threadpool_limits
 from planetfit.core.errors import InputError
 from planetfit.fitting import checkpoint as signed_checkpoint
 from planetfit.fitting import modes as mode_finding
+from planetfit.fitting.mcmc import redrawn_progress
 from planetfit.fitting.workers import WorkerProcesses
 
 log = logging.getLogger("planetfit")
@@ -45,6 +46,8 @@ CHECKPOINT_SECONDS = 60.0
 #: aliases (tests/two_seasons.py, 200 live points) took 1,190,000 likelihood calls against 34,000 with this factor,
 #: for the same mode fractions.
 ENLARGE = 1.25
+#: Iterations between progress lines when stderr is not a terminal (no redrawn bar).
+PROGRESS_EVERY = 1000
 EVIDENCE_NOTE = (
     "dynesty's ln Z of the dead and final live points; error sqrt(H / live_points) accumulated over the run "
     "(Skilling 2006), H the information, the statistical scatter of the prior-volume shrinkage only"
@@ -129,6 +132,12 @@ class NestedResult:
         }
 
 
+def _log_progress(results, niter, ncall, **_):
+    """One line of progress per :data:`PROGRESS_EVERY` iterations (dynesty's ``print_func``)."""
+    if niter % PROGRESS_EVERY == 0:
+        log.info("iteration %d: %d likelihood calls, ln Z %.2f", niter, ncall, results.logz)
+
+
 def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, resume=False):
     """Run dynesty until the evidence left in the live points is below ``settings.dlogz``.
 
@@ -143,7 +152,8 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
     cores : int
         Processes drawing proposals side by side.
     progress : bool
-        Show dynesty's progress bar.
+        Report progress: dynesty's redrawn bar on a terminal, else a logged line every
+        :data:`PROGRESS_EVERY` iterations.
     resume : bool
         Continue the run saved in ``checkpoint``.
 
@@ -170,7 +180,8 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
                 sampler.run_nested(
                     dlogz=settings.dlogz,
                     maxcall=settings.max_likelihood_calls,
-                    print_progress=progress,
+                    print_progress=bool(progress),
+                    print_func=None if redrawn_progress(progress) else _log_progress,
                     checkpoint_file=str(checkpoint),
                     checkpoint_every=CHECKPOINT_SECONDS,
                     save_bounds=False,

@@ -27,6 +27,11 @@ def photometry_noise_prediction(posterior, values, orbits, index):
     return m.noise.predict(m.data.flux - m.flux(values, orbits), values)
 
 
+def has_regressor_trend(posterior, index):
+    """Whether dataset ``index``'s baseline follows regressors (observing conditions) and time."""
+    return hasattr(posterior.model.photometry[index].baseline, "trend")
+
+
 def has_variability_model(posterior, index):
     """Whether dataset ``index``'s noise model predicts correlated variability (a GP)."""
     return posterior.model.photometry[index].noise.correlated

@@ -23,8 +23,8 @@ import numpy as np
 
 from planetfit.core.errors import InputError
 from planetfit.core.units import HOURS_PER_DAY, MINUTES_PER_DAY
-from planetfit.inputs import cleaning
-from planetfit.inputs.fits import is_fits, read_fits_table
+from planetfit.inputs import cleaning, products
+from planetfit.inputs.fits import is_fits
 from planetfit.inputs.tables import read_table
 from planetfit.inputs.timesystems import check_time_references, to_bjd_tdb
 
@@ -41,6 +41,7 @@ class Reading:
     rows_read: int = 0
     rows_selected: int = 0
     warnings: list = dataclasses.field(default_factory=list)
+    product: dict = dataclasses.field(default_factory=dict)  # light curves: exposure, its source, the quality rule
 
     def counts(self):
         """The reading facts of the ``data`` block of summary.json."""
@@ -50,6 +51,7 @@ class Reading:
             "repeated_times": self.repeated_times,
             "rows_read": self.rows_read,
             "rows_selected": self.rows_selected,
+            **self.product,
         }
 
 
@@ -70,6 +72,7 @@ class Photometry:
     clipped: int = 0
     dropped_far_from_transits: int = 0
     reading: Reading = dataclasses.field(default_factory=Reading)
+    regressors: dict = dataclasses.field(default_factory=dict)  # file column -> values (baseline regressors)
 
     def counts(self):
         """Point counts of the cleaning steps and how the rows were read (the ``data`` block of summary.json)."""
@@ -101,8 +104,12 @@ class Velocities:
         return {"points": int(self.time.size), "dropped_nan": self.dropped_nan, **self.reading.counts()}
 
 
-def _clean(path, table, cfg):
-    """Drop NaN rows, reject inf and non-positive errors, sort by time; return (table, dropped, facts)."""
+def _clean(path, table, cfg, rule=None):
+    """Drop NaN rows, reject inf and non-positive errors, sort by time; return (table, dropped, facts).
+
+    ``rule`` (a light curve's :class:`~planetfit.inputs.products.QualityRule`) names the quality flags of
+    rejected rows in the message.
+    """
     name = cfg.name
     nan_rows = np.any([np.isnan(v) for v in table.values()], axis=0)
     good = ~nan_rows
@@ -126,12 +133,7 @@ def _clean(path, table, cfg):
             )
     bad = np.flatnonzero(t["error"] <= 0)
     if bad.size:
-        raise InputError(
-            f"{bad.size} rows have zero or negative uncertainties (first at time {t['time'][bad[0]]:.6f}).",
-            file=path,
-            key=f"{cfg.section}.columns.error",
-            fix="give positive 1-sigma uncertainties, or remove those rows.",
-        )
+        products.non_positive_errors(path, t, bad, cfg, rule)
     unsorted = bool(np.any(np.diff(t["time"]) < 0))
     if unsorted:  # published tables are often grouped by instrument or night, not sorted by time
         order = np.argsort(t["time"], kind="stable")
@@ -145,8 +147,7 @@ def _clean(path, table, cfg):
 def quality_mask(quality, keep_bits):
     """True for rows whose quality bitmask has a set bit outside ``keep_bits`` (bit n has value 2**(n - 1))."""
     keep = sum(1 << (b - 1) for b in keep_bits)
-    flags = quality.astype(np.int64)
-    return (flags & ~keep) != 0
+    return products.QualityRule(drop_mask=products.ALL_BITS & ~keep).flagged(quality)
 
 
 def label_warning(cfg, path, label_columns, what):
@@ -164,8 +165,15 @@ def label_warning(cfg, path, label_columns, what):
 
 def _text_table(cfg, path, columns, what):
     """Columns of a text table (times in full JD of the dataset's system) and a label warning or None."""
+    keys = {o: "baseline.regressors" for o in columns if o.startswith(products.REGRESSOR)}
     table = read_table(
-        path, columns, header=cfg.header, select=cfg.select, key_prefix=f"{cfg.section}.", max_mb=cfg.max_file_mb
+        path,
+        columns,
+        header=cfg.header,
+        select=cfg.select,
+        key_prefix=f"{cfg.section}.",
+        keys=keys,
+        max_mb=cfg.max_file_mb,
     )
     out = dict(table.columns)
     out["time"] = out["time"] + cfg.time_offset_days
@@ -180,11 +188,7 @@ def _to_bjd(cfg, time, star):
 
 
 def _read_light_curve(cfg, path):
-    """One file's table (full JD times), its quality-flagged rows dropped, (rows read, kept) and a warning."""
-    columns = cfg.columns.model_dump()
-    if cfg.quality_column is not None:
-        columns["quality"] = cfg.quality_column
-    rows, warning = None, None
+    """One file's table (full JD times) with its quality rule, (rows read, kept), cadence and a warning."""
     if is_fits(path):
         if cfg.time_offset_days != 0.0:
             raise InputError(
@@ -194,17 +198,23 @@ def _read_light_curve(cfg, path):
                 key=f"{cfg.section}.time_offset_days",
                 fix="remove 'time_offset_days' from this dataset.",
             )
-        table = read_fits_table(path, columns, cfg.max_file_mb, f"{cfg.section}.")
-        rows = (table["time"].size,) * 2
-    else:
-        table, rows, warning = _text_table(cfg, path, columns, "one flux level and one jitter")
-    flagged = 0
+        table, rule, cadence = products.read_fits_photometry(cfg, path)
+        return table, rule, (table["time"].size,) * 2, cadence, None
+    rule = products.quality_rule(cfg, None, path)
+    columns = cfg.columns.model_dump() | ({"quality": rule.column} if rule.column is not None else {})
+    columns |= {f"{products.REGRESSOR}{c}": c for c in cfg.regressor_columns}
+    table, rows, warning = _text_table(cfg, path, columns, "one flux level and one jitter")
     if "quality" in table:
-        quality = np.nan_to_num(table.pop("quality"), nan=0.0)
-        bad = quality_mask(quality, cfg.quality_keep_bits)
-        flagged = int(bad.sum())
-        table = {k: v[~bad] for k, v in table.items()}
-    return table, flagged, rows, warning
+        table["quality"] = np.nan_to_num(table["quality"], nan=0.0)
+    return table, rule, rows, (None, None), warning
+
+
+def _drop_flagged(table, rule):
+    """The rows of ``table`` without a flag of ``rule``, and how many were dropped."""
+    if "quality" not in table:
+        return table, 0
+    bad = rule.flagged(table["quality"])
+    return {k: v[~bad] for k, v in table.items()}, int(bad.sum())
 
 
 def read_photometry(cfg, star=None):
@@ -217,32 +227,39 @@ def read_photometry(cfg, star=None):
     star : StarConfig
         Its sky position converts HJD_UTC times.
     """
-    parts, flagged, rows, warnings = [], 0, np.zeros(2, dtype=int), []
+    parts, flagged, rows, warnings, cadences = [], 0, np.zeros(2, dtype=int), [], []
     for path in cfg.files:
-        table, n, counted, warning = _read_light_curve(cfg, path)
+        table, rule, counted, cadence, warning = _read_light_curve(cfg, path)
+        table, n = _drop_flagged(table, rule)
         parts.append(table)
         flagged += n
         rows += counted
+        cadences.append(cadence)
         warnings += [warning] if warning else []
+    exposure, exposure_from = products.exposure_min(cfg, cadences)
     table = {k: np.concatenate([t[k] for t in parts]) for k in parts[0]}
     if flagged:
-        log.info("%s: dropped %d rows with quality flags set", cfg.name, flagged)
-    table, dropped, facts = _clean(cfg.path, table, cfg)
+        log.info("%s: dropped %d rows with quality flags set (%s)", cfg.name, flagged, rule.source)
+    table, dropped, facts = _clean(cfg.path, table, cfg, rule)
+    table.pop("quality", None)
+    regressors = {c: table.pop(f"{products.REGRESSOR}{c}") for c in cfg.regressor_columns}
     reading = Reading(
         time_system=cfg.time_system, rows_read=int(rows[0]), rows_selected=int(rows[1]), warnings=warnings, **facts
     )
+    reading.product = {"exposure_min": exposure, "exposure_from": exposure_from, "quality_flags": rule.source}
     time = _to_bjd(cfg, table["time"], star)
     return Photometry(
         name=cfg.name,
         time=time,
         flux=table["flux"],
         error=table["error"],
-        exposure_days=cfg.exposure_min / MINUTES_PER_DAY,
+        exposure_days=exposure / MINUTES_PER_DAY,
         band=cfg.band_name,
         dropped_nan=dropped,
         segment=cleaning.segment_labels(time, cfg.segment_gap_days),
         dropped_quality=flagged,
         reading=reading,
+        regressors=regressors,
     )
 
 
@@ -304,7 +321,14 @@ def clean_photometry(d, cfg, planets=(), star=None, lit=()):
                 key=f"{cfg.section}.near_transits_hours",
                 fix="check the ephemeris priors, or widen the window.",
             )
-    return dataclasses.replace(d, time=d.time[keep], flux=d.flux[keep], error=d.error[keep], segment=d.segment[keep])
+    return dataclasses.replace(
+        d,
+        time=d.time[keep],
+        flux=d.flux[keep],
+        error=d.error[keep],
+        segment=d.segment[keep],
+        regressors={c: v[keep] for c, v in d.regressors.items()},
+    )
 
 
 def load_photometry(cfg, planets=(), star=None):

@@ -204,7 +204,7 @@ def _numbers(path, kept, index, columns, selected):
     return out
 
 
-def read_table(path, columns, header=True, select=None, key_prefix="", max_mb=MAX_TABLE_MB):
+def read_table(path, columns, header=True, select=None, key_prefix="", keys=None, max_mb=MAX_TABLE_MB):
     """Read the named columns of a CSV or whitespace text table.
 
     Parameters
@@ -218,6 +218,8 @@ def read_table(path, columns, header=True, select=None, key_prefix="", max_mb=MA
         Column -> value: keep only the rows whose column equals the value.
     key_prefix : str
         The dataset's config key (``velocities[0].``), put before the keys messages name.
+    keys : dict, optional
+        Our name -> the config key naming its column, where that is not ``columns.<our name>``.
     max_mb : float
         Largest file read (:func:`planetfit.inputs.files.check_readable`).
 
@@ -228,7 +230,8 @@ def read_table(path, columns, header=True, select=None, key_prefix="", max_mb=MA
     rows = _data_rows(path, max_mb, key_prefix)
     names, sep, data = _header(path, rows, header)
     head = rows[0][0]
-    index = {o: _column_index(path, names, c, f"{key_prefix}columns.{o}", head, header) for o, c in columns.items()}
+    keys = {o: f"{key_prefix}{(keys or {}).get(o, f'columns.{o}')}" for o in columns}
+    index = {o: _column_index(path, names, c, keys[o], head, header) for o, c in columns.items()}
     chosen = {
         str(c): (_column_index(path, names, c, f"{key_prefix}select.{c}", head, header), v)
         for c, v in (select or {}).items()

@@ -18,8 +18,9 @@ FAMILIES = (
     ),
     (
         "light_curve_",
-        "{dataset} against time: the data with the variability model added to the transit model (top), and the "
-        "light curve with the variability removed (bottom).",
+        "{dataset} against time: the data with the variability model added to the transit model, or the transit "
+        "model times the baseline's trend in observing conditions (dashed: the removed trend) (top), and the light "
+        "curve with them removed (bottom).",
     ),
     (
         "rv_phase_",

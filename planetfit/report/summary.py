@@ -9,6 +9,7 @@ import json
 
 import numpy as np
 
+from planetfit.context.derived import MASS_KEYS
 from planetfit.core.stats import stat
 from planetfit.report.files import write_text_atomic
 
@@ -35,9 +36,6 @@ PLANET_KEYS = (
     "insolation_earth",
 )
 
-#: Planet quantities that need RVs; transit-only fits report them as null.
-UNMEASURED_WITHOUT_RVS = ("rv_amplitude_ms", "mass_earth", "mass_jup", "density_gcc", "surface_gravity_ms2")
-
 
 def build_summary(config, model, derived, blocks, sampling):
     """The summary.json content.
@@ -58,8 +56,9 @@ def build_summary(config, model, derived, blocks, sampling):
     Quantities that no data constrain (the star's Teff and age always, its
     mass, radius and density without a transit) carry ``"prior_only": true``.
     Without RVs the semi-amplitude is held fixed, so no mass is measured:
-    transit-only fits report ``UNMEASURED_WITHOUT_RVS`` as null with a note,
-    not an upper limit (an upper limit would need a free K constrained by data).
+    such planets have ``mass_measured: false`` and report ``MASS_KEYS`` as
+    null with a note, not an upper limit (an upper limit would need a free K
+    constrained by data).
     """
     flagged = derived["prior_only"]
     star = {k: _stat(derived["star"][k], k in flagged["star"]) for k in STAR_KEYS if k in derived["star"]}
@@ -77,10 +76,11 @@ def build_summary(config, model, derived, blocks, sampling):
                 if p.inclination is None
                 else "not transiting: true mass from the inclination prior (inclination_deg is prior only)"
             )
-        if not config.velocities:
-            # K is held fixed without RVs: whatever mass follows from it was assumed, not measured.
-            entry.update(dict.fromkeys(UNMEASURED_WITHOUT_RVS))
-            entry["note"] = "no RVs: mass not measured (mass, density, gravity and K are null)"
+        entry["mass_measured"] = p.mass_measured
+        if not p.mass_measured:
+            # K is held fixed: whatever mass follows from it was assumed, not measured.
+            entry.update(dict.fromkeys(MASS_KEYS))
+            entry["note"] = "mass not measured (no RV semi-amplitude fitted): mass, density, gravity and K are null"
         entry.update(blocks[p.name])
         planets[p.name] = entry
     fitted = {name: stat(derived["parameters"][name]) for name in derived["parameter_names"]}
@@ -121,10 +121,11 @@ def write_summary_json(path, summary):
 
 
 def posterior_columns(derived):
-    """Column name -> per-sample array for posterior.csv (star_*, <planet>_*)."""
+    """Column name -> per-sample array for posterior.csv (star_*, <planet>_*; unmeasured masses left out)."""
     cols = {f"star_{k}": v for k, v in derived["star"].items()}
     for name, q in derived["planets"].items():
-        cols.update({f"{name}_{k}": v for k, v in q.items()})
+        skip = derived.get("unmeasured", {}).get(name, ())
+        cols.update({f"{name}_{k}": v for k, v in q.items() if k not in skip})
     return cols
 
 

@@ -132,9 +132,11 @@ def _fitted_rows(summary, parameters):
         return Row("", p.quantity, p.qualifier, p.prior, fitted[p.name], f"fitted_parameters.{p.name}")
 
     rows = [Row("Fitted parameters"), Row("Star")] + [row(p) for p in parameters if p.group == "star"]
-    for pname in summary["planets"]:
+    for pname, planet in summary["planets"].items():
         rows.append(Row(f"Planet {pname}"))
-        rows += [row(p) for p in parameters if p.group == "planet" and p.owner == pname]
+        # A transit-only planet's K is held at 0 so that no mass is sampled: not a value to table.
+        held = {"rv_amplitude_ms"} if planet.get("mass_measured") is False else set()
+        rows += [row(p) for p in parameters if p.group == "planet" and p.owner == pname and p.key not in held]
     instruments = [row(p) for p in parameters if p.group == "instrument"]
     return rows + ([Row("Instruments")] + instruments if instruments else [])
 
@@ -151,7 +153,7 @@ def _derived_rows(summary, priors, eccentric):
     for pname, p in summary["planets"].items():
         rows.append(Row(f"Planet {pname}" + ("" if eccentric[pname] else " (circular orbit)")))
         for k in _PLANET_DERIVED:
-            if k not in p or (not eccentric[pname] and k in ("eccentricity", "omega_deg")):
+            if p.get(k) is None or (not eccentric[pname] and k in ("eccentricity", "omega_deg")):
                 continue
             prior = priors.get(f"{pname}.{k}") if (p[k] or {}).get("prior_only") else None
             rows.append(Row("", q.planet_quantity(k, p["transits"]), "", prior, p[k], f"planets.{pname}.{k}"))

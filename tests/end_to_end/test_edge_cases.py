@@ -12,6 +12,7 @@ from scipy import optimize
 from synthetic import write_tiny_system as write_system
 
 from planetfit import pipeline
+from planetfit.cli import main
 from planetfit.core.geometry import planet_mass_kg, solve_orbit
 from planetfit.core.units import M_EARTH_KG, M_SUN_KG
 from planetfit.fitting.components.transit import TransitLightCurve
@@ -144,14 +145,25 @@ def test_rv_only_planet_with_an_inclination_prior_gets_its_true_mass(tmp_path):
     assert "prior only" in (run_dir / "table.tex").read_text()
 
 
-def test_transit_only_fit_reports_no_mass(tmp_path, no_figures):
+def test_transit_only_fit_reports_no_mass(tmp_path, capsys):
+    # A planet without rv_amplitude_ms and no RVs: the config checks, and no mass is sampled or reported.
     config = write_system(tmp_path, velocities=False, max_steps=300)
-    summary = json.loads((pipeline.run(config, quiet=True) / "summary.json").read_text())
+    assert "rv_amplitude_ms" not in config.read_text()
+    assert main(["check", str(config)]) == 0
+    assert "b.rv_amplitude_ms" not in capsys.readouterr().out  # not among the free parameters
+    run_dir = pipeline.run(config, quiet=True, figures=False)
+    summary = json.loads((run_dir / "summary.json").read_text())
     b = summary["planets"]["b"]
+    assert b["mass_measured"] is False
     assert b["mass_earth"] is None and b["density_gcc"] is None and b["rv_amplitude_ms"] is None
-    assert "no RVs" in b["note"]
+    assert "mass not measured" in b["note"]
     assert _within_3_sigma(b["radius_ratio"], 0.04)  # the simulated radius ratio
-    assert b["composition"] is None
+    assert b["radius_earth"]["median"] > 0
+    assert b["composition"]["verdict"].startswith("needs a mass")
+    table = (run_dir / "summary.md").read_text()
+    assert "Bulk density" not in table and "needs a mass" in table and "Radius" in table
+    assert "| RV semi-amplitude" not in table
+    assert "b_density_gcc" not in (run_dir / "posterior.csv").read_text().splitlines()[0]
 
 
 def test_transit_only_run_draws_its_figures(tmp_path):

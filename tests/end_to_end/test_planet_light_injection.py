@@ -8,14 +8,18 @@ MCMC run gives the same picture (see the issue's closing note).
 import copy
 import math
 
+import astropy.units as u
 import numpy as np
 import pytest
 import yaml
-from scipy import optimize
+from astropy.modeling.models import BlackBody
+from scipy import integrate, optimize
 
 from planetfit import pipeline
+from planetfit.context.light import brightness_temp_k
 from planetfit.demo import hot_giant
 from planetfit.fitting.laplace import laplace_covariance
+from planetfit.inputs.schema.datasets import BANDS_FOLDER
 
 SEEDS = (101, 202, 303)
 LIGHT = ("eclipse_depth_ppm", "nightside_ppm", "hotspot_offset_deg")
@@ -34,7 +38,7 @@ def _fit(folder, seed, with_light):
     hot_giant.write(folder, seed=seed, truth=truth)
     config = yaml.safe_load(hot_giant.CONFIG.read_text())
     if not with_light:
-        del config["photometry"][0]["planet_light"], config["photometry"][0]["band_wavelength_um"]
+        del config["photometry"][0]["planet_light"], config["photometry"][0]["band_response"]
     (folder / "config.yaml").write_text(yaml.safe_dump(config))
     post = pipeline.check(folder / "config.yaml").posterior
     layout = post.layout
@@ -100,3 +104,54 @@ def test_planet_light_recovered_and_eclipse_pins_e_cos_w(tmp_path, seed):
     dark = _e_cos_w_sd(*_fit(tmp_path / "dark", seed, with_light=False), rng)
     print(f"seed {seed}: sd(e cos w) {with_light:.2e} with the planet's light, {dark:.2e} without")
     assert dark > 5 * with_light, (dark, with_light)
+
+
+def _kepler_band_depth_ppm(temp_k, radius_ratio, star_teff_k):
+    """Eclipse depth of a blackbody planet in the Kepler band, integrated here independently of planetfit:
+    the shipped response read with numpy, astropy's Planck function, photon-weighted (lambda x throughput)
+    and integrated by scipy's trapezoid rule."""
+    table = np.loadtxt(BANDS_FOLDER / "kepler.csv", delimiter=",", comments="#", skiprows=4)
+    lam, thr = table[:, 0], table[:, 1]
+
+    def flux(temp):
+        return integrate.trapezoid(lam * thr * BlackBody(temp * u.K)(lam * u.um).value / lam**2, lam)
+
+    return 1e6 * radius_ratio**2 * flux(temp_k) / flux(star_teff_k)
+
+
+@pytest.mark.slow
+def test_kepler_band_brightness_temperature_recovered(tmp_path):
+    # common practice, no published source: on noise-free data (the expected light curve) the fit of an injected
+    # 2600 K dayside, seen in the built-in Kepler band, returns its brightness temperature within 1 sigma.
+    truth = copy.deepcopy(hot_giant.TRUTH)
+    k, teff, t_day = truth["b"]["radius_ratio"], truth["star"]["teff_k"], 2600.0
+    depth = _kepler_band_depth_ppm(t_day, k, teff)
+    truth["light"] = {"eclipse_depth_ppm": depth, "nightside_ppm": 0.0, "hotspot_offset_deg": 0.0}
+    hot_giant.write(tmp_path, truth=truth)
+    table = np.loadtxt(tmp_path / "photometry.csv", delimiter=",", skiprows=1)
+    table[:, 1] = hot_giant.light_curve(table[:, 0], truth)
+    np.savetxt(
+        tmp_path / "photometry.csv", table, delimiter=",", fmt="%.8f", header="bjd_tdb,flux,flux_err", comments=""
+    )
+    config = yaml.safe_load(hot_giant.CONFIG.read_text())
+    config["photometry"][0]["band_response"] = "kepler"
+    config["photometry"][0]["planet_light"]["b"] = {
+        "eclipse_depth_ppm": {"uniform": [0, 1000]},
+        "nightside_ppm": 0.0,
+        "hotspot_offset_deg": 0.0,
+    }
+    (tmp_path / "config.yaml").write_text(yaml.safe_dump(config))
+    post = pipeline.check(tmp_path / "config.yaml").posterior
+    layout = post.layout
+    x0 = _truth_vector(layout, truth)
+    x0[layout.free.index("camera.flux_level")] = 1.0
+    theta, cov = _maximum(post.log_prob_many, x0, layout)
+    rng = np.random.default_rng(5)
+    draws = layout.values(rng.multivariate_normal(theta, cov, 4000))
+    band = post.model.lights["camera", "b"].response
+    temps = brightness_temp_k(
+        draws["b.camera.eclipse_depth_ppm"] * 1e-6, draws["b.radius_ratio"], rng.normal(teff, 100.0, 4000), band
+    )
+    middle, sd = float(np.median(temps)), float(np.std(temps))
+    print(f"Kepler band: depth {depth:.1f} ppm, brightness temperature {middle:.0f} +- {sd:.0f} K (truth {t_day:.0f})")
+    assert abs(middle - t_day) < sd

@@ -5,11 +5,13 @@ the first basis column being all ones: :attr:`basis` (N, k) is fixed,
 :meth:`coefficients` and :meth:`flux` take parameter values. A dataset
 whose variability is a Gaussian process has a constant baseline; the
 process is its noise model (:mod:`planetfit.fitting.components.gp`).
+:attr:`linear` lists the parameters the flux is linear in once multiplied
+by the level (slopes, regressor coefficients), for analytic marginalisation.
 """
 
 import numpy as np
 
-from planetfit.core.quantities import DATASET
+from planetfit.core.quantities import DATASET, regressor_quantity, time_power_quantity
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
 
@@ -17,10 +19,11 @@ from planetfit.inputs import schema
 class ConstantBaseline:
     """One flux level F0 for the whole dataset."""
 
-    def __init__(self, block, times):
+    def __init__(self, block, data):
         self.level = Parameter(block.name, "flux_level", block.flux_level, DATASET["flux_level"])
         self.parameters = [self.level]
-        self.basis = np.ones((np.size(times), 1))
+        self.linear = [self.level]
+        self.basis = np.ones((np.size(data.time), 1))
 
     def coefficients(self, values):
         return [values[self.level.name]]
@@ -32,10 +35,12 @@ class ConstantBaseline:
 class LinearBaseline(ConstantBaseline):
     """F0 [1 + s (t - t_mid)], with t_mid the middle of the dataset's time span."""
 
-    def __init__(self, block, times):
-        super().__init__(block, times)
+    def __init__(self, block, data):
+        super().__init__(block, data)
+        times = data.time
         self.slope = Parameter(block.name, "slope_per_day", block.slope_per_day, DATASET["slope_per_day"])
         self.parameters = [self.level, self.slope]
+        self.linear = list(self.parameters)
         self.dt_days = times - 0.5 * (times[0] + times[-1])
         self.basis = np.column_stack([np.ones(self.dt_days.size), self.dt_days])
 
@@ -47,4 +52,46 @@ class LinearBaseline(ConstantBaseline):
         return values[self.level.name] * (1 + values[self.slope.name] * self.dt_days)
 
 
-BASELINES = {schema.LinearBaseline: LinearBaseline, schema.Photometry: ConstantBaseline}
+class RegressorBaseline(ConstantBaseline):
+    """F0 (1 + sum_j c_j z_j + sum_k p_k dt^k) for ground-based light curves.
+
+    z_j is regressor j (airmass, seeing, centroid, ...) standardised over the
+    dataset (mean removed, divided by its standard deviation), dt the time
+    from the middle of the span in days. The coefficients c_j and p_k are
+    sampled until they are marginalised analytically (:attr:`linear`).
+    """
+
+    def __init__(self, block, data):
+        super().__init__(block, data)
+        spec, name = block.baseline, block.name
+        columns = [np.asarray(data.regressors[c], dtype=float) for c in spec.regressors]
+        z = [(x - x.mean()) / (x.std() if x.std() > 0 else 1.0) for x in columns]
+        dt = data.time - 0.5 * (data.time[0] + data.time[-1])
+        self.terms = z + [dt**k for k in range(1, spec.time_degree + 1)]
+        self.coefficient_parameters = [
+            Parameter(name, f"regressor_{c}", spec.coefficient, regressor_quantity(c)) for c in spec.regressors
+        ] + [
+            Parameter(name, f"time_power_{k}", spec.coefficient, time_power_quantity(k))
+            for k in range(1, spec.time_degree + 1)
+        ]
+        self.parameters = [self.level, *self.coefficient_parameters]
+        self.linear = list(self.parameters)
+        self.basis = np.column_stack([np.ones(dt.size), *self.terms])
+
+    def coefficients(self, values):
+        level = values[self.level.name]
+        return [level] + [level * values[p.name] for p in self.coefficient_parameters]
+
+    def trend(self, values):
+        """The relative trend 1 + sum of the terms (without the level), at the dataset's times."""
+        return 1 + sum(values[p.name] * term for p, term in zip(self.coefficient_parameters, self.terms))
+
+    def flux(self, values):
+        return values[self.level.name] * self.trend(values)
+
+
+BASELINES = {
+    schema.LinearBaseline: LinearBaseline,
+    schema.RegressorBaseline: RegressorBaseline,
+    schema.Photometry: ConstantBaseline,
+}

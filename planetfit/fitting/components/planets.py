@@ -41,7 +41,8 @@ class Planet:
 
         self.period = declare("period_days", block.period_days)
         self.transit_time = declare("transit_bjd", block.transit_bjd)
-        self.amplitude = declare("rv_amplitude_ms", block.rv_amplitude_ms)
+        self.amplitude = declare("rv_amplitude_ms", block.amplitude_prior)
+        self.mass_measured = block.mass_measured
         self.orbit = component_for(block, ORBITS)(block)
         self.radius_ratio = declare("radius_ratio", block.radius_ratio) if self.transits else None
         self.impact = declare("impact", block.impact) if self.transits else None

@@ -17,6 +17,7 @@ from .datasets import (
     OscillatorGP,
     Photometry,
     QuadraticLaw,
+    RegressorBaseline,
     SharedGP,
     Velocities,
 )
@@ -44,6 +45,7 @@ __all__ = [
     "Photometry",
     "QuadraticLaw",
     "QuadraticTrend",
+    "RegressorBaseline",
     "RvActivity",
     "RvOnlyKeys",
     "Sampling",

@@ -160,10 +160,17 @@ def _check_data_present(config):
                 "add a 'photometry' dataset, or set 'transits: false'.",
                 key=f"/planets.{name}.transits",
             )
-        if not config.velocities and not p.rv_amplitude_ms.fixed:
+        if not config.velocities and p.rv_amplitude_ms is not None and not p.rv_amplitude_ms.fixed:
             fail(
                 "no radial velocities are given to constrain it.",
-                "fix it to 0 (transit-only fit) or add a 'velocities' dataset.",
+                "remove 'rv_amplitude_ms' (a transit-only fit needs none: the mass is then not measured) or add a "
+                "'velocities' dataset.",
+                key=f"/planets.{name}.rv_amplitude_ms",
+            )
+        if config.velocities and p.rv_amplitude_ms is None:
+            fail(
+                "the planet has no RV semi-amplitude prior, and radial velocities are given.",
+                "add e.g. 'rv_amplitude_ms: {uniform: [0, 50]}' (or 0 to leave the planet out of the RV model).",
                 key=f"/planets.{name}.rv_amplitude_ms",
             )
 
@@ -192,8 +199,9 @@ def _check_planet_light(config):
         if d.planet_light and d.band_wavelength_um is None and d.band_response is None:
             fail(
                 "the planet's light needs the band's wavelength for its brightness temperature.",
-                "add e.g. 'band_wavelength_um: 0.8' (the band's effective wavelength, microns), or "
-                "'band_response: <file>' (columns wavelength_um, throughput).",
+                "add 'band_response: <band>' with a built-in band (kepler, tess, cheops, spitzer-3.6, spitzer-4.5) "
+                "or a table's path (columns wavelength_um, throughput), or 'band_wavelength_um: <microns>' (one "
+                "wavelength: too crude for a broad optical band).",
                 key=f"/photometry[{i}].band_wavelength_um",
             )
         if d.band_wavelength_um is not None and d.band_response is not None:

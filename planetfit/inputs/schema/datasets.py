@@ -1,7 +1,7 @@
 """The ``photometry`` and ``velocities`` dataset blocks.
 
-A photometric dataset is one of five variants by its baseline and noise:
-``baseline: constant`` or ``linear`` (white noise), or ``baseline: gp``
+A photometric dataset is one of six variants by its baseline and noise:
+``baseline: constant`` or ``linear`` or ``{regressors: [...]}`` (white noise), or ``baseline: gp``
 with its own damped-oscillator (``gp_kernel: sho``) or Matern-3/2 kernel,
 or with the kernel of another dataset (``gp_shared_with``).
 """
@@ -24,6 +24,15 @@ from .light import PlanetLight
 SHO_QUALITY_DEFAULT = 1 / math.sqrt(2)
 BASELINES = Literal["constant", "linear", "gp"]
 GP_KERNELS = Literal["sho", "matern32"]
+#: The flux of a mission light-curve product: the corrected one (PDCSAP) or the simple-aperture one (SAP).
+MISSION_FLUXES = Literal["pdcsap", "sap"]
+#: The ``quality_column`` value that turns quality filtering off, also for mission products.
+NO_QUALITY = "none"
+#: Response tables any light curve may name by ``band_response: <name>`` (planetfit/data/bands/<name>.csv).
+BUILT_IN_BANDS = ("kepler", "tess", "cheops", "spitzer-3.6", "spitzer-4.5")
+BANDS_FOLDER = Path(__file__).resolve().parents[2] / "data" / "bands"
+#: Endings of a response table's file name (a ``band_response`` without one, and no folder, names a band).
+TABLE_SUFFIXES = (".csv", ".txt", ".dat", ".tsv", ".ecsv", ".tbl")
 
 NonNegativeJitter = prior_within(0.0, math.inf, "a jitter cannot be negative.", "use a lower bound of 0 or above.")
 UnitInterval = prior_within(0.0, 1.0, "Kipping's q1 and q2 live in [0, 1].", "keep the prior inside [0, 1].")
@@ -127,7 +136,8 @@ class Photometry(Dataset):
     """A light curve (text table or FITS), its cleaning, limb darkening, baseline level, jitter and dilution."""
 
     columns: PhotometryColumns = PhotometryColumns()
-    exposure_min: PositiveNumber
+    exposure_min: Optional[PositiveNumber] = None
+    mission_flux: MISSION_FLUXES = "pdcsap"
     supersample: Optional[Count] = None
     band: Optional[str] = None
     limb_darkening: LimbDarkeningLaw = "quadratic"
@@ -158,8 +168,32 @@ class Photometry(Dataset):
     _band_response_path: Optional[Path] = PrivateAttr(None)
 
     def columns_used(self):
-        extra = [("quality_column", self.quality_column)] if self.quality_column is not None else []
-        return super().columns_used() + extra
+        named = self.named_quality_column
+        return super().columns_used() + ([("quality_column", named)] if named is not None else [])
+
+    @property
+    def quality_off(self):
+        """Whether quality filtering is turned off (``quality_column: none``)."""
+        return isinstance(self.quality_column, str) and self.quality_column.lower() == NO_QUALITY
+
+    @property
+    def named_quality_column(self):
+        """The quality column the config names (None: the mission product's own, or filtering off)."""
+        return None if self.quality_off else self.quality_column
+
+    @property
+    def simple_aperture(self):
+        """Whether a mission product's simple-aperture flux (SAP) is fitted instead of the corrected one."""
+        return self.mission_flux == "sap"
+
+    @property
+    def regressor_columns(self):
+        """File columns the baseline is linear in (none but for ``baseline: {regressors: [...]}``)."""
+        return []
+
+    def column_given(self, ours):
+        """Whether the config names the file column of ``ours`` (else a mission product's column is used)."""
+        return ours in self.columns.model_fields_set
 
     @model_validator(mode="after")
     def _supersample_fits_in_memory(self):
@@ -176,18 +210,40 @@ class Photometry(Dataset):
 
     @model_validator(mode="after")
     def _keep_bits_need_a_column(self):
-        if self.quality_keep_bits and self.quality_column is None:
+        if self.quality_keep_bits and self.quality_off:
             fail(
-                "bits to keep need a quality column.",
-                "add 'quality_column: <column name>' or remove 'quality_keep_bits'.",
+                "bits to keep need a quality column, and 'quality_column: none' turns quality filtering off.",
+                "remove 'quality_keep_bits', or name the quality column (mission products find their own).",
                 key="quality_keep_bits",
+            )
+        return self
+
+    @model_validator(mode="after")
+    def _band_is_known(self):
+        name = self.band_response
+        if name is None or name.lower() in BUILT_IN_BANDS:
+            return self
+        if "/" not in name and "\\" not in name and not name.lower().endswith(TABLE_SUFFIXES):
+            fail(
+                f"'{name}' is not a band planetfit knows, nor a response table's file name.",
+                f"use one of the built-in bands ({', '.join(BUILT_IN_BANDS)}), or give a table's path "
+                "(columns wavelength_um, throughput).",
+                key="band_response",
             )
         return self
 
     def resolve(self, folder, section):
         super().resolve(folder, section)
-        if self.band_response is not None:
+        if self.built_in_band is not None:
+            self._band_response_path = BANDS_FOLDER / f"{self.built_in_band}.csv"
+        elif self.band_response is not None:
             self._band_response_path = (Path(folder) / self.band_response).resolve()
+
+    @property
+    def built_in_band(self):
+        """The built-in band named by ``band_response`` (lower case), or None for a table of the user's."""
+        name = (self.band_response or "").lower()
+        return name if name in BUILT_IN_BANDS else None
 
     @property
     def band_response_path(self):
@@ -208,6 +264,43 @@ class LinearBaseline(Photometry):
     variant = {"baseline": "linear"}
     baseline: BASELINES
     slope_per_day: PriorSpec = Uniform(-0.01, 0.01)
+
+
+class Regressors(Block):
+    """Observing conditions the flux level follows linearly (columns of the file), and a polynomial in time.
+
+    Each regressor is standardised (its mean removed, divided by its standard deviation), so a coefficient is
+    the relative flux change per standard deviation of the regressor.
+    """
+
+    regressors: Annotated[list[Column], Field(min_length=1)]
+    time_degree: Annotated[int, Field(ge=0, le=3)] = 0
+    coefficient: PriorSpec = Uniform(-0.1, 0.1)
+
+
+class RegressorBaseline(Photometry):
+    """A ground-based light curve: F0 (1 + sum_j c_j z_j + sum_k p_k dt^k), z_j the standardised regressors."""
+
+    variant = {"baseline": "<regressors: [...]>"}
+    baseline: Regressors
+
+    def columns_used(self):
+        return super().columns_used() + [("baseline.regressors", c) for c in self.baseline.regressors]
+
+    @property
+    def regressor_columns(self):
+        return list(self.baseline.regressors)
+
+    @model_validator(mode="after")
+    def _regressors_are_other_columns(self):
+        for column in self.baseline.regressors:
+            if column in self.columns.model_dump().values():
+                fail(
+                    f"'{column}' is already the time, flux or error column.",
+                    "name columns of observing conditions (e.g. airmass, fwhm, x, y).",
+                    key="baseline.regressors",
+                )
+        return self
 
 
 class _OwnGP(Photometry):
@@ -240,6 +333,8 @@ class SharedGP(Photometry):
 
 
 def _photometry_variant(raw):
+    if isinstance(raw.get("baseline"), dict):
+        return "RegressorBaseline"
     if raw.get("baseline") == "gp":
         if "gp_shared_with" in raw:
             return "SharedGP"
@@ -247,7 +342,7 @@ def _photometry_variant(raw):
     return "LinearBaseline" if raw.get("baseline") == "linear" else "ConstantBaseline"
 
 
-PHOTOMETRY_VARIANTS = (ConstantBaseline, LinearBaseline, OscillatorGP, Matern32GP, SharedGP)
+PHOTOMETRY_VARIANTS = (ConstantBaseline, LinearBaseline, RegressorBaseline, OscillatorGP, Matern32GP, SharedGP)
 PhotometryDataset = variants(_photometry_variant, *PHOTOMETRY_VARIANTS)
 
 

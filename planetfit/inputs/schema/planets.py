@@ -11,7 +11,7 @@ from typing import Annotated, Literal, Optional
 
 from pydantic import AfterValidator, Field, PrivateAttr, model_validator
 
-from ..priors import Uniform
+from ..priors import Fixed, Uniform
 from ..stellar_relations import RelationError, resolve_mass_radius
 from .base import Block, variants
 from .fields import Number, PositiveNumber, PriorSpec, fail, lowest, positive_prior, prior_within
@@ -80,17 +80,31 @@ def _non_negative_amplitude(prior):
 
 
 class PlanetBlock(Block):
-    """What every planet has: its ephemeris and RV semi-amplitude."""
+    """What every planet has: its ephemeris and, with RVs, its RV semi-amplitude.
+
+    A transiting planet fitted without RVs needs no ``rv_amplitude_ms``:
+    its mass is then not sampled (K is held at 0) and not reported.
+    """
 
     period_days: Annotated[PriorSpec, positive_prior("the period")]
     transit_bjd: PriorSpec
-    rv_amplitude_ms: Annotated[PriorSpec, AfterValidator(_non_negative_amplitude)]
+    rv_amplitude_ms: Optional[Annotated[PriorSpec, AfterValidator(_non_negative_amplitude)]] = None
     _name: str = PrivateAttr("")
 
     @property
     def name(self):
         """The planet's key in the ``planets`` block."""
         return self._name
+
+    @property
+    def amplitude_prior(self):
+        """The prior of K: the config's, or fixed at 0 for a planet without one (no mass measured)."""
+        return Fixed(0.0) if self.rv_amplitude_ms is None else self.rv_amplitude_ms
+
+    @property
+    def mass_measured(self):
+        """Whether the planet's mass is measured: its semi-amplitude is sampled (a prior, not a fixed value)."""
+        return self.rv_amplitude_ms is not None and not self.rv_amplitude_ms.fixed
 
 
 class CircularKeys(Block):

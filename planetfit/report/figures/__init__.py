@@ -68,7 +68,7 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
             )
     out += _light_builders(posterior, view, summary)
     for i, c in enumerate(checked.config.photometry):
-        if predictions.has_variability_model(posterior, i):
+        if predictions.has_variability_model(posterior, i) or predictions.has_regressor_trend(posterior, i):
             out.append((f"light_curve_{file_stem(c.name)}", partial(light_curve_figure, posterior, view, i)))
     if posterior.velocities:
         out += [(f"rv_phase_{file_stem(p.name)}", partial(rv_phase_figure, posterior, view, p)) for p in planets]

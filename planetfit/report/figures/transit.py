@@ -169,13 +169,14 @@ def _limits(ax, data, model):
 
 
 def light_curve_figure(posterior, view, index):
-    """Dataset ``index`` against time: data, the GP prediction plus the model, and the detrended light curve.
+    """Dataset ``index`` against time: data, the GP prediction or regressor trend with the model, and detrended.
 
     Returns
     -------
     matplotlib.figure.Figure
         Two axes: the data with the GP prediction added to the transit
-        model, and the data with the GP prediction removed.
+        model (or the model with its baseline trend in observing conditions),
+        and the data with the GP prediction and the baseline removed.
     """
     d = posterior.photometry[index]
     v, orbits = view.median, view.median_orbits
@@ -189,7 +190,7 @@ def light_curve_figure(posterior, view, index):
         fig = style.new_figure(style.PAGE_WIDTH_IN, 3.6)
         top, bottom = fig.subplots(2, 1, sharex=True)
         for ax, y, curve, label in (
-            (top, d.flux, model + gp, "GP prediction + transit model"),
+            (top, d.flux, model + gp, "GP prediction + transit model" if gp.any() else "trend x transit model"),
             (bottom, (d.flux - gp) / base, model / base, "transit model"),
         ):
             ax.plot(
@@ -210,5 +211,9 @@ def light_curve_figure(posterior, view, index):
         top.set_ylabel("Flux $-$ 1 [ppm]")
         bottom.set_ylabel("Detrended [ppm]")
         bottom.set_xlabel(f"Time [BJD$_\\mathrm{{TDB}}$ $-$ {t0:.0f}]")
-        fig.suptitle(f"{d.name}: variability (GP) and transits")
+        removed = "variability (GP)" if gp.any() else "trend in observing conditions (regressors)"
+        if not gp.any():
+            top.plot(x, (base - 1) / PPM, color=style.DATA_COLOUR, lw=0.8, ls="--", label="removed trend")
+            top.legend(loc="lower left", fontsize="small", markerscale=4)
+        fig.suptitle(f"{d.name}: {removed} and transits")
     return fig
