@@ -61,7 +61,7 @@ def add_context(config, model, derived, rng):
         if planet_settings is not settings:
             block["climate"]["cautions"].append(_MEASURED.format(planet_settings.albedo, settings.albedo))
         if p.transits and np.any(q["mass_earth"] > 0):
-            block["composition"] = interior.composition(q["mass_earth"], q["radius_earth"])
+            block["composition"] = interior.composition(q["mass_earth"], q["radius_earth"], q["equilibrium_temp_k"])
             block["atmosphere"] = atmosphere.atmosphere_block(
                 q["radius_earth"],
                 q["mass_earth"],
