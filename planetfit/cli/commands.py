@@ -153,7 +153,7 @@ def interior(args):
     if args.teq_k is not None and world is not None:
         upper = "unknown" if world["upper"] is None else f"{world['upper']:.3f}"
         print(
-            f"50% water world at T_eq {args.teq_k:g} K ({result['water_layer']} water): {world['lower']:.3f} to "
+            f"50% water world at T_eq {args.teq_k:g} K (water layer: {result['water_layer']}): {world['lower']:.3f} to "
             f"{upper} R_earth ({result['water_world_relation']}); p_water_rich_consistent = "
             f"{result['p_water_rich_consistent']:.3f}, p_needs_envelope = {result['p_needs_envelope']:.3f}, "
             f"p_water_or_gas_undetermined = {result['p_water_or_gas_undetermined']:.3f}"
