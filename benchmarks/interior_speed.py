@@ -1,4 +1,4 @@
-"""Interior benchmark: verdict speed, agreement with Zeng et al. (2016), Solar-System checks.
+"""Interior benchmark: verdict speed, agreement with Zeng et al. (2016) and (2019), Solar-System checks.
 
 Run with ``python benchmarks/interior_speed.py``; prints figures, asserts nothing.
 """
@@ -19,6 +19,30 @@ def classify_speed(n=100_000):
     result = composition(mass, radius)
     seconds = time.perf_counter() - start
     print(f"composition() on {n:,} samples: {seconds:.3f} s  (p_rocky = {result['p_rocky']:.3f})")
+    teq = rng.normal(700.0, 30.0, n)
+    start = time.perf_counter()
+    warm = composition(mass, radius, teq_k=teq)
+    warm_seconds = time.perf_counter() - start
+    print(
+        f"composition() with per-sample T_eq on {n:,} samples: {warm_seconds:.3f} s "
+        f"({warm_seconds / seconds:.2f}x; p_water_rich_consistent = {warm['p_water_rich_consistent']:.3f})"
+    )
+
+
+def water_world_table():
+    # source: Zeng et al. 2019, PNAS 116, 9723, 50 % water world at 300 K (authors' table, log-log interpolated)
+    zeng = {1.0: 1.241, 4.0: 1.805, 10.0: 2.271, 20.0: 2.664, 30.0: 2.899}
+    print("\n50 % water world (Earth-like interior) vs Zeng et al. 2019, 300 K")
+    print("  M_E   Zeng    solver  grid    deviation  water-base GPa  CPU s")
+    for mass, radius in zeng.items():
+        start = time.process_time()
+        s = solve_structure(mass, 0.325, 0.5)
+        cpu = time.process_time() - start
+        grid = float(reference_radius_earth("water_world", mass))
+        print(
+            f"  {mass:4.1f}  {radius:.3f}  {s.radius_earth:.3f}   {grid:.3f}   {s.radius_earth / radius - 1.0:+.2%}"
+            f"     {s.boundary_pressures_gpa['mantle']:7.0f}        {cpu:.2f}"
+        )
 
 
 def zeng_table():
@@ -56,4 +80,5 @@ def solar_system():
 if __name__ == "__main__":
     classify_speed()
     zeng_table()
+    water_world_table()
     solar_system()

@@ -140,7 +140,11 @@ def interior(args):
                 f"{name} needs a positive value and a non-negative uncertainty, got {value} {sig}.",
                 fix=f"e.g. {name} 5.0 0.8 (Earth units).",
             )
-    result = quick_verdict(args.mass[0], args.mass[1], args.radius[0], args.radius[1])
+    if args.teq_k is not None and not args.teq_k > 0:
+        raise InputError(
+            f"--teq-k needs a positive equilibrium temperature in K, got {args.teq_k}.", fix="e.g. --teq-k 700."
+        )
+    result = quick_verdict(args.mass[0], args.mass[1], args.radius[0], args.radius[1], teq_k=args.teq_k)
     if args.json:
         print(json.dumps(result, indent=2))
         return
@@ -150,6 +154,15 @@ def interior(args):
     )
     radii = ", ".join(f"{k} {v:.3f}" for k, v in result["reference_radii_earth"].items())
     print(f"reference radii at M = {args.mass[0]:g} M_earth: {radii} R_earth")
+    world = result["water_world_radius_earth"]
+    if args.teq_k is not None and world is not None:
+        upper = "unknown" if world["upper"] is None else f"{world['upper']:.3f}"
+        print(
+            f"50% water world at T_eq {args.teq_k:g} K (water layer: {result['water_layer']}): {world['lower']:.3f} to "
+            f"{upper} R_earth ({result['water_world_relation']}); p_water_rich_consistent = "
+            f"{result['p_water_rich_consistent']:.3f}, p_needs_envelope = {result['p_needs_envelope']:.3f}, "
+            f"p_water_or_gas_undetermined = {result['p_water_or_gas_undetermined']:.3f}"
+        )
     print(result["verdict"])
 
 

@@ -6,6 +6,7 @@ import sys
 
 from planetfit.cli import commands
 from planetfit.core.errors import InputError
+from planetfit.inputs.schema.settings import EARTH_CALIBRATED_TAU
 
 
 class _Parser(argparse.ArgumentParser):
@@ -121,6 +122,13 @@ def _add_calculator_parsers(sub):
     p.set_defaults(func=commands.interior)
     p.add_argument("--mass", nargs=2, type=float, required=True, metavar=("M", "SIG"))
     p.add_argument("--radius", nargs=2, type=float, required=True, metavar=("R", "SIG"))
+    p.add_argument(
+        "--teq-k",
+        type=float,
+        metavar="K",
+        help="equilibrium temperature (zero albedo, full redistribution): judges the water layer warm or cold "
+        "(default: a cold, 300 K water layer)",
+    )
     p.add_argument("--json", action="store_true")
     p = sub.add_parser("climate", help="temperatures and habitable-zone position for one star and orbit")
     p.set_defaults(func=commands.climate)
@@ -128,7 +136,12 @@ def _add_calculator_parsers(sub):
     p.add_argument("--radius-rsun", type=float, required=True, metavar="R")
     p.add_argument("--a-au", type=float, required=True, metavar="A")
     p.add_argument("--albedo", type=float, default=0.3)
-    p.add_argument("--tau", type=float, default=0.94)
+    p.add_argument(
+        "--tau",
+        type=float,
+        default=EARTH_CALIBRATED_TAU,
+        help=f"grey infrared optical depth (default {EARTH_CALIBRATED_TAU:.3f}, calibrated to Earth's 288 K)",
+    )
     p.add_argument("--json", action="store_true")
 
 

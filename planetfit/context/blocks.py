@@ -78,7 +78,7 @@ def _interior_and_atmosphere(config, p, q, star, rng):
         return {"composition": {"verdict": NEEDS_A_MASS, "mass_measured": False, "p_rocky": None}}
     if not np.any(q["mass_earth"] > 0):
         return {}
-    composition = interior.composition(q["mass_earth"], q["radius_earth"])
+    composition = interior.composition(q["mass_earth"], q["radius_earth"], q["equilibrium_temp_k"])
     composition.update(star_iron_block(config.star, q["mass_earth"], q["radius_earth"], rng))
     return {
         "composition": composition,

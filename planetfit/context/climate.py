@@ -9,7 +9,7 @@ import numpy as np
 from planetfit.core.stats import stat
 from planetfit.core.units import AU_M, L_SUN_W, R_SUN_M, S_EARTH_W_M2, SIGMA_SB_SI
 from planetfit.inputs.schema import Climate
-from planetfit.inputs.schema.settings import FULL_REDISTRIBUTION
+from planetfit.inputs.schema.settings import EARTH_CALIBRATED_TAU, FULL_REDISTRIBUTION
 
 # Habitable-zone limits of Kopparapu et al. (2014, ApJL 787, L29), Table 1:
 # S_eff = S_eff_sun + a T + b T^2 + c T^3 + d T^4 with T = Teff - 5780 K,
@@ -28,15 +28,17 @@ HZ_COEFFICIENTS = {
 HZ_REFERENCE_TEFF_K = 5780.0
 HZ_TEFF_RANGE_K = (2600.0, 7200.0)
 
-# Liquid surface water: 0 C to 65 C; above about 65 C a runaway greenhouse is
-# expected (fact of the trade).
+# Liquid surface water: 0 C to 65 C. About 65 C (340 K) is the moist-greenhouse
+# limit, where water vapour reaches the stratosphere and the oceans are lost to
+# photolysis and hydrogen escape (Kasting, Whitmire & Reynolds 1993, Icarus 101,
+# 108; value from memory: ~340 K); the runaway greenhouse lies beyond it.
 LIQUID_WATER_RANGE_K = (273.15, 338.15)
 
 # Host old enough for the screening flag (project brief, issue 5).
 MIN_HOST_AGE_GYR = 0.6
 
-# Host Teff range "late F to early L" studied by current surveys.  Upper bound
-# ~F5V, lower bound ~L1-L2V.
+# Host Teff range "mid-F to early L" studied by current surveys.  Upper bound
+# ~F5V (a mid-F dwarf), lower bound ~L1-L2V.
 # value from memory: Pecaut & Mamajek (2013, ApJS 208, 9) dwarf sequence,
 # F5V ~ 6500 K, L1-L2V ~ 2000 K.
 SURVEY_TEFF_RANGE_K = (2000.0, 6500.0)
@@ -162,11 +164,13 @@ def _temperatures(insolation, settings, rng):
     t_eq = equilibrium_temp_k(insolation, settings.albedo, settings.redistribution_factor)
     tau_lo, tau_hi = settings.tau_range
     tau = rng.uniform(tau_lo, tau_hi, size=t_eq.shape) if tau_hi > tau_lo else tau_lo
-    tau_text = f"tau uniform in [{tau_lo:g}, {tau_hi:g}]" if tau_hi > tau_lo else f"tau = {tau_lo:g}"
+    tau_text = f"tau uniform in [{tau_lo:g}, {tau_hi:g}]" if tau_hi > tau_lo else f"tau = {tau_lo:.3g}"
+    if tau_hi == tau_lo == EARTH_CALIBRATED_TAU:
+        tau_text += " (the default, calibrated to Earth's 288 K at Bond albedo 0.3)"
     caution = (
         f"p_surface_liquid_water: grey greenhouse with Bond albedo {settings.albedo:g} and {tau_text}; "
-        "0-65 C, above which a runaway greenhouse is expected. Says nothing about whether water or an "
-        "atmosphere is present."
+        "0-65 C, the upper end being the moist-greenhouse limit (about 340 K). Says nothing about whether "
+        "water or an atmosphere is present."
     )
     return t_eq, surface_temp_k(t_eq, tau), caution
 
@@ -219,7 +223,7 @@ def _host_flags(teff, star_age_gyr):
     in_survey = (teff >= SURVEY_TEFF_RANGE_K[0]) & (teff <= SURVEY_TEFF_RANGE_K[1])
     cautions.append(
         f"p_host_teff_in_survey_range: {SURVEY_TEFF_RANGE_K[0]:.0f}-{SURVEY_TEFF_RANGE_K[1]:.0f} K, "
-        "roughly late F to early L dwarfs; a screening range, not a physical limit."
+        "roughly mid-F (F5V) to early L dwarfs; a screening range, not a physical limit."
     )
     return {
         "p_host_older_than_0p6_gyr": p_age,
@@ -280,7 +284,7 @@ def climate_block(star_radius_rsun, star_teff_k, a_au, eccentricity, settings, s
     }
 
 
-def quick_climate(teff_k, radius_rsun, a_au, albedo=0.3, tau=0.94):
+def quick_climate(teff_k, radius_rsun, a_au, albedo=0.3, tau=EARTH_CALIBRATED_TAU):
     """Climate screening for single values (the ``planetfit climate`` command).
 
     Returns

@@ -37,6 +37,15 @@ def _rebound():
     return rebound
 
 
+def mutual_hill_radius(star_mass, inner_mass, outer_mass, a_inner, a_outer):
+    """Mutual Hill radius of two planets, ((m1 + m2) / (3 M*))^(1/3) (a1 + a2) / 2.
+
+    Chambers, Wetherill & Boss 1996, Icarus 119, 261, eq. 2: the mean of the
+    two semi-major axes (masses in one unit, axes in one unit).
+    """
+    return ((inner_mass + outer_mass) / (3.0 * star_mass)) ** (1.0 / 3.0) * 0.5 * (a_inner + a_outer)
+
+
 def megno(star_msun, planets, orbits):
     """Time-averaged MEGNO of one coplanar system after ``orbits`` orbits of its outermost planet.
 
@@ -62,7 +71,7 @@ def megno(star_msun, planets, orbits):
     sim.move_to_com()
     a = [sim.particles[i + 1].a for i in range(len(planets))]
     hill = min(
-        a[i] * ((planets[i]["mass_msun"] + planets[i + 1]["mass_msun"]) / (3 * star_msun)) ** (1 / 3)
+        mutual_hill_radius(star_msun, planets[i]["mass_msun"], planets[i + 1]["mass_msun"], a[i], a[i + 1])
         for i in range(len(planets) - 1)
     )
     sim.integrator = "whfast"

@@ -16,6 +16,7 @@ from planetfit.context.climate import (
 )
 from planetfit.core.units import S_EARTH_W_M2, T_EFF_SUN_K
 from planetfit.inputs.schema import Climate
+from planetfit.inputs.schema.settings import EARTH_CALIBRATED_TAU
 
 SUN_RADIUS_RSUN = 1.0  # nominal solar radius, IAU 2015 Resolution B3
 
@@ -27,12 +28,13 @@ def solar_planet_temps(a_au, albedo, tau):
 
 
 # Semi-major axes and Bond albedos: source: NASA planetary fact sheets
-# (Earth, Venus, Mars).  Effective optical depths tau: fact of the trade.
+# (Earth, Venus, Mars).  Effective optical depths tau: Earth's is planetfit's default, calibrated
+# to 288 K at Bond albedo 0.3 (no published source); Venus' and Mars': fact of the trade.
 # Mean surface temperatures 288 K, 737 K, 210 K: source: NASA planetary fact sheets.
 @pytest.mark.parametrize(
     "a_au, albedo, tau, surface_k",
     [
-        (1.000, 0.306, 0.94, 288.0),  # Earth
+        (1.000, 0.306, EARTH_CALIBRATED_TAU, 288.0),  # Earth
         (0.723, 0.77, 160.0, 737.0),  # Venus
         (1.524, 0.25, 0.09, 210.0),  # Mars
     ],
@@ -150,3 +152,21 @@ def test_quick_climate_plain_numbers():
     # source: NASA Earth fact sheet, mean surface temperature 288 K
     assert result["surface_temp_k"] == pytest.approx(288.0, rel=0.05)
     assert result["p_conservative_hz"] == 1.0
+
+
+def test_default_greenhouse_gives_earth_288_k_and_says_it_is_calibrated():
+    # source: NASA Earth fact sheet, mean surface temperature 288 K; the default tau is calibrated to it
+    # (Bond albedo 0.3, the default), so it must return 288 +- 1 K and say so
+    result = quick_climate(T_EFF_SUN_K, 1.0, 1.0, albedo=0.3)
+    assert result["surface_temp_k"] == pytest.approx(288.0, abs=1.0)
+    assert abs(EARTH_CALIBRATED_TAU - 0.85) < 0.01
+    assert any("calibrated to Earth's 288 K" in c for c in result["cautions"])
+    assert Climate().tau == EARTH_CALIBRATED_TAU
+
+
+def test_liquid_water_caution_names_the_moist_greenhouse_limit():
+    # source: Kasting, Whitmire & Reynolds 1993 (Icarus 101, 108): ~340 K is the moist-greenhouse limit, not a
+    # runaway greenhouse; F5V (6500 K) is a mid-F dwarf (Pecaut & Mamajek 2013)
+    cautions = " ".join(quick_climate(T_EFF_SUN_K, 1.0, 1.0)["cautions"])
+    assert "moist-greenhouse limit" in cautions and "runaway greenhouse is expected" not in cautions
+    assert "mid-F" in cautions and "late F" not in cautions

@@ -161,3 +161,14 @@ def test_without_rvs_only_crossing_is_tested(tmp_path):
     block, warnings = _block(check(path), 200)
     assert block["p_hill_stable"] is None and block["p_orbits_cross"] == 0.0
     assert "only orbit crossing" in block["assumptions"] and warnings == []
+
+
+def test_mutual_hill_radius_uses_the_mean_semi_major_axis():
+    # source: Chambers, Wetherill & Boss 1996 (Icarus 119, 261), eq. 2: R_H = ((m1 + m2) / 3 M*)^(1/3) (a1 + a2) / 2;
+    # at period ratio 2 (a2 = 1.587 a1) it is 1.29 times the inner-axis version used before
+    from planetfit.context.nbody import mutual_hill_radius
+
+    a2 = 2.0 ** (2.0 / 3.0)
+    r_hill = mutual_hill_radius(1.0, 3e-6, 3e-6, 1.0, a2)
+    assert r_hill == pytest.approx((2e-6) ** (1 / 3) * (1 + a2) / 2, rel=1e-12)
+    assert r_hill / (2e-6) ** (1 / 3) == pytest.approx(1.2937, rel=1e-3)

@@ -66,3 +66,24 @@ def test_bad_command_line_is_an_input_error(capsys):
     # common practice, no published source: usage mistakes exit 2 without a traceback
     assert main(["interior", "--mass", "-1", "0.1", "--radius", "1", "0.1"]) == 2
     assert "Traceback" not in capsys.readouterr().err
+
+
+def test_climate_command_default_is_earth_calibrated(capsys):
+    # source: NASA Earth fact sheet, mean surface temperature 288 K; the default tau is calibrated to it
+    assert main(["climate", "--teff", "5772", "--radius-rsun", "1", "--a-au", "1", "--albedo", "0.3"]) == 0
+    out = capsys.readouterr().out
+    surface = float(next(line for line in out.splitlines() if "surface_temp_k" in line).split(":")[1])
+    assert surface == pytest.approx(288.0, abs=1.0)
+    assert "calibrated to Earth's 288 K" in out
+
+
+def test_interior_command_with_an_equilibrium_temperature(capsys):
+    # source: Zeng et al. 2019 (cold 50 % water world of 10 Earth masses: 2.27 Earth radii) and Aguichine et al.
+    # 2021 (at 700 K: ~2.62 Earth radii)
+    assert main(["interior", "--mass", "10", "1", "--radius", "2.2", "0.05"]) == 0
+    cold = capsys.readouterr().out
+    assert "gas envelope is required" not in cold and "water-rich interior" in cold
+    assert main(["interior", "--mass", "10", "1", "--radius", "2.2", "0.05", "--teq-k", "700"]) == 0
+    warm = capsys.readouterr().out
+    assert "Aguichine et al. (2021)" in warm and "700 K" in warm and "p_needs_envelope = 0.000" in warm
+    assert main(["interior", "--mass", "10", "1", "--radius", "2.2", "0.05", "--teq-k", "-5"]) == 2

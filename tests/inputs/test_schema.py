@@ -11,6 +11,7 @@ from planetfit.cli import main
 from planetfit.core.errors import InputError
 from planetfit.inputs.config import load_config
 from planetfit.inputs.schema import Climate
+from planetfit.inputs.schema.settings import EARTH_CALIBRATED_TAU
 
 DEMO = "configs/demo.yaml"
 
@@ -86,7 +87,9 @@ def test_climate_words_become_numbers():
     assert Climate(redistribution=0.4).redistribution_factor == 0.4
     # value from memory: mean molecular weights of N2 (28.0) and H2O (18.0), and of a solar H2/He mix (2.3)
     assert (Climate(mean_molecular_weight="n2").mu, Climate(mean_molecular_weight="water").mu) == (28.0, 18.0)
-    assert Climate(tau=[0.5, 2.0]).tau_range == (0.5, 2.0) and Climate().tau_range == (0.94, 0.94)
+    # the default tau is calibrated to Earth's 288 K (0.850, see tests/context/test_climate.py)
+    assert Climate(tau=[0.5, 2.0]).tau_range == (0.5, 2.0)
+    assert Climate().tau_range == (EARTH_CALIBRATED_TAU, EARTH_CALIBRATED_TAU)
 
 
 def test_defaults_and_variants_of_a_loaded_config(tmp_path):

@@ -1,7 +1,8 @@
 """Interior structure: cold equations of state, a three-layer structure solver,
-the shipped mass–radius grid and the composition verdict.
+the shipped mass–radius grid, warm water layers and the composition verdict.
 
 Modules: :mod:`~planetfit.context.interior.eos` (equations of state, with sources),
+:mod:`~planetfit.context.interior.warm` (when water stays condensed; warm water worlds),
 :mod:`~planetfit.context.interior.structure` (hydrostatic solver),
 :mod:`~planetfit.context.interior.grid` (grid, reference curves, regeneration command
 ``python -m planetfit.context.interior.grid``), :mod:`~planetfit.context.interior.composition`

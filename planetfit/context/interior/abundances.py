@@ -17,7 +17,7 @@ by a few hundredths (Adibekyan et al. 2021 use a fuller mineralogy).
 
 import numpy as np
 
-from planetfit.context.interior.composition import _fraction_from_curves
+from planetfit.context.interior.composition import fraction_from_curves
 from planetfit.context.interior.grid import REFERENCE_CURVES, load_grid
 from planetfit.core.stats import stat
 
@@ -68,7 +68,7 @@ def planet_iron_fractions(mass_earth, radius_earth):
     curves = grid.radius_at_mass(m[usable], slice(None), dry)
     rocky = r[usable] <= curves[:, no_iron]
     iron = np.full(rocky.size, np.nan)
-    iron[rocky] = _fraction_from_curves(r[usable][rocky], curves[rocky], grid.iron_fraction)
+    iron[rocky] = fraction_from_curves(r[usable][rocky], curves[rocky], grid.iron_fraction)
     out[usable] = iron
     return out
 

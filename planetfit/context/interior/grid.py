@@ -1,4 +1,4 @@
-"""Mass–radius grid of cold three-layer planets, and the named reference curves.
+"""Mass–radius grid of cold (300 K) three-layer planets, and the named reference curves.
 
 The shipped file ``planetfit/data/interior_grid.npz`` holds the radius (Earth
 radii) computed by :func:`planetfit.context.interior.structure.solve_structure` on
@@ -8,7 +8,7 @@ radii) computed by :func:`planetfit.context.interior.structure.solve_structure` 
   plus 0.325 (Earth-like);
 * water mass fraction 0–0.5 in steps of 0.05.
 
-Regenerate it (about 6 minutes on 2 cores) with::
+Regenerate it (about 20 CPU minutes, i.e. 10 minutes on 2 idle cores) with::
 
     python -m planetfit.context.interior.grid [--processes N]
 

@@ -109,7 +109,8 @@ def solve_structure(mass_earth, iron_fraction, water_fraction=0.0):
     iron_fraction : float
         Iron core mass as a fraction of the iron + silicate interior, 0..1.
     water_fraction : float
-        Water (ice VII) mass as a fraction of the total mass, 0..1.
+        Water mass (liquid, ice VI, VII, X: see :mod:`~planetfit.context.interior.eos`) as a fraction of the
+        total mass, 0..1.
 
     Returns
     -------

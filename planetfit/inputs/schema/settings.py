@@ -5,6 +5,8 @@ from typing import Annotated, Literal, Optional, Union
 
 from pydantic import BeforeValidator, Field, model_validator
 
+from planetfit.core.units import S_EARTH_W_M2, SIGMA_SB_SI
+
 from ..priors import Fixed, LogUniform, Uniform
 from .base import Block, variants
 from .fields import Count, Number, PositiveNumber, PriorSpec, fail, positive_prior, prior_within
@@ -71,6 +73,17 @@ REDISTRIBUTION_FACTORS = {"full": 0.25, "dayside": 0.5}
 FULL_REDISTRIBUTION = REDISTRIBUTION_FACTORS["full"]
 #: Largest meaningful factor: instantaneous re-radiation, no redistribution (Cowan & Agol 2011, ApJ 729, 54: f = 2/3).
 MAX_REDISTRIBUTION_FACTOR = 2.0 / 3.0
+#: Earth's global mean surface temperature, K (source: NASA Planetary Fact Sheet, Williams, NSSDCA).
+EARTH_SURFACE_TEMP_K = 288.0
+#: Bond albedo of the calibration below (the climate block's default).
+EARTH_CALIBRATION_ALBEDO = 0.3
+#: Default grey infrared optical depth: calibrated to Earth's 288 K, i.e. the tau for which
+#: T_s = T_eq (1 + 3 tau / 4)^(1/4) gives 288 K at 1 Earth insolation, Bond albedo 0.3 and full
+#: redistribution (about 0.85). No published source gives one grey tau for Earth; this is a calibration.
+EARTH_CALIBRATED_TAU = (4.0 / 3.0) * (
+    (EARTH_SURFACE_TEMP_K**4 * SIGMA_SB_SI / (FULL_REDISTRIBUTION * (1.0 - EARTH_CALIBRATION_ALBEDO) * S_EARTH_W_M2))
+    - 1.0
+)
 #: Mean molecular weights (atomic mass units) of typical atmospheres, by name.
 MEAN_MOLECULAR_WEIGHTS = {"h2_rich": 2.3, "water": 18.0, "n2": 28.0, "co2": 44.0}
 
@@ -78,14 +91,14 @@ MEAN_MOLECULAR_WEIGHTS = {"h2_rich": 2.3, "water": 18.0, "n2": 28.0, "co2": 44.0
 class Climate(Block):
     """Assumptions of the climate and atmosphere screening (a Bond albedo, redistribution, grey optical depth)."""
 
-    albedo: Annotated[Number, Field(ge=0, lt=1)] = 0.3
+    albedo: Annotated[Number, Field(ge=0, lt=1)] = EARTH_CALIBRATION_ALBEDO
     redistribution: Union[Literal["full", "dayside"], Annotated[Number, Field(gt=0, le=MAX_REDISTRIBUTION_FACTOR)]] = (
         "full"
     )
     tau: Union[
         Annotated[Number, Field(ge=0)],
         Annotated[list[Annotated[Number, Field(ge=0)]], Field(min_length=2, max_length=2)],
-    ] = 0.94
+    ] = EARTH_CALIBRATED_TAU
     mean_molecular_weight: Union[Literal[tuple(MEAN_MOLECULAR_WEIGHTS)], PositiveNumber] = 2.3
 
     @model_validator(mode="after")
