@@ -15,7 +15,6 @@ from pathlib import Path
 
 from planetfit import pipeline, rundir
 from planetfit.batch import run_directories
-from planetfit.fitting.nested import CHECKPOINT
 from planetfit.inputs.config import load_config
 from planetfit.report import comparison
 
@@ -30,8 +29,8 @@ def _data_files(config):
 
 def _finished(run_dir, config):
     """Whether ``run_dir`` holds a finished nested run of exactly this config and its current data."""
-    summary_path = run_dir / "summary.json"
-    resolved = run_dir / "config.resolved.yaml"
+    directory = rundir.RunDirectory(run_dir)
+    summary_path, resolved = directory.summary, directory.resolved_config
     if not (summary_path.exists() and resolved.exists()):
         return False
     if resolved.read_text() != rundir.resolved_config(config):
@@ -58,7 +57,8 @@ def fit_model(config_path, output=None, cores=1, quiet=False):
     config = load_config(config_path, output=run_dir, sampling_method=NESTED)
     if _finished(run_dir, config):
         return run_dir, True
-    resume = (run_dir / CHECKPOINT).exists() and not (run_dir / "summary.json").exists()
+    directory = rundir.RunDirectory(run_dir)
+    resume = directory.checkpoint.exists() and not directory.summary.exists()
     pipeline.run(
         config_path,
         output=run_dir,
@@ -73,7 +73,7 @@ def fit_model(config_path, output=None, cores=1, quiet=False):
 
 
 def _entry(config_path, run_dir):
-    summary = json.loads((run_dir / "summary.json").read_text())
+    summary = json.loads(rundir.RunDirectory(run_dir).summary.read_text())
     s = summary["sampling"]
     return {
         "model": Path(config_path).stem,

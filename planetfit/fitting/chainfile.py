@@ -217,6 +217,13 @@ def read_posterior(h5_path):
     return facts, samples
 
 
+def parameter_names(h5_path):
+    """The sampled parameters' names stored with the chain, or None if the file holds none (an unfinished run)."""
+    with h5py.File(h5_path, "r") as fh:
+        names = fh[FACTS_GROUP].attrs.get("parameter_names") if FACTS_GROUP in fh else None
+    return None if names is None else [n.decode() if isinstance(n, bytes) else str(n) for n in names]
+
+
 def read_chain(h5_path):
     """The autocorrelation history ((step, largest tau) rows) and the whole chain, (steps, walkers, ndim)."""
     with h5py.File(h5_path, "r") as fh:
