@@ -104,6 +104,8 @@ class RunDirectory:
                 file=path,
                 fix="choose another folder with --out (or the config's 'output'), or move the file away.",
             )
+        if path.is_dir():
+            lock.refuse_if_locked(path)  # a live run is named first, whatever this one asks for
         full = path.exists() and any(path.iterdir())
         if full and resume and not (self.samples.exists() or self.checkpoint.exists()):
             raise InputError(

@@ -1,7 +1,8 @@
 """run.lock: one planetfit process at a time writes a run directory.
 
-The lock is a small JSON file (process id, host, start time) created with
-``O_EXCL``, so of two processes starting at once only one gets it. A lock
+The lock is a small JSON file (process id, host, start time), written in
+full and then hard-linked into place, so of two processes starting at once
+only one gets it and no reader sees half a lock. A lock
 left by a process that no longer runs on this host (killed with SIGKILL, a
 crash of the machine) is taken over with a message; a lock of a live
 process, or of another host (whose processes cannot be seen from here), is
@@ -75,33 +76,36 @@ def acquire(folder):
         If another live process (or a process of another host) holds it.
     """
     path = folder / LOCK_NAME
+    mine = folder / f".{LOCK_NAME}.{os.getpid()}"
+    mine.write_text(
+        json.dumps(
+            {
+                "pid": os.getpid(),
+                "host": socket.gethostname(),
+                "started_utc": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"),
+            }
+        )
+    )
     note = None
-    for _ in range(2):
-        try:
-            fd = os.open(path, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o644)
-        except FileExistsError:
-            info = holder(folder)
-            if info is None:
-                return note  # ours already
-            if not info.get("stale"):
-                raise _refusal(folder, info) from None
-            note = (
-                f"took over the lock of process {info.get('pid')} (started {str(info.get('started_utc'))[:32]}), "
-                "which no longer runs"
-            )
-            with contextlib.suppress(FileNotFoundError):
-                path.unlink()
-            continue
-        with os.fdopen(fd, "w") as fh:
-            json.dump(
-                {
-                    "pid": os.getpid(),
-                    "host": socket.gethostname(),
-                    "started_utc": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"),
-                },
-                fh,
-            )
-        return note
+    try:
+        for _ in range(2):
+            try:
+                os.link(mine, path)  # atomic, and fails if the lock exists: no reader sees a half-written lock
+                return note
+            except FileExistsError:
+                info = holder(folder)
+                if info is None:
+                    return note  # ours already
+                if not info.get("stale"):
+                    raise _refusal(folder, info) from None
+                note = (
+                    f"took over the lock of process {info.get('pid')} (started "
+                    f"{str(info.get('started_utc'))[:32]}), which no longer runs"
+                )
+                with contextlib.suppress(FileNotFoundError):
+                    path.unlink()
+    finally:
+        mine.unlink()
     raise _refusal(folder, holder(folder) or {"pid": "?", "host": socket.gethostname()})
 
 
