@@ -16,12 +16,15 @@ import h5py
 import numpy as np
 
 from planetfit.core.errors import InputError
+from planetfit.core.storage import require_room
 from planetfit.fitting.modes import Mode
 from planetfit.fitting.proposal import FittedProposal
 
 #: The chain's group (emcee's) and planetfit's group in samples.h5.
 CHAIN_GROUP, FACTS_GROUP, MODES_GROUP = "chain", "planetfit", "modes"
 NESTED_GROUP, PROPOSAL_GROUP = "nested", "proposal"
+#: Room kept beyond twice the steps' bytes for HDF5's chunks and metadata when flushing.
+FLUSH_MARGIN_BYTES = 1 << 20
 _RESUME_FIX = (
     "move samples.h5 away (it is never overwritten silently) and run again, or use --force to start a new "
     "fit in this folder."
@@ -75,6 +78,8 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
         if not self._pending:
             return
         coords, log_prob, accepted, _ = zip(*self._pending)
+        # Checked first: HDF5 cannot recover from a write that fails half-way (the chain would be lost).
+        require_room(self.filename, FLUSH_MARGIN_BYTES + 2 * sum(c.nbytes + p.nbytes for c, p in zip(coords, log_prob)))
         with self.open("a") as f:
             g = f[self.name]
             first = g.attrs["iteration"]

@@ -5,6 +5,7 @@
 
 import json
 import os
+import resource
 import shutil
 import signal
 import socket
@@ -231,3 +232,27 @@ def test_read_only_run_directory_exits_2(finished, tmp_path, capsys):
         assert main(["run", str(config), "--resume", "--quiet"]) == 2
     finally:
         run.chmod(0o755)
+
+
+def test_full_disk_exits_1_with_the_chain_intact_and_resumable(tmp_path, capsys, no_figures):
+    config = write_system(tmp_path, max_steps=2000, n_phot=150)
+    limit = 2_500_000  # bytes: samples.h5 reaches it after a few hundred steps
+
+    def small_files():
+        resource.setrlimit(resource.RLIMIT_FSIZE, (limit, limit))
+
+    proc = subprocess.run(
+        [sys.executable, "-m", "planetfit.cli", "run", str(config), "--quiet", "--no-figures"],
+        cwd=tmp_path,
+        capture_output=True,
+        text=True,
+        timeout=600,
+        preexec_fn=small_files,
+    )
+    assert proc.returncode == 1, proc.stderr
+    assert "no room to write" in proc.stderr and "--resume" in proc.stderr and "Traceback" not in proc.stderr
+    saved = _steps(tmp_path / "run" / "samples.h5")
+    assert saved > 0  # the chain file is readable and holds the steps saved before the limit
+    config.write_text(config.read_text().replace("max_steps: 2000", f"max_steps: {saved + 50}"))
+    assert main(["run", str(config), "--resume", "--quiet"]) == 0
+    assert json.loads((tmp_path / "run" / "summary.json").read_text())["sampling"]["steps"] == saved + 50
