@@ -286,7 +286,7 @@ def export(run_dir, fmt, out=None):
             f"{directory} holds a nested-sampling run; 'planetfit export' writes emcee walkers and their statistics.",
             fix="use the run's posterior.csv (its equal-weight samples), or fit with 'sampling: {method: mcmc}'.",
         )
-    path = directory.export_target(out, exports.DEFAULT_NAMES.get(fmt, "posterior_export"))
+    path = directory.export_target(out, fmt)
     rundir.require_writable(path.parent)
     quantities, _ = _derive(checked, run.samples)
     stats = chainfile.read_sample_stats(directory.samples, facts["discard"], facts["thin"])

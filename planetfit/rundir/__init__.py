@@ -40,6 +40,8 @@ RUN_FILES = {
     "export_csv": "posterior_export.csv",
     "export_json": "posterior_export.json",
 }
+#: The file ``planetfit export`` writes in the run by default, per format (a key of :data:`RUN_FILES`).
+EXPORTS = {"csv": "export_csv", "json": "export_json", "nc": "posterior_nc"}
 FIGURES = "figures"
 MANIFEST = "manifest.json"
 _NOT_EMPTY_FIX = "use --resume to continue that run, --force to replace it, or --out for a new folder."
@@ -277,8 +279,9 @@ class RunDirectory:
         """Refuse a run this process cannot write into (exit 2, not a PermissionError)."""
         require_writable(self.path)
 
-    def export_target(self, out, default_name):
-        """The path an export writes to: ``out``, or ``default_name`` in the run; never one of the run's own files."""
+    def export_target(self, out, fmt):
+        """The path an export as ``fmt`` writes to: ``out``, or its default in the run; never a run's own file."""
+        default_name = RUN_FILES[EXPORTS.get(fmt, "export_csv")]
         path = Path(out).resolve() if out else self.path / default_name
         own = {self.path / n for n in (*RUN_FILES.values(), MANIFEST, lock.LOCK_NAME)} - {self.path / default_name}
         if path in own or self.figures in path.parents:
