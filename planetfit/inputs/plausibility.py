@@ -29,7 +29,7 @@ AROUND_TRANSITS = 3.0
 
 
 def check_velocities(d, cfg):
-    """Refuse RVs whose uncertainties or scatter cannot be in m/s; return warnings."""
+    """Refuse RVs whose uncertainties cannot be in m/s; return warnings on a scatter that cannot be a planet's."""
     error, scatter = float(np.median(d.error)), float(np.std(d.rv))
     section = f"{cfg.section}.columns"
     if error < RV_FLOOR_MS:
@@ -40,14 +40,6 @@ def check_velocities(d, cfg):
             key=f"{section}.error",
             fix="give RVs and their uncertainties in m/s (multiply km/s by 1000).",
         )
-    if d.rv.size > 1 and scatter < RV_FLOOR_MS:
-        raise InputError(
-            f"the RVs scatter by {scatter:.3g} m/s (standard deviation), below 1 cm/s: km/s given as m/s, or a "
-            "column that is not the RVs?",
-            file=cfg.path,
-            key=f"{section}.rv",
-            fix="map 'rv' to the RV column, in m/s (multiply km/s by 1000).",
-        )
     if error > RV_CEILING_MS:
         raise InputError(
             f"the RVs' median uncertainty is {error:.3g} m/s, above 10 km/s: cm/s given as m/s, or the wrong column?",
@@ -55,6 +47,11 @@ def check_velocities(d, cfg):
             key=f"{section}.error",
             fix="give RVs and their uncertainties in m/s, and check 'columns: {error: ...}'.",
         )
+    if d.rv.size > 1 and scatter < RV_FLOOR_MS:
+        return [
+            f"dataset '{d.name}': the RVs scatter by {scatter:.3g} m/s (standard deviation), below 1 cm/s: "
+            "km/s given as m/s, or a column that is not the RVs? Fix: map 'rv' to the RV column, in m/s."
+        ]
     if scatter > RV_CEILING_MS:
         return [
             f"dataset '{d.name}': the RVs scatter by {scatter:.3g} m/s (standard deviation), more than 10 km/s, "
