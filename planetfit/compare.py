@@ -5,8 +5,8 @@ method, into ``DIR/<config stem>`` with ``--out DIR``, else into its own
 ``output`` when it already samples by nested sampling and into
 ``<output>-nested`` when it does not (an MCMC run there is never replaced).
 A finished run directory is reused when its config.resolved.yaml equals
-the config as resolved now and no data file changed after its
-summary.json; an interrupted one is resumed; any other is fitted anew.
+the config as resolved now and its manifest's data files have the content
+they have now; an interrupted one is resumed; any other is fitted anew.
 """
 
 import json
@@ -17,14 +17,11 @@ from planetfit import pipeline, rundir
 from planetfit.batch import run_directories
 from planetfit.inputs.config import load_config
 from planetfit.report import comparison
+from planetfit.rundir import manifest
 
 log = logging.getLogger("planetfit")
 
 NESTED = "nested"
-
-
-def _data_files(config):
-    return [f for d in config.photometry + config.velocities for f in d.files]
 
 
 def _finished(run_dir, config):
@@ -37,8 +34,8 @@ def _finished(run_dir, config):
         return False
     if "ln_evidence" not in json.loads(summary_path.read_text()).get("sampling", {}):
         return False
-    written = summary_path.stat().st_mtime
-    return all(Path(f).stat().st_mtime < written for f in _data_files(config))
+    saved = directory.read_manifest()
+    return saved is not None and not manifest.data_changes(saved, config)
 
 
 def run_directory(config_path, output):

@@ -266,10 +266,12 @@ def redraw(run_dir, cores=1):
     """Rebuild every figure and table of a finished run from samples.h5 (figures drawn by ``cores`` processes)."""
     run = open_finished(run_dir)
     run.directory.require_writable()
-    run.directory.take_lock()
+    note = run.directory.take_lock()
     try:
         rundir.start_logging(run.directory.path, quiet=True)
         try:
+            if note:
+                log.warning("NOTE: %s", note)
             return finish(run.directory.path, run.checked, run.samples, run.facts, cores=cores)
         finally:
             rundir.stop_logging()

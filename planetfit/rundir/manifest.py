@@ -65,6 +65,18 @@ def _model_config(resolved_yaml):
     return raw
 
 
+def _data_entries(config):
+    return [
+        {"dataset": label, "file": str(path), "bytes": path.stat().st_size, "sha256": file_digest(path)}
+        for label, path in _data_files(config)
+    ]
+
+
+def data_changes(saved, config):
+    """What changed in the config's data files since the run of manifest ``saved`` started (lines of text)."""
+    return _data_changes(saved.get("data", []), _data_entries(config))
+
+
 def build(config, resolved_yaml, parameter_names):
     """The manifest of a config (as resolved) and its data as they are now (a JSON-ready dict)."""
     model = _model_config(resolved_yaml)
@@ -76,10 +88,7 @@ def build(config, resolved_yaml, parameter_names):
         "config_sha256": hashlib.sha256(json.dumps(model, sort_keys=True, default=str).encode()).hexdigest(),
         "config": json.loads(json.dumps(model, default=str)),
         "sampler": {k: v for k, v in sampler.items() if k not in STOPPING_RULE},
-        "data": [
-            {"dataset": label, "file": str(path), "bytes": path.stat().st_size, "sha256": file_digest(path)}
-            for label, path in _data_files(config)
-        ],
+        "data": _data_entries(config),
         "parameters": list(parameter_names),
         "outputs": [],
     }
