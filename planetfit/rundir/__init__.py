@@ -74,6 +74,7 @@ class RunDirectory:
 
     @property
     def figures(self):
+        """The folder of the run's figures."""
         return self.path / FIGURES
 
     @property
@@ -83,6 +84,7 @@ class RunDirectory:
 
     @property
     def manifest(self):
+        """manifest.json (:mod:`planetfit.rundir.manifest`)."""
         return self.path / MANIFEST
 
     def read_manifest(self):
