@@ -20,6 +20,7 @@ import traceback
 from pathlib import Path
 
 from planetfit.core.errors import InputError
+from planetfit.rundir import RunDirectory
 
 STATUS_OK, STATUS_INPUT, STATUS_INTERNAL = "ok", "input error", "internal error"
 QUANTITIES = ("mass_earth", "radius_earth", "density_gcc")
@@ -93,7 +94,7 @@ def fit_system(config_path, output=None, figures=False, force=False):
 
 def summary_rows(run_dir, base, seconds):
     """One row per planet from a finished run's ``summary.json``."""
-    summary = json.loads((Path(run_dir) / "summary.json").read_text())
+    summary = json.loads(RunDirectory(run_dir).summary.read_text())
     s = summary["sampling"]
     common = dict(
         base,

@@ -5,8 +5,8 @@ method, into ``DIR/<config stem>`` with ``--out DIR``, else into its own
 ``output`` when it already samples by nested sampling and into
 ``<output>-nested`` when it does not (an MCMC run there is never replaced).
 A finished run directory is reused when its config.resolved.yaml equals
-the config as resolved now and no data file changed after its
-summary.json; an interrupted one is resumed; any other is fitted anew.
+the config as resolved now and its manifest's data files have the content
+they have now; an interrupted one is resumed; any other is fitted anew.
 """
 
 import json
@@ -15,31 +15,27 @@ from pathlib import Path
 
 from planetfit import pipeline, rundir
 from planetfit.batch import run_directories
-from planetfit.fitting.nested import CHECKPOINT
 from planetfit.inputs.config import load_config
 from planetfit.report import comparison
+from planetfit.rundir import manifest
 
 log = logging.getLogger("planetfit")
 
 NESTED = "nested"
 
 
-def _data_files(config):
-    return [f for d in config.photometry + config.velocities for f in d.files]
-
-
 def _finished(run_dir, config):
     """Whether ``run_dir`` holds a finished nested run of exactly this config and its current data."""
-    summary_path = run_dir / "summary.json"
-    resolved = run_dir / "config.resolved.yaml"
+    directory = rundir.RunDirectory(run_dir)
+    summary_path, resolved = directory.summary, directory.resolved_config
     if not (summary_path.exists() and resolved.exists()):
         return False
     if resolved.read_text() != rundir.resolved_config(config):
         return False
     if "ln_evidence" not in json.loads(summary_path.read_text()).get("sampling", {}):
         return False
-    written = summary_path.stat().st_mtime
-    return all(Path(f).stat().st_mtime < written for f in _data_files(config))
+    saved = directory.read_manifest()
+    return saved is not None and not manifest.data_changes(saved, config)
 
 
 def run_directory(config_path, output):
@@ -58,7 +54,8 @@ def fit_model(config_path, output=None, cores=1, quiet=False):
     config = load_config(config_path, output=run_dir, sampling_method=NESTED)
     if _finished(run_dir, config):
         return run_dir, True
-    resume = (run_dir / CHECKPOINT).exists() and not (run_dir / "summary.json").exists()
+    directory = rundir.RunDirectory(run_dir)
+    resume = directory.checkpoint.exists() and not directory.summary.exists()
     pipeline.run(
         config_path,
         output=run_dir,
@@ -73,7 +70,7 @@ def fit_model(config_path, output=None, cores=1, quiet=False):
 
 
 def _entry(config_path, run_dir):
-    summary = json.loads((run_dir / "summary.json").read_text())
+    summary = json.loads(rundir.RunDirectory(run_dir).summary.read_text())
     s = summary["sampling"]
     return {
         "model": Path(config_path).stem,

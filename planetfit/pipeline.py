@@ -7,6 +7,7 @@ so ``planetfit redraw`` and ``planetfit run`` share it.
 
 import dataclasses
 import logging
+import time
 from pathlib import Path
 
 import numpy as np
@@ -18,7 +19,7 @@ from planetfit.core.errors import InputError
 from planetfit.core.units import PPM
 from planetfit.fitting import chainfile
 from planetfit.fitting.mcmc import run_sampler
-from planetfit.fitting.nested import CHECKPOINT, run_nested
+from planetfit.fitting.nested import run_nested
 from planetfit.fitting.posterior import JointPosterior
 from planetfit.inputs.config import load_config
 from planetfit.inputs.datasets import load_all
@@ -26,6 +27,7 @@ from planetfit.report import exports, inference, outputs
 from planetfit.report import summary as summary_out
 from planetfit.report.files import write_text_atomic
 from planetfit.report.transit_times import write_transit_times_csv
+from planetfit.rundir import manifest
 
 log = logging.getLogger("planetfit")
 
@@ -52,6 +54,37 @@ class Checked:
         for name, choice in self.posterior.model.exposures.items():
             out[name].update(supersample=choice.supersample, integration_error_ppm=choice.error_ppm)
         return out
+
+    def manifest(self):
+        """The manifest of this config and its data as they are now (:mod:`planetfit.rundir.manifest`)."""
+        return manifest.build(self.config, rundir.resolved_config(self.config), self.posterior.layout.free)
+
+
+@dataclasses.dataclass
+class FinishedRun:
+    """A finished run read back: its folder, its config and data (checked again), its facts and samples."""
+
+    directory: rundir.RunDirectory
+    checked: Checked
+    facts: dict
+    samples: np.ndarray
+
+
+def open_finished(run_dir):
+    """Open a finished run for ``redraw``, ``export`` and ``plan``.
+
+    Raises
+    ------
+    InputError
+        If the folder is not a run, another process is writing it, or its
+        samples, config or data no longer match the run's manifest.
+    """
+    directory = rundir.RunDirectory(Path(run_dir).resolve())
+    directory.require_finished()
+    facts, samples = chainfile.read_posterior(directory.samples)
+    checked = check(directory.resolved_config, output=directory.path)
+    directory.check_matches(checked.manifest(), chainfile.parameter_names(directory.samples), samples.shape[1])
+    return FinishedRun(directory, checked, facts, samples)
 
 
 def check(config_path, output=None, sampling_method=None):
@@ -121,44 +154,64 @@ def overview(checked):
 def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False, figures=True, sampling_method=None):
     """The whole job for one config (``sampling_method`` overrides its ``sampling.method``); returns the run folder."""
     checked = check(config_path, output=output, sampling_method=sampling_method)
-    config, post = checked.config, checked.posterior
-    run_dir = config.output
-    rundir.prepare(run_dir, resume, force)
-    h5 = run_dir / "samples.h5"
-    if resume and not config.sampling.nested:
-        chainfile.check_resumable(h5, post.layout.ndim, config.sampling.walkers)
-    rundir.start_logging(run_dir, quiet)
+    config = checked.config
+    directory = rundir.RunDirectory(config.output)
+    note = directory.prepare(resume, force)
     try:
-        log.info("planetfit run of %s (%s)", config.path, config.system)
-        for row in overview(checked):
-            log.info("  %-18s %-10s %6d points (%d NaN rows dropped), BJD_TDB %.3f-%.3f, %s", *row)
-        for warning in checked.warnings:
-            log.warning("WARNING: %s", warning)
-        write_text_atomic(run_dir / "config.resolved.yaml", rundir.resolved_config(config))
-        samples, facts = _sample(checked, run_dir, np.random.default_rng(config.seed), cores, quiet, resume)
-        finish(run_dir, checked, samples, facts, figures=figures, cores=cores)
+        _claim(checked, directory, resume)
+        rundir.start_logging(directory.path, quiet)
+        try:
+            _log_start(checked, note)
+            write_text_atomic(directory.resolved_config, rundir.resolved_config(config))
+            samples, facts = _sample(checked, directory, np.random.default_rng(config.seed), cores, quiet, resume)
+            finish(directory.path, checked, samples, facts, figures=figures, cores=cores)
+        finally:
+            rundir.stop_logging()
     finally:
-        rundir.stop_logging()
-    return run_dir
+        directory.release()
+    return directory.path
 
 
 def saved_progress(config_path, output=None):
     """What an interrupted run of ``config_path`` left to resume (text), or None if nothing was sampled yet."""
     try:
-        run_dir = load_config(config_path, output=output).output
+        directory = rundir.RunDirectory(load_config(config_path, output=output).output)
     except (InputError, OSError):
         return None
-    if (run_dir / CHECKPOINT).exists():
-        return f"the nested-sampling checkpoint {CHECKPOINT}"
-    steps = chainfile.saved_steps(run_dir / "samples.h5")
+    if directory.checkpoint.exists():
+        return f"the nested-sampling checkpoint {directory.checkpoint.name}"
+    steps = chainfile.saved_steps(directory.samples)
     return f"{steps} steps in samples.h5" if steps else None
 
 
-def _sample(checked, run_dir, rng, cores, quiet, resume):
-    """Sample the posterior with the config's method into ``run_dir/samples.h5``; return (samples, facts)."""
-    post, settings, h5 = checked.posterior, checked.config.sampling, run_dir / "samples.h5"
+def _claim(checked, directory, resume):
+    """Write a new run's manifest; for a resume, check the run's manifest (with its differences), then the chain."""
+    current, sampling = checked.manifest(), checked.config.sampling
+    if resume:
+        directory.require_writable()
+        if directory.manifest.is_file():
+            directory.claim(current, resume)
+        if not sampling.nested:
+            chainfile.check_resumable(directory.samples, checked.posterior.layout.ndim, sampling.walkers)
+    directory.claim(current, resume)
+
+
+def _log_start(checked, note):
+    """Log the run's start: config, data overview, the warnings of reading the data (and a lock taken over)."""
+    log.info("planetfit run of %s (%s)", checked.config.path, checked.config.system)
+    if note:
+        log.warning("NOTE: %s", note)
+    for row in overview(checked):
+        log.info("  %-18s %-10s %6d points (%d NaN rows dropped), BJD_TDB %.3f-%.3f, %s", *row)
+    for warning in checked.warnings:
+        log.warning("WARNING: %s", warning)
+
+
+def _sample(checked, directory, rng, cores, quiet, resume):
+    """Sample the posterior with the config's method into the run's samples.h5; return (samples, facts)."""
+    post, settings, h5 = checked.posterior, checked.config.sampling, directory.samples
     if settings.nested:
-        result = run_nested(post, settings, run_dir / CHECKPOINT, rng, cores=cores, progress=not quiet, resume=resume)
+        result = run_nested(post, settings, directory.checkpoint, rng, cores=cores, progress=not quiet, resume=resume)
         facts = dict(result.summary(), cores=cores, warnings=list(result.warnings), modes=result.modes)
         chainfile.write_nested(h5, post.layout.free, facts, result)
         return result.samples, facts
@@ -195,6 +248,7 @@ def _derive(checked, samples):
 def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
     config, post = checked.config, checked.posterior
+    directory, since = rundir.RunDirectory(run_dir), time.time()
     quantities, context = _derive(checked, samples)
     stability, stability_warnings = dynamics.dynamics_block(
         config, post.model, quantities, np.random.default_rng([config.seed, 2])
@@ -202,7 +256,7 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     if config.sampling.nested:  # posterior.nc, R-hat and ESS read emcee's walkers; nested runs have ln Z instead
         stats, stats_warnings = {}, []
     else:
-        stats, stats_warnings = inference.write_posterior(run_dir, checked, quantities, sampling_facts)
+        stats, stats_warnings = inference.write_posterior(directory, checked, quantities, sampling_facts)
     density, density_warnings = stellar_density.density_check(
         config, post.model, quantities, np.random.default_rng([config.seed, 3])
     )
@@ -218,39 +272,45 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     summary["data"] = checked.data_counts()
     if stability is not None:
         summary["dynamics"] = stability
-    summary_out.write_summary_json(run_dir / "summary.json", summary)
-    summary_out.write_posterior_csv(run_dir / "posterior.csv", quantities)
+    summary_out.write_summary_json(directory.summary, summary)
+    summary_out.write_posterior_csv(directory.posterior_csv, quantities)
     if quantities["transit_times"]:
-        write_transit_times_csv(run_dir / "transit_times.csv", quantities["transit_times"])
-    outputs.write_all(run_dir, checked, post, samples, quantities, summary, figures=figures, cores=cores)
-    log.info("outputs written to %s", run_dir)
+        write_transit_times_csv(directory.transit_times, quantities["transit_times"])
+    outputs.write_all(directory, checked, post, samples, quantities, summary, figures=figures, cores=cores)
+    directory.record_outputs(since)
+    log.info("outputs written to %s", directory)
     return summary
 
 
 def redraw(run_dir, cores=1):
     """Rebuild every figure and table of a finished run from samples.h5 (figures drawn by ``cores`` processes)."""
-    run_dir = Path(run_dir).resolve()
-    facts, samples = chainfile.read_posterior(run_dir / "samples.h5")
-    checked = check(run_dir / "config.resolved.yaml", output=run_dir)
-    rundir.start_logging(run_dir, quiet=True)
+    run = open_finished(run_dir)
+    run.directory.require_writable()
+    note = run.directory.take_lock()
     try:
-        return finish(run_dir, checked, samples, facts, cores=cores)
+        rundir.start_logging(run.directory.path, quiet=True)
+        try:
+            if note:
+                log.warning("NOTE: %s", note)
+            return finish(run.directory.path, run.checked, run.samples, run.facts, cores=cores)
+        finally:
+            rundir.stop_logging()
     finally:
-        rundir.stop_logging()
+        run.directory.release()
 
 
 def export(run_dir, fmt, out=None):
     """Write the posterior of a finished run as ``fmt`` (csv, json or nc) to ``out`` or the run directory."""
-    run_dir = Path(run_dir).resolve()
-    facts, samples = chainfile.read_posterior(run_dir / "samples.h5")
-    checked = check(run_dir / "config.resolved.yaml", output=run_dir)
+    run = open_finished(run_dir)
+    directory, checked, facts = run.directory, run.checked, run.facts
     if checked.config.sampling.nested:
         raise InputError(
-            f"{run_dir} holds a nested-sampling run; 'planetfit export' writes emcee walkers and their statistics.",
+            f"{directory} holds a nested-sampling run; 'planetfit export' writes emcee walkers and their statistics.",
             fix="use the run's posterior.csv (its equal-weight samples), or fit with 'sampling: {method: mcmc}'.",
         )
-    quantities, _ = _derive(checked, samples)
-    stats = chainfile.read_sample_stats(run_dir / "samples.h5", facts["discard"], facts["thin"])
+    path = directory.export_target(out, fmt)
+    rundir.require_writable(path.parent)
+    quantities, _ = _derive(checked, run.samples)
+    stats = chainfile.read_sample_stats(directory.samples, facts["discard"], facts["thin"])
     groups = inference.posterior_groups(checked, quantities, stats)
-    path = Path(out) if out else run_dir / exports.DEFAULT_NAMES.get(fmt, "posterior_export")
     return exports.write_export(groups, fmt, path, inference.run_attrs(checked))

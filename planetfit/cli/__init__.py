@@ -10,6 +10,7 @@ import sys
 import traceback
 
 from planetfit.core.errors import InputError
+from planetfit.core.storage import NO_ROOM
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
 #: Seconds between repeated KeyboardInterrupts after Ctrl-C or SIGTERM, until the run has stopped.
@@ -30,6 +31,15 @@ def _resume_hint(args):
     if saved is None:
         return f"nothing was sampled yet, so nothing is saved; start again with 'planetfit {target}{out} --force'."
     return f"{saved} hold the sampling so far; continue with 'planetfit {target} --resume{out}'."
+
+
+def _no_room(args, exc):
+    """The message for a full disk (or ``ulimit -f``): what was not written, what is kept, how to go on."""
+    return (
+        f"no room to write {exc.filename or 'a file'} ({exc.strerror}). Nothing written before is lost: a chain "
+        "stops at its last saved step and other files are written whole or not at all. Fix: free disk space (or "
+        f"raise the file-size limit), then {_resume_hint(args)}"
+    )
 
 
 #: The process that runs ``main``; forked workers have other ids.
@@ -82,8 +92,11 @@ def main(argv=None):
         return EXIT_INTERRUPTED
     except SystemExit as exc:
         return exc.code if isinstance(exc.code, int) else EXIT_OK
-    except Exception:
+    except Exception as exc:
         _restore(streams)  # an error while stopping after Ctrl-C must still be seen
+        if isinstance(exc, OSError) and exc.errno in NO_ROOM:  # an honest exit 1: the machine's fault, not a bug
+            print(f"planetfit: {_no_room(args, exc)}", file=sys.stderr)
+            return EXIT_INTERNAL
         traceback.print_exc()
         print("planetfit: internal error (above); please report it with the config.", file=sys.stderr)
         return EXIT_INTERNAL

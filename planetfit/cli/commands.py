@@ -1,7 +1,6 @@
 """What each sub-command does: calls the pipeline (or a context function) and prints the result."""
 
 import json
-from pathlib import Path
 
 from planetfit.core.errors import InputError
 
@@ -9,8 +8,10 @@ from planetfit.core.errors import InputError
 def print_summary(run_dir):
     """The end-of-run summary: sampling facts, each planet's mass, radius and density, and every warning."""
     from planetfit.report.markdown import sampling_text
+    from planetfit.rundir import RunDirectory
 
-    summary = json.loads((Path(run_dir) / "summary.json").read_text())
+    directory = RunDirectory(run_dir)
+    summary = json.loads(directory.summary.read_text())
     s = summary["sampling"]
     print(f"\n{summary['system']}: {sampling_text(s)}")
     for name, p in summary["planets"].items():
@@ -33,7 +34,7 @@ def print_summary(run_dir):
             print(f"     {p['composition']['verdict']}")
     for warning in s.get("warnings", []):
         print(f"WARNING: {warning}")
-    print(f"outputs in {run_dir}; open {Path(run_dir) / 'report.html'} for the whole run on one page")
+    print(f"outputs in {run_dir}; open {directory.report} for the whole run on one page")
 
 
 def run(args, config=None):

@@ -17,6 +17,7 @@ import numpy as np
 from emcee.ensemble import walkers_independent
 
 from planetfit.core.errors import InputError
+from planetfit.core.storage import require_room
 from planetfit.fitting.modes import Mode
 from planetfit.fitting.proposal import FittedProposal
 
@@ -25,6 +26,8 @@ CHAIN_GROUP, FACTS_GROUP, MODES_GROUP = "chain", "planetfit", "modes"
 NESTED_GROUP, PROPOSAL_GROUP = "nested", "proposal"
 #: Attribute of the chain group: seconds the run has taken so far, over all its segments.
 SECONDS_ATTR = "planetfit_seconds"
+#: Room kept beyond twice the steps' bytes for HDF5's chunks and metadata when flushing.
+FLUSH_MARGIN_BYTES = 1 << 20
 _RESUME_FIX = (
     "move samples.h5 away (it is never overwritten silently) and run again, or use --force to start a new "
     "fit in this folder."
@@ -93,6 +96,8 @@ class BufferedHDFBackend(emcee.backends.HDFBackend):
         if not self._pending:
             return
         coords, log_prob, accepted, _ = zip(*self._pending)
+        # Checked first: HDF5 cannot recover from a write that fails half-way (the chain would be lost).
+        require_room(self.filename, FLUSH_MARGIN_BYTES + 2 * sum(c.nbytes + p.nbytes for c, p in zip(coords, log_prob)))
         with self.open("a") as f:
             g = f[self.name]
             first = g.attrs["iteration"]
@@ -259,6 +264,13 @@ def read_posterior(h5_path):
             fix="rerun the fit with --resume (if it was interrupted) or --force.",
         ) from None
     return facts, samples
+
+
+def parameter_names(h5_path):
+    """The sampled parameters' names stored with the chain, or None if the file holds none (an unfinished run)."""
+    with h5py.File(h5_path, "r") as fh:
+        names = fh[FACTS_GROUP].attrs.get("parameter_names") if FACTS_GROUP in fh else None
+    return None if names is None else [n.decode() if isinstance(n, bytes) else str(n) for n in names]
 
 
 def read_chain(h5_path):

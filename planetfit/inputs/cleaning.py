@@ -54,12 +54,12 @@ def near_transits(times, planets, star, half_width_days=None):
     mask = np.zeros(times.size, dtype=bool)
     for p in planets:
         if p.transits:
-            half = _longest_half_days(p, star) if half_width_days is None else half_width_days
+            half = longest_half_days(p, star) if half_width_days is None else half_width_days
             mask |= _near_epochs(times, p.transit_bjd.centre, p.transit_bjd.half_width, p, half)
     return mask
 
 
-def _longest_half_days(p, star):
+def longest_half_days(p, star):
     """Half the longest transit the priors allow (circular orbit, impact 0, largest radius ratio), with margin."""
     period = p.period_days.centre
     a_r = float(solve_orbit(period, 0.0, 0.0, 0.0, math.pi / 2, star.mass_msun.centre, star.radius_rsun.centre)[0])
@@ -85,7 +85,7 @@ def near_eclipses(times, planets, star):
     for p in planets:
         shift = 2 * p.period_days.centre / math.pi * _largest_e_cos_w(p)
         t0 = p.transit_bjd.centre + 0.5 * p.period_days.centre
-        mask |= _near_epochs(times, t0, p.transit_bjd.half_width + shift, p, _longest_half_days(p, star))
+        mask |= _near_epochs(times, t0, p.transit_bjd.half_width + shift, p, longest_half_days(p, star))
     return mask
 
 

@@ -23,7 +23,7 @@ import numpy as np
 
 from planetfit.core.errors import InputError
 from planetfit.core.units import HOURS_PER_DAY, MINUTES_PER_DAY
-from planetfit.inputs import cleaning, products
+from planetfit.inputs import cleaning, plausibility, products
 from planetfit.inputs.fits import is_fits
 from planetfit.inputs.tables import read_table
 from planetfit.inputs.timesystems import check_time_references, to_bjd_tdb
@@ -372,8 +372,10 @@ def load_all(config):
     -------
     (list of Photometry, list of Velocities)
     """
+    plausibility.check_rows_used_once(config)
     phot = [read_photometry(c, config.star) for c in config.photometry]
     rvs = [load_velocities(c, config.star) for c in config.velocities]
+    plausibility.check_read(config, phot, rvs)
     # Times are checked before the cleaning, which keeps only points near transits predicted in BJD_TDB.
     check_time_references(
         config,
@@ -385,4 +387,5 @@ def load_all(config):
         clean_photometry(d, c, config.planets, config.star, {n for b, n in lit if b == c.band_name})
         for d, c in zip(phot, config.photometry)
     ]
+    plausibility.check_transits_in_data(config, phot)
     return phot, rvs

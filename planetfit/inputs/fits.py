@@ -4,7 +4,8 @@ Mission light-curve products keep one row per exposure in a binary-table
 extension: a time column in days relative to a reference Julian date given
 by the header keywords BJDREFI (integer part) and BJDREFF (fraction), the
 time scale in TIMESYS, and flux, flux-error and quality-bitmask columns.
-Times are returned as absolute BJD_TDB; a time scale other than TDB stops
+Times are returned as absolute BJD_TDB; a time scale other than TDB, or a
+time reference other than the solar-system barycentre (TIMEREF), stops
 with an :class:`~planetfit.core.errors.InputError`.
 
 Kepler, K2 and TESS products are recognised by their TELESCOP / MISSION
@@ -100,6 +101,15 @@ def reference_bjd(headers, path):
             key="TIMESYS",
             fix="convert the times to the TDB scale (barycentric dynamical time) "
             "and set TIMESYS = 'TDB', or give a table already in BJD_TDB.",
+        )
+    timeref = _keyword(headers, "TIMEREF")
+    if timeref is not None and str(timeref).strip().upper() != "SOLARSYSTEM":
+        raise InputError(
+            f"TIMEREF = '{str(timeref)[:20]}': the times are not barycentric (SOLARSYSTEM), so they are not BJD.",
+            file=path,
+            key="TIMEREF",
+            fix="correct the times to the solar-system barycentre (BJD_TDB, TIMEREF = 'SOLARSYSTEM'), "
+            "or give a table already in BJD_TDB.",
         )
     integer, fraction = _keyword(headers, "BJDREFI"), _keyword(headers, "BJDREFF")
     if integer is None or fraction is None:

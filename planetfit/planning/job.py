@@ -7,6 +7,7 @@ import numpy as np
 
 from planetfit.planning import outputs, plan
 from planetfit.planning.run import load_run
+from planetfit.rundir import RunDirectory, require_writable
 
 #: Default observing window: it opens this many days after the run's last data point and lasts this long.
 WINDOW_DELAY_DAYS, WINDOW_LENGTH_DAYS = 1.0, 180.0
@@ -118,5 +119,7 @@ def plan_run(run_dir, out_dir=None, **options):
         "warnings": plan_warnings(run, planets, settings.window_bjd, last),
     }
     result["seconds"] = round(time.monotonic() - started, 2)
-    out_dir = Path(out_dir) if out_dir is not None else run.run_dir / "plan"
+    if out_dir is None:
+        require_writable(run.run_dir)
+    out_dir = Path(out_dir) if out_dir is not None else RunDirectory(run.run_dir).plan
     return result, outputs.write_plan(out_dir, result)

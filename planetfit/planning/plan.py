@@ -169,7 +169,7 @@ def _now(run, planet):
 
 
 def make_plan(run, settings, noise):
-    """The plan (a JSON-ready dict) for a :class:`~planetfit.planning.run.FinishedRun`."""
+    """The plan (a JSON-ready dict) for a :class:`~planetfit.planning.run.PlanningRun`."""
     rng = np.random.default_rng(settings.seed)
     counts = search_counts(settings)
     check_window(settings.window_bjd, settings.per_night, max(counts))

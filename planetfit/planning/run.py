@@ -1,7 +1,8 @@
 """A finished run, read back for planning: its model, its posterior samples as physical values, its summary.
 
-Nothing is fitted: the model is rebuilt from ``config.resolved.yaml`` (the
-data are read again), the samples come from ``samples.h5`` and the
+Nothing is fitted: the run is opened by :func:`planetfit.pipeline.open_finished`
+(the model rebuilt from its resolved config, the data read again and checked
+against the run's manifest, the samples from its chain file) and the
 quantities no data constrain (a star mass without transits, Teff) are drawn
 from their priors exactly as the run's own outputs were.
 """
@@ -15,7 +16,7 @@ import numpy as np
 from planetfit import pipeline
 from planetfit.context import derived
 from planetfit.core.errors import InputError
-from planetfit.fitting import chainfile
+from planetfit.rundir import RunDirectory
 
 _FINISHED_FIX = (
     "give the folder of a finished 'planetfit run' (it holds summary.json, samples.h5 and config.resolved.yaml); "
@@ -24,7 +25,7 @@ _FINISHED_FIX = (
 
 
 @dataclasses.dataclass
-class FinishedRun:
+class PlanningRun:
     """What the planner needs of a finished run.
 
     Attributes
@@ -78,32 +79,22 @@ def load_run(run_dir, seed=0):
         If the folder does not exist, or lacks summary.json, samples.h5 or
         config.resolved.yaml, or its chain file is unreadable.
     """
-    run_dir = Path(run_dir).resolve()
-    if not run_dir.is_dir():
+    directory = RunDirectory(Path(run_dir).resolve())
+    if not directory.path.is_dir():
         raise InputError(
-            "the run directory does not exist (or is not a folder).", file=run_dir, fix=_FINISHED_FIX
+            "the run directory does not exist (or is not a folder).", file=directory, fix=_FINISHED_FIX
         ) from None
-    for name in ("summary.json", "samples.h5", "config.resolved.yaml"):
-        _require(run_dir / name, name)
+    for path in (directory.summary, directory.samples, directory.resolved_config):
+        _require(path, path.name)
     try:
-        summary = json.loads((run_dir / "summary.json").read_text())
+        summary = json.loads(directory.summary.read_text())
     except (OSError, ValueError) as exc:
-        raise InputError(
-            f"summary.json is unreadable ({exc}).", file=run_dir / "summary.json", fix=_FINISHED_FIX
-        ) from None
-    _, samples = chainfile.read_posterior(run_dir / "samples.h5")
-    checked = pipeline.check(run_dir / "config.resolved.yaml", output=run_dir)
-    if samples.shape[1] != checked.posterior.layout.ndim:
-        raise InputError(
-            f"samples.h5 holds {samples.shape[1]} parameters but the run's config has "
-            f"{checked.posterior.layout.ndim}: the folder mixes two runs.",
-            file=run_dir,
-            fix="rerun the fit with --force.",
-        )
-    return from_samples(checked, samples, summary, run_dir, seed)
+        raise InputError(f"summary.json is unreadable ({exc}).", file=directory.summary, fix=_FINISHED_FIX) from None
+    run = pipeline.open_finished(directory.path)
+    return from_samples(run.checked, run.samples, summary, directory.path, seed)
 
 
 def from_samples(checked, samples, summary=None, run_dir=None, seed=0):
-    """A :class:`FinishedRun` from a checked config and posterior samples in sampler coordinates."""
+    """A :class:`PlanningRun` from a checked config and posterior samples in sampler coordinates."""
     quantities = derived.derive(checked.config, checked.posterior.model, samples, np.random.default_rng([seed, 2]))
-    return FinishedRun(run_dir, checked, quantities["parameters"], quantities["planets"], summary or {})
+    return PlanningRun(run_dir, checked, quantities["parameters"], quantities["planets"], summary or {})

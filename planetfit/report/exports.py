@@ -16,8 +16,6 @@ from planetfit.report import inference
 from planetfit.report.files import write_text_atomic
 
 FORMATS = ("csv", "json", "nc")
-#: Default file of each format in the run directory.
-DEFAULT_NAMES = {"csv": "posterior_export.csv", "json": "posterior_export.json", "nc": "posterior.nc"}
 #: Groups with one value per (walker, draw), in the order of the CSV's columns.
 SAMPLE_GROUPS = ("posterior", inference.DERIVED_GROUP, "sample_stats")
 

@@ -204,7 +204,7 @@ def write_posterior(run_dir, checked, derived, facts):
 
     Parameters
     ----------
-    run_dir : Path
+    run_dir : planetfit.rundir.RunDirectory
         Holds samples.h5; receives posterior.nc.
     checked : pipeline.Checked
     derived : dict
@@ -212,14 +212,14 @@ def write_posterior(run_dir, checked, derived, facts):
     facts : dict
         The run's sampling facts (``discard``, ``thin``).
     """
-    stats = read_sample_stats(run_dir / "samples.h5", facts["discard"], facts["thin"])
+    stats = read_sample_stats(run_dir.samples, facts["discard"], facts["thin"])
     groups = posterior_groups(checked, derived, stats)
     idata = inference_data(groups, run_attrs(checked))
     if idata is None:
         log.info("no posterior.nc, R-hat or ESS: %s", INSTALL_HINT)
     else:
         try:
-            write_netcdf(idata, run_dir / "posterior.nc")
+            write_netcdf(idata, run_dir.posterior_nc)
         except (ImportError, ValueError) as exc:  # arviz without a NetCDF engine: the run's other outputs go on
             log.warning("posterior.nc not written (%s): %s", exc, INSTALL_HINT)
     return sampling_facts(diagnostics(idata, stats[2], derived["parameter_names"]), len(stats[2]))

@@ -3,7 +3,6 @@
 import logging
 import multiprocessing
 import time
-from pathlib import Path
 
 from planetfit.report import html, tables
 from planetfit.report.figures import figure_builders
@@ -19,7 +18,8 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
 
     Parameters
     ----------
-    run_dir : Path
+    run_dir : planetfit.rundir.RunDirectory
+        The file names of the run.
     checked : pipeline.Checked
     posterior : JointPosterior
     samples : ndarray, shape (n, ndim)
@@ -33,14 +33,13 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
     cores : int
         Processes drawing figures (:func:`draw_figures`).
     """
-    run_dir = Path(run_dir)
     rows = tables.table_rows(summary, posterior.model, checked.config.star)
-    write_text_atomic(run_dir / "table.tex", tables.latex_table(summary, rows))
-    write_text_atomic(run_dir / "summary.md", summary_markdown(summary, rows))
+    write_text_atomic(run_dir.table, tables.latex_table(summary, rows))
+    write_text_atomic(run_dir.summary_md, summary_markdown(summary, rows))
     if figures:
         builders = figure_builders(run_dir, checked, posterior, samples, derived, summary)
-        draw_figures(builders, run_dir / "figures", cores)
-    html.write_report(run_dir / "report.html", summary, rows, run_dir / "figures")
+        draw_figures(builders, run_dir.figures, cores)
+    html.write_report(run_dir.report, summary, rows, run_dir.figures)
 
 
 def draw_figures(builders, folder, cores=1):

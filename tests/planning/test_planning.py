@@ -41,7 +41,9 @@ def test_sigma_k_of_n_rvs_at_random_phases(tmp_path):
     # The old RVs (3 at 10 km/s) carry no information on K in [0, 100] m/s: the posterior is the prior.
     old = np.array([TRANSIT_BJD + 1.0, TRANSIT_BJD + 2.0, TRANSIT_BJD + 3.0])
     config = write_rv_system(
-        tmp_path, [("old", old, np.zeros(3), 1e4)], planet_block(PERIOD_DAYS, TRANSIT_BJD, {"uniform": [0, 100]})
+        tmp_path,
+        [("old", old, np.array([1.0, -1.0, 0.0]), 1e4)],
+        planet_block(PERIOD_DAYS, TRANSIT_BJD, {"uniform": [0, 100]}),
     )
     run = _prior_run(config)
     rows = _plan(run, [20, 50, 200], (TRANSIT_BJD + 10, TRANSIT_BJD + 410), draws=200)["counts"]
@@ -70,7 +72,7 @@ def test_reweighted_and_gaussian_verdicts_agree(tmp_path):
     # (its prior: K ~ N(2.2, 0.4) m/s; 3 old RVs at 10 km/s carry no information), so the Gaussian verdict is
     # near exact, and weighting the old samples by the simulated RVs' likelihood must give the same p_rocky.
     # Radius ratio 0.02 gives 1.70 Earth radii, near the silicate curve at about 5 Earth masses: p_rocky ~ 0.5.
-    old = ("old", TRANSIT_BJD + np.array([1.0, 2.0, 3.0]), np.zeros(3), 1e4)
+    old = ("old", TRANSIT_BJD + np.array([1.0, 2.0, 3.0]), np.array([1.0, -1.0, 0.0]), 1e4)
     config = write_transiting_system(tmp_path, {"normal": [2.2, 0.4]}, radius_ratio=0.02, velocities=[old])
     run = _prior_run(config, n=4000)
     names = forecast.planner_parameters(run.model, run.values)

@@ -337,7 +337,7 @@ def test_mass_radius_and_habitable_zone_figures(parts):
 
 def test_convergence_figure(parts):
     posterior = parts["posterior"]
-    history, chain = read_chain(parts["dir"] / "samples.h5")
+    history, chain = read_chain(parts["dir"].samples)
     assert chain.shape[0] == parts["summary"]["sampling"]["steps"] and history[-1, 0] <= chain.shape[0]
     fig = parts["fig"]["convergence"]
     assert len(fig.axes) == 4

@@ -23,7 +23,7 @@ from planetfit.report.figures.velocity import rv_phase_figure, rv_time_figure
 
 
 def _convergence(run_dir, posterior, summary, target_factor):
-    history, raw = read_chain(run_dir / "samples.h5")
+    history, raw = read_chain(run_dir.samples)
     chain = physical_chain(raw, posterior.layout)
     return convergence_figure(history, chain, posterior.layout.free, summary["sampling"]["discard"], target_factor)
 
