@@ -158,7 +158,7 @@ def _sample(checked, run_dir, rng, cores, quiet, resume):
 
 def run_warnings(checked, samples):
     """Warnings about the posterior itself: unconstrained parameters, jitters far above the errors."""
-    layout = checked.posterior.layout
+    layout = checked.posterior.model.layout
     jitters = [(d.name, float(np.median(d.error)) / PPM, f"{d.name}.jitter_ppm", "ppm") for d in checked.photometry]
     jitters += [(d.name, float(np.median(d.error)), f"{d.name}.jitter_ms", "m/s") for d in checked.velocities]
     return diagnostics.unconstrained_warnings(layout, samples) + diagnostics.jitter_warnings(layout, samples, jitters)
@@ -169,7 +169,8 @@ def _derive(checked, samples):
     config, post = checked.config, checked.posterior
     rng = np.random.default_rng([config.seed, 1])
     quantities = derived.derive(config, post.model, samples, rng)
-    quantities["parameter_names"] = post.layout.free
+    quantities["parameter_names"] = post.model.layout.free
+    quantities["sampled_names"] = post.layout.free
     context = blocks.add_context(config, post.model, quantities, rng)
     quantities["transit_times"] = transit_times.transit_times(post.model, config, quantities["parameters"])
     for name, timing in quantities["transit_times"].items():
@@ -177,9 +178,15 @@ def _derive(checked, samples):
     return quantities, context
 
 
+def complete(checked, samples, cores=1):
+    """The sampler's samples with the marginalised linear parameters drawn in (seeded by the config), and warnings."""
+    return checked.posterior.complete(samples, checked.config.seed, cores)
+
+
 def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
-    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
+    """Derive, add context and write every output from the sampler's samples (``cores`` processes draw and plot)."""
     config, post = checked.config, checked.posterior
+    samples, linear_warnings = complete(checked, samples, cores)
     quantities, context = _derive(checked, samples)
     stability, stability_warnings = dynamics.dynamics_block(
         config, post.model, quantities, np.random.default_rng([config.seed, 2])
@@ -188,7 +195,9 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
         stats, stats_warnings = {}, []
     else:
         stats, stats_warnings = inference.write_posterior(run_dir, checked, quantities, sampling_facts)
-    new = run_warnings(checked, samples) + light_warnings(context) + stability_warnings + stats_warnings
+    new = (
+        linear_warnings + run_warnings(checked, samples) + light_warnings(context) + stability_warnings + stats_warnings
+    )
     for warning in new:
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new
@@ -229,7 +238,7 @@ def export(run_dir, fmt, out=None):
             f"{run_dir} holds a nested-sampling run; 'planetfit export' writes emcee walkers and their statistics.",
             fix="use the run's posterior.csv (its equal-weight samples), or fit with 'sampling: {method: mcmc}'.",
         )
-    quantities, _ = _derive(checked, samples)
+    quantities, _ = _derive(checked, complete(checked, samples)[0])
     stats = chainfile.read_sample_stats(run_dir / "samples.h5", facts["discard"], facts["thin"])
     groups = inference.posterior_groups(checked, quantities, stats)
     path = Path(out) if out else run_dir / exports.DEFAULT_NAMES.get(fmt, "posterior_export")

@@ -34,6 +34,11 @@ class Parameter:
         How tables and figures name it.
     group : {"star", "planet", "instrument", "timing"}
         Where the parameter table lists it.
+    linear : bool
+        Whether it enters its dataset's mean linearly (a flux level, an RV
+        offset, a trend or indicator coefficient): the component that
+        declares it gives its design column, and with a normal or uniform
+        prior it can be marginalised analytically (:mod:`planetfit.fitting.linear`).
     """
 
     owner: str
@@ -41,6 +46,7 @@ class Parameter:
     prior: Prior
     quantity: Quantity
     group: str = "instrument"
+    linear: bool = False
 
     @property
     def name(self):

@@ -52,9 +52,11 @@ def no_figures(monkeypatch):
     monkeypatch.setattr(pipeline.outputs, "write_all", lambda *args, **kwargs: None)
 
 
-def test_evidence_of_a_linear_gaussian_model_matches_the_closed_form(tmp_path, no_figures):
+@pytest.mark.parametrize("linear", ["marginalised", "sampled"])
+def test_evidence_of_a_linear_gaussian_model_matches_the_closed_form(tmp_path, no_figures, linear):
+    # Marginalised, the offset is integrated analytically (flat prior with its 1/width) and dynesty sees K alone.
     t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
-    config = write_rv_model(tmp_path, t, rv, {"b": circular()}, live_points=250)
+    config = write_rv_model(tmp_path, t, rv, {"b": circular()}, live_points=250, linear_parameters=linear)
     run_dir = pipeline.run(config, quiet=True, figures=False)
     s = json.loads((run_dir / "summary.json").read_text())["sampling"]
     expected = closed_form_ln_evidence(t, rv, (0, 40), (-50, 50))

@@ -5,6 +5,13 @@ the first basis column being all ones: :attr:`basis` (N, k) is fixed,
 :meth:`coefficients` and :meth:`flux` take parameter values. A dataset
 whose variability is a Gaussian process has a constant baseline; the
 process is its noise model (:mod:`planetfit.fitting.components.gp`).
+
+The flux level F0 multiplies the whole model, so it enters the mean
+linearly: :meth:`columns` gives its column (the baseline at unit level),
+which the likelihood multiplies by the transmitted fraction. The slope of
+:class:`LinearBaseline` does not: F0 s is linear, but a prior on s is not a
+prior on F0 s, so the slope stays a sampled parameter and the prior the
+config gives it keeps its meaning.
 """
 
 import numpy as np
@@ -18,7 +25,7 @@ class ConstantBaseline:
     """One flux level F0 for the whole dataset."""
 
     def __init__(self, block, times):
-        self.level = Parameter(block.name, "flux_level", block.flux_level, DATASET["flux_level"])
+        self.level = Parameter(block.name, "flux_level", block.flux_level, DATASET["flux_level"], linear=True)
         self.parameters = [self.level]
         self.basis = np.ones((np.size(times), 1))
 
@@ -27,6 +34,10 @@ class ConstantBaseline:
 
     def flux(self, values):
         return values[self.level.name]
+
+    def columns(self, values):
+        """Design column of each linear parameter: {name: the baseline at unit level (scalar or (N,))}."""
+        return {self.level.name: self.flux(dict(values, **{self.level.name: 1.0}))}
 
 
 class LinearBaseline(ConstantBaseline):
