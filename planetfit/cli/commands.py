@@ -119,8 +119,11 @@ def check(args):
     )
     for row in pipeline.overview(checked):
         print("  {:<18s} {:<10s} {:6d} points ({} NaN rows dropped), BJD_TDB {:.3f} to {:.3f}, {}".format(*row))
-    layout = checked.posterior.layout
-    print(f"  {layout.ndim} free parameters: {', '.join(layout.free)}")
+    layout, everything = checked.posterior.layout, checked.posterior.model.layout
+    print(f"  {layout.ndim} sampled parameters: {', '.join(layout.free)}")
+    marginalised = [n for n in everything.free if n not in layout.free]
+    if marginalised:
+        print(f"  {len(marginalised)} linear parameter(s) marginalised analytically: {', '.join(marginalised)}")
     for warning in checked.warnings:
         print(f"  WARNING: {warning}")
 

@@ -166,7 +166,7 @@ class SummedPhotometryModel(PhotometryModel):
 
     def log_likelihood(self, batch):
         if self.marginal is not None:
-            return self.marginal.log_likelihood(*self.gram(batch))
+            return super().log_likelihood(batch)
         parts = [self.deficit(v, o) for v, o in zip(batch.rows, batch.orbit_rows)]
         coefficients = [self.baseline.coefficients(v) for v in batch.rows]
         return self.sums.score(coefficients, [p[0] for p in parts], [p[1] for p in parts])

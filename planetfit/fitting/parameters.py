@@ -8,6 +8,7 @@ figures. Its name, ``owner.key``, is the one string contract: summary.json's
 """
 
 import dataclasses
+import functools
 
 import numpy as np
 
@@ -48,7 +49,7 @@ class Parameter:
     group: str = "instrument"
     linear: bool = False
 
-    @property
+    @functools.cached_property
     def name(self):
         """``owner.key``: the parameter's name in summary.json and the chain file."""
         return f"{self.owner}.{self.key}"

@@ -37,7 +37,7 @@ class ConstantBaseline:
 
     def columns(self, values):
         """Design column of each linear parameter: {name: the baseline at unit level (scalar or (N,))}."""
-        return {self.level.name: self.flux(dict(values, **{self.level.name: 1.0}))}
+        return {self.level.name: 1.0}
 
 
 class LinearBaseline(ConstantBaseline):
@@ -55,7 +55,10 @@ class LinearBaseline(ConstantBaseline):
         return [level, level * values[self.slope.name]]
 
     def flux(self, values):
-        return values[self.level.name] * (1 + values[self.slope.name] * self.dt_days)
+        return values[self.level.name] * self.columns(values)[self.level.name]
+
+    def columns(self, values):
+        return {self.level.name: 1 + values[self.slope.name] * self.dt_days}
 
 
 BASELINES = {schema.LinearBaseline: LinearBaseline, schema.Photometry: ConstantBaseline}
