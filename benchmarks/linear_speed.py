@@ -88,10 +88,10 @@ def evaluation(checked):
     return out
 
 
-def mixing(checked, steps, folder):
-    """Autocorrelation times of a fit of ``steps`` steps in each mode, and its CPU seconds."""
+def mixing(checked, steps, folder, modes=MODES):
+    """Autocorrelation times of a fit of ``steps`` steps in each of ``modes``, and its CPU seconds."""
     out = {}
-    for mode in MODES:
+    for mode in modes:
         c = checked[mode]
         settings = c.config.sampling.model_copy(update={"max_steps": steps})
         cpu = cpu_seconds()
@@ -115,17 +115,19 @@ def mixing(checked, steps, folder):
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--mixing", type=int, default=0, help="steps of each short demo fit (0: none)")
+    parser.add_argument("--mode", choices=MODES, help="only this mode's fit (two processes can run side by side)")
+    parser.add_argument("--no-evaluation", action="store_true", help="skip the evaluation figures")
     args = parser.parse_args()
     with threadpool_limits(limits=1), tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
         (folder / "gp").mkdir()
         (folder / "white").mkdir()
-        demo = checked_pair(folder / "gp")
-        report = {
-            "evaluation": {"demo": evaluation(demo), "demo_white": evaluation(checked_pair(folder / "white", _white))}
-        }
+        demo, report = checked_pair(folder / "gp"), {}
+        if not args.no_evaluation:
+            white = checked_pair(folder / "white", _white)
+            report["evaluation"] = {"demo": evaluation(demo), "demo_white": evaluation(white)}
         if args.mixing:
-            report["mixing"] = mixing(demo, args.mixing, folder)
+            report["mixing"] = mixing(demo, args.mixing, folder, [args.mode] if args.mode else MODES)
     print(json.dumps(report, indent=1))
 
 
