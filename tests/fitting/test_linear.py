@@ -10,7 +10,7 @@ import yaml
 from rv_models import K_MS, PERIOD, TC, circular, rv_data, write_rv_model
 from scipy import integrate, special, stats
 from synthetic import planet_truth, write_tiny_system
-from variability import write_active_star, write_spotted_star
+from variability import write_active_star, write_spotted_star, write_trend_star
 
 from planetfit import pipeline
 from planetfit.fitting.mcmc import run_sampler
@@ -183,3 +183,40 @@ def test_the_edge_mass_is_the_normal_tail(tmp_path):
     # source: the normal distribution's tails beyond the prior's range [-50, 4.2] (scipy.special.ndtr).
     assert mass == pytest.approx(special.ndtr((-50 - mean) / sd) + special.ndtr((mean - 4.2) / sd), rel=1e-9)
     assert 0.01 < mass < 0.99
+
+
+def test_four_linear_parameters_give_the_exact_gaussian_integral(tmp_path):
+    # An offset, a quadratic trend and an activity-indicator coefficient: the integrand is exactly Gaussian in
+    # them, so its integral is f(peak) (2 pi)^(k/2) det(H)^(-1/2) with H the Hessian of -ln f, here by central
+    # differences (exact for a quadratic up to rounding).
+    marg, samp = posteriors(write_trend_star(tmp_path, 2))
+    theta = marg.layout.geometry()[0]
+    cond = conditional(marg, theta)
+    assert len(cond) == 4
+    names, peak = list(cond), np.array([m for m, _ in cond.values()])
+    step = np.array([s for _, s in cond.values()])
+    k = len(names)
+
+    def ln_f(points):
+        values = {n: points[:, j] for j, n in enumerate(names)}
+        log_prior = sum(samp.layout.priors[n].log_density(peak[j]) for j, n in enumerate(names))  # flat
+        return samp.log_likelihood_many(full_vectors(marg, samp, theta, values)) + log_prior
+
+    offsets = [np.zeros(k)] + [
+        s * step[i] * np.eye(k)[i] + t * step[j] * np.eye(k)[j]
+        for i in range(k)
+        for j in range(k)
+        for s in (1, -1)
+        for t in (1, -1)
+    ]
+    f = ln_f(peak + np.array(offsets))
+    hessian = np.empty((k, k))
+    for i in range(k):
+        for j in range(k):
+            pp, pm, mp, mm = f[1 + 4 * (i * k + j) : 5 + 4 * (i * k + j)]
+            hessian[i, j] = -(pp - pm - mp + mm) / (4 * step[i] * step[j])
+    gradient_free = ln_f(peak[None, :] + np.diag(step)) - ln_f(peak[None, :] - np.diag(step))
+    # source: the Gaussian integral (e.g. Gregory 2005, section 10.5); the conditional mean is its peak.
+    assert np.all(np.abs(gradient_free) < 1e-6)
+    expected = f[0] + 0.5 * k * math.log(2 * math.pi) - 0.5 * np.linalg.slogdet(hessian)[1]
+    assert abs(float(marg.log_likelihood_many(theta[None, :])[0]) - expected) < 1e-6
