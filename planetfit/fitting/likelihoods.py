@@ -64,6 +64,12 @@ class LinearMean:
         residuals = np.array([self.residual(v, o) for v, o in zip(batch.rows, batch.orbit_rows)])
         return self.noise.log_likelihood_many(residuals, batch.rows)
 
+    def profile_log_likelihood(self, batch):
+        """Log-likelihood of each walker maximised over the marginalised parameters (plain without them)."""
+        if self.marginal is None:
+            return self.log_likelihood(batch)
+        return self.marginal.profile(*self.gram(batch))
+
     def draw_linear(self, batch, rng):
         """Marginalised parameters drawn from their conditional posterior: (draws (n, k), edge mass (n, k), clipped)."""
         gram, _ = self.gram(batch)

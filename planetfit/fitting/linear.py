@@ -116,6 +116,13 @@ class LinearMarginal:
         out = log_norm - 0.5 * chi2 - log_det + self.constant
         return np.where(ok, out, -math.inf)
 
+    def profile(self, gram, log_norm):
+        """The likelihood maximised over the linear parameters (no prior), shape (n,): ln L at the least-squares fit."""
+        gram = np.where(np.isfinite(log_norm)[:, None, None], gram, np.eye(gram.shape[-1]))
+        chol, ok = _cholesky(gram[:, 1:, 1:])
+        u = np.linalg.solve(chol, gram[:, 1:, :1])[..., 0]
+        return np.where(ok, log_norm - 0.5 * (gram[:, 0, 0] - np.sum(u * u, axis=1)), -math.inf)
+
     def conditional(self, gram):
         """Mean (n, k) and lower Cholesky factor of the precision (n, k, k) of beta given the other parameters."""
         chol, u, _ = self._solve(gram)

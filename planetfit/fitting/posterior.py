@@ -114,6 +114,14 @@ class JointPosterior:
         out[keep] = np.where(np.isfinite(ll), lp[keep] * with_prior + ll, -math.inf)
         return out
 
+    def max_log_likelihood(self, thetas):
+        """The largest log-likelihood over sampler vectors ``thetas``, each at its linear parameters' best fit."""
+        _, keep, batch = self._batch(np.asarray(thetas, dtype=float))
+        if batch is None:
+            return -math.inf
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            return float(np.max(sum(lik.profile_log_likelihood(batch) for lik in self.model.likelihoods)))
+
     def draw_linear(self, thetas, rng):
         """The marginalised parameters of each sample drawn from their conditional posterior.
 
