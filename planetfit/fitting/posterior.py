@@ -17,8 +17,8 @@ from planetfit.fitting.model import build_model
 from planetfit.fitting.workers import WorkerProcesses
 
 #: Samples per batch of conditional draws of the linear parameters; each batch has its own seed, so the draws do
-#: not depend on the number of processes.
-LINEAR_BATCH = 500
+#: not depend on the number of processes (a batch holds its residuals and design columns: 100 x N x (1 + k) floats).
+LINEAR_BATCH = 100
 
 
 def _rows(columns, n):
