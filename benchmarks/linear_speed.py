@@ -10,7 +10,8 @@ evaluation
     ``demo_white``: the same data with white noise, the light curves scored from precomputed sums):
     CPU microseconds per log-probability evaluation with ``linear_parameters: sampled`` and
     ``marginalised`` on batches of 50 walkers (the demo's), the two interleaved round by round in this
-    one process (best round kept), BLAS on one thread; ``ratio`` is marginalised over sampled.
+    one process (best round kept), BLAS on one thread; ``ratio`` is marginalised over sampled;
+    ``conditional_draw_us_per_sample``: drawing the linear parameters of one posterior sample after the fit.
 mixing
     Per mode: the largest and the median integrated autocorrelation time (steps) of a fit of the demo
     cut at STEPS steps (differential evolution, the demo's walkers and optimiser starts), its CPU seconds,
@@ -85,6 +86,10 @@ def evaluation(checked):
             best[mode] = min(best[mode], (time.process_time() - start) / (3 * len(batch)))
     out = {f"{mode}_us": round(best[mode] * 1e6, 1) for mode in MODES}
     out["ratio"] = round(best["marginalised"] / best["sampled"], 3)
+    many = np.repeat(points["marginalised"], 10, axis=0)
+    start = time.process_time()
+    marg.complete(many, 2)
+    out["conditional_draw_us_per_sample"] = round((time.process_time() - start) / len(many) * 1e6, 1)
     return out
 
 
