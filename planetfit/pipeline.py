@@ -226,7 +226,7 @@ def _sample(checked, directory, rng, cores, quiet, resume):
 
 def run_warnings(checked, samples):
     """Warnings about the posterior itself: unconstrained parameters, jitters far above the errors."""
-    layout = checked.posterior.layout
+    layout = checked.posterior.model.layout
     jitters = [(d.name, float(np.median(d.error)) / PPM, f"{d.name}.jitter_ppm", "ppm") for d in checked.photometry]
     jitters += [(d.name, float(np.median(d.error)), f"{d.name}.jitter_ms", "m/s") for d in checked.velocities]
     return diagnostics.unconstrained_warnings(layout, samples) + diagnostics.jitter_warnings(layout, samples, jitters)
@@ -237,7 +237,8 @@ def _derive(checked, samples):
     config, post = checked.config, checked.posterior
     rng = np.random.default_rng([config.seed, 1])
     quantities = derived.derive(config, post.model, samples, rng)
-    quantities["parameter_names"] = post.layout.free
+    quantities["parameter_names"] = post.model.layout.free
+    quantities["sampled_names"] = post.layout.free
     context = blocks.add_context(config, post.model, quantities, rng)
     quantities["transit_times"] = transit_times.transit_times(post.model, config, quantities["parameters"])
     for name, timing in quantities["transit_times"].items():
@@ -245,10 +246,16 @@ def _derive(checked, samples):
     return quantities, context
 
 
+def complete(checked, samples, cores=1):
+    """The sampler's samples with the marginalised linear parameters drawn in (seeded by the config), and warnings."""
+    return checked.posterior.complete(samples, checked.config.seed, cores)
+
+
 def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
-    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
+    """Derive, add context and write every output from the sampler's samples (``cores`` processes draw and plot)."""
     config, post = checked.config, checked.posterior
     directory, since = rundir.RunDirectory(run_dir), time.time()
+    samples, linear_warnings = complete(checked, samples, cores)
     quantities, context = _derive(checked, samples)
     stability, stability_warnings = dynamics.dynamics_block(
         config, post.model, quantities, np.random.default_rng([config.seed, 2])
@@ -260,7 +267,13 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     density, density_warnings = stellar_density.density_check(
         config, post.model, quantities, np.random.default_rng([config.seed, 3])
     )
-    new = run_warnings(checked, samples) + density_warnings + light_warnings(context) + stability_warnings
+    new = (
+        linear_warnings
+        + run_warnings(checked, samples)
+        + density_warnings
+        + light_warnings(context)
+        + stability_warnings
+    )
     new += stats_warnings
     for warning in new:
         log.warning("WARNING: %s", warning)
@@ -310,7 +323,7 @@ def export(run_dir, fmt, out=None):
         )
     path = directory.export_target(out, fmt)
     rundir.require_writable(path.parent)
-    quantities, _ = _derive(checked, run.samples)
+    quantities, _ = _derive(checked, complete(checked, run.samples)[0])
     stats = chainfile.read_sample_stats(directory.samples, facts["discard"], facts["thin"])
     groups = inference.posterior_groups(checked, quantities, stats)
     return exports.write_export(groups, fmt, path, inference.run_attrs(checked))

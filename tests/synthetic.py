@@ -311,14 +311,18 @@ def write_tiny_system(
     return write_config(folder, config)
 
 
-def tiny_posterior(folder, **photometry):
-    """The posterior of the tiny system written into ``folder``, its photometry entry updated with ``photometry``."""
+def tiny_posterior(folder, linear_parameters="sampled", **photometry):
+    """The posterior of the tiny system written into ``folder``, its photometry entry updated with ``photometry``.
+
+    Linear parameters are sampled unless ``linear_parameters="marginalised"``: every parameter is in ``post.layout``.
+    """
     from planetfit.fitting.posterior import JointPosterior
     from planetfit.pipeline import check
 
     path = write_tiny_system(folder)
     raw = yaml.safe_load(path.read_text())
     raw["photometry"][0].update(photometry)
+    raw["sampling"]["linear_parameters"] = linear_parameters
     path.write_text(yaml.safe_dump(raw))
     checked = check(path)
     return JointPosterior(checked.config, checked.photometry, checked.velocities)

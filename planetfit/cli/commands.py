@@ -125,8 +125,11 @@ def check(args):
         relation = source.get("intrinsic_scatter")
         origin = f"the {source['from']}, scatter {relation}, from {source['inputs']}" if relation else source["from"]
         print(f"  star {key}: {source['prior']} ({origin})")
-    layout = checked.posterior.layout
-    print(f"  {layout.ndim} free parameters: {', '.join(layout.free)}")
+    layout, everything = checked.posterior.layout, checked.posterior.model.layout
+    print(f"  {layout.ndim} sampled parameters: {', '.join(layout.free)}")
+    marginalised = [n for n in everything.free if n not in layout.free]
+    if marginalised:
+        print(f"  {len(marginalised)} linear parameter(s) marginalised analytically: {', '.join(marginalised)}")
     for warning in checked.warnings:
         print(f"  WARNING: {warning}")
 

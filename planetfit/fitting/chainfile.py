@@ -180,8 +180,9 @@ def check_resumable(h5_path, ndim, walkers):
             f"the saved chain has {shape[0]} walkers x {shape[1]} parameters, but this config "
             f"needs {expected[0]} x {expected[1]}.",
             file=h5_path,
-            fix="resume with the config that started the run (sampling.walkers and the free "
-            "parameters must not change), or " + _RESUME_FIX,
+            fix="resume with the config that started the run (sampling.walkers, sampling.linear_parameters and "
+            "the free parameters must not change; a chain of an older planetfit sampled the linear parameters: "
+            "'sampling: {linear_parameters: sampled}' continues it), or " + _RESUME_FIX,
         )
     if steps > 0:
         _check_last_step(h5_path)

@@ -8,6 +8,13 @@ spectrograph form one dataset (an activity process couples them): every
 planet's Keplerian + trend + activity-indicator terms + offsets. What is
 left is scored by the dataset's noise model. Every likelihood has
 ``log_likelihood(batch) -> (n,)``.
+
+Parameters that enter a dataset's mean linearly (declared ``linear`` by
+their components, which give their design columns) are marginalised
+analytically once :meth:`LinearMean.marginalise` is called: the
+likelihood is then the integral over them
+(:class:`~planetfit.fitting.linear.LinearMarginal`), and
+:meth:`LinearMean.draw_linear` draws them from their conditional posterior.
 """
 
 import dataclasses
@@ -15,6 +22,7 @@ import dataclasses
 import numpy as np
 
 from planetfit.fitting.keplerian import radial_velocity_ms
+from planetfit.fitting.linear import LinearMarginal
 
 
 @dataclasses.dataclass
@@ -25,7 +33,51 @@ class Batch:
     orbit_rows: list  # per walker: {planet name: {quantity: float}}
 
 
-class PhotometryModel:
+class LinearMean:
+    """A likelihood whose mean may hold linear parameters: scored plainly or marginalised over them.
+
+    A subclass gives ``residual(values, orbits)`` (data minus model, in the
+    noise model's order), ``linear_parameters`` and ``stack(values, orbits)``
+    ((N, 1 + k): the residual with the marginalised parameters at zero, then
+    their design columns).
+    """
+
+    marginal = None
+
+    def marginalise(self, parameters, reference=None):
+        """Marginalise these of its linear parameters (none: score every parameter as sampled).
+
+        ``reference``: the values the stacks are centred on (default: the priors' centres).
+        """
+        self.marginal = LinearMarginal(parameters, reference) if parameters else None
+        self._zero = dict.fromkeys(self.marginal.names, 0.0) if parameters else {}
+
+    def gram(self, batch):
+        """Gram matrices of the centred stacks under the noise model, and its log normalisations."""
+        stacks = np.array([self.marginal.centre(self.stack(v, o)) for v, o in zip(batch.rows, batch.orbit_rows)])
+        return self.noise.gram_many(stacks, batch.rows)
+
+    def log_likelihood(self, batch):
+        """Log-likelihood of each walker of ``batch`` (integrated over the marginalised parameters)."""
+        if self.marginal is not None:
+            return self.marginal.log_likelihood(*self.gram(batch))
+        residuals = np.array([self.residual(v, o) for v, o in zip(batch.rows, batch.orbit_rows)])
+        return self.noise.log_likelihood_many(residuals, batch.rows)
+
+    def profile_log_likelihood(self, batch):
+        """Log-likelihood of each walker maximised over the marginalised parameters (plain without them)."""
+        if self.marginal is None:
+            return self.log_likelihood(batch)
+        return self.marginal.profile(*self.gram(batch))
+
+    def draw_linear(self, batch, rng):
+        """Marginalised parameters drawn from their conditional posterior: (draws (n, k), edge mass (n, k), clipped)."""
+        gram, _ = self.gram(batch)
+        beta, clipped = self.marginal.draw(gram, rng)
+        return beta, self.marginal.edge_mass(gram), clipped
+
+
+class PhotometryModel(LinearMean):
     """A light curve's model: baseline, flux-deficit terms (transits) and dilution.
 
     Parameters
@@ -78,10 +130,29 @@ class PhotometryModel:
         deficit[index] = part
         return self.baseline.flux(values) * (1 - deficit)
 
-    def log_likelihood(self, batch):
-        """Log-likelihood of each walker of ``batch``: the noise model on data minus model."""
-        residuals = np.array([self.data.flux - self.flux(v, o) for v, o in zip(batch.rows, batch.orbit_rows)])
-        return self.noise.log_likelihood_many(residuals, batch.rows)
+    def residual(self, values, orbits):
+        return self.data.flux - self.flux(values, orbits)
+
+    @property
+    def linear_parameters(self):
+        return [p for p in self.baseline.parameters if p.linear]
+
+    def _transmitted(self, values, orbits):
+        """1 - the diluted deficit, at every point."""
+        index, part = self.deficit(values, orbits)
+        out = np.ones(self.data.time.size)
+        out[index] -= part
+        return out
+
+    def stack(self, values, orbits):
+        """The baseline's linear parameters enter as its columns times the transmitted fraction."""
+        transmitted = self._transmitted(values, orbits)
+        columns = self.baseline.columns(values)
+        out = np.empty((transmitted.size, 1 + len(self.marginal.names)))
+        out[:, 0] = self.data.flux - self.baseline.flux(dict(values, **self._zero)) * transmitted
+        for j, name in enumerate(self.marginal.names, 1):
+            out[:, j] = columns[name] * transmitted
+        return out
 
 
 class SummedPhotometryModel(PhotometryModel):
@@ -95,13 +166,26 @@ class SummedPhotometryModel(PhotometryModel):
         super().__init__(data, baseline, terms, dilution, noise)
         self.sums = sums
 
+    def marginalise(self, parameters, reference=None):
+        """As :meth:`LinearMean.marginalise`, centred on the data's weighted mean level (the sums' centre)."""
+        super().marginalise(parameters, [self.sums.mean])
+
     def log_likelihood(self, batch):
+        if self.marginal is not None:
+            return super().log_likelihood(batch)
         parts = [self.deficit(v, o) for v, o in zip(batch.rows, batch.orbit_rows)]
         coefficients = [self.baseline.coefficients(v) for v in batch.rows]
         return self.sums.score(coefficients, [p[0] for p in parts], [p[1] for p in parts])
 
+    def gram(self, batch):
+        """The Gram matrices from the sums and the windows' points (the level being the one linear parameter)."""
+        parts = [self.deficit(v, o) for v, o in zip(batch.rows, batch.orbit_rows)]
+        units = [self.baseline.coefficients(dict(v, **{self.baseline.level.name: 1.0})) for v in batch.rows]
+        gram = self.sums.gram(units, [p[0] for p in parts], [p[1] for p in parts])
+        return gram, np.full(len(gram), self.sums.constant)
 
-class VelocityModel:
+
+class VelocityModel(LinearMean):
     """Every spectrograph's RVs: Keplerians of all planets, trend, indicator terms, offsets and noise.
 
     Parameters
@@ -149,6 +233,23 @@ class VelocityModel:
             )
         return resid
 
-    def log_likelihood(self, batch):
-        residuals = np.array([self.residuals(v, o)[self.order] for v, o in zip(batch.rows, batch.orbit_rows)])
-        return self.noise.log_likelihood_many(residuals, batch.rows)
+    def residual(self, values, orbits):
+        return self.residuals(values, orbits)[self.order]
+
+    @property
+    def linear_parameters(self):
+        own = [p for s in self.spectrographs for p in s.parameters if p.linear]
+        return own + ([p for p in self.trend.parameters if p.linear] if self.trend is not None else [])
+
+    def marginalise(self, parameters):
+        """As :meth:`LinearMean.marginalise`; the design columns do not change and are built here once."""
+        super().marginalise(parameters)
+        columns = self.trend.columns(self.times) if self.trend is not None else {}
+        for i, s in enumerate(self.spectrographs):
+            for name, column in s.columns().items():
+                columns[name] = np.zeros(self.times.size)
+                columns[name][self.group == i] = column
+        self.design = np.column_stack([columns[p.name][self.order] for p in parameters]) if parameters else None
+
+    def stack(self, values, orbits):
+        return np.column_stack([self.residual(dict(values, **self._zero), orbits), self.design])

@@ -6,7 +6,9 @@ dataset and one for all RVs, and the :class:`ParameterLayout` of every
 parameter the likelihoods use (in a fixed order: star, planets, bands,
 photometric datasets, spectrographs, RV trend, RV activity). Parameters
 no likelihood uses are ``prior_only``: drawn from their priors after the
-fit, never sampled.
+fit, never sampled. Linear parameters with a normal or uniform prior are
+marginalised in their likelihoods unless the config says
+``sampling.linear_parameters: sampled``; ``sampled_layout`` leaves them out.
 """
 
 import dataclasses
@@ -26,6 +28,7 @@ from planetfit.fitting.components.timing import individual_transit_times
 from planetfit.fitting.components.transit import LIMB_DARKENING, TransitLightCurve, TransitTerm
 from planetfit.fitting.components.velocity import TRENDS, Spectrograph
 from planetfit.fitting.likelihoods import PhotometryModel, SummedPhotometryModel, VelocityModel
+from planetfit.fitting.linear import marginalisable
 from planetfit.fitting.parameters import Parameter, ParameterLayout
 from planetfit.inputs import schema
 from planetfit.inputs.bands import band_of
@@ -45,6 +48,7 @@ class Model:
     exposures: dict  # photometric dataset -> its sub-exposure choice (supersample, error_ppm, warning)
     warnings: list  # of building the model (too few sub-exposures)
     lights: dict = dataclasses.field(default_factory=dict)  # (band, planet name) -> PlanetLight
+    sampled_layout: ParameterLayout = None  # ``layout`` without the linear parameters marginalised analytically
 
     @property
     def likelihoods(self):
@@ -176,15 +180,24 @@ def build_model(config, photometry, velocities):
     prior_only = ([] if transits else list(star.parameters)) + [q for p in planets for q in p.prior_only]
     exposures = {m.data.name: c for m, _, c in phot}
     warnings = [c.warning for c in exposures.values() if c.warning]
+    layout = ParameterLayout(params)
+    marginalised = set()
+    for likelihood in [m for m, _, _ in phot] + ([rv] if rv is not None else []):
+        own = (
+            [q for q in likelihood.linear_parameters if marginalisable(q)] if config.sampling.marginalise_linear else []
+        )
+        likelihood.marginalise(own)
+        marginalised.update(q.name for q in own)
     return Model(
         star,
         planets,
         bands,
         [m for m, _, _ in phot],
         rv,
-        ParameterLayout(params),
+        layout,
         prior_only,
         exposures,
         warnings,
         lights,
+        ParameterLayout(q for q in layout.parameters.values() if q.name not in marginalised),
     )

@@ -48,6 +48,8 @@ CHECKPOINT_SECONDS = 60.0
 ENLARGE = 1.25
 #: Iterations between progress lines when stderr is not a terminal (no redrawn bar).
 PROGRESS_EVERY = 1000
+#: Points of highest (marginal) likelihood at which the largest likelihood of every parameter is looked for.
+PROFILED_POINTS = 50
 EVIDENCE_NOTE = (
     "dynesty's ln Z of the dead and final live points; error sqrt(H / live_points) accumulated over the run "
     "(Skilling 2006), H the information, the statistical scatter of the prior-volume shrinkage only"
@@ -98,7 +100,8 @@ class NestedResult:
     samples: np.ndarray  # (n, ndim) equal-weight resampling of the dead and live points
     points: np.ndarray  # (m, ndim) the weighted dead and final live points
     log_weights: np.ndarray  # (m,) their importance weights, normalised to sum 1
-    log_likelihood: np.ndarray  # (m,)
+    log_likelihood: np.ndarray  # (m,) integrated over any marginalised linear parameters
+    max_log_likelihood: float  # of every parameter, the linear ones at their best fit
     live_points: int
     iterations: int
     likelihood_calls: int
@@ -126,7 +129,7 @@ class NestedResult:
                 "error": round(float(self.ln_evidence_error), 3),
                 "note": EVIDENCE_NOTE,
             },
-            "max_log_likelihood": round(float(np.max(self.log_likelihood)), 3),
+            "max_log_likelihood": round(float(self.max_log_likelihood), 3),
             "converged": bool(self.converged),
             "seconds": round(self.seconds, 1),
         }
@@ -268,6 +271,7 @@ def _result(results, posterior, settings, rng, seconds):
         points=points,
         log_weights=log_w,
         log_likelihood=np.asarray(results.logl),
+        max_log_likelihood=posterior.max_log_likelihood(points[np.argsort(results.logl)[-PROFILED_POINTS:]]),
         live_points=int(results.nlive),
         iterations=int(results.niter),
         likelihood_calls=calls,

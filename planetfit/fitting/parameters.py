@@ -8,6 +8,7 @@ figures. Its name, ``owner.key``, is the one string contract: summary.json's
 """
 
 import dataclasses
+import functools
 
 import numpy as np
 
@@ -34,6 +35,11 @@ class Parameter:
         How tables and figures name it.
     group : {"star", "planet", "instrument", "timing"}
         Where the parameter table lists it.
+    linear : bool
+        Whether it enters its dataset's mean linearly (a flux level, an RV
+        offset, a trend or indicator coefficient): the component that
+        declares it gives its design column, and with a normal or uniform
+        prior it can be marginalised analytically (:mod:`planetfit.fitting.linear`).
     """
 
     owner: str
@@ -41,8 +47,9 @@ class Parameter:
     prior: Prior
     quantity: Quantity
     group: str = "instrument"
+    linear: bool = False
 
-    @property
+    @functools.cached_property
     def name(self):
         """``owner.key``: the parameter's name in summary.json and the chain file."""
         return f"{self.owner}.{self.key}"

@@ -102,8 +102,8 @@ def inference_data(groups, attrs):
     return idata
 
 
-def diagnostics(idata, chain_after_burn_in, names):
-    """Per sampled parameter: rank-normalised split R-hat, bulk and tail ESS (arviz), and emcee's autocorrelation.
+def diagnostics(idata, chain_after_burn_in, names, drawn=None, thin=1):
+    """Per parameter: rank-normalised split R-hat, bulk and tail ESS (arviz), and emcee's autocorrelation.
 
     Parameters
     ----------
@@ -111,6 +111,12 @@ def diagnostics(idata, chain_after_burn_in, names):
     chain_after_burn_in : ndarray, shape (steps, walkers, ndim)
         Sampler coordinates, not thinned (the autocorrelation times are in steps).
     names : list of str
+        The sampled parameters, in the chain's order.
+    drawn : dict, optional
+        {name: (walker, draw) array} of parameters drawn after sampling (the
+        marginalised linear ones): their autocorrelation times are those of
+        the kept draws, times ``thin``.
+    thin : int
 
     Returns
     -------
@@ -120,13 +126,16 @@ def diagnostics(idata, chain_after_burn_in, names):
     """
     tau = emcee.autocorr.integrated_time(chain_after_burn_in, tol=0, quiet=True)
     out = {n: {"autocorr_steps": round(float(t), 2)} for n, t in zip(names, tau)}
+    for n, by_draw in (drawn or {}).items():
+        t = emcee.autocorr.integrated_time(np.asarray(by_draw).T[:, :, None], tol=0, quiet=True)[0]
+        out[n] = {"autocorr_steps": round(float(t) * thin, 2)}
     if idata is None:
         return out
     az = _arviz()
     rhat = az.rhat(idata.posterior, method="rank")
     bulk = az.ess(idata.posterior, method="bulk")
     tail = az.ess(idata.posterior, method="tail")
-    for n in names:
+    for n in out:
         out[n].update(rhat=round(float(rhat[n]), 4), ess_bulk=round(float(bulk[n])), ess_tail=round(float(tail[n])))
     return out
 
@@ -222,4 +231,6 @@ def write_posterior(run_dir, checked, derived, facts):
             write_netcdf(idata, run_dir.posterior_nc)
         except (ImportError, ValueError) as exc:  # arviz without a NetCDF engine: the run's other outputs go on
             log.warning("posterior.nc not written (%s): %s", exc, INSTALL_HINT)
-    return sampling_facts(diagnostics(idata, stats[2], derived["parameter_names"]), len(stats[2]))
+    sampled = derived.get("sampled_names", derived["parameter_names"])
+    drawn = {n: groups["posterior"][n] for n in derived["parameter_names"] if n not in sampled}
+    return sampling_facts(diagnostics(idata, stats[2], sampled, drawn, facts["thin"]), len(stats[2]))

@@ -43,7 +43,8 @@ def _fit(folder, seed, with_light):
     post = pipeline.check(folder / "config.yaml").posterior
     layout = post.layout
     x0 = _truth_vector(layout, truth)
-    x0[layout.free.index("camera.flux_level")] = 1.0 / (1.0 + 1e-6 * sum(truth["light"].values()) / 2)
+    if "camera.flux_level" in layout.free:  # sampled (linear_parameters: sampled); else marginalised
+        x0[layout.free.index("camera.flux_level")] = 1.0 / (1.0 + 1e-6 * sum(truth["light"].values()) / 2)
     return layout, *_maximum(post.log_prob_many, x0, layout)
 
 

@@ -21,7 +21,7 @@ from synthetic import write_tiny_system as write_system
 from planetfit import pipeline
 from planetfit.cli import main
 from planetfit.core.errors import InputError
-from planetfit.fitting.chainfile import check_resumable
+from planetfit.fitting.chainfile import saved_steps
 from planetfit.rundir import RunDirectory, require_writable
 
 WAIT_S = 90
@@ -59,8 +59,8 @@ def _snapshot(folder):
 def _steps(h5):
     """Saved steps in ``h5`` (0 while it is missing or being written)."""
     try:
-        return check_resumable(h5, 12, 24)
-    except InputError:
+        return saved_steps(h5)
+    except (InputError, OSError):
         return 0
 
 

@@ -5,8 +5,14 @@ the first basis column being all ones: :attr:`basis` (N, k) is fixed,
 :meth:`coefficients` and :meth:`flux` take parameter values. A dataset
 whose variability is a Gaussian process has a constant baseline; the
 process is its noise model (:mod:`planetfit.fitting.components.gp`).
-:attr:`linear` lists the parameters the flux is linear in once multiplied
-by the level (slopes, regressor coefficients), for analytic marginalisation.
+
+The flux level F0 multiplies the whole model, so it enters the mean
+linearly: :meth:`columns` gives its column (the baseline at unit level),
+which the likelihood multiplies by the transmitted fraction. The slope of
+:class:`LinearBaseline` and the regressor coefficients of
+:class:`RegressorBaseline` do not: F0 s is linear, but a prior on s is not
+a prior on F0 s, so they stay sampled parameters and the prior the config
+gives them keeps its meaning.
 """
 
 import numpy as np
@@ -20,9 +26,8 @@ class ConstantBaseline:
     """One flux level F0 for the whole dataset."""
 
     def __init__(self, block, data):
-        self.level = Parameter(block.name, "flux_level", block.flux_level, DATASET["flux_level"])
+        self.level = Parameter(block.name, "flux_level", block.flux_level, DATASET["flux_level"], linear=True)
         self.parameters = [self.level]
-        self.linear = [self.level]
         self.basis = np.ones((np.size(data.time), 1))
 
     def coefficients(self, values):
@@ -30,6 +35,10 @@ class ConstantBaseline:
 
     def flux(self, values):
         return values[self.level.name]
+
+    def columns(self, values):
+        """Design column of each linear parameter: {name: the baseline at unit level (scalar or (N,))}."""
+        return {self.level.name: 1.0}
 
 
 class LinearBaseline(ConstantBaseline):
@@ -40,7 +49,6 @@ class LinearBaseline(ConstantBaseline):
         times = data.time
         self.slope = Parameter(block.name, "slope_per_day", block.slope_per_day, DATASET["slope_per_day"])
         self.parameters = [self.level, self.slope]
-        self.linear = list(self.parameters)
         self.dt_days = times - 0.5 * (times[0] + times[-1])
         self.basis = np.column_stack([np.ones(self.dt_days.size), self.dt_days])
 
@@ -49,7 +57,10 @@ class LinearBaseline(ConstantBaseline):
         return [level, level * values[self.slope.name]]
 
     def flux(self, values):
-        return values[self.level.name] * (1 + values[self.slope.name] * self.dt_days)
+        return values[self.level.name] * self.columns(values)[self.level.name]
+
+    def columns(self, values):
+        return {self.level.name: 1 + values[self.slope.name] * self.dt_days}
 
 
 class RegressorBaseline(ConstantBaseline):
@@ -58,7 +69,7 @@ class RegressorBaseline(ConstantBaseline):
     z_j is regressor j (airmass, seeing, centroid, ...) standardised over the
     dataset (mean removed, divided by its standard deviation), dt the time
     from the middle of the span in days. The coefficients c_j and p_k are
-    sampled until they are marginalised analytically (:attr:`linear`).
+    sampled (see the module's note); the level F0 is linear.
     """
 
     def __init__(self, block, data):
@@ -75,7 +86,6 @@ class RegressorBaseline(ConstantBaseline):
             for k in range(1, spec.time_degree + 1)
         ]
         self.parameters = [self.level, *self.coefficient_parameters]
-        self.linear = list(self.parameters)
         self.basis = np.column_stack([np.ones(dt.size), *self.terms])
 
     def coefficients(self, values):
@@ -88,6 +98,9 @@ class RegressorBaseline(ConstantBaseline):
 
     def flux(self, values):
         return values[self.level.name] * self.trend(values)
+
+    def columns(self, values):
+        return {self.level.name: self.trend(values)}
 
 
 BASELINES = {

@@ -136,31 +136,48 @@ class GaussianProcessNoise:
         if self.amplitude_names is None:
             return residual, diag, 0.0
         amp = np.array([values[n] for n in self.amplitude_names])[self.groups]
-        return residual / amp, diag / (amp * amp), float(np.sum(np.log(amp)))
+        scaled = residual / (amp if np.ndim(residual) == 1 else amp[:, None])
+        return scaled, diag / (amp * amp), float(np.sum(np.log(amp)))
 
-    def log_likelihood(self, residual, values):
-        """Log-likelihood of ``residual`` (data minus mean model); -inf if the covariance is singular.
+    def gram(self, stack, values):
+        """X^T C^-1 X of a stack X (N, m) of residual columns and -(ln det C + N ln 2 pi) / 2 (-inf if singular).
 
         celerite2's Cholesky factorisation and forward substitution are called
         directly (its ``GaussianProcess`` wraps the same two calls in input
         checks that cost as much as the algebra for a few hundred points):
-        ln L = -(|z|^2_{D^-1} + ln det D + N ln 2 pi) / 2 with K = L D L^T, L z = r.
+        with K = L D L^T and L Z = X, X^T K^-1 X = Z^T D^-1 Z, ln det K = sum ln D.
         """
-        residual, diag, correction = self._scaled(residual, values)
+        stack, diag, correction = self._scaled(stack, values)
         c, a, u, v = self.kernel.term(values).get_celerite_matrices(self.times, diag)
         try:
             d, w = driver.factor(self.times, c, a, u, v, a, v.copy())
         except driver.LinAlgError:
-            return -math.inf
+            return None, -math.inf
         if not np.all(d > 0):
-            return -math.inf
-        r = np.ascontiguousarray(residual, dtype=float)[:, None]
-        z = driver.solve_lower(self.times, c, u, w, r, np.empty_like(r))[:, 0]
-        return -0.5 * (float(np.dot(z * z, 1 / d)) + float(np.sum(np.log(d))) + d.size * _LOG_2PI) - correction
+            return None, -math.inf
+        x = np.ascontiguousarray(stack, dtype=float)
+        z = driver.solve_lower(self.times, c, u, w, x, np.empty_like(x))
+        log_norm = -0.5 * (float(np.sum(np.log(d))) + d.size * _LOG_2PI) - correction
+        return z.T @ (z / d[:, None]), log_norm
+
+    def log_likelihood(self, residual, values):
+        """Log-likelihood of ``residual`` (data minus mean model); -inf if the covariance is singular."""
+        gram, log_norm = self.gram(np.asarray(residual, dtype=float)[:, None], values)
+        return log_norm if gram is None else log_norm - 0.5 * float(gram[0, 0])
 
     def log_likelihood_many(self, residuals, values_list):
         """:meth:`log_likelihood` of each row of ``residuals`` with its values (one factorisation each)."""
         return np.array([self.log_likelihood(r, v) for r, v in zip(residuals, values_list)])
+
+    def gram_many(self, stacks, values_list):
+        """:meth:`gram` of each stack (n, N, m) with its values: shapes (n, m, m) and (n,) (NaN where singular)."""
+        out = np.full((len(stacks), stacks.shape[2], stacks.shape[2]), np.nan)
+        log_norm = np.empty(len(stacks))
+        for i, (x, v) in enumerate(zip(stacks, values_list)):
+            gram, log_norm[i] = self.gram(x, v)
+            if gram is not None:
+                out[i] = gram
+        return out, log_norm
 
     def predict(self, residual, values, times=None, return_sd=False):
         """Conditional mean of the process (data units) at ``times`` (default: the data times).

@@ -1,7 +1,9 @@
 """White noise: the log-likelihood of residuals with independent Gaussian errors and a jitter.
 
 A noise model has ``log_likelihood_many(residuals, values_list)`` (the
-log-likelihoods of a batch of walkers' residuals) and
+log-likelihoods of a batch of walkers' residuals),
+``gram_many(stacks, values_list)`` (what marginalising linear parameters
+needs, :mod:`planetfit.fitting.linear`) and
 ``predict(residual, values)`` (the correlated part of the residuals it
 expects: zero for white noise). Gaussian processes, the other noise
 models, live in :mod:`planetfit.fitting.components.gp`. A light curve
@@ -57,6 +59,18 @@ class WhiteNoise:
         var = self.error2 + jit * jit
         return -0.5 * (np.sum(residuals * residuals / var + np.log(var), axis=1) + self.error2.size * _LOG_2PI)
 
+    def gram_many(self, stacks, values_list):
+        """X^T C^-1 X of each stack X (n, N, m) and -(ln det C + N ln 2 pi) / 2, shapes (n, m, m) and (n,)."""
+        if self.fixed:
+            weighted = stacks * self.inverse_variance[None, :, None]
+            log_norm = np.full(len(stacks), self.constant)
+        else:
+            jit = np.array([[v[n] for n in self.jitter_names] for v in values_list])[:, self.groups] * self.scale
+            var = self.error2 + jit * jit
+            weighted = stacks / var[..., None]
+            log_norm = -0.5 * (np.sum(np.log(var), axis=1) + self.error2.size * _LOG_2PI)
+        return np.swapaxes(weighted, 1, 2) @ stacks, log_norm
+
     def predict(self, residual, values, times=None):
         """White noise predicts nothing: zeros at the data times (or at ``times``)."""
         return np.zeros(residual.size if times is None else np.size(times))
@@ -94,6 +108,56 @@ class SumsOfSquares:
         self.btwb, self.btwy = wb.T @ basis, wb.T @ self.y
         self.ytwy = float(np.dot(w * self.y, self.y))
         self.constant = noise.constant
+        self.full_gram = np.block([[np.array([[self.ytwy]]), self.btwy[None, :]], [self.btwy[:, None], self.btwb]])
+
+    def _windows(self, coefficients, indices):
+        """The windows' points of every model: index, owner, and the baseline B c there (centred part not added)."""
+        sizes = [ix.size for ix in indices]
+        index = np.concatenate(indices) if sum(sizes) else np.empty(0, dtype=np.intp)
+        owner = np.repeat(np.arange(len(sizes)), sizes)
+        b = coefficients[owner, 0]
+        for k, column in enumerate(self.columns, 1):
+            b = b + coefficients[owner, k] * column[index]
+        return index, owner, b
+
+    def gram(self, units, indices, relative_deficits):
+        """Gram matrices of [r, g] for n models whose flux level is marginalised, in time independent of N.
+
+        g = (B u)(1 - x) is the level's design column (``units`` u: the
+        baseline coefficients at unit level), r = y - mean g the data minus
+        the model at the reference level ``mean``. Off the windows both are
+        combinations of y - mean and the basis (r: 1 and mean (e_1 - u); g: 0
+        and u), whose Gram matrix is precomputed; the windows' points add the
+        difference.
+
+        Returns
+        -------
+        ndarray
+            Shape (n, 2, 2).
+        """
+        u = np.array(units, dtype=float)
+        n, k = u.shape
+        combos = np.zeros((n, 1 + k, 2))
+        combos[:, 0, 0] = 1.0
+        combos[:, 1:, 0] = -self.mean * u
+        combos[:, 1, 0] += self.mean
+        combos[:, 1:, 1] = u
+        gram = np.swapaxes(combos, 1, 2) @ self.full_gram @ combos
+        index, owner, bu = self._windows(u, indices)
+        if index.size:
+            x = np.concatenate(relative_deficits)
+            w = self.w[index]
+            r_base = self.y[index] + self.mean * (1 - bu)
+            g_base, dg = bu, -bu * x  # g = g_base + dg, r = r_base - mean dg
+            r = r_base - self.mean * dg
+            for (i, j), value in {
+                (0, 0): w * (r - r_base) * (r + r_base),
+                (0, 1): w * (r * dg + (r - r_base) * g_base),
+                (1, 1): w * dg * (2 * g_base + dg),
+            }.items():
+                gram[:, i, j] += np.bincount(owner, value, minlength=n)
+            gram[:, 1, 0] = gram[:, 0, 1]
+        return gram
 
     def score(self, coefficients, indices, relative_deficits):
         """Log-likelihoods of n models at once.
@@ -113,13 +177,8 @@ class SumsOfSquares:
         c = np.array(coefficients, dtype=float)
         c[:, 0] -= self.mean
         chi2 = self.ytwy - 2 * c @ self.btwy + np.einsum("ij,jk,ik->i", c, self.btwb, c)
-        sizes = [ix.size for ix in indices]
-        if sum(sizes):
-            index = np.concatenate(indices)
-            owner = np.repeat(np.arange(len(sizes)), sizes)
-            b = c[owner, 0]  # the centred baseline at the windows' points
-            for k, column in enumerate(self.columns, 1):
-                b = b + c[owner, k] * column[index]
+        index, owner, b = self._windows(c, indices)  # b: the centred baseline at the windows' points
+        if index.size:
             m = (b + self.mean) * np.concatenate(relative_deficits)
-            chi2 += np.bincount(owner, self.w[index] * m * (2 * (self.y[index] - b) + m), minlength=len(sizes))
+            chi2 += np.bincount(owner, self.w[index] * m * (2 * (self.y[index] - b) + m), minlength=len(c))
         return self.constant - 0.5 * chi2

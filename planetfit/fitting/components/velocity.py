@@ -27,14 +27,14 @@ class Spectrograph:
     """
 
     def __init__(self, block, data):
-        def declare(key, prior, owner=block.name):
-            return Parameter(owner, key, prior, DATASET[key])
+        def declare(key, prior, owner=block.name, linear=False):
+            return Parameter(owner, key, prior, DATASET[key], linear=linear)
 
-        self.name = block.name
-        self.offset = declare("offset_ms", block.offset_ms)
+        self.name, self.size = block.name, np.size(data.time)
+        self.offset = declare("offset_ms", block.offset_ms, linear=True)
         self.jitter = declare("jitter_ms", block.jitter_ms)
         self.coefficients = [
-            declare("activity_coefficient", prior, decorrelation_name(block.name, col))
+            declare("activity_coefficient", prior, decorrelation_name(block.name, col), linear=True)
             for col, prior in block.decorrelate.items()
         ]
         self.indicators = [np.asarray(data.indicators[col], dtype=float) for col in block.decorrelate]
@@ -51,6 +51,10 @@ class Spectrograph:
             total = total + values[c.name] * x
         return total
 
+    def columns(self):
+        """Design column of each linear parameter at the spectrograph's points: the offset's ones, the indicators."""
+        return {self.offset.name: np.ones(self.size), **{c.name: x for c, x in zip(self.coefficients, self.indicators)}}
+
 
 class LinearTrend:
     """Trend c_1 (t - t_ref) for a long-period companion; the offsets absorb the constant term.
@@ -64,7 +68,7 @@ class LinearTrend:
 
     def __init__(self, block, rv_times):
         self.coefficients = [
-            Parameter("rv_trend", "slope_ms_per_day", block.slope_ms_per_day, DATASET["slope_ms_per_day"])
+            Parameter("rv_trend", "slope_ms_per_day", block.slope_ms_per_day, DATASET["slope_ms_per_day"], linear=True)
         ]
         ref = block.reference_bjd
         self.reference_bjd = float(0.5 * (rv_times.min() + rv_times.max()) if ref is None else ref)
@@ -75,11 +79,12 @@ class LinearTrend:
 
     def velocity_ms(self, values, times):
         """sum_k c_k (t - t_ref)^k at ``times``, m/s."""
-        dt = times - self.reference_bjd
-        total = np.zeros(dt.size)
-        for power, c in enumerate(self.coefficients, 1):
-            total += values[c.name] * dt**power
-        return total
+        return sum(values[name] * column for name, column in self.columns(times).items())
+
+    def columns(self, times):
+        """Design column of each coefficient at ``times``: {name: (t - t_ref)^k}."""
+        dt = np.asarray(times, dtype=float) - self.reference_bjd
+        return {c.name: dt**power for power, c in enumerate(self.coefficients, 1)}
 
 
 class QuadraticTrend(LinearTrend):
@@ -89,7 +94,11 @@ class QuadraticTrend(LinearTrend):
         super().__init__(block, rv_times)
         self.coefficients.append(
             Parameter(
-                "rv_trend", "curvature_ms_per_day2", block.curvature_ms_per_day2, DATASET["curvature_ms_per_day2"]
+                "rv_trend",
+                "curvature_ms_per_day2",
+                block.curvature_ms_per_day2,
+                DATASET["curvature_ms_per_day2"],
+                linear=True,
             )
         )
 

@@ -152,6 +152,15 @@ class Sampling(Block):
     dlogz: PositiveNumber = 0.1
     min_effective_samples: Count = 1000
     max_likelihood_calls: Count = 50_000_000
+    #: "marginalised": parameters entering a dataset's mean linearly (flux levels, RV offsets, trend and
+    #: activity-indicator coefficients) with a normal or uniform prior are integrated out of the likelihood
+    #: analytically and drawn from their conditional posterior afterwards; "sampled": the sampler moves them.
+    linear_parameters: Literal["marginalised", "sampled"] = "marginalised"
+
+    @property
+    def marginalise_linear(self):
+        """Whether linear parameters are marginalised analytically rather than sampled."""
+        return self.linear_parameters == "marginalised"
 
     @model_validator(mode="after")
     def _chain_fits_in_memory(self):

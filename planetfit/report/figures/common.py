@@ -34,7 +34,7 @@ class PosteriorView:
     """
 
     def __init__(self, posterior, samples, n_draws=N_DRAWS, seed=0):
-        layout = posterior.layout
+        layout = posterior.model.layout  # samples with the marginalised parameters drawn in
         self.median = layout.values(np.median(samples, axis=0))
         self.median_orbits = posterior.orbits(self.median)
         if self.median_orbits is None:
