@@ -7,6 +7,7 @@ so ``planetfit redraw`` and ``planetfit run`` share it.
 
 import dataclasses
 import logging
+import time
 from pathlib import Path
 
 import numpy as np
@@ -145,6 +146,7 @@ def _sample(checked, run_dir, rng, cores, quiet, resume):
     if settings.nested:
         result = run_nested(post, settings, run_dir / CHECKPOINT, rng, cores=cores, progress=not quiet, resume=resume)
         facts = dict(result.summary(), cores=cores, warnings=list(result.warnings), modes=result.modes)
+        facts["phase_seconds"] = {"sampling": result.seconds}
         chainfile.write_nested(h5, post.layout.free, facts, result)
         return result.samples, facts
     result = run_sampler(post, post.layout, settings, h5, rng, cores=cores, progress=not quiet, resume=resume)
@@ -178,12 +180,20 @@ def _derive(checked, samples):
 
 
 def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
-    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes)."""
+    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes).
+
+    The wall seconds of its two phases, ``derived`` (quantities, context,
+    dynamics) and ``figures_and_report`` (posterior.nc, summary, tables,
+    figures, report.html), join the sampler's in
+    ``summary.json["sampling"]["phase_seconds"]`` and run.log.
+    """
     config, post = checked.config, checked.posterior
+    phases, start = dict(sampling_facts.get("phase_seconds") or {}), time.perf_counter()
     quantities, context = _derive(checked, samples)
     stability, stability_warnings = dynamics.dynamics_block(
         config, post.model, quantities, np.random.default_rng([config.seed, 2])
     )
+    phases["derived"] = time.perf_counter() - start
     if config.sampling.nested:  # posterior.nc, R-hat and ESS read emcee's walkers; nested runs have ln Z instead
         stats, stats_warnings = {}, []
     else:
@@ -203,6 +213,10 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     if quantities["transit_times"]:
         write_transit_times_csv(run_dir / "transit_times.csv", quantities["transit_times"])
     outputs.write_all(run_dir, checked, post, samples, quantities, summary, figures=figures, cores=cores)
+    phases["figures_and_report"] = time.perf_counter() - start - phases["derived"]
+    summary["sampling"]["phase_seconds"] = {k: round(v, 1) for k, v in phases.items()}
+    summary_out.write_summary_json(run_dir / "summary.json", summary)  # again, with the last phase's time
+    log.info("wall seconds per phase: %s", ", ".join(f"{k} {v:.1f}" for k, v in phases.items()))
     log.info("outputs written to %s", run_dir)
     return summary
 
