@@ -152,13 +152,6 @@ def _velocity_model(config, velocities, planets):
     return VelocityModel(velocities, spectrographs, planets, trend, noise, order)
 
 
-def _eclipse_coordinates(planets, lights):
-    """Sampler coordinates of the orbits of planets whose light is fitted (the eclipse fixes e cos w)."""
-    lit = {name for _, name in lights}
-    pairs = [p.orbit.eclipse_coordinates() for p in planets if p.name in lit]
-    return [pair for pair in pairs if pair is not None]
-
-
 def build_model(config, photometry, velocities):
     """The :class:`Model` of a validated config and its datasets."""
     star = Star(config.star)
@@ -189,7 +182,7 @@ def build_model(config, photometry, velocities):
         bands,
         [m for m, _, _ in phot],
         rv,
-        ParameterLayout(params, _eclipse_coordinates(planets, lights)),
+        ParameterLayout(params),
         prior_only,
         exposures,
         warnings,

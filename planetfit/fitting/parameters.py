@@ -65,15 +65,9 @@ class ParameterLayout:
     ----------
     parameters : iterable of Parameter
         In the order of the vector.
-    pairs : iterable
-        Joint sampler coordinates of two free parameters whose priors use
-        their own coordinate, such as
-        :class:`planetfit.fitting.components.orbits.EccentricityVector`: each
-        has ``names``, ``labels``, ``to_sampler(x, y)``, ``from_sampler(u, v)``,
-        ``log_jacobian(u, v)`` (ln |d(x, y) / d(u, v)|) and ``ranges``.
     """
 
-    def __init__(self, parameters, pairs=()):
+    def __init__(self, parameters):
         self.parameters = {}
         for p in parameters:
             self.parameters.setdefault(p.name, p)
@@ -82,7 +76,6 @@ class ParameterLayout:
         self.free = [n for n, p in self.priors.items() if not p.fixed]
         self.fixed = {n: p.value for n, p in self.priors.items() if p.fixed}
         self._free_priors = [self.priors[n] for n in self.free]
-        self.pairs = [(self.free.index(c.names[0]), self.free.index(c.names[1]), c) for c in pairs]
 
     @property
     def ndim(self):
@@ -90,11 +83,8 @@ class ParameterLayout:
 
     @property
     def sampled_labels(self):
-        """Names of the sampler coordinates (``ln(name)`` where log-transformed, a pair's own labels)."""
-        labels = [p.sampler_label(n) for n, p in zip(self.free, self._free_priors)]
-        for i, j, pair in self.pairs:
-            labels[i], labels[j] = pair.labels
-        return labels
+        """Names of the sampler coordinates (``ln(name)`` where log-transformed)."""
+        return [p.sampler_label(n) for n, p in zip(self.free, self._free_priors)]
 
     def values(self, theta):
         """Dict of every parameter's physical value (fixed ones filled in); works on (n, ndim) arrays too."""
@@ -102,24 +92,16 @@ class ParameterLayout:
         columns = theta.T if isinstance(theta, np.ndarray) and theta.ndim > 1 else theta
         for name, prior, y in zip(self.free, self._free_priors, columns):
             out[name] = prior.from_sampler(y)
-        for i, j, pair in self.pairs:
-            out[self.free[i]], out[self.free[j]] = pair.from_sampler(columns[i], columns[j])
         return out
 
     def to_sampler(self, physical):
         """Sampler coordinates of a vector (or (n, ndim) array) of physical values."""
         physical = np.asarray(physical, dtype=float)
-        y = np.stack([p.to_sampler(x) for p, x in zip(self._free_priors, physical.T)], axis=-1)
-        for i, j, pair in self.pairs:
-            y[..., i], y[..., j] = pair.to_sampler(physical[..., i], physical[..., j])
-        return y
+        return np.stack([p.to_sampler(x) for p, x in zip(self._free_priors, physical.T)], axis=-1)
 
     def log_prior(self, theta):
         """Log prior density of one sampler vector (with the Jacobians of the sampler coordinates)."""
-        total, theta = 0.0, np.array(theta, dtype=float)
-        for i, j, pair in self.pairs:  # a pair's priors use their own coordinate: their densities, and the Jacobian
-            total += pair.log_jacobian(theta[i], theta[j])
-            theta[i], theta[j] = pair.from_sampler(theta[i], theta[j])
+        total = 0.0
         for prior, y in zip(self._free_priors, theta):
             total += prior.log_density_sampler(y)
         return total
@@ -144,9 +126,4 @@ class ParameterLayout:
         scale = np.array([p.sampler_width for p in self._free_priors], dtype=float)
         lo = np.array([p.to_sampler(p.bounds[0]) if np.isfinite(p.bounds[0]) else -np.inf for p in self._free_priors])
         hi = np.array([p.to_sampler(p.bounds[1]) if np.isfinite(p.bounds[1]) else np.inf for p in self._free_priors])
-        for i, j, pair in self.pairs:
-            centre[i], centre[j] = pair.to_sampler(self._free_priors[i].centre, self._free_priors[j].centre)
-            spans = pair.ranges(self._free_priors[i].span, self._free_priors[j].span)
-            scale[i], scale[j] = (s[1] - s[0] for s in spans)
-            (lo[i], hi[i]), (lo[j], hi[j]) = pair.ranges(self._free_priors[i].bounds, self._free_priors[j].bounds)
         return centre, scale, lo, hi
