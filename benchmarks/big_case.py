@@ -15,24 +15,18 @@ facts, with the machine's load average.
 import argparse
 import json
 import os
-import resource
 import tempfile
 import time
 from pathlib import Path
 
 import yaml
+from demo_speed import cpu_seconds
 
 from planetfit import pipeline
 from planetfit.demo import DEMO_CONFIG, generate
 
 SECTORS = [("camera-2min", 3000.0 + 27.4 * i, 27.0, 2.0, 420.0) for i in range(10)]
 SPECTROGRAPHS = [("spectrograph-a", 100, 1.2, 1.0, -12.3, 1.0), ("spectrograph-b", 100, 1.8, 1.6, 31.0, 0.7)]
-
-
-def cpu_seconds():
-    """User + system CPU seconds of this process and its finished children."""
-    own, children = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
-    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
 
 
 def write_case(folder):
