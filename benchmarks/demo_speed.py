@@ -1,27 +1,37 @@
-"""The demo's figures for ``benchmarks/speed.py``: its samplers side by side, and the whole demo.
+"""The demo's figures for ``benchmarks/speed.py``: the whole demo with today's and the new defaults, and its samplers.
 
-Both samplers run on the demo posterior (``planetfit/demo/demo.yaml``) in
-this one process, one after the other, from the same seed (so the same
-optimiser end points), with the config's convergence rule (chain longer
-than ``autocorr_factor`` autocorrelation times, estimate stable to
-``autocorr_tolerance``). CPU seconds are this process's user + system time
-(they do not count time the process waits for a core on a loaded machine);
-the optimiser's CPU seconds are measured apart and left out of
-``independent_samples_per_cpu_second``.
+The whole demo runs twice in this one process, one after the other, from the
+same seed: first as before issue 26 (``sampling.linear_parameters: sampled``
+where the config schema knows that key, and ``autocorr_factor: 100``), then
+with the defaults (``planetfit/demo/demo.yaml`` as shipped). With
+``--demo-samplers`` both samplers also run on the demo posterior, one after
+the other from the same seed (so the same optimiser end points), with the
+config's convergence rule. CPU seconds are this process's user + system time
+and its finished children's (they do not count time the process waits for a
+core on a loaded machine); the optimiser's CPU seconds are measured apart and
+left out of ``independent_samples_per_cpu_second``.
 
 Figures
 -------
 seconds_in_all
-    Wall seconds of a full ``pipeline.run`` of the demo with the given
-    ``sampling.moves`` (figures, tables and report included).
+    Wall seconds of a full ``pipeline.run`` of the demo with the defaults
+    (figures, tables, report.html and posterior.nc included).
+phase_seconds
+    Its wall seconds per phase (``optimiser``, ``sampling``, ``derived``,
+    ``figures_and_report``), from its summary.json.
+min_bulk_ess
+    Its smallest bulk effective sample size over the sampled parameters.
+speedup_vs_sampled_linear
+    ``seconds_in_all`` of the run as before issue 26 over the defaults' (and
+    ``cpu_speedup_vs_sampled_linear``, the same ratio of CPU seconds).
 independent_samples_per_cpu_second
-    Per sampler: independent samples (kept steps x walkers over the
-    largest autocorrelation time) over the sampling's CPU seconds (burn-in
-    included, optimiser not).
-gain_vs_de_only
-    The fitted-proposal sampler's figure over differential evolution's.
+    Per sampler (``--demo-samplers``): independent samples (kept steps x
+    walkers over the largest autocorrelation time) over the sampling's CPU
+    seconds (burn-in included, optimiser not); ``gain_vs_de_only``, the
+    fitted-proposal sampler's figure over differential evolution's.
 """
 
+import json
 import resource
 import tempfile
 import time
@@ -33,6 +43,7 @@ import yaml
 from planetfit import pipeline
 from planetfit.demo import DEMO_CONFIG
 from planetfit.fitting import mcmc
+from planetfit.inputs.schema.settings import Sampling
 
 SAMPLERS = ("differential_evolution", "fitted_proposal")
 
@@ -109,38 +120,64 @@ def sample_once(checked, moves, folder):
     }
 
 
-def demo_config(folder, moves):
-    """demo.yaml with ``sampling.moves`` set, its data files made absolute, written into ``folder``."""
+def demo_config(folder, sampling):
+    """demo.yaml with ``sampling`` entries set, its data files made absolute, written into ``folder``."""
     config = yaml.safe_load(DEMO_CONFIG.read_text())
     for block in config["photometry"] + config["velocities"]:
         block["file"] = str((DEMO_CONFIG.parent / block["file"]).resolve())
-    config["sampling"] = dict(config.get("sampling") or {}, moves=moves)
+    config["sampling"] = dict(config.get("sampling") or {}, **sampling)
     config["output"] = str(folder / "run")
+    folder.mkdir(parents=True, exist_ok=True)
     path = folder / "demo.yaml"
     path.write_text(yaml.safe_dump(config, sort_keys=False))
     return path
 
 
-def demo_figures(cores, moves="fitted_proposal"):
-    """The samplers side by side on the demo posterior, then the whole demo with ``moves``."""
+def before_issue_26():
+    """The sampling entries of the demo as it ran before issue 26 (the linear-parameter key where it is known)."""
+    old = {"autocorr_factor": 100}
+    if "linear_parameters" in Sampling.model_fields:
+        old["linear_parameters"] = "sampled"
+    return old
+
+
+def whole_demo(folder, cores, sampling):
+    """One full ``pipeline.run`` of the demo with ``sampling`` entries set; its wall and CPU seconds and facts."""
+    wall, cpu = time.perf_counter(), cpu_seconds()
+    run_dir = pipeline.run(demo_config(folder, sampling), quiet=True, cores=cores)
+    wall, cpu = time.perf_counter() - wall, cpu_seconds() - cpu
+    s = json.loads((run_dir / "summary.json").read_text())["sampling"]
+    keys = ("converged", "steps", "autocorr_steps", "independent_samples", "min_bulk_ess", "rhat_max", "phase_seconds")
+    return {"sampling": sampling, "seconds_in_all": round(wall, 1), "cpu_seconds_in_all": round(cpu, 1)} | {
+        k: s.get(k) for k in keys
+    }
+
+
+def demo_figures(cores, samplers=False):
+    """The whole demo as before issue 26 and with the defaults (and, with ``samplers``, its samplers side by side)."""
     with tempfile.TemporaryDirectory(prefix="planetfit-demo-speed-") as tmp:
         folder = Path(tmp)
-        checked = pipeline.check(DEMO_CONFIG)
-        samplers = {name: sample_once(checked, name, folder) for name in SAMPLERS}
-        wall, cpu = time.perf_counter(), cpu_seconds()
-        run_dir = pipeline.run(demo_config(folder, moves), quiet=True, cores=cores)
-        wall, cpu = time.perf_counter() - wall, cpu_seconds() - cpu
-        converged = yaml.safe_load((run_dir / "summary.json").read_text())["sampling"]["converged"]
-    new, old = (samplers[name]["independent_samples_per_cpu_second"] for name in reversed(SAMPLERS))
-    return {
-        "moves": moves,
-        "cores": cores,
-        "seconds_in_all": round(wall, 1),
-        "cpu_seconds_in_all": round(cpu, 1),
-        "converged_in_all": converged,
-        "independent_samples_per_cpu_second": {
-            name: s["independent_samples_per_cpu_second"] for name, s in samplers.items()
-        },
-        "gain_vs_de_only": round(new / old, 2),
-        "samplers": samplers,
-    }
+        old = whole_demo(folder / "before", cores, before_issue_26())
+        new = whole_demo(folder / "defaults", cores, {})
+        out = {
+            "cores": cores,
+            "seconds_in_all": new["seconds_in_all"],
+            "cpu_seconds_in_all": new["cpu_seconds_in_all"],
+            "phase_seconds": new["phase_seconds"],
+            "min_bulk_ess": new["min_bulk_ess"],
+            "converged_in_all": new["converged"],
+            "speedup_vs_sampled_linear": round(old["seconds_in_all"] / new["seconds_in_all"], 2),
+            "cpu_speedup_vs_sampled_linear": round(old["cpu_seconds_in_all"] / new["cpu_seconds_in_all"], 2),
+            "linear_parameters_known": "linear_parameters" in old["sampling"],
+            "runs": {"before_issue_26": old, "defaults": new},
+        }
+        if samplers:
+            checked = pipeline.check(DEMO_CONFIG)
+            runs = {name: sample_once(checked, name, folder) for name in SAMPLERS}
+            rates = {name: s["independent_samples_per_cpu_second"] for name, s in runs.items()}
+            out.update(
+                independent_samples_per_cpu_second=rates,
+                gain_vs_de_only=round(rates["fitted_proposal"] / rates["differential_evolution"], 2),
+                samplers=runs,
+            )
+    return out

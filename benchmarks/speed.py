@@ -22,9 +22,10 @@ overhead_vs_floor
 independent_samples_per_second
     Of a full ``pipeline.run`` of the dataset (figures off).
 demo
-    The demo's samplers side by side and the whole demo
-    (:mod:`demo_speed`: ``seconds_in_all``, ``independent_samples_per_cpu_second``
-    per sampler, ``gain_vs_de_only``).
+    The whole demo with the defaults and as it ran before issue 26
+    (:mod:`demo_speed`: ``seconds_in_all``, ``phase_seconds``, ``min_bulk_ess``,
+    ``speedup_vs_sampled_linear``); with ``--demo-samplers`` also its two
+    samplers side by side (``gain_vs_de_only``).
 memory
     Peak resident memory of a short fit of ten 2-min sectors (~190,000
     points), in a fresh process; and (``whole_run_gp``, :mod:`memory_gp`) of a
@@ -481,6 +482,7 @@ def main():
     parser.add_argument("--sections", nargs="+", choices=SECTIONS, default=list(SECTIONS))
     parser.add_argument("--cores", type=int, default=1, help="processes for the full fit")
     parser.add_argument("--memory-steps", type=int, default=200)
+    parser.add_argument("--demo-samplers", action="store_true", help="also the demo's two samplers side by side")
     parser.add_argument("--memory-child", help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.memory_child:
@@ -495,7 +497,7 @@ def main():
         if "fit" in args.sections:
             report["fit"] = fit_figures(config_path, args.cores)
         if "demo" in args.sections:
-            report["demo"] = demo_figures(args.cores)
+            report["demo"] = demo_figures(args.cores, samplers=args.demo_samplers)
         if "memory" in args.sections:
             report["memory"] = memory_figures(folder / "memory", args.memory_steps)
             report["memory"]["whole_run_gp"] = memory_gp.memory_figures()

@@ -213,6 +213,7 @@ def _sample(checked, directory, rng, cores, quiet, resume):
     if settings.nested:
         result = run_nested(post, settings, directory.checkpoint, rng, cores=cores, progress=not quiet, resume=resume)
         facts = dict(result.summary(), cores=cores, warnings=list(result.warnings), modes=result.modes)
+        facts["phase_seconds"] = {"sampling": result.seconds}
         chainfile.write_nested(h5, post.layout.free, facts, result)
         return result.samples, facts
     result = run_sampler(post, post.layout, settings, h5, rng, cores=cores, progress=not quiet, resume=resume)
@@ -252,14 +253,22 @@ def complete(checked, samples, cores=1):
 
 
 def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
-    """Derive, add context and write every output from the sampler's samples (``cores`` processes draw and plot)."""
+    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes).
+
+    The wall seconds of its two phases, ``derived`` (quantities, context,
+    dynamics) and ``figures_and_report`` (posterior.nc, summary, tables,
+    figures, report.html), join the sampler's in
+    ``summary.json["sampling"]["phase_seconds"]`` and run.log.
+    """
     config, post = checked.config, checked.posterior
     directory, since = rundir.RunDirectory(run_dir), time.time()
+    phases, start = dict(sampling_facts.get("phase_seconds") or {}), time.perf_counter()
     samples, linear_warnings = complete(checked, samples, cores)
     quantities, context = _derive(checked, samples)
     stability, stability_warnings = dynamics.dynamics_block(
         config, post.model, quantities, np.random.default_rng([config.seed, 2])
     )
+    phases["derived"] = time.perf_counter() - start
     if config.sampling.nested:  # posterior.nc, R-hat and ESS read emcee's walkers; nested runs have ln Z instead
         stats, stats_warnings = {}, []
     else:
@@ -290,7 +299,11 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     if quantities["transit_times"]:
         write_transit_times_csv(directory.transit_times, quantities["transit_times"])
     outputs.write_all(directory, checked, post, samples, quantities, summary, figures=figures, cores=cores)
+    phases["figures_and_report"] = time.perf_counter() - start - phases["derived"]
+    summary["sampling"]["phase_seconds"] = {k: round(v, 1) for k, v in phases.items()}
+    summary_out.write_summary_json(directory.summary, summary)  # again, with the last phase's time
     directory.record_outputs(since)
+    log.info("wall seconds per phase: %s", ", ".join(f"{k} {v:.1f}" for k, v in phases.items()))
     log.info("outputs written to %s", directory)
     return summary
 

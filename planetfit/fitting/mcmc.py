@@ -8,12 +8,18 @@ not a unit-vector projection and its acceptance factor is half of ter Braak
 & Vrugt's (2008) (d - 1) ln(|q - z| / |x - z|), so it does not keep the
 target distribution (see :func:`walker_moves`). The chain stops when it is
 longer than ``autocorr_factor`` times the largest integrated
-autocorrelation time (over parameters) and that estimate changed by less
-than ``autocorr_tolerance`` since the last check, or at ``max_steps``.
-Checks come every ``check_every`` steps, skipping those that the last
-estimate says are too early to pass (Goodman & Weare 2010; emcee's
-documented practice). Burn-in of two autocorrelation times is discarded
-and the chain thinned by half the shortest one.
+autocorrelation time (over parameters), that estimate changed by less
+than ``autocorr_tolerance`` since the last check, and the bulk effective
+sample size of every parameter after burn-in (:mod:`planetfit.fitting.ess`)
+is at least ``min_effective_samples`` -- what a paper's uncertainties rest
+on -- or at ``max_steps``. Split R-hat over walkers is not a stopping
+target: walkers of one ensemble are not independent chains, and their
+R-hat only falls as sqrt(1 + 2 tau / N) with the chain length N
+(:mod:`planetfit.report.inference` reports it as a diagnostic). Checks
+come every ``check_every`` steps, skipping those that the last estimate
+says are too early to pass (Goodman & Weare 2010; emcee's documented
+practice). Burn-in of two autocorrelation times is discarded and the chain
+thinned by half the shortest one.
 
 With several modes among the optimiser's end points, walkers start in each
 in proportion to its Laplace evidence and a tenth of the moves take the
@@ -33,6 +39,7 @@ evolution with an independence move drawing from that fixed proposal
 import dataclasses
 import logging
 import sys
+import time
 
 import emcee
 import numpy as np
@@ -41,6 +48,7 @@ from threadpoolctl import threadpool_limits
 from planetfit.fitting import modes as mode_finding
 from planetfit.fitting.burnin import run_burn_in
 from planetfit.fitting.chainfile import load_modes, load_proposal, open_chain, save_modes, save_proposal
+from planetfit.fitting.ess import bulk_ess
 from planetfit.fitting.optimiser import find_map, initial_walkers
 from planetfit.fitting.periodogram import periodogram_starts
 from planetfit.fitting.proposal import IndependenceMove
@@ -102,6 +110,8 @@ class SamplingResult:
     modes: list = dataclasses.field(default_factory=list)  # {parameter, location, ln_p, fraction} per mode
     moves: str = "differential_evolution"  # sampling.moves
     burn_in_steps: int = 0  # steps of the staged sampler's burn-in, not kept (none for differential evolution)
+    min_bulk_ess: float = 0.0  # smallest bulk effective sample size over parameters (planetfit.fitting.ess)
+    phase_seconds: dict = dataclasses.field(default_factory=dict)  # wall seconds: optimiser, sampling
 
     def summary(self):
         """The ``sampling`` block of summary.json."""
@@ -115,6 +125,8 @@ class SamplingResult:
             "seconds": round(self.seconds, 1),
             "moves": self.moves,
             "burn_in_steps": int(self.burn_in_steps),
+            "min_bulk_ess": round(float(self.min_bulk_ess)),
+            "phase_seconds": {k: round(v, 1) for k, v in self.phase_seconds.items()},
         }
 
 
@@ -154,7 +166,7 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
         log.warning(
             "walkers raised to %d: emcee needs at least twice the number of free parameters (%d)", nwalkers, ndim
         )
-    backend = open_chain(h5_path)  # its clock counts the seconds of every segment of the run
+    backend, start = open_chain(h5_path), time.perf_counter()  # the chain's clock counts every segment of the run
     # One log-probability is too small a job for a threaded BLAS: its threads only contend with the
     # walkers' processes and other programs for the cores (6x slower evaluations on a loaded 2-core machine).
     with threadpool_limits(limits=1), WorkerProcesses(log_prob, cores) as workers:
@@ -164,9 +176,12 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
             nwalkers = backend.shape[0]
             modes = load_modes(h5_path)
             proposal, burn_in = load_proposal(h5_path)
+            optimiser_seconds = 0.0
         else:
             backend.reset(nwalkers, ndim)
-            initial, modes, proposal, burn_in = _start(log_prob, layout, settings, rng, workers, nwalkers, h5_path)
+            initial, modes, proposal, burn_in, optimiser_seconds = _start(
+                log_prob, layout, settings, rng, workers, nwalkers, h5_path
+            )
         sampler = emcee.EnsembleSampler(
             nwalkers, ndim, workers, vectorize=True, backend=backend, moves=walker_moves(len(modes) > 1, proposal)
         )
@@ -174,8 +189,11 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
             converged, history = _sample(sampler, backend, initial, settings, rng, progress)
         finally:  # also on Ctrl-C: every step taken is saved for --resume
             backend.flush()
+    seconds = time.perf_counter() - start  # this segment's, for its phases
     result = _result(backend, settings, nwalkers, converged, history, backend.seconds, modes, layout)
     result.moves, result.burn_in_steps = ("fitted_proposal" if proposal else "differential_evolution"), burn_in
+    result.phase_seconds = {"optimiser": optimiser_seconds, "sampling": seconds - optimiser_seconds}
+    log.info("optimiser %.1f s, sampling %.1f s (wall)", optimiser_seconds, seconds - optimiser_seconds)
     return result
 
 
@@ -184,22 +202,26 @@ def _start(log_prob, layout, settings, rng, workers, nwalkers, h5_path):
 
     Returns
     -------
-    initial, modes, proposal, burn_in_steps
-        ``proposal`` is None (and ``burn_in_steps`` 0) for differential evolution.
+    initial, modes, proposal, burn_in_steps, optimiser_seconds
+        ``proposal`` is None (and ``burn_in_steps`` 0) for differential
+        evolution; ``optimiser_seconds`` is the wall time until the walkers
+        are placed (a staged chain's burn-in is sampling).
     """
+    start = time.perf_counter()
     modes = _find_modes(log_prob, layout, settings, rng, workers)
     save_modes(h5_path, modes)
     counts = mode_finding.walker_counts(modes, nwalkers)
     if len(modes) > 1:
         log.info("walkers per mode: %s", ", ".join(str(n) for n in counts))
     initial = np.concatenate([initial_walkers(workers, layout, m, n, rng) for m, n in zip(modes, counts) if n > 0])
+    optimiser_seconds = time.perf_counter() - start
     if settings.moves != "fitted_proposal":
-        return initial, modes, None, 0
+        return initial, modes, None, 0, optimiser_seconds
     proposal, initial, burn_in = run_burn_in(
         workers, initial, walker_moves(len(modes) > 1), modes, settings, _random_state(rng)
     )
     save_proposal(h5_path, proposal, burn_in)
-    return initial, modes, proposal, burn_in
+    return initial, modes, proposal, burn_in, optimiser_seconds
 
 
 def _random_state(rng):
@@ -230,6 +252,17 @@ def redrawn_progress(progress):
     return bool(progress) and sys.stderr.isatty()
 
 
+def _steps_needed(settings, tau, walkers):
+    """Steps the stopping rule needs at autocorrelation time ``tau``: its length, and burn-in plus effective samples."""
+    return max(settings.autocorr_factor * tau, 2 * tau + settings.min_effective_samples * tau / walkers)
+
+
+def _min_bulk_ess(backend, tau_max):
+    """The smallest bulk effective sample size over parameters, burn-in (as :func:`_result` drops it) discarded."""
+    discard = int(min(2 * tau_max, backend.iteration // 2))
+    return float(np.min(bulk_ess(backend.get_chain(discard=discard))))
+
+
 def _sample(sampler, backend, initial, settings, rng, progress):
     """Advance the chain until converged or max_steps; return (converged, history)."""
     sampler.random_state = _random_state(rng)
@@ -241,7 +274,7 @@ def _sample(sampler, backend, initial, settings, rng, progress):
         bar = tqdm(
             total=settings.max_steps, initial=backend.iteration, unit="step", desc="sampling", dynamic_ncols=True
         )
-    done = backend.iteration
+    done, walkers = backend.iteration, backend.shape[0]
     for it, _ in enumerate(
         sampler.sample(initial, iterations=max(settings.max_steps - done, 0), progress=False, store=True),
         start=done + 1,
@@ -249,8 +282,8 @@ def _sample(sampler, backend, initial, settings, rng, progress):
         if bar is not None:
             bar.update(1)
         # An estimate costs ~0.1 s per 1,000 steps of a 27-parameter chain: skip those that could not
-        # meet the length rule even if the last estimate were 20% too high.
-        if it % settings.check_every or (history and it < 0.8 * settings.autocorr_factor * old_tau):
+        # meet the rule even if the last estimate were 20% too high.
+        if it % settings.check_every or (history and it < 0.8 * _steps_needed(settings, old_tau, walkers)):
             continue
         tau = autocorr_estimate(backend)
         tmax = float(np.max(tau))
@@ -261,12 +294,15 @@ def _sample(sampler, backend, initial, settings, rng, progress):
         converged = bool(
             tmax * settings.autocorr_factor < it and abs(old_tau - tmax) / tmax < settings.autocorr_tolerance
         )
+        ess = _min_bulk_ess(backend, tmax) if converged else None  # a second or so: only when the rest holds
+        converged = converged and ess >= settings.min_effective_samples
         log.info(
-            "step %d: autocorrelation %.1f steps (need < %.0f), acceptance %.3f",
+            "step %d: autocorrelation %.1f steps (need < %.0f), acceptance %.3f%s",
             it,
             tmax,
             it / settings.autocorr_factor,
             acc,
+            "" if ess is None else f", bulk ESS {ess:.0f} (need {settings.min_effective_samples})",
         )
         if bar is not None:
             bar.set_postfix_str(f"tau {tmax:.0f} (limit {it / settings.autocorr_factor:.0f}), accept {acc:.2f}")
@@ -288,14 +324,10 @@ def _result(backend, settings, nwalkers, converged, history, seconds, modes, lay
     lp = backend.get_log_prob(discard=discard, thin=thin, flat=True)
     tmax = float(np.max(tau))
     n_indep = int((steps - discard) * nwalkers / tmax) if tmax > 0 else 0
-    warnings = []
-    if not converged:
-        warnings.append(
-            f"NOT CONVERGED: {steps} steps reach {steps / tmax:.1f} autocorrelation times (target "
-            f"{settings.autocorr_factor:.0f}); treat the uncertainties with caution and raise "
-            "sampling.max_steps."
-        )
-        log.warning("%s", warnings[-1])
+    ess = _min_bulk_ess(backend, tmax)
+    warnings = [] if converged else [_not_converged(steps, tmax, ess, settings)]
+    for warning in warnings:
+        log.warning("%s", warning)
     groups = mode_finding.describe(
         backend.get_chain(discard=discard), backend.get_log_prob(discard=discard), thin, modes, layout
     )
@@ -317,4 +349,22 @@ def _result(backend, settings, nwalkers, converged, history, seconds, modes, lay
         autocorr_history=history,
         warnings=warnings,
         modes=[entry for g in groups for entry in g.entries()],
+        min_bulk_ess=ess,
+    )
+
+
+def _not_converged(steps, tau, ess, settings):
+    """The warning of a chain that stopped at ``max_steps``, naming each part of the rule it missed."""
+    missed = []
+    if steps < settings.autocorr_factor * tau:
+        missed.append(f"{steps / tau:.1f} autocorrelation times (target {settings.autocorr_factor:.0f})")
+    if ess < settings.min_effective_samples:
+        missed.append(
+            f"a smallest bulk effective sample size of {ess:.0f} (target sampling.min_effective_samples = "
+            f"{settings.min_effective_samples})"
+        )
+    reached = " and ".join(missed) or "an autocorrelation estimate that had not yet settled"
+    return (
+        f"NOT CONVERGED: {steps} steps reach {reached}; treat the uncertainties with caution and raise "
+        "sampling.max_steps."
     )

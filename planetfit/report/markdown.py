@@ -85,7 +85,12 @@ def sampling_text(s):
     return (
         f"{s['walkers']} walkers x {s['steps']} steps; autocorrelation time {s['autocorr_steps']:.1f} steps; "
         f"{s['independent_samples']} independent samples; acceptance fraction {s['acceptance_fraction']:.3f}; "
-        + (f"R-hat max {s['rhat_max']:.3f}, bulk ESS min {s['ess_bulk_min']}; " if "rhat_max" in s else "")
+        + (f"smallest bulk effective sample size {s['min_bulk_ess']}; " if "min_bulk_ess" in s else "")
+        + (
+            f"R-hat max {s['rhat_max']:.3f} (diagnostic), arviz bulk ESS min {s['ess_bulk_min']}; "
+            if "rhat_max" in s
+            else ""
+        )
         + converged
     )
 

@@ -150,6 +150,8 @@ class Sampling(Block):
     moves: Literal["differential_evolution", "fitted_proposal"] = "differential_evolution"
     live_points: Count = 400
     dlogz: PositiveNumber = 0.1
+    #: Effective samples a converged run has: for mcmc, the smallest bulk effective sample size over the sampled
+    #: parameters (planetfit.fitting.ess); for nested sampling, those of its weighted points.
     min_effective_samples: Count = 1000
     max_likelihood_calls: Count = 50_000_000
     #: "marginalised": parameters entering a dataset's mean linearly (flux levels, RV offsets, trend and
