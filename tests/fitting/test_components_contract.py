@@ -30,6 +30,9 @@ _PLANET = {"period_days": 3.0, "transit_bjd": 2460001.0, "radius_ratio": 0.1, "i
 EXAMPLES = {
     ("kernel", schema.OscillatorGP): dict(_PHOT, baseline="gp", gp_kernel="sho"),
     ("kernel", schema.Matern32GP): dict(_PHOT, baseline="gp", gp_kernel="matern32"),
+    ("kernel", schema.RotationGP): dict(
+        _PHOT, baseline="gp", gp_kernel="rotation", gp_period_days={"uniform": [5, 15]}
+    ),
     ("orbit", schema.CircularKeys): dict(_PLANET, orbit="circular"),
     ("orbit", schema.EccentricKeys): dict(_PLANET, orbit="eccentric"),
     ("limb_darkening", schema.QuadraticLaw): {},
