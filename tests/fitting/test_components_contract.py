@@ -8,6 +8,7 @@ import types
 
 import numpy as np
 import pytest
+from synthetic import tiny_posterior
 
 from planetfit.core.quantities import DATASET
 from planetfit.fitting.components import base
@@ -167,3 +168,14 @@ def test_contract_fails_on_broken_components():
     with pytest.raises(AssertionError):
         check_evaluation("trend", broken, np.random.default_rng(7))
     assert not isinstance(_NoTerm(), base.Kernel)
+
+
+def test_built_models_keep_the_flux_term_and_noise_protocols(tmp_path):
+    # Terms and noise models are built per dataset by the model, not registered: check them as built.
+    post = tiny_posterior(tmp_path, baseline="gp", gp_kernel="rotation", gp_period_days={"uniform": [1, 10]})
+    white = tiny_posterior(tmp_path / "white")
+    for model in [*post.model.photometry, *white.model.photometry]:
+        assert model.terms and all(isinstance(t, base.FluxTerm) for t in model.terms)
+        assert isinstance(model.noise, base.NoiseModel)
+    assert isinstance(post.model.photometry[0].noise.kernel, base.Kernel)
+    assert isinstance(white.model.velocity.noise, base.NoiseModel)
