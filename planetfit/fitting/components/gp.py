@@ -55,8 +55,37 @@ class Matern32Kernel:
         return terms.Matern32Term(sigma=values[self.sigma.name] * PPM, rho=values[self.rho.name])
 
 
+class PhotometricRotationKernel:
+    """Quasi-periodic spot modulation of a light curve: celerite2's RotationTerm with its own amplitude.
+
+    Two damped oscillators at the rotation period and half of it, of total
+    standard deviation sigma (ppm), quality factors Q0 + dQ and Q0, the
+    second carrying the fraction f of the first's power (Foreman-Mackey
+    et al. 2017, AJ 154, 220, section 4.1; as for RVs in :class:`RotationKernel`).
+    """
+
+    def __init__(self, block):
+        declare = _declarer(block.name)
+        self.sigma, self.period = (
+            declare("gp_sigma_ppm", block.gp_sigma_ppm),
+            declare("gp_period_days", block.gp_period_days),
+        )
+        self.quality = declare("gp_quality", block.gp_quality)
+        self.quality_difference = declare("gp_quality_difference", block.gp_quality_difference)
+        self.mix = declare("gp_mix", block.gp_mix)
+        self.parameters = [self.sigma, self.period, self.quality, self.quality_difference, self.mix]
+
+    def term(self, values):
+        sigma, period, q0, dq, mix = (values[p.name] for p in self.parameters)
+        return terms.RotationTerm(sigma=sigma * PPM, period=period, Q0=q0, dQ=dq, f=mix)
+
+
 #: The photometric kernel each GP block asks for.
-KERNELS = {schema.OscillatorGP: OscillatorKernel, schema.Matern32GP: Matern32Kernel}
+KERNELS = {
+    schema.OscillatorGP: OscillatorKernel,
+    schema.Matern32GP: Matern32Kernel,
+    schema.RotationGP: PhotometricRotationKernel,
+}
 
 
 class RotationKernel:
@@ -104,7 +133,7 @@ class GaussianProcessNoise:
         Sorted times (days).
     error : ndarray
         Reported 1-sigma uncertainties.
-    kernel : OscillatorKernel, Matern32Kernel or RotationKernel
+    kernel : OscillatorKernel, Matern32Kernel, PhotometricRotationKernel or RotationKernel
     jitters : list of Parameter
         One jitter per group, in units of ``scale``.
     scale : float

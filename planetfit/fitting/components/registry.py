@@ -1,9 +1,25 @@
-"""Which component class a config block builds.
+"""Which component class a config block builds, and every family of them.
 
 The schema (:mod:`planetfit.inputs.schema`) decodes the config's words into
 block classes; each component family maps those classes to the component
 that implements them. This is the only place a block's kind decides code.
 """
+
+from planetfit.fitting.components import base
+from planetfit.fitting.components.baselines import BASELINES
+from planetfit.fitting.components.gp import KERNELS
+from planetfit.fitting.components.orbits import ORBITS
+from planetfit.fitting.components.transit import LIMB_DARKENING
+from planetfit.fitting.components.velocity import TRENDS
+
+#: Every component family: {name: (its {block class: component class} registry, the Protocol its classes keep)}.
+FAMILIES = {
+    "kernel": (KERNELS, base.Kernel),
+    "orbit": (ORBITS, base.Orbit),
+    "limb_darkening": (LIMB_DARKENING, base.LimbDarkening),
+    "trend": (TRENDS, base.Trend),
+    "baseline": (BASELINES, base.Baseline),
+}
 
 
 def component_for(block, family):

@@ -18,6 +18,7 @@ from .datasets import (
     Photometry,
     QuadraticLaw,
     RegressorBaseline,
+    RotationGP,
     SharedGP,
     Velocities,
 )
@@ -46,6 +47,7 @@ __all__ = [
     "QuadraticLaw",
     "QuadraticTrend",
     "RegressorBaseline",
+    "RotationGP",
     "RvActivity",
     "RvOnlyKeys",
     "Sampling",

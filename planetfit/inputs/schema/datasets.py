@@ -1,9 +1,9 @@
 """The ``photometry`` and ``velocities`` dataset blocks.
 
-A photometric dataset is one of six variants by its baseline and noise:
+A photometric dataset is one of seven variants by its baseline and noise:
 ``baseline: constant`` or ``linear`` or ``{regressors: [...]}`` (white noise), or ``baseline: gp``
-with its own damped-oscillator (``gp_kernel: sho``) or Matern-3/2 kernel,
-or with the kernel of another dataset (``gp_shared_with``).
+with its own damped-oscillator (``gp_kernel: sho``), Matern-3/2 or quasi-periodic rotation
+kernel, or with the kernel of another dataset (``gp_shared_with``).
 """
 
 import math
@@ -16,14 +16,25 @@ from ..files import MAX_TABLE_MB
 from ..priors import Fixed, LogUniform, Uniform
 from ..timesystems import TIME_SYSTEMS
 from .base import Block, variants
-from .fields import Column, Count, Number, PositiveNumber, PriorSpec, fail, positive_prior, prior_within
+from .fields import (
+    Column,
+    Count,
+    HarmonicFraction,
+    NonNegativePrior,
+    Number,
+    PositiveNumber,
+    PriorSpec,
+    fail,
+    positive_prior,
+    prior_within,
+)
 from .light import PlanetLight
 
 #: Quality factor of a stochastically driven damped oscillator whose power spectrum resembles
 #: granulation-type variability (Foreman-Mackey et al. 2017, AJ 154, 220, section 4.1).
 SHO_QUALITY_DEFAULT = 1 / math.sqrt(2)
 BASELINES = Literal["constant", "linear", "gp"]
-GP_KERNELS = Literal["sho", "matern32"]
+GP_KERNELS = Literal["sho", "matern32", "rotation"]
 #: The flux of a mission light-curve product: the corrected one (PDCSAP) or the simple-aperture one (SAP).
 MISSION_FLUXES = Literal["pdcsap", "sap"]
 #: The ``quality_column`` value that turns quality filtering off, also for mission products.
@@ -307,21 +318,38 @@ class _OwnGP(Photometry):
     baseline: BASELINES
     gp_kernel: GP_KERNELS = "sho"
     gp_sigma_ppm: Annotated[PriorSpec, positive_prior("gp_sigma_ppm")] = LogUniform(1.0, 1e5)
+
+
+class _TimescaleGP(_OwnGP):
     gp_rho_days: Annotated[PriorSpec, positive_prior("gp_rho_days")] = LogUniform(0.1, 50.0)
 
 
-class OscillatorGP(_OwnGP):
+class OscillatorGP(_TimescaleGP):
     """Variability as a stochastically driven damped oscillator (Foreman-Mackey et al. 2017, eq. 20)."""
 
     variant = {"baseline": "gp", "gp_kernel": "sho"}
     gp_quality: Annotated[PriorSpec, positive_prior("the quality factor")] = Fixed(SHO_QUALITY_DEFAULT)
 
 
-class Matern32GP(_OwnGP):
+class Matern32GP(_TimescaleGP):
     """Variability as a Matern-3/2 process (celerite2's approximation)."""
 
     variant = {"baseline": "gp", "gp_kernel": "matern32"}
     gp_kernel: GP_KERNELS
+
+
+class RotationGP(_OwnGP):
+    """Spot modulation of a rotating star: oscillators at the rotation period and half of it (celerite2 RotationTerm).
+
+    ``gp_period_days`` has no default: give a prior around the rotation period seen in the light curve.
+    """
+
+    variant = {"baseline": "gp", "gp_kernel": "rotation"}
+    gp_kernel: GP_KERNELS
+    gp_period_days: Annotated[PriorSpec, positive_prior("gp_period_days")]
+    gp_quality: Annotated[PriorSpec, positive_prior("the quality factor")] = LogUniform(0.5, 50.0)
+    gp_quality_difference: Annotated[PriorSpec, NonNegativePrior] = Fixed(1.0)
+    gp_mix: Annotated[PriorSpec, HarmonicFraction] = Fixed(0.5)
 
 
 class SharedGP(Photometry):
@@ -338,11 +366,12 @@ def _photometry_variant(raw):
     if raw.get("baseline") == "gp":
         if "gp_shared_with" in raw:
             return "SharedGP"
-        return "Matern32GP" if raw.get("gp_kernel") == "matern32" else "OscillatorGP"
+        return {"matern32": "Matern32GP", "rotation": "RotationGP"}.get(raw.get("gp_kernel"), "OscillatorGP")
     return "LinearBaseline" if raw.get("baseline") == "linear" else "ConstantBaseline"
 
 
-PHOTOMETRY_VARIANTS = (ConstantBaseline, LinearBaseline, RegressorBaseline, OscillatorGP, Matern32GP, SharedGP)
+_WHITE_NOISE = (ConstantBaseline, LinearBaseline, RegressorBaseline)
+PHOTOMETRY_VARIANTS = (*_WHITE_NOISE, OscillatorGP, Matern32GP, RotationGP, SharedGP)
 PhotometryDataset = variants(_photometry_variant, *PHOTOMETRY_VARIANTS)
 
 

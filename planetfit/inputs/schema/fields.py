@@ -102,3 +102,9 @@ PositiveNumber = Annotated[float, Field(allow_inf_nan=False, gt=0)]
 Count = Annotated[int, BeforeValidator(_integral), Field(gt=0)]
 #: A file column: a header name, or a 1-based number in a table without a header line.
 Column = Union[str, int]
+
+#: Priors of a rotation kernel's quality difference and harmonic fraction (celerite2 RotationTerm's dQ and f).
+NonNegativePrior = prior_within(0.0, math.inf, "must not be negative.", "use a lower bound of 0 or above.")
+HarmonicFraction = prior_within(
+    0.0, 1.0, "the fraction of power at half the period lies in [0, 1].", "keep the prior inside [0, 1]."
+)

@@ -1,0 +1,95 @@
+"""The interfaces every component family keeps, written down as Protocols.
+
+Components are plain classes: they conform by having the attributes and
+methods named here, not by inheriting (``isinstance`` checks presence only,
+:func:`typing.runtime_checkable`). The contract test
+(tests/fitting/test_components_contract.py) checks behaviour over every
+registered class: parameters declared once, batch equals one by one, shapes.
+"""
+
+from typing import Protocol, runtime_checkable
+
+
+@runtime_checkable
+class Component(Protocol):
+    """Anything that declares fitted parameters: a list of :class:`~planetfit.fitting.parameters.Parameter`."""
+
+    parameters: list
+
+
+@runtime_checkable
+class FluxTerm(Protocol):
+    """A photometric term: the flux one planet removes from a dataset.
+
+    ``deficit(values, orbit)`` returns (indices, 1 - flux there) or None;
+    ``sparse`` says whether it touches only some points (transit windows).
+    """
+
+    sparse: bool
+
+    def deficit(self, values, orbit): ...
+
+
+@runtime_checkable
+class NoiseModel(Protocol):
+    """A likelihood of residuals: white noise or a Gaussian process."""
+
+    parameters: list
+    correlated: bool
+
+    def log_likelihood_many(self, residuals, values_list): ...
+
+    def gram_many(self, stacks, values_list): ...
+
+    def predict(self, residual, values): ...
+
+
+@runtime_checkable
+class Kernel(Protocol):
+    """A GP kernel: declared parameters and the celerite2 term for one set of values."""
+
+    parameters: list
+
+    def term(self, values): ...
+
+
+@runtime_checkable
+class Orbit(Protocol):
+    """An orbit's shape: (e, omega_rad) of parameter values and which eccentricities are allowed."""
+
+    parameters: list
+    eccentric: bool
+
+    def shape(self, values): ...
+
+    def allowed(self, e): ...
+
+
+@runtime_checkable
+class LimbDarkening(Protocol):
+    """A band's limb-darkening law: its coefficients of parameter values."""
+
+    parameters: list
+
+    def coefficients(self, values): ...
+
+
+@runtime_checkable
+class Trend(Protocol):
+    """A radial-velocity trend: m/s at given times."""
+
+    parameters: list
+
+    def velocity_ms(self, values, times): ...
+
+
+@runtime_checkable
+class Baseline(Protocol):
+    """A photometric baseline, linear in its coefficients: flux = basis @ coefficients."""
+
+    parameters: list
+    linear: list
+
+    def coefficients(self, values): ...
+
+    def flux(self, values): ...
