@@ -119,7 +119,7 @@ def simulate_system(seed, folder, steps, moves=None):
     config = load_config(folder / "config.yaml")
     post = JointPosterior(config, *load_all(config))
     while True:  # a draw from the prior with a transit and a finite probability
-        values = post.layout.values(post.layout.sample_prior(rng, 1)[0])
+        values = post.model.layout.values(post.model.layout.sample_prior(rng, 1)[0])  # every parameter, linear too
         orbits = post.orbits(values)
         if orbits is not None and np.any(predictions.photometry_model(post, values, orbits, 0) < 1):
             break
@@ -145,7 +145,8 @@ def fit_one(args):
         config, post, values, orbits = simulate_system(seed, tmp, steps, moves)
         rng = np.random.default_rng(seed + 1_000_000)  # the fit's own stream, apart from the simulation's
         result = run_sampler(post, post.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
-        derived = physics.derive(config, post.model, result.samples, rng)["planets"]["b"]
+        samples = post.complete(result.samples, seed)[0]  # the marginalised linear parameters drawn back in
+        derived = physics.derive(config, post.model, samples, rng)["planets"]["b"]
     true_values = {
         "mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
         "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
