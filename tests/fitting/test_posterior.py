@@ -55,7 +55,9 @@ def test_a_shared_gp_uses_the_other_datasets_hyperparameters(tmp_path):
     path = write_tiny_system(tmp_path)
     raw = yaml.safe_load(path.read_text())
     first = dict(raw["photometry"][0], baseline="gp", gp_sigma_ppm={"loguniform": [1, 1000]}, band="camera")
-    second = dict(first, name="cam-again", gp_shared_with=first["name"])
+    copy = tmp_path / "phot-copy.csv"  # one file read by two datasets is refused (rows counted twice)
+    copy.write_bytes((tmp_path / first["file"]).read_bytes())
+    second = dict(first, name="cam-again", gp_shared_with=first["name"], file=copy.name)
     del second["gp_sigma_ppm"]
     raw["photometry"] = [first, second]
     raw["sampling"]["linear_parameters"] = "sampled"  # the flux levels are set by hand below

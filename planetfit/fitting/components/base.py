@@ -88,8 +88,9 @@ class Baseline(Protocol):
     """A photometric baseline, linear in its coefficients: flux = basis @ coefficients."""
 
     parameters: list
-    linear: list
 
     def coefficients(self, values): ...
 
     def flux(self, values): ...
+
+    def columns(self, values): ...
