@@ -18,6 +18,9 @@ from planetfit.inputs import schema
 from planetfit.inputs.priors import Prior
 from planetfit.inputs.schema import planets as planet_schema
 
+# common practice, no published source: the contract checks software properties (parameters declared once with a
+# prior, a label and a unit, the family's Protocol, batch evaluation equal to one-by-one evaluation, shapes); the
+# kernels' checks (k(0) > 0, |k(tau)| <= k(0)) hold for any stationary covariance function, no published values.
 N_POINTS, N_WALKERS = 40, 5
 TIMES = np.linspace(2460000.0, 2460030.0, N_POINTS)
 #: Unit endings of parameter keys (a key whose quantity has a unit names it).
