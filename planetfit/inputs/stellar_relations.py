@@ -27,12 +27,16 @@ N_DRAWS = 20000
 SEED = 2010
 
 #: Torres et al. (2010), Sect. 8: log M = a1 + a2 X + a3 X^2 + a4 X^3 + a5 (log g)^2 + a6 (log g)^3 + a7 [Fe/H],
-#: log R the same with b1..b7, X = log Teff - 4.1; their coefficient table (value from memory: the table is
-#: Table 4 of the journal version). value from memory: a1..a7 and b1..b7, not re-checked against the journal text
-#: here; they give the paper's own solar mass 1.051 and radius 1.018 (Sect. 8) to 0.001 and 0.002.
+#: log R the same with b1..b7, X = log Teff - 4.1. The form, X, the scatter and the 0.6 M_sun limit are checked
+#: against the paper's text (its LaTeX source on authorea.com, Sect. 8). a1..a7 are checked against a third-party
+#: transcription of the coefficient table (gist.github.com/j-faria/dd635ffdf47ae758e7f3ce8384da8c99), not against the
+#: journal table itself. b1..b7: value from memory, not re-checked against the journal text; b1..b6 are tested only
+#: through the paper's solar radius 1.018 (Sect. 8, reproduced to 0.002), b7 ([Fe/H]) only weakly by alpha Cen.
+#: value from memory: that the coefficient table is Table 4 of the journal version.
 TORRES_MASS = (1.5689, 1.3787, 0.4243, 1.139, -0.1425, 0.01969, 0.1010)
 TORRES_RADIUS = (2.4427, 0.6679, 0.1771, 0.705, -0.21415, 0.02306, 0.04173)
-#: Torres et al. (2010), Sect. 8: scatter of the calibrations, dex (6.4 % in mass, 3.2 % in radius).
+#: Torres et al. (2010), Sect. 8: scatter of the calibrations, dex (6.4 % in mass, 3.2 % in radius); checked
+#: against the paper's text (authorea.com LaTeX source, Sect. 8).
 TORRES_SCATTER_DEX = {"mass_msun": 0.027, "radius_rsun": 0.014}
 #: Torres et al. (2010), Sect. 8: the calibration holds for main-sequence and evolved stars above 0.6 M_sun.
 TORRES_MIN_MASS_MSUN = 0.6
@@ -40,13 +44,19 @@ TORRES_MIN_MASS_MSUN = 0.6
 TORRES_RANGE = {"teff_k": (4000.0, 7500.0), "logg_cgs": (3.5, 5.0), "feh_dex": (-1.0, 0.5)}
 
 #: Mann et al. (2015), eq. 4 and Table 1: R = a + b M_K + c M_K^2, scatter 2.89 %, valid for 4.6 < M_K < 9.8
-#: (value from memory: the range, the coefficients and the scatter, not re-checked against the journal text here).
+#: (value from memory: the range, the coefficients and the scatter, not re-checked against the journal text: no
+#: readable copy of the paper's body or tables was found; the radius at M_K ~ 6 is tested against interferometric
+#: radii of stars near M_K = 6).
 MANN15_RADIUS = (1.9515, -0.3520, 0.01680)
 MANN15_SCATTER = 0.0289
 MANN15_RANGE = (4.6, 9.8)
-#: Mann et al. (2019), eq. 4 and Table 6 (n = 5): log10 M = sum a_i (M_K - 7.5)^i, scatter 2.0 %,
-#: valid for 4.5 < M_K < 10.5 (value from memory: the M_K range and the coefficients, not re-checked against the
-#: journal text here; the paper's abstract gives 0.075-0.70 M_sun).
+#: Mann et al. (2019), eq. 4: log10 M = sum a_i (M_K - 7.5)^i, n = 5 the preferred order, zero point 7.5, intrinsic
+#: scatter sigma_e about 2 % of the mass, 'safe' range 4.5 < M_K < 10.5: checked against the authors' LaTeX source
+#: (github.com/awmann/masses_paper, Masses_1.tex, a 61-binary pre-publication draft: the relation's section, the
+#: coefficient table with sigma_e = 0.019-0.020, and the usage advice). The coefficients a0..a5: value from memory of
+#: the published Table 6 (n = 5), not re-checked against the journal text (nor the equation and table numbers); the
+#: draft's own coefficients are an earlier fit and differ, but the relation below agrees with the draft's tabulated
+#: masses within 1.2 of its sigma over 4.5 <= M_K <= 10.5 (tests/inputs/test_stellar_relations.py).
 MANN19_MASS = (-0.642, -0.208, -8.43e-4, 7.87e-3, 1.42e-4, -2.13e-4)
 MANN19_ZERO_POINT = 7.5
 MANN19_SCATTER = 0.020
