@@ -28,10 +28,11 @@ SEED = 2010
 
 #: Torres et al. (2010), Sect. 8: log M = a1 + a2 X + a3 X^2 + a4 X^3 + a5 (log g)^2 + a6 (log g)^3 + a7 [Fe/H],
 #: log R the same with b1..b7, X = log Teff - 4.1. The form, X, the scatter and the 0.6 M_sun limit are checked
-#: against the paper's text (its LaTeX source on authorea.com, Sect. 8). a1..a7 are checked against a third-party
-#: transcription of the coefficient table (gist.github.com/j-faria/dd635ffdf47ae758e7f3ce8384da8c99), not against the
-#: journal table itself. b1..b7: value from memory, not re-checked against the journal text; b1..b6 are tested only
-#: through the paper's solar radius 1.018 (Sect. 8, reproduced to 0.002), b7 ([Fe/H]) only weakly by alpha Cen.
+#: against the paper's text (its LaTeX source on authorea.com, Sect. 8). a1..a7 and b1..b7 are checked against
+#: third-party transcriptions of the paper's coefficient table, not against the journal table itself: a1..a7 in
+#: gist.github.com/j-faria/dd635ffdf47ae758e7f3ce8384da8c99, a1..a7 and b1..b7 (with their errors) in
+#: github.com/MariaTsantaki/mass_radius, mass_radius_age.py; all 14 agree. The paper's own solar values (Sect. 8)
+#: test a1..a6 and b1..b6 together; a7 and b7 ([Fe/H]) are tested only weakly (alpha Cen).
 #: value from memory: that the coefficient table is Table 4 of the journal version.
 TORRES_MASS = (1.5689, 1.3787, 0.4243, 1.139, -0.1425, 0.01969, 0.1010)
 TORRES_RADIUS = (2.4427, 0.6679, 0.1771, 0.705, -0.21415, 0.02306, 0.04173)
