@@ -7,7 +7,8 @@ forward model plus Gaussian noise and fitted with emcee until the chain
 meets planetfit's convergence rule (50 autocorrelation times, checked every
 100 steps) or reaches ``--steps``. The fraction of systems whose true value
 falls inside the 68% and 95% central posterior intervals is reported for
-planet mass, radius, K and radius ratio, over all fits and over the
+planet mass, radius, K, radius ratio and the RV offset (marginalised while
+sampling, drawn from its conditional afterwards), over all fits and over the
 converged ones. A calibrated posterior covers the truth at the nominal
 rate, within the binomial scatter sqrt(p (1 - p) / N), and puts the truth
 at a uniformly distributed rank among its samples; the Kolmogorov-Smirnov
@@ -51,7 +52,7 @@ PRIOR = {
 PHOT_START_BJD, PHOT_DAYS, CADENCE_MIN, NOISE_PPM = 2460000.9, 6.0, 10.0, 500.0
 N_RV, RV_ERROR_MS = 20, 2.0
 CHECK_EVERY = 100
-QUANTITIES = ("mass_earth", "radius_earth", "rv_amplitude_ms", "radius_ratio")
+QUANTITIES = ("mass_earth", "radius_earth", "rv_amplitude_ms", "radius_ratio", "offset_ms")
 
 
 def _config(phot_file, rv_file, steps, seed, moves):
@@ -146,12 +147,15 @@ def fit_one(args):
         rng = np.random.default_rng(seed + 1_000_000)  # the fit's own stream, apart from the simulation's
         result = run_sampler(post, post.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
         samples = post.complete(result.samples, seed)[0]  # the marginalised linear parameters drawn back in
-        derived = physics.derive(config, post.model, samples, rng)["planets"]["b"]
+        quantities = physics.derive(config, post.model, samples, rng)
+        # The RV offset is marginalised while sampling and drawn from its conditional afterwards.
+        derived = dict(quantities["planets"]["b"], offset_ms=quantities["parameters"]["spec.offset_ms"])
     true_values = {
         "mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
         "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
         "rv_amplitude_ms": values["b.rv_amplitude_ms"],
         "radius_ratio": values["b.radius_ratio"],
+        "offset_ms": values["spec.offset_ms"],
     }
     out = {
         "seed": seed,
