@@ -2,8 +2,9 @@
 
 The whole demo runs twice in this one process, one after the other, from the
 same seed: first as before issue 26 (``sampling.linear_parameters: sampled``
-where the config schema knows that key, and ``autocorr_factor: 100``), then
-with the defaults (``planetfit/demo/demo.yaml`` as shipped). With
+where the config schema knows that key, ``autocorr_factor: 100`` and
+differential evolution alone), then as shipped (``planetfit/demo/demo.yaml``:
+the default stopping rule and marginalisation, the staged sampler). With
 ``--demo-samplers`` both samplers also run on the demo posterior, one after
 the other from the same seed (so the same optimiser end points), with the
 config's convergence rule. CPU seconds are this process's user + system time
@@ -134,8 +135,11 @@ def demo_config(folder, sampling):
 
 
 def before_issue_26():
-    """The sampling entries of the demo as it ran before issue 26 (the linear-parameter key where it is known)."""
-    old = {"autocorr_factor": 100}
+    """The sampling entries of the demo as it ran before issue 26 (the linear-parameter key where it is known).
+
+    Before issue 26 the demo sampled with differential evolution alone; it now asks for the staged sampler.
+    """
+    old = {"autocorr_factor": 100, "moves": "differential_evolution"}
     if "linear_parameters" in Sampling.model_fields:
         old["linear_parameters"] = "sampled"
     return old
