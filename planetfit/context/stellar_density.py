@@ -34,7 +34,7 @@ def density_check(config, model, derived, rng):
     -------
     block : dict
         ``density_prior_gcc`` (STAT) and ``density_tension_sigma`` (>= 0; None when no transit measures the
-        density, which then is its prior).
+        density, which then is its prior, or when the star's mass and radius are fixed).
     warnings : list of str
     """
     posterior = np.asarray(derived["star"]["density_gcc"], dtype=float)
@@ -48,6 +48,8 @@ def density_check(config, model, derived, rng):
     if not transiting or "density_gcc" in derived["prior_only"]["star"]:
         return block, []
     lo, mid, hi = np.percentile(np.log(prior), [15.87, 50.0, 84.13])
+    if hi <= lo:  # mass and radius fixed: the density is fixed too, and no data can move it
+        return block, []
     shift = (float(np.median(np.log(posterior))) - mid) / (0.5 * (hi - lo))
     block["density_tension_sigma"] = abs(shift)
     if abs(shift) <= TENSION_WARN_SIGMA:

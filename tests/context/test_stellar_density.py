@@ -8,7 +8,7 @@ import pytest
 from planetfit.context.derived import bulk_density_gcc
 from planetfit.context.stellar_density import density_check
 from planetfit.core.units import M_SUN_KG, R_SUN_M
-from planetfit.inputs.priors import Normal
+from planetfit.inputs.priors import Fixed, Normal
 
 
 def _case(posterior_scale, transits=True, eccentric=False, n=20000):
@@ -37,4 +37,14 @@ def test_a_denser_posterior_warns_with_causes_and_keys():
 
 def test_no_transit_no_check():
     block, warnings = density_check(*_case(2.0, transits=False), np.random.default_rng(1))
+    assert block["density_tension_sigma"] is None and warnings == []
+
+
+def test_a_fixed_star_has_no_check_and_no_warning():
+    # common practice, no published source: with mass and radius fixed the model's density is fixed too, so the
+    # shift in prior sigma is 0 / 0; it once came out as "by nan prior sigma" in a warning
+    config, model, derived = _case(1.0)
+    config.star = SimpleNamespace(mass_msun=Fixed(1.0), radius_rsun=Fixed(1.0))
+    derived["star"]["density_gcc"] = np.full(1000, bulk_density_gcc(M_SUN_KG, R_SUN_M))
+    block, warnings = density_check(config, model, derived, np.random.default_rng(1))
     assert block["density_tension_sigma"] is None and warnings == []
