@@ -20,7 +20,7 @@ import time
 from pathlib import Path
 
 import yaml
-from demo_speed import cpu_seconds
+from clock import cpu_seconds  # beside this script
 
 from planetfit import pipeline
 from planetfit.demo import DEMO_CONFIG, generate

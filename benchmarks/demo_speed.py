@@ -33,13 +33,13 @@ independent_samples_per_cpu_second
 """
 
 import json
-import resource
 import tempfile
 import time
 from pathlib import Path
 
 import numpy as np
 import yaml
+from clock import cpu_seconds  # beside this script
 
 from planetfit import pipeline
 from planetfit.demo import DEMO_CONFIG
@@ -47,12 +47,6 @@ from planetfit.fitting import mcmc
 from planetfit.inputs.schema.settings import Sampling
 
 SAMPLERS = ("differential_evolution", "fitted_proposal")
-
-
-def cpu_seconds():
-    """User + system CPU seconds of this process and its finished children."""
-    own, children = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
-    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
 
 
 class CountingPosterior:

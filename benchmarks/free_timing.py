@@ -16,13 +16,13 @@ sample size, whether it converged, and its wall and CPU seconds.
 
 import argparse
 import json
-import resource
 import sys
 import tempfile
 import time
 from pathlib import Path
 
 import yaml
+from clock import cpu_seconds  # beside this script
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # the repository root, for tests.*
 
@@ -31,12 +31,6 @@ from tests.end_to_end.test_transit_times import write_ttv_system  # noqa: E402
 from tests.synthetic import STAR, star_priors  # noqa: E402
 
 WALKERS, TTV_MINUTES, SEED = 64, 10.0, 1
-
-
-def cpu_seconds():
-    """User + system CPU seconds of this process and its finished children."""
-    own, children = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
-    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
 
 
 def run_once(folder, moves, steps, cores):

@@ -5,7 +5,7 @@ The floor is batman's compiled kernels alone on the points planetfit gives them 
 vectors: ``_rsky`` + ``_quadratic_ld`` in the transit windows and ``_rsky`` + ``_eclipse`` in the eclipse
 windows, supersampled. What planetfit adds on top is the phase curve over every point, the RVs, the prior,
 the orbit and the bookkeeping. Positions: 28 vectors 1e-4 prior widths around the truth, timed by
-``speed.race`` (best of interleaved rounds), BLAS limited to one thread.
+``clock.race`` (best of interleaved rounds), BLAS limited to one thread.
 """
 
 import json
@@ -13,7 +13,7 @@ import math
 
 import numpy as np
 from batman import _eclipse, _quadratic_ld, _rsky
-from speed import race  # beside this script
+from clock import race  # beside this script
 from threadpoolctl import threadpool_limits
 
 from planetfit import pipeline

@@ -54,6 +54,7 @@ import memory_gp  # beside this script
 import numpy as np
 import yaml
 from batman import _quadratic_ld, _rsky
+from clock import race  # beside this script
 from demo_speed import demo_figures
 from radvel import kepler, orbit
 from threadpoolctl import threadpool_limits
@@ -66,8 +67,6 @@ from planetfit.fitting.components.transit import quadratic_coefficients
 from planetfit.fitting.posterior import JointPosterior
 
 POSITIONS = 28  # parameter vectors per batch: half of 56 walkers, as emcee's moves propose them
-ROUNDS = 7  # interleaved rounds; the best is kept
-MIN_ROUND_S = 0.3  # each contender repeats its positions until a round lasts this long
 NAIVE_SUPERSAMPLE = 15  # sub-exposures of the plain reference, everywhere
 NAIVE_EXPOSURE_MIN = 30.0
 MEMORY_SECTORS = 10
@@ -343,26 +342,6 @@ def floor_function(post, thetas):
             _quadratic_ld._quadratic_ld(_rsky._rsky(t, t0, per, a_r, inc, e, w, 1, 1), k, u1, u2, 1)
 
     return run, sum(c[0].size for c in calls) / len(thetas)
-
-
-def race(contenders, n):
-    """Seconds per position of each ``callable()`` (which evaluates all ``n`` positions),
-    best of ``ROUNDS`` interleaved rounds."""
-    repeats = {}
-    for name, fn in contenders.items():
-        start, reps = time.perf_counter(), 0
-        while time.perf_counter() - start < MIN_ROUND_S:
-            fn()
-            reps += 1
-        repeats[name] = reps
-    best = dict.fromkeys(contenders, math.inf)
-    for _ in range(ROUNDS):
-        for name, fn in contenders.items():
-            start = time.perf_counter()
-            for _ in range(repeats[name]):
-                fn()
-            best[name] = min(best[name], (time.perf_counter() - start) / (repeats[name] * n))
-    return best
 
 
 def evaluation_figures(config_path):
