@@ -131,7 +131,8 @@ class Block:
 
     @classmethod
     def _typed_names(cls):
-        return {f.name for f in dataclasses.fields(cls)} - {"extra", "order", "stats"}
+        """The typed fields, in their declared order (keys a block was not read with are written in it)."""
+        return [f.name for f in dataclasses.fields(cls) if f.name not in ("extra", "order", "stats")]
 
     @classmethod
     def from_json(cls, data):

@@ -8,23 +8,11 @@ import dataclasses
 
 from planetfit.core import quantities as q
 from planetfit.report.rounding import number_text, value_tex
-from planetfit.report.summary_types import Stat
+from planetfit.report.summary_types import PLANET_KEYS, Stat
 
-_PLANET_DERIVED = (
-    "inclination_deg",
-    "a_over_rstar",
-    "semi_major_axis_au",
-    "eccentricity",
-    "omega_deg",
-    "mass_earth",
-    "mass_jup",
-    "radius_earth",
-    "radius_jup",
-    "density_gcc",
-    "surface_gravity_ms2",
-    "transit_duration_hr",
-    "equilibrium_temp_k",
-    "insolation_earth",
+#: Planet quantities of the derived table: summary.json's, less those the fitted table shows.
+_PLANET_DERIVED = tuple(
+    k for k in PLANET_KEYS if k not in ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms")
 )
 _STAR_FITTED = ("mass_msun", "radius_rsun")
 _STAR_DERIVED = ("density_gcc", "teff_k", "age_gyr")
