@@ -30,6 +30,11 @@ def _pct(x):
     return "n/a" if x is None else f"{x:.0%}"
 
 
+def _number(x, spec):
+    """``x`` formatted by ``spec``, or n/a for a null (a NaN in the run, null in summary.json)."""
+    return "n/a" if x is None else format(x, spec)
+
+
 def _context(name, planet):
     out = ["", f"### Planet {name}"]
     comp = planet.composition
@@ -55,11 +60,13 @@ def _context(name, planet):
         ]
     timing = planet.extra
     if "ttv_chi2" in timing:
+        rms, chi2, p = (
+            _number(timing[k], f) for k, f in (("ttv_rms_minutes", ".2f"), ("ttv_chi2", ".1f"), ("ttv_p_value", ".2g"))
+        )
         out += [
             "",
-            f"Transit times: {timing['transit_epochs']} transits, O-C rms {timing['ttv_rms_minutes']:.2f} min; "
-            f"linear ephemeris chi2 {timing['ttv_chi2']:.1f} for {timing['ttv_dof']} dof, "
-            f"p = {timing['ttv_p_value']:.2g}.",
+            f"Transit times: {timing['transit_epochs']} transits, O-C rms {rms} min; "
+            f"linear ephemeris chi2 {chi2} for {timing['ttv_dof']} dof, p = {p}.",
         ]
     if planet.note:
         out += ["", f"Note: {planet.note}."]
