@@ -99,7 +99,7 @@ def typed(summary):
 
 
 def write_summary_json(path, summary):
-    """Write a summary.json-like mapping as JSON (NaN and inf become null): summary.json, plan.json."""
+    """Write a mapping as JSON laid out as summary.json is (NaN and inf become null); ``planetfit plan``'s plan.json."""
     write_text_atomic(path, json.dumps(_clean_json(summary), indent=2) + "\n")
 
 
