@@ -55,7 +55,7 @@ def main():
     with tempfile.TemporaryDirectory(prefix="planetfit-big-case-") as tmp:
         path = write_case(Path(tmp))
         wall, cpu = time.perf_counter(), cpu_seconds()
-        run_dir = pipeline.run(path, quiet=True, cores=args.cores)
+        run_dir = pipeline.run(path, quiet=True, cores=args.cores).path
         wall, cpu = time.perf_counter() - wall, cpu_seconds() - cpu
         summary = json.loads((run_dir / "summary.json").read_text())
     s = summary["sampling"]

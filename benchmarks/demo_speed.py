@@ -142,7 +142,7 @@ def before_issue_26():
 def whole_demo(folder, cores, sampling):
     """One full ``pipeline.run`` of the demo with ``sampling`` entries set; its wall and CPU seconds and facts."""
     wall, cpu = time.perf_counter(), cpu_seconds()
-    run_dir = pipeline.run(demo_config(folder, sampling), quiet=True, cores=cores)
+    run_dir = pipeline.run(demo_config(folder, sampling), quiet=True, cores=cores).path
     wall, cpu = time.perf_counter() - wall, cpu_seconds() - cpu
     s = json.loads((run_dir / "summary.json").read_text())["sampling"]
     keys = ("converged", "steps", "autocorr_steps", "independent_samples", "min_bulk_ess", "rhat_max", "phase_seconds")

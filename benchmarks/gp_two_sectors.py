@@ -101,7 +101,7 @@ def main():
         config, points = write(Path(tmp), max_steps=args.max_steps)
         load_start = os.getloadavg()[0]
         start = time.perf_counter()
-        run_dir = pipeline.run(config, quiet=True, figures=False, cores=args.cores)
+        run_dir = pipeline.run(config, quiet=True, figures=False, cores=args.cores).path
         wall = time.perf_counter() - start
         summary = json.loads((run_dir / "summary.json").read_text())
     usage = [resource.getrusage(w) for w in (resource.RUSAGE_SELF, resource.RUSAGE_CHILDREN)]

@@ -390,7 +390,7 @@ def evaluation_figures(config_path):
 
 def fit_figures(config_path, cores):
     start = time.perf_counter()
-    run_dir = pipeline.run(config_path, quiet=True, figures=False, cores=cores)
+    run_dir = pipeline.run(config_path, quiet=True, figures=False, cores=cores).path
     wall = time.perf_counter() - start
     s = json.loads((run_dir / "summary.json").read_text())["sampling"]
     start = time.perf_counter()
@@ -424,7 +424,7 @@ def write_memory_system(folder, max_steps):
 def memory_child(config_path):
     """Fit in this (fresh) process and print its peak resident memory."""
     start = time.perf_counter()
-    run_dir = pipeline.run(config_path, quiet=True, figures=False)
+    run_dir = pipeline.run(config_path, quiet=True, figures=False).path
     s = json.loads((Path(run_dir) / "summary.json").read_text())["sampling"]
     print(
         json.dumps(

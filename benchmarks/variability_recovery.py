@@ -34,7 +34,7 @@ def fit(folder, seed, baseline, cores, max_steps):
         quiet=True,
         figures=False,
         cores=cores,
-    )
+    ).path
     summary = json.loads((run_dir / "summary.json").read_text())
     k = summary["planets"]["b"]["radius_ratio"]
     chain = emcee.backends.HDFBackend(str(run_dir / "samples.h5"), name="chain", read_only=True)

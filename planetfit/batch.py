@@ -13,14 +13,12 @@ empty planet column.
 """
 
 import csv
-import json
 import os
 import time
 import traceback
 from pathlib import Path
 
 from planetfit.core.errors import InputError
-from planetfit.rundir import RunDirectory
 
 STATUS_OK, STATUS_INPUT, STATUS_INTERNAL = "ok", "input error", "internal error"
 QUANTITIES = ("mass_earth", "radius_earth", "density_gcc")
@@ -76,7 +74,7 @@ def fit_system(config_path, output=None, figures=False, force=False):
     start = time.perf_counter()
     base = {"config": str(config_path)}
     try:
-        run_dir = pipeline.run(config_path, output=output, force=force, quiet=True, figures=figures)
+        run = pipeline.run(config_path, output=output, force=force, quiet=True, figures=figures)
     except InputError as exc:
         return [dict(base, status=STATUS_INPUT, error=exc.message(), seconds=round(time.perf_counter() - start, 1))]
     except Exception as exc:  # one system's failure must not stop the catalogue
@@ -89,30 +87,29 @@ def fit_system(config_path, output=None, figures=False, force=False):
                 seconds=round(time.perf_counter() - start, 1),
             )
         ]
-    return summary_rows(run_dir, base, round(time.perf_counter() - start, 1))
+    return summary_rows(run.path, run.summary, base, round(time.perf_counter() - start, 1))
 
 
-def summary_rows(run_dir, base, seconds):
-    """One row per planet from a finished run's ``summary.json``."""
-    summary = json.loads(RunDirectory(run_dir).summary.read_text())
-    s = summary["sampling"]
+def summary_rows(run_dir, summary, base, seconds):
+    """One row per planet from a finished run's summary (:class:`~planetfit.report.summary_types.Summary`)."""
+    s = summary.sampling
     common = dict(
         base,
-        system=summary["system"],
+        system=summary.system,
         status=STATUS_OK,
         error="",
-        converged=s["converged"],
-        independent_samples=s["independent_samples"],
+        converged=s.converged,
+        independent_samples=s.independent_samples,
         seconds=seconds,
         run_dir=str(run_dir),
     )
     rows = []
-    for name, planet in summary["planets"].items():
-        row = dict(common, planet=name, mass_is_minimum=bool(planet.get("mass_is_minimum", False)))
+    for name, planet in summary.planets.items():
+        row = dict(common, planet=name, mass_is_minimum=bool(planet.mass_is_minimum))
         for q in QUANTITIES:
-            st = planet.get(q) or {}
-            row.update({f"{q}_{k}": st.get(k) for k in ("median", "lower", "upper")})
-        composition = planet.get("composition") or {}
+            st = planet.stat(q)
+            row.update({f"{q}_{k}": getattr(st, k, None) for k in ("median", "lower", "upper")})
+        composition = planet.composition or {}
         row.update(p_rocky=composition.get("p_rocky"), p_volatile_rich=composition.get("p_volatile_rich"))
         rows.append(row)
     return rows

@@ -25,17 +25,18 @@ NESTED = "nested"
 
 
 def _finished(run_dir, config):
-    """Whether ``run_dir`` holds a finished nested run of exactly this config and its current data."""
+    """The summary of the finished nested run of exactly this config and its current data in ``run_dir``, or None."""
     directory = rundir.RunDirectory(run_dir)
     summary_path, resolved = directory.summary, directory.resolved_config
     if not (summary_path.exists() and resolved.exists()):
-        return False
+        return None
     if resolved.read_text() != rundir.resolved_config(config):
-        return False
-    if "ln_evidence" not in json.loads(summary_path.read_text()).get("sampling", {}):
-        return False
+        return None
+    summary = directory.read_summary()
+    if not summary.sampling.nested:
+        return None
     saved = directory.read_manifest()
-    return saved is not None and not manifest.data_changes(saved, config)
+    return summary if saved is not None and not manifest.data_changes(saved, config) else None
 
 
 def run_directory(config_path, output):
@@ -49,14 +50,15 @@ def run_directory(config_path, output):
 
 
 def fit_model(config_path, output=None, cores=1, quiet=False):
-    """Fit one model by nested sampling, or reuse its finished run; return (run directory, reused)."""
+    """Fit one model by nested sampling, or reuse its finished run; return (run directory, summary, reused)."""
     run_dir = run_directory(config_path, output)
     config = load_config(config_path, output=run_dir, sampling_method=NESTED)
-    if _finished(run_dir, config):
-        return run_dir, True
+    finished = _finished(run_dir, config)
+    if finished is not None:
+        return run_dir, finished, True
     directory = rundir.RunDirectory(run_dir)
     resume = directory.checkpoint.exists() and not directory.summary.exists()
-    pipeline.run(
+    run = pipeline.run(
         config_path,
         output=run_dir,
         resume=resume,
@@ -66,23 +68,23 @@ def fit_model(config_path, output=None, cores=1, quiet=False):
         figures=False,
         sampling_method=NESTED,
     )
-    return run_dir, False
+    return run_dir, run.summary, False
 
 
-def _entry(config_path, run_dir):
-    summary = json.loads(rundir.RunDirectory(run_dir).summary.read_text())
-    s = summary["sampling"]
+def _entry(config_path, run_dir, summary):
+    """One model's row of the comparison, from its run's summary."""
+    s = summary.sampling
     return {
         "model": Path(config_path).stem,
-        "system": summary["system"],
+        "system": summary.system,
         "config": str(Path(config_path).resolve()),
         "run_dir": str(run_dir),
-        "free_parameters": len(summary["fitted_parameters"]),
-        "ln_evidence": s["ln_evidence"]["value"],
-        "ln_evidence_error": s["ln_evidence"]["error"],
-        "max_log_likelihood": s["max_log_likelihood"],
-        "converged": s["converged"],
-        "data": {name: counts["points"] for name, counts in summary.get("data", {}).items()},
+        "free_parameters": len(summary.fitted_parameters),
+        "ln_evidence": s.ln_evidence.value,
+        "ln_evidence_error": s.ln_evidence.error,
+        "max_log_likelihood": s.max_log_likelihood,
+        "converged": s.converged,
+        "data": {name: counts["points"] for name, counts in (summary.data or {}).items()},
     }
 
 
@@ -107,10 +109,10 @@ def compare(config_paths, out_dir=None, cores=1, quiet=False, on_model=None):
     """
     entries = []
     for path, output in zip(config_paths, run_directories(config_paths, out_dir)):
-        run_dir, reused = fit_model(path, output=output, cores=cores, quiet=quiet)
+        run_dir, summary, reused = fit_model(path, output=output, cores=cores, quiet=quiet)
         if on_model is not None:
             on_model(path, run_dir, reused)
-        entries.append(_entry(path, run_dir))
+        entries.append(_entry(path, run_dir, summary))
     rows = comparison.comparison_rows(entries)
     warnings = comparison.comparison_warnings(rows)
     if len({json.dumps(e["data"], sort_keys=True) for e in entries}) > 1:

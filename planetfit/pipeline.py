@@ -26,6 +26,7 @@ from planetfit.inputs.datasets import load_all
 from planetfit.report import exports, inference, outputs
 from planetfit.report import summary as summary_out
 from planetfit.report.files import write_text_atomic
+from planetfit.report.summary_types import Summary
 from planetfit.report.transit_times import write_transit_times_csv
 from planetfit.rundir import manifest
 
@@ -62,12 +63,33 @@ class Checked:
 
 @dataclasses.dataclass
 class FinishedRun:
-    """A finished run read back: its folder, its config and data (checked again), its facts and samples."""
+    """A finished run: its folder, its config and data (checked), the sampler's facts and samples, its summary.
+
+    ``pipeline.run`` returns one; :func:`open_finished` reads one back, and
+    its ``summary`` (a :class:`~planetfit.report.summary_types.Summary`) is
+    then read from summary.json when first asked for.
+    """
 
     directory: rundir.RunDirectory
     checked: Checked
     facts: dict
     samples: np.ndarray
+    written: dataclasses.InitVar[Summary | None] = None
+
+    def __post_init__(self, written):
+        self._summary = written
+
+    @property
+    def path(self):
+        """The run's folder."""
+        return self.directory.path
+
+    @property
+    def summary(self):
+        """The run's summary.json as typed data."""
+        if self._summary is None:
+            self._summary = self.directory.read_summary()
+        return self._summary
 
 
 def open_finished(run_dir):
@@ -152,7 +174,7 @@ def overview(checked):
 
 
 def run(config_path, output=None, resume=False, force=False, cores=1, quiet=False, figures=True, sampling_method=None):
-    """The whole job for one config (``sampling_method`` overrides its ``sampling.method``); returns the run folder."""
+    """The whole job for one config (``sampling_method`` overrides its ``sampling.method``): a :class:`FinishedRun`."""
     checked = check(config_path, output=output, sampling_method=sampling_method)
     config = checked.config
     directory = rundir.RunDirectory(config.output)
@@ -164,12 +186,12 @@ def run(config_path, output=None, resume=False, force=False, cores=1, quiet=Fals
             _log_start(checked, note)
             write_text_atomic(directory.resolved_config, rundir.resolved_config(config))
             samples, facts = _sample(checked, directory, np.random.default_rng(config.seed), cores, quiet, resume)
-            finish(directory.path, checked, samples, facts, figures=figures, cores=cores)
+            summary = finish(directory.path, checked, samples, facts, figures=figures, cores=cores)
         finally:
             rundir.stop_logging()
     finally:
         directory.release()
-    return directory.path
+    return FinishedRun(directory, checked, facts, samples, summary)
 
 
 def saved_progress(config_path, output=None):
@@ -253,7 +275,9 @@ def complete(checked, samples, cores=1):
 
 
 def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
-    """Derive, add context and write every output from posterior samples (figures drawn by ``cores`` processes).
+    """Derive, add context and write every output from posterior samples; return the typed summary.
+
+    Figures are drawn by ``cores`` processes; summary.json is written once, after every other output.
 
     The wall seconds of its two phases, ``derived`` (quantities, context,
     dynamics) and ``figures_and_report`` (posterior.nc, summary, tables,
@@ -287,21 +311,21 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     for warning in new:
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new
-    summary = summary_out.build_summary(
+    content = summary_out.build_summary(
         config, post.model, quantities, context, dict(sampling_facts, **stats, warnings=warnings)
     )
-    summary["star"].update(density)
-    summary["data"] = checked.data_counts()
+    content["star"].update(density)
+    content["data"] = checked.data_counts()
     if stability is not None:
-        summary["dynamics"] = stability
-    summary_out.write_summary_json(directory.summary, summary)
+        content["dynamics"] = stability
+    summary = summary_out.typed(content)
     summary_out.write_posterior_csv(directory.posterior_csv, quantities)
     if quantities["transit_times"]:
         write_transit_times_csv(directory.transit_times, quantities["transit_times"])
     outputs.write_all(directory, checked, post, samples, quantities, summary, figures=figures, cores=cores)
     phases["figures_and_report"] = time.perf_counter() - start - phases["derived"]
-    summary["sampling"]["phase_seconds"] = {k: round(v, 1) for k, v in phases.items()}
-    summary_out.write_summary_json(directory.summary, summary)  # again, with the last phase's time
+    summary.sampling.phase_seconds = {k: round(v, 1) for k, v in phases.items()}
+    write_text_atomic(directory.summary, summary.to_text())  # last, once: a summary.json marks a finished run
     directory.record_outputs(since)
     log.info("wall seconds per phase: %s", ", ".join(f"{k} {v:.1f}" for k, v in phases.items()))
     log.info("outputs written to %s", directory)

@@ -98,3 +98,35 @@ def test_mode_strings_are_decoded_only_in_the_schema(word):
         if re.search(f"(?<!limb_dark = )[\"']{word}[\"']", p.read_text())
     }
     assert all(p.startswith("inputs/schema/") for p in places), places
+
+
+#: The one module that parses summary.json; every other reader gets its typed Summary.
+SUMMARY_PARSER = "report/summary_types.py"
+
+
+def _summary_reads(root):
+    """``file:line`` of every json.load(s) of something named summary, or read of a summary file's bytes or text."""
+    places = []
+    for path in root.rglob("*.py"):
+        text = path.read_text()
+        for node in ast.walk(ast.parse(text)):
+            if not isinstance(node, ast.Call):
+                continue
+            func = node.func
+            name = func.attr if isinstance(func, ast.Attribute) else getattr(func, "id", "")
+            if name in ("load", "loads"):
+                looked_at = ast.get_source_segment(text, node)  # json.loads(directory.summary.read_text())
+            elif name in ("read_text", "read_bytes", "open") and isinstance(func, ast.Attribute):
+                looked_at = ast.get_source_segment(text, func.value)  # directory.summary.read_text()
+            else:
+                continue
+            if "summary" in looked_at.lower():
+                places.append(f"{path.relative_to(root)}:{node.lineno}")
+    return sorted(set(places))
+
+
+def test_summary_json_is_parsed_in_one_module():
+    # Before issue 25 this listed batch.py:97, cli/commands.py:14, compare.py:35 and :73, planning/run.py:90.
+    places = _summary_reads(ROOT)
+    assert all(p.startswith(SUMMARY_PARSER + ":") for p in places), places
+    assert "json.loads(" in (ROOT / SUMMARY_PARSER).read_text()

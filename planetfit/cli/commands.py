@@ -5,36 +5,31 @@ import json
 from planetfit.core.errors import InputError
 
 
-def print_summary(run_dir):
-    """The end-of-run summary: sampling facts, each planet's mass, radius and density, and every warning."""
+def print_summary(run):
+    """The end of a run (a ``pipeline.FinishedRun``): sampling facts, each planet's mass, radius, density, warnings."""
     from planetfit.report.markdown import sampling_text
-    from planetfit.rundir import RunDirectory
 
-    directory = RunDirectory(run_dir)
-    summary = json.loads(directory.summary.read_text())
-    s = summary["sampling"]
-    print(f"\n{summary['system']}: {sampling_text(s)}")
-    for name, p in summary["planets"].items():
+    summary = run.summary
+    s = summary.sampling
+    print(f"\n{summary.system}: {sampling_text(s)}")
+    for name, p in summary.planets.items():
         parts = []
         for key, label, unit in (
             ("mass_earth", "M", "M_earth"),
             ("radius_earth", "R", "R_earth"),
             ("density_gcc", "rho", "g/cm3"),
         ):
-            st = p.get(key)
+            st = p.stat(key)
             if st:
-                parts.append(
-                    f"{label} = {st['median']:.3g} +{st['upper'] - st['median']:.2g} "
-                    f"-{st['median'] - st['lower']:.2g} {unit}"
-                )
-        if p.get("mass_is_minimum"):
+                parts.append(f"{label} = {st.median:.3g} +{st.plus:.2g} -{st.minus:.2g} {unit}")
+        if p.mass_is_minimum:
             parts[0] = parts[0].replace("M =", "M sin i =")
         print(f"  {name}: " + ", ".join(parts))
-        if p.get("composition"):
-            print(f"     {p['composition']['verdict']}")
-    for warning in s.get("warnings", []):
+        if p.composition:
+            print(f"     {p.composition['verdict']}")
+    for warning in s.warnings or []:
         print(f"WARNING: {warning}")
-    print(f"outputs in {run_dir}; open {directory.report} for the whole run on one page")
+    print(f"outputs in {run.path}; open {run.directory.report} for the whole run on one page")
 
 
 def run(args, config=None):
@@ -45,7 +40,7 @@ def run(args, config=None):
     args.config_used = config  # for the resume hint after Ctrl-C
     if args.cores < 1:
         raise InputError(f"--cores must be at least 1, got {args.cores}.", fix="use e.g. --cores 2.")
-    run_dir = pipeline.run(
+    finished = pipeline.run(
         config,
         output=args.out,
         resume=args.resume,
@@ -54,7 +49,7 @@ def run(args, config=None):
         quiet=args.quiet,
         figures=not args.no_figures,
     )
-    print_summary(run_dir)
+    print_summary(finished)
 
 
 def batch(args):

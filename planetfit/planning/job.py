@@ -7,6 +7,7 @@ import numpy as np
 
 from planetfit.planning import outputs, plan
 from planetfit.planning.run import load_run
+from planetfit.report.summary_types import Sampling
 from planetfit.rundir import RunDirectory, require_writable
 
 #: Default observing window: it opens this many days after the run's last data point and lasts this long.
@@ -31,10 +32,10 @@ def resolve_window(window, last_bjd):
 def plan_warnings(run, planets, window, last_bjd):
     """The plan's warnings: the run's state, what the plan cannot model, and a decisiveness that falls."""
     out = []
-    sampling = run.summary.get("sampling", {})
-    if sampling.get("converged") is False:
+    sampling = run.summary.sampling if run.summary is not None else Sampling()
+    if sampling.converged is False:
         out.append("The run did not converge: its posterior, and so this plan, is not reliable.")
-    if len(sampling.get("modes") or []) > 1:
+    if len(sampling.modes or []) > 1:
         out.append(
             "The run's posterior has several modes: the plan's Gaussian approximation of it (one covariance) is crude."
         )

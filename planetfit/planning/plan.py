@@ -156,9 +156,9 @@ def needed_count(counts, medians, target):
 
 
 def _now(run, planet):
-    entry = run.summary.get("planets", {}).get(planet, {})
+    entry = run.summary.planets.get(planet) if run.summary is not None else None
     mass = run.planets[planet]["mass_earth"]
-    comp = entry.get("composition") or {}
+    comp = (entry.composition if entry is not None else None) or {}
     measured = run.has_velocities
     p = comp.get("p_rocky") if measured else None
     return {

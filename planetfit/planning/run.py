@@ -8,7 +8,6 @@ from their priors exactly as the run's own outputs were.
 """
 
 import dataclasses
-import json
 from pathlib import Path
 
 import numpy as np
@@ -16,12 +15,7 @@ import numpy as np
 from planetfit import pipeline
 from planetfit.context import derived
 from planetfit.core.errors import InputError
-from planetfit.rundir import RunDirectory
-
-_FINISHED_FIX = (
-    "give the folder of a finished 'planetfit run' (it holds summary.json, samples.h5 and config.resolved.yaml); "
-    "an interrupted run is finished with 'planetfit run CONFIG --resume --out DIR'."
-)
+from planetfit.rundir import FINISHED_FIX, RunDirectory
 
 
 @dataclasses.dataclass
@@ -38,15 +32,15 @@ class PlanningRun:
         scalars, prior-only ones drawn from their priors).
     planets : dict
         Per planet the derived quantities per sample (``mass_earth``, ``radius_earth``, ...).
-    summary : dict
-        summary.json.
+    summary : planetfit.report.summary_types.Summary or None
+        summary.json (None for a run not read from a folder).
     """
 
     run_dir: Path
     checked: object
     values: dict
     planets: dict
-    summary: dict
+    summary: object
 
     @property
     def model(self):
@@ -67,7 +61,7 @@ class PlanningRun:
 
 def _require(path, what):
     if not path.exists():
-        raise InputError(f"{what} is missing: the run has not finished.", file=path, fix=_FINISHED_FIX) from None
+        raise InputError(f"{what} is missing: the run has not finished.", file=path, fix=FINISHED_FIX) from None
 
 
 def load_run(run_dir, seed=0):
@@ -82,20 +76,16 @@ def load_run(run_dir, seed=0):
     directory = RunDirectory(Path(run_dir).resolve())
     if not directory.path.is_dir():
         raise InputError(
-            "the run directory does not exist (or is not a folder).", file=directory, fix=_FINISHED_FIX
+            "the run directory does not exist (or is not a folder).", file=directory, fix=FINISHED_FIX
         ) from None
     for path in (directory.summary, directory.samples, directory.resolved_config):
         _require(path, path.name)
-    try:
-        summary = json.loads(directory.summary.read_text())
-    except (OSError, ValueError) as exc:
-        raise InputError(f"summary.json is unreadable ({exc}).", file=directory.summary, fix=_FINISHED_FIX) from None
     run = pipeline.open_finished(directory.path)
-    return from_samples(run.checked, run.samples, summary, directory.path, seed)
+    return from_samples(run.checked, run.samples, run.summary, directory.path, seed)
 
 
 def from_samples(checked, samples, summary=None, run_dir=None, seed=0):
     """A :class:`PlanningRun` from a checked config and posterior samples in sampler coordinates."""
     samples = pipeline.complete(checked, samples)[0] if samples.shape[1] == checked.posterior.layout.ndim else samples
     quantities = derived.derive(checked.config, checked.posterior.model, samples, np.random.default_rng([seed, 2]))
-    return PlanningRun(run_dir, checked, quantities["parameters"], quantities["planets"], summary or {})
+    return PlanningRun(run_dir, checked, quantities["parameters"], quantities["planets"], summary)

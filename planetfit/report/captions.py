@@ -1,29 +1,33 @@
 """What each figure of a run shows, in words, and the order a reader meets them in report.html.
 
-Figures are named by their file stems (``transit_b_camera-2min``); a
-stem this module does not know keeps its place at the end with a caption
-that names its file.
+A figure is a :class:`Drawn` record (family, planet, dataset): its file
+stem (``transit_b_camera-2min``) is built from them and its caption filled
+with them, so nothing is parsed back from file names. A family this module
+has no words for keeps its place after the known ones, with a caption that
+names its file.
 """
+
+import dataclasses
 
 from planetfit.core.names import file_stem
 
-#: (file-stem prefix, caption template) in reading order; ``{planet}`` and ``{dataset}`` are filled from the stem.
+#: (family, caption template) in reading order; ``{planet}`` and ``{dataset}`` are filled from the record.
 FAMILIES = (
     (
-        "transit_",
+        "transit",
         "Transits of planet {planet} in {dataset}, folded on the median ephemeris, with the other planets' "
         "transits, the baseline and any variability model divided out. Faint: every point; dark: binned points "
         "with standard errors; line and band: the model at the median parameters and the 68% band of posterior "
         "draws, integrated over the exposure as in the fit.",
     ),
     (
-        "light_curve_",
+        "light_curve",
         "{dataset} against time: the data with the variability model added to the transit model, or the transit "
         "model times the baseline's trend in observing conditions (dashed: the removed trend) (top), and the light "
         "curve with them removed (bottom).",
     ),
     (
-        "rv_phase_",
+        "rv_phase",
         "Radial velocities folded on planet {planet}'s period (phase 0 at inferior conjunction, the transit), "
         "with the offsets, the activity model and the other planets removed; error bars include each "
         "spectrograph's median jitter. Bottom: residuals.",
@@ -39,7 +43,7 @@ FAMILIES = (
         "of correlations and multiple modes.",
     ),
     (
-        "corner_",
+        "corner",
         "Posterior of planet {planet}'s mass, radius and density with its main fitted parameters (1 and 2 "
         "sigma contours); for a planet seen only in RVs, its minimum mass M sin i with period, semi-amplitude "
         "and eccentricity.",
@@ -64,26 +68,33 @@ FAMILIES = (
 )
 
 
-def _family(stem):
-    return next((k for k, (prefix, _) in enumerate(FAMILIES) if stem.startswith(prefix)), len(FAMILIES))
-
-
+_INDEX = {family: k for k, (family, _) in enumerate(FAMILIES)}
 #: Figures for diagnosis, shown after every other one (including those this module does not know).
 DIAGNOSTIC = ("corner_sampled", "convergence")
 
 
-def order(stems):
-    """File stems in reading order: by family as in :data:`FAMILIES`, unknown ones next, :data:`DIAGNOSTIC` last."""
-    return sorted(stems, key=lambda s: (s in DIAGNOSTIC, _family(s), s))
+@dataclasses.dataclass(frozen=True)
+class Drawn:
+    """A figure of a run: its family (the start of its file stem), and the planet and dataset it shows, if any."""
+
+    family: str
+    planet: str = ""
+    dataset: str = ""
+
+    @property
+    def stem(self):
+        """The file name without extension: ``family[_planet][_dataset]``, names made file-safe."""
+        return "_".join([self.family] + [file_stem(n) for n in (self.planet, self.dataset) if n])
+
+    @property
+    def caption(self):
+        """What the figure shows, in words."""
+        if self.family not in _INDEX:
+            return f"Figure {self.stem} (see figures/{self.stem}.pdf)."
+        return FAMILIES[_INDEX[self.family]][1].format(planet=self.planet, dataset=self.dataset)
 
 
-def caption(stem, planets):
-    """The caption of the figure with file stem ``stem``; ``planets`` are the run's planet names."""
-    k = _family(stem)
-    if k == len(FAMILIES):
-        return f"Figure {stem} (see figures/{stem}.pdf)."
-    prefix, text = FAMILIES[k]
-    rest = stem[len(prefix) :]
-    planet = next((p for p in planets if rest == file_stem(p) or rest.startswith(file_stem(p) + "_")), "")
-    dataset = rest[len(file_stem(planet)) + 1 :] if planet and "{dataset}" in text and "{planet}" in text else rest
-    return text.format(planet=planet or rest, dataset=dataset)
+def order(figures):
+    """:class:`Drawn` figures in reading order: by family as in :data:`FAMILIES`, unknown ones next,
+    :data:`DIAGNOSTIC` last."""
+    return sorted(figures, key=lambda f: (f.family in DIAGNOSTIC, _INDEX.get(f.family, len(FAMILIES)), f.stem))

@@ -1,6 +1,8 @@
 """report.html: the whole run on one self-contained page (figures embedded, no scripts, fonts or network).
 
-The page is rendered by jinja2 from ``templates/report.html.j2``. Blocks
+The page is rendered by jinja2 from ``templates/report.html.j2``, from the
+typed summary (:mod:`planetfit.report.summary_types`) and the records of the
+figures drawn (:class:`planetfit.report.captions.Drawn`). Blocks
 of summary.json that this module has no words for (a new planet block, a
 top-level block such as ``dynamics``, a new sampling fact) are shown as
 nested key-value tables, so new outputs appear without a change here.
@@ -19,6 +21,7 @@ from planetfit.report import captions
 from planetfit.report.files import write_text_atomic
 from planetfit.report.rounding import number_text, value_text
 from planetfit.report.style import PNG_DPI
+from planetfit.report.summary_types import Block, Stat
 from planetfit.report.tables import NOTE_TEXT, prior_text, star_note
 
 #: Distributions whose versions the page lists (those not installed are left out).
@@ -64,19 +67,17 @@ _ENV = jinja2.Environment(
 )
 
 
-def _is_stat(value):
-    return isinstance(value, dict) and {"median", "lower", "upper"} <= set(value)
-
-
 def display(value):
-    """A summary.json value as the template shows it: text, ``{"bullets": texts}``, or (key, display) pairs.
+    """A typed summary.json value as the template shows it: text, ``{"bullets": texts}``, or (key, display) pairs.
 
-    STATs become ``1.23 +0.05 -0.04``; lists of sentences become bullets,
+    STATs become ``1.23 +0.05 -0.04``; blocks show their keys; lists of sentences become bullets,
     other lists of plain values are joined;
     dicts and lists of dicts nest; numbers keep four significant digits.
     """
-    if _is_stat(value):
-        return value_text(value) + (" (prior only)" if value.get("prior_only") else "")
+    if isinstance(value, Stat):
+        return value_text(value) + (" (prior only)" if value.prior_only else "")
+    if isinstance(value, Block):
+        value = dict(value.items())
     if isinstance(value, dict):
         return [(str(k), display(v)) for k, v in value.items()]
     if isinstance(value, (list, tuple)):
@@ -125,22 +126,22 @@ def columns_table(entries):
 def _verdicts(summary):
     """Per planet: headline values, the composition verdict and the assumptions beside it."""
     out = []
-    for name, p in summary["planets"].items():
-        minimum = p.get("mass_is_minimum")
+    for name, p in summary.planets.items():
+        minimum = p.mass_is_minimum
         headline = [
-            (("Minimum mass" if minimum and key == "mass_earth" else label), value_text(p.get(key)), unit)
+            (("Minimum mass" if minimum and key == "mass_earth" else label), value_text(p.stat(key)), unit)
             for key, label, unit in HEADLINE
-            if p.get(key) is not None
+            if p.stat(key) is not None
         ]
-        comp = p.get("composition") or {}
-        clim = p.get("climate") or {}
+        comp = p.composition or {}
+        clim = p.climate or {}
         out.append(
             {
                 "name": name,
-                "transits": p.get("transits"),
+                "transits": p.transits,
                 "headline": headline,
                 "verdict": " ".join(t for t in (comp.get("verdict"), comp.get("star_iron_verdict")) if t) or None,
-                "note": p.get("note"),
+                "note": p.note,
                 "assumptions": _texts(comp.get("assumptions")),
                 "climate": _climate_line(clim),
             }
@@ -159,7 +160,7 @@ def _table_sections(rows):
             {
                 "label": row.label,
                 "prior": prior_text(row.prior) if row.prior is not None else "",
-                "value": value_text(row.stat) if row.key else number_text(row.stat["median"]),
+                "value": value_text(row.stat) if row.key else number_text(row.stat.median),
                 "unit": row.quantity.unit_text,
                 "key": row.key or "(fixed)",
             }
@@ -195,15 +196,9 @@ def _figure(path):
     return {"src": "data:image/png;base64," + base64.b64encode(path.read_bytes()).decode("ascii"), "width": width}
 
 
-def _figures(folder, planets):
-    """Every figure of the run in reading order, with its caption and embedded image."""
-    if not folder.is_dir():
-        return []
-    stems = captions.order([p.stem for p in folder.glob("*.png")])
-    out = []
-    for stem in stems:
-        out.append({"name": stem, "caption": captions.caption(stem, planets), **_figure(folder / f"{stem}.png")})
-    return out
+def _figures(folder, drawn):
+    """Every figure drawn (:class:`~planetfit.report.captions.Drawn`) in reading order, captioned and embedded."""
+    return [{"name": f.stem, "caption": f.caption, **_figure(folder / f"{f.stem}.png")} for f in captions.order(drawn)]
 
 
 def _versions():
@@ -221,8 +216,8 @@ def _other_blocks(summary):
     """Blocks the page has no own section for: top-level ones, and each planet's extra blocks."""
     top = [(k, display(v)) for k, v in summary.items() if k not in KNOWN_TOP]
     planet = []
-    for name, p in summary["planets"].items():
-        extra = {k: v for k, v in p.items() if isinstance(v, dict) and not _is_stat(v) and k not in CONTEXT_BLOCKS}
+    for name, p in summary.planets.items():
+        extra = {k: v for k, v in p.items() if isinstance(v, dict) and k not in CONTEXT_BLOCKS}
         if extra:
             planet.append((f"Planet {name}", display(extra)))
     return top + planet
@@ -230,41 +225,41 @@ def _other_blocks(summary):
 
 def _planet_facts(p):
     """What was fitted for one planet: transiting or not, the orbit, and the period."""
-    return {"transits": p.get("transits"), "orbit": p.get("orbit"), "period_days": p.get("period_days")}
+    return {"transits": p.transits, "orbit": p.orbit, "period_days": p.stat("period_days")}
 
 
-def page_context(summary, rows, figures_folder):
-    """Everything the template shows, from summary.json, the table rows and the figures folder."""
-    sampling = summary["sampling"]
-    planets = list(summary["planets"])
-    figures = _figures(Path(figures_folder), planets)
+def page_context(summary, rows, figures_folder, drawn):
+    """Everything the template shows, from the summary, the table rows and the figures drawn in their folder."""
+    sampling = summary.sampling
+    figures = _figures(Path(figures_folder), drawn)
     return {
-        "system": summary["system"],
+        "system": summary.system,
         "sampling": sampling,
         "sampling_facts": [(k, display(v)) for k, v in sampling.items() if k not in SAMPLING_SPECIAL],
-        "diagnostics": sampling.get("parameter_diagnostics") or {},
-        "modes": display(sampling["modes"]) if sampling.get("modes") else None,
-        "warnings": list(sampling.get("warnings") or []),
+        "diagnostics": sampling.parameter_diagnostics or {},
+        "modes": display(sampling.modes) if sampling.modes else None,
+        "warnings": list(sampling.warnings or []),
         "verdicts": _verdicts(summary),
-        "planets": columns_table({name: _planet_facts(p) for name, p in summary["planets"].items()}),
-        "data": columns_table(summary.get("data") or {}),
+        "planets": columns_table({name: _planet_facts(p) for name, p in summary.planets.items()}),
+        "data": columns_table(summary.data or {}),
         "tables": _table_sections(rows),
         "table_note": f"{NOTE_TEXT} {star_note(summary)}".strip(),
         "figures": [f for f in figures if f["name"] != "convergence"],
         "convergence_figure": next((f for f in figures if f["name"] == "convergence"), None),
         "context": [
-            (name, [(k, display(p[k])) for k in CONTEXT_BLOCKS if p.get(k)]) for name, p in summary["planets"].items()
+            (name, [(k, display(getattr(p, k))) for k in CONTEXT_BLOCKS if getattr(p, k)])
+            for name, p in summary.planets.items()
         ],
         "other_blocks": _other_blocks(summary),
         "versions": _versions(),
     }
 
 
-def render(summary, rows, figures_folder):
-    """The report's HTML text."""
-    return _ENV.get_template("report.html.j2").render(**page_context(summary, rows, figures_folder))
+def render(summary, rows, figures_folder, drawn=()):
+    """The report's HTML text (``drawn``: the records of the figures in ``figures_folder`` to show)."""
+    return _ENV.get_template("report.html.j2").render(**page_context(summary, rows, figures_folder, drawn))
 
 
-def write_report(path, summary, rows, figures_folder):
+def write_report(path, summary, rows, figures_folder, drawn=()):
     """Write report.html."""
-    write_text_atomic(path, render(summary, rows, figures_folder))
+    write_text_atomic(path, render(summary, rows, figures_folder, drawn))

@@ -8,7 +8,7 @@ _HEADER = ["| Parameter | Prior | Value | Unit | summary.json key |", "|---|---|
 
 def _row(row):
     prior = prior_text(row.prior) if row.prior is not None else "-"
-    value = value_text(row.stat) if row.key else number_text(row.stat["median"])
+    value = value_text(row.stat) if row.key else number_text(row.stat.median)
     key = f"`{row.key}`" if row.key else "(fixed)"
     return f"| {row.label} | {prior} | {value} | {row.quantity.unit_text} | {key} |"
 
@@ -30,14 +30,19 @@ def _pct(x):
     return "n/a" if x is None else f"{x:.0%}"
 
 
+def _number(x, spec):
+    """``x`` formatted by ``spec``, or n/a for a null (a NaN in the run, null in summary.json)."""
+    return "n/a" if x is None else format(x, spec)
+
+
 def _context(name, planet):
     out = ["", f"### Planet {name}"]
-    comp = planet.get("composition")
+    comp = planet.composition
     if comp:
         out += ["", f"Composition: {comp['verdict']}"]
         if comp.get("star_iron_verdict"):
             out += ["", f"From the star: {comp['star_iron_verdict']}"]
-    clim = planet.get("climate")
+    clim = planet.climate
     if clim:
         out += [
             "",
@@ -45,7 +50,7 @@ def _context(name, planet):
             f"inside the conservative limits, {_pct(clim['p_optimistic_hz'])} inside the optimistic ones; "
             f"grey-greenhouse surface temperature {value_text(clim['surface_temp_k'])} K.",
         ]
-    atm = planet.get("atmosphere")
+    atm = planet.atmosphere
     if atm:
         out += [
             "",
@@ -53,15 +58,18 @@ def _context(name, planet):
             f"{value_text(atm['transmission_signal_ppm'])} ppm, TSM {value_text(atm['tsm'])}, "
             f"ESM {value_text(atm['esm'])} (Kempton et al. 2018).",
         ]
-    if "ttv_chi2" in planet:
+    timing = planet.extra
+    if "ttv_chi2" in timing:
+        rms, chi2, p = (
+            _number(timing[k], f) for k, f in (("ttv_rms_minutes", ".2f"), ("ttv_chi2", ".1f"), ("ttv_p_value", ".2g"))
+        )
         out += [
             "",
-            f"Transit times: {planet['transit_epochs']} transits, O-C rms {planet['ttv_rms_minutes']:.2f} min; "
-            f"linear ephemeris chi2 {planet['ttv_chi2']:.1f} for {planet['ttv_dof']} dof, "
-            f"p = {planet['ttv_p_value']:.2g}.",
+            f"Transit times: {timing['transit_epochs']} transits, O-C rms {rms} min; "
+            f"linear ephemeris chi2 {chi2} for {timing['ttv_dof']} dof, p = {p}.",
         ]
-    if planet.get("note"):
-        out += ["", f"Note: {planet['note']}."]
+    if planet.note:
+        out += ["", f"Note: {planet.note}."]
     return out
 
 
@@ -73,22 +81,23 @@ def _dynamics(d):
 
 
 def sampling_text(s):
-    """One sentence of the sampling facts: emcee's walkers and autocorrelation, or nested sampling's evidence."""
-    converged = f"converged: {'yes' if s['converged'] else 'NO (see the warnings)'}; {s['seconds']:.0f} s."
-    if s.get("method") == "nested":
-        z = s["ln_evidence"]
+    """One sentence of the sampling facts (a ``Sampling``): emcee's walkers and autocorrelation, or nested
+    sampling's evidence."""
+    converged = f"converged: {'yes' if s.converged else 'NO (see the warnings)'}; {s.seconds:.0f} s."
+    if s.nested:
+        z = s.ln_evidence
         return (
-            f"nested sampling (dynesty), {s['live_points']} live points, {s['iterations']} iterations, "
-            f"{s['likelihood_calls']} likelihood calls; ln Z = {z['value']:.2f} +- {z['error']:.2f}; evidence left "
-            f"in the live points {s['dlogz']:.3f}; {s['effective_samples']} effective samples; " + converged
+            f"nested sampling (dynesty), {s.live_points} live points, {s.iterations} iterations, "
+            f"{s.likelihood_calls} likelihood calls; ln Z = {z.value:.2f} +- {z.error:.2f}; evidence left "
+            f"in the live points {s.dlogz:.3f}; {s.effective_samples} effective samples; " + converged
         )
     return (
-        f"{s['walkers']} walkers x {s['steps']} steps; autocorrelation time {s['autocorr_steps']:.1f} steps; "
-        f"{s['independent_samples']} independent samples; acceptance fraction {s['acceptance_fraction']:.3f}; "
-        + (f"smallest bulk effective sample size {s['min_bulk_ess']}; " if "min_bulk_ess" in s else "")
+        f"{s.walkers} walkers x {s.steps} steps; autocorrelation time {s.autocorr_steps:.1f} steps; "
+        f"{s.independent_samples} independent samples; acceptance fraction {s.acceptance_fraction:.3f}; "
+        + (f"smallest bulk effective sample size {s.min_bulk_ess}; " if s.min_bulk_ess is not None else "")
         + (
-            f"R-hat max {s['rhat_max']:.3f} (diagnostic), arviz bulk ESS min {s['ess_bulk_min']}; "
-            if "rhat_max" in s
+            f"R-hat max {s.rhat_max:.3f} (diagnostic), arviz bulk ESS min {s.ess_bulk_min}; "
+            if s.rhat_max is not None
             else ""
         )
         + converged
@@ -100,20 +109,19 @@ def summary_markdown(summary, rows):
 
     Parameters
     ----------
-    summary : dict
-        summary.json content.
+    summary : planetfit.report.summary_types.Summary
     rows : list of Row
         :func:`planetfit.report.tables.table_rows`, the rows of table.tex.
     """
-    out = [f"# {summary['system']}"]
+    out = [f"# {summary.system}"]
     out += _table(rows)
     out += ["", f"{NOTE_TEXT} {star_note(summary)}".strip(), "", "## Context"]
-    for name, planet in summary["planets"].items():
+    for name, planet in summary.planets.items():
         out += _context(name, planet)
-    if summary.get("dynamics"):
-        out += _dynamics(summary["dynamics"])
-    s = summary["sampling"]
+    if summary.dynamics:
+        out += _dynamics(summary.dynamics)
+    s = summary.sampling
     out += ["", "## Sampling", "", sampling_text(s)]
-    if s.get("warnings"):
-        out += ["", "Warnings:", ""] + [f"- {w}" for w in s["warnings"]]
+    if s.warnings:
+        out += ["", "Warnings:", ""] + [f"- {w}" for w in s.warnings]
     return "\n".join(out) + "\n"

@@ -26,8 +26,7 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
         Flat posterior samples (burn-in discarded, thinned).
     derived : dict
         :func:`planetfit.context.derived.derive` output after context.
-    summary : dict
-        summary.json content.
+    summary : planetfit.report.summary_types.Summary
     figures : bool
         Draw the figures (tables are always written).
     cores : int
@@ -36,17 +35,23 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
     rows = tables.table_rows(summary, posterior.model, checked.config.star)
     write_text_atomic(run_dir.table, tables.latex_table(summary, rows))
     write_text_atomic(run_dir.summary_md, summary_markdown(summary, rows))
+    drawn = []
     if figures:
         builders = figure_builders(run_dir, checked, posterior, samples, derived, summary)
-        draw_figures(builders, run_dir.figures, cores)
-    html.write_report(run_dir.report, summary, rows, run_dir.figures)
+        drawn = draw_figures(builders, run_dir.figures, cores)
+    html.write_report(run_dir.report, summary, rows, run_dir.figures, drawn)
 
 
 def draw_figures(builders, folder, cores=1):
-    """Draw and save ``(name, builder)`` figures, shared out among ``cores`` forked processes.
+    """Draw and save ``(Drawn record, builder)`` figures, shared out among ``cores`` forked processes.
 
     Each process takes the next undrawn figure until none is left, so the
     longest figure (listed first) runs beside all the others.
+
+    Returns
+    -------
+    list of planetfit.report.captions.Drawn
+        The records of the figures drawn (every one: a failed figure raises).
     """
     context = multiprocessing.get_context("fork")
     taken = context.Value("i", 0)
@@ -58,10 +63,10 @@ def draw_figures(builders, folder, cores=1):
                 taken.value += 1
             if k >= len(builders):
                 return
-            name, build = builders[k]
+            drawn, build = builders[k]
             start = time.perf_counter()
-            save_figure(build(), folder, name)
-            log.info("figure %s written (%.1f s)", name, time.perf_counter() - start)
+            save_figure(build(), folder, drawn.stem)
+            log.info("figure %s written (%.1f s)", drawn.stem, time.perf_counter() - start)
 
     helpers = [context.Process(target=work, daemon=True) for _ in range(min(cores, len(builders)) - 1)]
     for process in helpers:
@@ -73,3 +78,4 @@ def draw_figures(builders, folder, cores=1):
             process.join()
     if any(process.exitcode for process in helpers):
         raise RuntimeError(f"a figure failed in a drawing process; the others are in {folder}")
+    return [drawn for drawn, _ in builders]

@@ -61,11 +61,10 @@ def round_uncertain(median, plus, minus):
 
 
 def stat_parts(s):
-    """:func:`round_uncertain` of a summary.json STAT dict (None -> None)."""
-    if s is None or s.get("median") is None:
+    """:func:`round_uncertain` of a :class:`~planetfit.report.summary_types.Stat` (None -> None)."""
+    if s is None or s.median is None:
         return None
-    med = s["median"]
-    return round_uncertain(med, s["upper"] - med, med - s["lower"])
+    return round_uncertain(s.median, s.plus, s.minus)
 
 
 def value_text(s):

@@ -12,29 +12,7 @@ import numpy as np
 from planetfit.context.derived import MASS_KEYS
 from planetfit.core.stats import stat
 from planetfit.report.files import write_text_atomic
-
-STAR_KEYS = ("mass_msun", "radius_rsun", "density_gcc", "teff_k", "age_gyr")
-PLANET_KEYS = (
-    "period_days",
-    "transit_bjd",
-    "radius_ratio",
-    "impact",
-    "inclination_deg",
-    "a_over_rstar",
-    "semi_major_axis_au",
-    "eccentricity",
-    "omega_deg",
-    "rv_amplitude_ms",
-    "mass_earth",
-    "mass_jup",
-    "radius_earth",
-    "radius_jup",
-    "density_gcc",
-    "surface_gravity_ms2",
-    "transit_duration_hr",
-    "equilibrium_temp_k",
-    "insolation_earth",
-)
+from planetfit.report.summary_types import PLANET_KEYS, STAR_KEYS, Summary
 
 
 def build_summary(config, model, derived, blocks, sampling):
@@ -115,8 +93,13 @@ def _clean_json(obj):
     return obj
 
 
+def typed(summary):
+    """The :class:`~planetfit.report.summary_types.Summary` of summary.json content built here (NaN, inf -> null)."""
+    return Summary.from_json(_clean_json(summary))
+
+
 def write_summary_json(path, summary):
-    """Write summary.json (NaN and inf become null)."""
+    """Write a mapping as JSON laid out as summary.json is (NaN and inf become null); ``planetfit plan``'s plan.json."""
     write_text_atomic(path, json.dumps(_clean_json(summary), indent=2) + "\n")
 
 

@@ -8,22 +8,11 @@ import dataclasses
 
 from planetfit.core import quantities as q
 from planetfit.report.rounding import number_text, value_tex
+from planetfit.report.summary_types import PLANET_KEYS, Stat
 
-_PLANET_DERIVED = (
-    "inclination_deg",
-    "a_over_rstar",
-    "semi_major_axis_au",
-    "eccentricity",
-    "omega_deg",
-    "mass_earth",
-    "mass_jup",
-    "radius_earth",
-    "radius_jup",
-    "density_gcc",
-    "surface_gravity_ms2",
-    "transit_duration_hr",
-    "equilibrium_temp_k",
-    "insolation_earth",
+#: Planet quantities of the derived table: summary.json's, less those the fitted table shows.
+_PLANET_DERIVED = tuple(
+    k for k in PLANET_KEYS if k not in ("period_days", "transit_bjd", "radius_ratio", "impact", "rv_amplitude_ms")
 )
 _STAR_FITTED = ("mass_msun", "radius_rsun")
 _STAR_DERIVED = ("density_gcc", "teff_k", "age_gyr")
@@ -50,9 +39,9 @@ _STAR_UNITS = {"mass_msun": ("mass", "M_sun"), "radius_rsun": ("radius", "R_sun"
 
 def star_note(summary):
     """Where the star's mass and radius priors came from, and the density check, as plain sentences ("" if none)."""
-    star = summary["star"]
+    star = summary.star
     parts = []
-    for key, source in (star.get("mass_radius_source") or {}).items():
+    for key, source in (star.mass_radius_source or {}).items():
         label, unit = _STAR_UNITS[key]
         if "intrinsic_scatter" in source:
             parts.append(
@@ -63,7 +52,7 @@ def star_note(summary):
         else:
             parts.append(f"{label} prior {source['prior']} {unit} given in the config")
     text = f"Stellar {'; '.join(parts)}." if parts else ""
-    tension = star.get("density_tension_sigma")
+    tension = star.density_tension_sigma
     if tension is not None:
         text += f" The transit moves the stellar density {tension:.1f} prior sigma from its prior."
     return text.strip()
@@ -105,13 +94,13 @@ class Row:
     quantity: q.Quantity = None
     qualifier: str = ""  # band or dataset a parameter belongs to
     prior: object = None  # Prior, or None for derived quantities
-    stat: dict = None
+    stat: Stat = None
     key: str = ""  # dotted path in summary.json ("" for fixed parameters)
 
     @property
     def prior_only(self):
         """Whether no data constrain the quantity (its posterior is its prior)."""
-        return bool(self.stat and self.stat.get("prior_only"))
+        return bool(self.stat and self.stat.prior_only)
 
     @property
     def label(self):
@@ -123,19 +112,19 @@ class Row:
 
 def _fitted_rows(summary, parameters):
     """Rows of the fitted parameters, by group: the star, each planet, the instruments and bands."""
-    fitted = summary["fitted_parameters"]
+    fitted = summary.fitted_parameters
 
     def row(p):
         if p.prior.fixed:
             v = p.prior.value
-            return Row("", p.quantity, p.qualifier, p.prior, {"median": v, "lower": v, "upper": v})
+            return Row("", p.quantity, p.qualifier, p.prior, Stat(v, v, v))
         return Row("", p.quantity, p.qualifier, p.prior, fitted[p.name], f"fitted_parameters.{p.name}")
 
     rows = [Row("Fitted parameters"), Row("Star")] + [row(p) for p in parameters if p.group == "star"]
-    for pname, planet in summary["planets"].items():
+    for pname, planet in summary.planets.items():
         rows.append(Row(f"Planet {pname}"))
         # A transit-only planet's K is held at 0 so that no mass is sampled: not a value to table.
-        held = {"rv_amplitude_ms"} if planet.get("mass_measured") is False else set()
+        held = {"rv_amplitude_ms"} if planet.mass_measured is False else set()
         rows += [row(p) for p in parameters if p.group == "planet" and p.owner == pname and p.key not in held]
     instruments = [row(p) for p in parameters if p.group == "instrument"]
     return rows + ([Row("Instruments")] + instruments if instruments else [])
@@ -144,19 +133,19 @@ def _fitted_rows(summary, parameters):
 def _derived_rows(summary, priors, eccentric):
     """Rows of the derived quantities (and of the prior-only ones, with their priors)."""
     rows = [Row("Derived parameters"), Row("Star")]
-    star = summary["star"]
+    star = summary.star.stats
     rows += [
         Row("", q.STAR[k], "", priors.get(f"star.{k}"), star[k], f"star.{k}")
         for k in _STAR_FITTED + _STAR_DERIVED
-        if k in star and (k in _STAR_DERIVED or (star[k] or {}).get("prior_only"))
+        if k in star and (k in _STAR_DERIVED or (star[k] and star[k].prior_only))
     ]
-    for pname, p in summary["planets"].items():
+    for pname, p in summary.planets.items():
         rows.append(Row(f"Planet {pname}" + ("" if eccentric[pname] else " (circular orbit)")))
         for k in _PLANET_DERIVED:
-            if p.get(k) is None or (not eccentric[pname] and k in ("eccentricity", "omega_deg")):
+            if p.stat(k) is None or (not eccentric[pname] and k in ("eccentricity", "omega_deg")):
                 continue
-            prior = priors.get(f"{pname}.{k}") if (p[k] or {}).get("prior_only") else None
-            rows.append(Row("", q.planet_quantity(k, p["transits"]), "", prior, p[k], f"planets.{pname}.{k}"))
+            prior = priors.get(f"{pname}.{k}") if p.stat(k).prior_only else None
+            rows.append(Row("", q.planet_quantity(k, p.transits), "", prior, p.stat(k), f"planets.{pname}.{k}"))
         rows += _light_rows(pname, p)
     return rows
 
@@ -168,13 +157,13 @@ _LIGHT_PLANET_DERIVED = ("e_cos_w", "e_sin_w", "eclipse_bjd", "bond_albedo", "he
 def _light_rows(pname, p):
     """Rows of what a planet's fitted light gives (none without ``planet_light``)."""
     rows = []
-    for band, block in (p.get("planet_light") or {}).items():
+    for band, block in (p.planet_light or {}).items():
         key = f"planets.{pname}.planet_light.{band}"
         rows += [
             Row("", q.band_quantity(k, band), "", None, block[k], f"{key}.{k}") for k in _LIGHT_BAND_DERIVED if block[k]
         ]
     return rows + [
-        Row("", q.LIGHT[k], "", None, p[k], f"planets.{pname}.{k}") for k in _LIGHT_PLANET_DERIVED if p.get(k)
+        Row("", q.LIGHT[k], "", None, p.stat(k), f"planets.{pname}.{k}") for k in _LIGHT_PLANET_DERIVED if p.stat(k)
     ]
 
 
@@ -183,8 +172,7 @@ def table_rows(summary, model, star):
 
     Parameters
     ----------
-    summary : dict
-        summary.json content.
+    summary : planetfit.report.summary_types.Summary
     model : Model
         Its parameters (fixed and free, in layout order) and prior-only parameters give labels and priors.
     star : schema.Star
@@ -256,7 +244,7 @@ def _float(caption, label, rows, with_prior, note):
         cells = [_label_tex(row, with_prior)]
         if with_prior:
             cells.append(prior_text(row.prior, tex=True))
-        cells += [value_tex(row.stat) if row.key else f"${number_text(row.stat['median'])}$", row.quantity.unit_tex]
+        cells += [value_tex(row.stat) if row.key else f"${number_text(row.stat.median)}$", row.quantity.unit_tex]
         out.append(" & ".join(cells) + f" \\\\ % {row.key or 'fixed'}")
     out += [
         r"\hline",
@@ -273,8 +261,8 @@ def latex_table(summary, rows):
 
     Standard LaTeX only (tabular, hline, math mode), so it compiles in the common journal classes.
     """
-    system = tex_escape(summary["system"])
-    slug = "".join(c if c.isalnum() else "-" for c in str(summary["system"]).lower())
+    system = tex_escape(summary.system)
+    slug = "".join(c if c.isalnum() else "-" for c in str(summary.system).lower())
     split = next(i for i, r in enumerate(rows) if r.quantity is None and r.heading == "Derived parameters")
     fitted = [r for r in rows[:split] if r.heading != "Fitted parameters"]
     out = [

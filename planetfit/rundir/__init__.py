@@ -20,6 +20,7 @@ import yaml
 from planetfit.core.errors import InputError
 from planetfit.fitting.nested import CHECKPOINT
 from planetfit.report.files import write_text_atomic
+from planetfit.report.summary_types import read_summary
 from planetfit.rundir import lock, manifest
 
 log = logging.getLogger("planetfit")
@@ -44,6 +45,11 @@ RUN_FILES = {
 EXPORTS = {"csv": "export_csv", "json": "export_json", "nc": "posterior_nc"}
 FIGURES = "figures"
 MANIFEST = "manifest.json"
+#: The fix of a folder that is not a finished run.
+FINISHED_FIX = (
+    "give the folder of a finished 'planetfit run' (it holds summary.json, samples.h5 and config.resolved.yaml); "
+    "an interrupted run is finished with 'planetfit run CONFIG --resume --out DIR'."
+)
 _NOT_EMPTY_FIX = "use --resume to continue that run, --force to replace it, or --out for a new folder."
 
 
@@ -90,6 +96,10 @@ class RunDirectory:
     def read_manifest(self):
         """The run's manifest (a dict), or None for a folder without one."""
         return manifest.read(self.manifest)
+
+    def read_summary(self):
+        """The run's summary.json as a :class:`~planetfit.report.summary_types.Summary` (InputError if unreadable)."""
+        return read_summary(self.summary, fix=FINISHED_FIX)
 
     # --- starting a run -------------------------------------------------------------------------------------
 

@@ -114,7 +114,7 @@ def test_rv_only_fit_reports_minimum_mass(tmp_path, no_figures):
     text = config.read_text().replace("    radius_ratio:\n      uniform:\n      - 0.005\n      - 0.1\n", "")
     text = text.replace("    impact:\n      uniform:\n      - 0.0\n      - 1.0\n", "    transits: false\n")
     config.write_text(text)
-    summary = json.loads((pipeline.run(config, quiet=True) / "summary.json").read_text())
+    summary = json.loads((pipeline.run(config, quiet=True).path / "summary.json").read_text())
     b = summary["planets"]["b"]
     assert b["mass_is_minimum"] is True and b["transits"] is False
     assert "radius_earth" not in b
@@ -129,7 +129,7 @@ def test_rv_only_planet_with_an_inclination_prior_gets_its_true_mass(tmp_path):
         "    transits: false\n    inclination_deg: {normal: [60.0, 0.5]}\n",
     )
     config.write_text(text)
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     summary = json.loads((run_dir / "summary.json").read_text())
     b = summary["planets"]["b"]
     assert b["mass_is_minimum"] is False
@@ -151,7 +151,7 @@ def test_transit_only_fit_reports_no_mass(tmp_path, capsys):
     assert "rv_amplitude_ms" not in config.read_text()
     assert main(["check", str(config)]) == 0
     assert "b.rv_amplitude_ms" not in capsys.readouterr().out  # not among the free parameters
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     summary = json.loads((run_dir / "summary.json").read_text())
     b = summary["planets"]["b"]
     assert b["mass_measured"] is False
@@ -169,7 +169,7 @@ def test_transit_only_fit_reports_no_mass(tmp_path, capsys):
 def test_transit_only_run_draws_its_figures(tmp_path):
     # common practice, no published source: a fit without RVs has no mass to plot, and must still draw the rest
     config = write_system(tmp_path, velocities=False, max_steps=200)
-    run_dir = pipeline.run(config, quiet=True)
+    run_dir = pipeline.run(config, quiet=True).path
     names = {p.stem for p in (run_dir / "figures").glob("*.png")}
     assert {"corner_b", "transit_b_cam", "habitable_zone", "convergence"} <= names
     assert "mass_radius" not in names

@@ -78,7 +78,7 @@ def finished_run(tmp_path_factory):
     """A short finished run of the tiny system (no figures): (folder, config, run directory)."""
     folder = tmp_path_factory.mktemp("finished")
     config = write_tiny_system(folder, max_steps=60, walkers=24)
-    return folder, config, pipeline.run(config, quiet=True, figures=False)
+    return folder, config, pipeline.run(config, quiet=True, figures=False).path
 
 
 def test_a_fifo_named_as_data_is_refused_without_waiting(tmp_path):
@@ -116,7 +116,7 @@ def test_plan_with_a_zero_rv_error_says_it_must_be_positive(finished_run):
 
 def test_resume_from_a_zeroed_last_step_is_a_clear_error(tmp_path):
     config = write_tiny_system(tmp_path, max_steps=40, walkers=24)
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     with h5py.File(run_dir / "samples.h5", "a") as fh:
         last = int(fh["chain"].attrs["iteration"]) - 1
         fh["chain"]["chain"][last] = 0.0
@@ -156,7 +156,7 @@ def test_seconds_of_a_resumed_run_count_every_segment(tmp_path, monkeypatch):
     assert chainfile.saved_steps(tmp_path / "run" / "samples.h5") == 30
     monkeypatch.setattr(chainfile.BufferedHDFBackend, "save_step", original)
     start = time.monotonic()
-    run_dir = pipeline.run(config, resume=True, quiet=True, figures=False)
+    run_dir = pipeline.run(config, resume=True, quiet=True, figures=False).path
     second = time.monotonic() - start
     seconds = json.loads((run_dir / "summary.json").read_text())["sampling"]["seconds"]
     assert seconds > second + 2.5  # the first segment's 3 s are counted

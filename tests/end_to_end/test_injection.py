@@ -35,7 +35,7 @@ def test_injected_parameters_are_recovered_within_3_sigma(tmp_path, case):
     # common practice, no published source: a well-calibrated posterior holds the truth within 3 sigma
     seed, planets = CASES[case]
     config = write_system(tmp_path, planets, seed)
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     summary = json.loads((run_dir / "summary.json").read_text())
     for name, p in planets.items():
         got = summary["planets"][name]

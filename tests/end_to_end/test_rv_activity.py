@@ -10,7 +10,7 @@ SEED = 5
 
 
 def fitted(folder, config):
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     return json.loads((run_dir / "summary.json").read_text())
 
 

@@ -25,7 +25,7 @@ def _fit(config_path, star):
     raw = yaml.safe_load(config_path.read_text())
     raw["star"] = star
     config_path.write_text(yaml.safe_dump(raw, sort_keys=False))
-    run_dir = pipeline.run(config_path, quiet=True, figures=False)
+    run_dir = pipeline.run(config_path, quiet=True, figures=False).path
     return run_dir, json.loads((run_dir / "summary.json").read_text())
 
 
@@ -88,7 +88,7 @@ def test_eccentric_planet_fitted_as_circular_raises_the_density_warning(tmp_path
     raw = yaml.safe_load(config.read_text())
     raw["planets"]["b"]["orbit"] = orbit
     config.write_text(yaml.safe_dump(raw, sort_keys=False))
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     summary = json.loads((run_dir / "summary.json").read_text())
     tension = summary["star"]["density_tension_sigma"]
     density_warnings = [w for w in summary["sampling"]["warnings"] if w.startswith("stellar density")]

@@ -73,7 +73,7 @@ def write_ttv_system(folder, amplitude_min, seed, steps=1500):
 
 def _fit(tmp_path, amplitude_min, seed, steps):
     path, truth = write_ttv_system(tmp_path, amplitude_min, seed, steps=steps)
-    run_dir = run(path, quiet=True, figures=False)
+    run_dir = run(path, quiet=True, figures=False).path
     rows = np.genfromtxt(run_dir / "transit_times.csv", delimiter=",", names=True, dtype=None, encoding=None)
     return json.loads((run_dir / "summary.json").read_text())["planets"]["b"], rows, truth
 

@@ -17,7 +17,7 @@ SEED = 101
 
 
 def fit(folder, baseline):
-    run_dir = pipeline.run(write_spotted_star(folder / baseline, SEED, baseline), quiet=True, figures=False)
+    run_dir = pipeline.run(write_spotted_star(folder / baseline, SEED, baseline), quiet=True, figures=False).path
     summary = json.loads((run_dir / "summary.json").read_text())
     best = float(
         emcee.backends.HDFBackend(str(run_dir / "samples.h5"), name="chain", read_only=True).get_log_prob().max()

@@ -160,7 +160,7 @@ def test_a_uniform_prior_cutting_the_posterior_is_warned_about(tmp_path):
     raw = yaml.safe_load(path.read_text())
     raw["velocities"][0]["offset_ms"] = {"uniform": [-50, 4.0]}  # the data say 4 +- 0.4 m/s
     path.write_text(yaml.safe_dump(raw, sort_keys=False))
-    run_dir = pipeline.run(path, quiet=True, figures=False)
+    run_dir = pipeline.run(path, quiet=True, figures=False).path
     summary = json.loads((run_dir / "summary.json").read_text())
     warned = [w for w in summary["sampling"]["warnings"] if "spec.offset_ms reaches the edge" in w]
     assert warned and "linear_parameters: sampled" in warned[0]

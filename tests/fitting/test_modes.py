@@ -44,7 +44,7 @@ def no_figures(monkeypatch):
 @pytest.mark.parametrize("moves", ["differential_evolution", "fitted_proposal"])
 def test_two_period_aliases_are_both_sampled_with_their_weights(tmp_path, moves):
     config = write_two_season_system(tmp_path, moves=moves)
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     s = _sampling(run_dir)
     grid = alias_weights(tmp_path)
     found = _mode_warnings(s)
@@ -72,7 +72,7 @@ def test_walkers_that_never_jump_make_the_run_not_converged(tmp_path, monkeypatc
         sampling, "walker_moves", lambda several_modes=False, proposal=None: [emcee.moves.GaussianMove(steps)]
     )
     config = write_two_season_system(tmp_path, max_steps=1000)
-    s = _sampling(pipeline.run(config, quiet=True, figures=False))
+    s = _sampling(pipeline.run(config, quiet=True, figures=False).path)
     found = _mode_warnings(s)
     assert not s["converged"]
     assert len(found) == 1 and found[0].startswith("b.period_days has ")
@@ -85,7 +85,7 @@ def test_walkers_that_never_jump_make_the_run_not_converged(tmp_path, monkeypatc
 @pytest.mark.parametrize("moves", ["differential_evolution", "fitted_proposal"])
 def test_redraw_and_resume_keep_the_modes(tmp_path, no_figures, moves):
     config = write_two_season_system(tmp_path, max_steps=1500, moves=moves)
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     first = _sampling(run_dir)
     assert _mode_warnings(first)
     pipeline.redraw(run_dir)
@@ -93,7 +93,7 @@ def test_redraw_and_resume_keep_the_modes(tmp_path, no_figures, moves):
     raw = yaml.safe_load(config.read_text())
     raw["sampling"]["max_steps"] = 3000
     config.write_text(yaml.safe_dump(raw, sort_keys=False))
-    resumed = _sampling(pipeline.run(config, resume=True, quiet=True, figures=False))
+    resumed = _sampling(pipeline.run(config, resume=True, quiet=True, figures=False).path)
     assert resumed["steps"] > first["steps"]
     # The modes come from samples.h5: the resumed chain is assigned to the optimiser's same modes.
     assert [round(m["location"], 4) for m in resumed["modes"]] == [round(m["location"], 4) for m in first["modes"]]
@@ -104,7 +104,7 @@ def test_redraw_and_resume_keep_the_modes(tmp_path, no_figures, moves):
 
 
 def test_a_one_mode_system_has_no_mode_warning(tmp_path):
-    s = _sampling(pipeline.run(write_tiny_system(tmp_path), quiet=True, figures=False))
+    s = _sampling(pipeline.run(write_tiny_system(tmp_path), quiet=True, figures=False).path)
     assert not _mode_warnings(s) and s["modes"] == []
 
 

@@ -72,7 +72,7 @@ def test_evidence_of_a_linear_gaussian_model_matches_the_closed_form(tmp_path, n
     # Marginalised, the offset is integrated analytically (flat prior with its 1/width) and dynesty sees K alone.
     t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
     config = write_rv_model(tmp_path, t, rv, {"b": circular()}, live_points=250, linear_parameters=linear)
-    run_dir = pipeline.run(config, quiet=True, figures=False)
+    run_dir = pipeline.run(config, quiet=True, figures=False).path
     s = json.loads((run_dir / "summary.json").read_text())["sampling"]
     expected = closed_form_ln_evidence(t, rv, (0, 40), (-50, 50))
     z = s["ln_evidence"]
@@ -85,7 +85,7 @@ def test_evidence_of_a_linear_gaussian_model_matches_the_closed_form(tmp_path, n
     # squares fit's, approached by the highest of a few thousand points (common practice, no published source).
     assert -0.5 < s["max_log_likelihood"] - _least_squares(t, rv)[2] <= 1e-3  # rounded to 3 decimals
     # The equal-weight samples feed the later stages: the redraw reads them back from samples.h5.
-    assert pipeline.redraw(run_dir)["sampling"]["ln_evidence"] == z
+    assert pipeline.redraw(run_dir).sampling.ln_evidence.to_json() == z
 
 
 @pytest.mark.parametrize(
@@ -156,7 +156,7 @@ def test_two_period_aliases_come_back_with_their_weights(tmp_path):
 def test_an_interrupted_nested_run_resumes_from_its_checkpoint(tmp_path, monkeypatch, no_figures):
     config, t, rv = interrupted_nested_run(tmp_path, monkeypatch, live_points=100, after_calls=1500)
     assert (tmp_path / "run" / nested.CHECKPOINT).exists() and not (tmp_path / "run" / "summary.json").exists()
-    s = json.loads((pipeline.run(config, resume=True, quiet=True, figures=False) / "summary.json").read_text())[
+    s = json.loads((pipeline.run(config, resume=True, quiet=True, figures=False).path / "summary.json").read_text())[
         "sampling"
     ]
     resumed_calls = s["likelihood_calls"]

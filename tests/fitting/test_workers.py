@@ -43,7 +43,7 @@ def test_two_cores_give_the_one_core_posterior(tmp_path, worker_pids):
     config = write_system(tmp_path / "system", n_phot=150, max_steps=200)
     runs = {}
     for cores in (1, 2):
-        run_dir = pipeline.run(config, output=tmp_path / f"cores-{cores}", cores=cores, quiet=True, figures=False)
+        run_dir = pipeline.run(config, output=tmp_path / f"cores-{cores}", cores=cores, quiet=True, figures=False).path
         runs[cores] = json.loads((run_dir / "summary.json").read_text())["planets"]["b"]
     pids = {int(p.name) for p in worker_pids.iterdir()}
     assert len(pids) == 2 and os.getpid() in pids, "the 2-core run must evaluate walkers in this process and one worker"

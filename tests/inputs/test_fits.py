@@ -150,7 +150,7 @@ def test_missing_reference_date_is_refused(tmp_path):
 
 def test_fits_light_curve_fits(two_sectors):
     folder, files, _ = two_sectors
-    run_dir = pipeline.run(config_for(folder, files), quiet=True, figures=False)
+    run_dir = pipeline.run(config_for(folder, files), quiet=True, figures=False).path
     summary = json.loads((run_dir / "summary.json").read_text())
     k = summary["planets"]["b"]["radius_ratio"]
     # common practice, no published source: a calibrated posterior holds the truth within 3 sigma

@@ -197,7 +197,7 @@ def test_mission_bitmasks():
 def test_kepler_and_tess_products_fit(products):
     folder, *_ = products
     path = config_for(folder, {"name": "kepler", "file": "kplr_llc.fits"}, {"name": "tess", "file": "tess_lc.fits"})
-    run_dir = pipeline.run(path, quiet=True, figures=False)
+    run_dir = pipeline.run(path, quiet=True, figures=False).path
     summary = json.loads((run_dir / "summary.json").read_text())
     for name, product in (("kepler", KEPLER), ("tess", TESS)):
         assert summary["data"][name]["dropped_quality"] > 0

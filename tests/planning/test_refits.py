@@ -37,7 +37,7 @@ def old_run(tmp_path_factory):
     t = np.sort(rng.uniform(TRANSIT_BJD - 15, TRANSIT_BJD + 15, 10))
     rv = keplerian_ms(t, K_TRUE) + 3.0 + rng.normal(0, SIGMA_MS, t.size)
     config = write_rv_system(folder, [("old", t, rv, SIGMA_MS)], _planet(), max_steps=3000)
-    return pipeline.run(config, quiet=True, figures=False), (t, rv)
+    return pipeline.run(config, quiet=True, figures=False).path, (t, rv)
 
 
 def _refit(folder, old, truth, rng):
@@ -115,7 +115,7 @@ def test_plan_warns_of_an_unconverged_run_and_a_falling_verdict(old_run):
     # common practice, no published source: a plan on a doubtful run, or one whose verdict gets less
     # decisive with more RVs, says so
     run = load_run(old_run[0])
-    run.summary["sampling"].update(converged=False, modes=[{}, {}])
+    run.summary.sampling.converged, run.summary.sampling.modes = False, [{}, {}]
     planets = {
         "b": {
             "now": {"p_rocky": 0.97},

@@ -8,6 +8,7 @@ from synthetic import write_tiny_system
 
 from planetfit import pipeline
 from planetfit.report import outputs, style
+from planetfit.report.captions import Drawn
 
 
 def _line_figure():
@@ -31,7 +32,7 @@ def _scatter_figure():
 
 @pytest.fixture(scope="session")
 def tiny_run(tmp_path_factory):
-    """The run directory and summary of a tiny fit; its figures are two quick stand-ins for the real ones.
+    """The run directory, summary.json and typed summary of a tiny fit; its figures are two quick stand-ins.
 
     The real figures are drawn (and tested) in test_outputs.py; here the
     report only needs figures of both kinds, SVG and PNG.
@@ -40,6 +41,7 @@ def tiny_run(tmp_path_factory):
     sampling = {"walkers": 24, "max_steps": 200, "check_every": 100, "optimiser_starts": 1}
     config = write_tiny_system(folder, n_phot=150, sampling=sampling)
     with pytest.MonkeyPatch.context() as mp:
-        mp.setattr(outputs, "figure_builders", lambda *args: [("line", _line_figure), ("scatter", _scatter_figure)])
-        run_dir = pipeline.run(config, quiet=True)
-    return {"dir": run_dir, "summary": json.loads((run_dir / "summary.json").read_text())}
+        stand_ins = [(Drawn("line"), _line_figure), (Drawn("scatter"), _scatter_figure)]
+        mp.setattr(outputs, "figure_builders", lambda *args: stand_ins)
+        run = pipeline.run(config, quiet=True)
+    return {"dir": run.path, "summary": json.loads((run.path / "summary.json").read_text()), "typed": run.summary}

@@ -14,6 +14,7 @@ from markupsafe import escape
 from planetfit import pipeline
 from planetfit.report import captions, html, tables
 from planetfit.report.rounding import value_text
+from planetfit.report.summary_types import Stat, Summary
 
 #: The issue's limit on the page's size.
 # common practice, no published source: the project's own bound on one emailable page (its issue asks < 15 MB).
@@ -23,7 +24,7 @@ MAX_REPORT_BYTES = 15_000_000
 @pytest.fixture(scope="module")
 def run(tiny_run):
     """The tiny run (conftest.py), its report as the run wrote it, and the rows of its parameter table."""
-    run_dir, summary = tiny_run["dir"], tiny_run["summary"]
+    run_dir, summary = tiny_run["dir"], tiny_run["typed"]
     checked = pipeline.check(run_dir / "config.resolved.yaml", output=run_dir)
     rows = tables.table_rows(summary, checked.posterior.model, checked.config.star)
     return {**tiny_run, "report": (run_dir / "report.html").read_text(), "rows": rows}
@@ -59,7 +60,7 @@ def test_report_holds_the_system_each_planets_mass_and_radius_and_every_warning(
     assert f"<h1>{summary['system']}</h1>" in page
     for planet in summary["planets"].values():
         for key in ("mass_earth", "radius_earth"):
-            assert f"<b>{value_text(planet[key])}</b>" in page, key
+            assert f"<b>{value_text(Stat.from_json(planet[key]))}</b>" in page, key
     warnings = summary["sampling"]["warnings"]
     assert warnings, "the 200-step tiny run should not have converged"
     for warning in warnings:
@@ -76,20 +77,27 @@ def test_blocks_the_page_has_no_words_for_still_appear(run):
         "band-x": {"eclipse_depth_ppm": {"median": 41.5, "lower": 30.1, "upper": 52.9}}
     }
     summary["sampling"]["ln_evidence"] = {"value": -1234.5, "error": 0.3}
-    page = html.render(summary, run["rows"], run["dir"] / "figures")
+    page = html.render(Summary.from_json(summary), run["rows"], run["dir"] / "figures")
     for text in ("dynamics", "p_hill_stable", "0.931", "planet_light", "eclipse_depth_ppm", "ln_evidence", "-1234"):
         assert text in page, text
-    assert value_text(summary["planets"]["b"]["planet_light"]["band-x"]["eclipse_depth_ppm"]) in page
+    assert value_text(Stat(41.5, 30.1, 52.9)) in page
 
 
 def test_a_run_without_figures_says_so(run, tmp_path):
-    page = html.render(run["summary"], run["rows"], tmp_path / "no-figures")
+    page = html.render(run["typed"], run["rows"], tmp_path / "no-figures")
     assert "No figures were drawn for this run" in page and "<img" not in page
 
 
 def test_figures_are_ordered_for_reading_and_new_ones_keep_a_caption():
-    stems = ["convergence", "corner_sampled", "corner_b", "phase_curve_b", "transit_b_cam", "rv_time"]
-    assert captions.order(stems) == [
+    drawn = [
+        captions.Drawn("convergence"),
+        captions.Drawn("corner_sampled"),
+        captions.Drawn("corner", "b"),
+        captions.Drawn("phase_curve", "b"),
+        captions.Drawn("transit", "b", "cam"),
+        captions.Drawn("rv_time"),
+    ]
+    assert [f.stem for f in captions.order(drawn)] == [
         "transit_b_cam",
         "rv_time",
         "corner_b",
@@ -97,5 +105,7 @@ def test_figures_are_ordered_for_reading_and_new_ones_keep_a_caption():
         "corner_sampled",
         "convergence",
     ]
-    assert captions.caption("transit_b_camera-2min", ["b", "c"]).startswith("Transits of planet b in camera-2min,")
-    assert captions.caption("phase_curve_b", ["b"]) == "Figure phase_curve_b (see figures/phase_curve_b.pdf)."
+    transit = captions.Drawn("transit", "b_1", "camera 2min")  # names that file stems change or make ambiguous
+    assert transit.stem == "transit_b_1_camera_2min"
+    assert transit.caption.startswith("Transits of planet b_1 in camera 2min,")
+    assert captions.Drawn("phase_curve", "b").caption == "Figure phase_curve_b (see figures/phase_curve_b.pdf)."

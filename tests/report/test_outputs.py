@@ -21,6 +21,7 @@ from planetfit import pipeline
 from planetfit.fitting.chainfile import read_chain
 from planetfit.report import outputs, rounding, tables
 from planetfit.report.summary import STAR_KEYS
+from planetfit.report.summary_types import Stat
 
 DEMO = Path(planetfit.__file__).parent / "demo"
 FIGURES = (
@@ -73,7 +74,7 @@ def run(tmp_path_factory):
     with pytest.MonkeyPatch.context() as mp:
         # The fit itself writes the tables only; the redraw below draws every figure.
         mp.setattr(outputs, "figure_builders", lambda *args: [])
-        run_dir = pipeline.run(_small_demo(folder), quiet=True)
+        run_dir = pipeline.run(_small_demo(folder), quiet=True).path
     table_from_fit = (run_dir / "table.tex").read_bytes()
 
     def capture(*args, **kwargs):
@@ -142,7 +143,7 @@ def _lookup(summary, key):
 def _check_printed(printed, stat):
     """Printed value and uncertainties agree with the STAT to the printed precision, two digits on the smaller."""
     value, plus, minus = printed
-    assert rounding.stat_parts(stat) == (value, plus, minus)
+    assert rounding.stat_parts(Stat.from_json(stat)) == (value, plus, minus)
     decimals = len(plus.split(".")[1]) if "." in plus else 0
     half_unit = 0.5 * 10.0**-decimals * (1 + 1e-9)
     med = stat["median"]
@@ -272,7 +273,7 @@ def test_transit_figure_axes_labels_and_depth(parts):
     assert top.get_ylabel() == "Relative flux $-$ 1 [ppm]" and bottom.get_ylabel() == "Residual [ppm]"
     assert bottom.get_xlabel() == "Time from mid-transit [h]"
     model = [line for line in top.get_lines() if line.get_label() == "median model"][0].get_ydata()
-    depth_ppm = parts["summary"]["fitted_parameters"]["b.radius_ratio"]["median"] ** 2 * 1e6
+    depth_ppm = parts["summary"].fitted_parameters["b.radius_ratio"].median ** 2 * 1e6
     # source: Winn (2010, arXiv:1001.2010), eq. 20: depth ~ k^2, deepened up to ~1.3x by limb darkening
     assert 0.8 * depth_ppm < -model.min() < 1.5 * depth_ppm
     assert abs(model[0]) < 1 and abs(model[-1]) < 1  # out of transit at the window edges
@@ -283,7 +284,7 @@ def test_rv_figures_axes_labels_and_amplitude(parts):
         top, bottom = parts["fig"][f"rv_phase_{name}"].axes
         assert top.get_ylabel() == "Radial velocity [m/s]" and bottom.get_xlabel() == "Phase (0 = conjunction)"
         model = [line for line in top.get_lines() if line.get_label() == "median model"][0].get_ydata()
-        k = parts["summary"]["fitted_parameters"][f"{name}.rv_amplitude_ms"]
+        k = parts["summary"].fitted_parameters[f"{name}.rv_amplitude_ms"].to_json()
         # source: Keplerian RV, v = K [cos(f + w) + e cos w]: peak-to-peak is exactly 2K for any e
         assert k["lower"] < (model.max() - model.min()) / 2 < k["upper"]
     fig = parts["fig"]["rv_time"]
@@ -327,7 +328,7 @@ def test_mass_radius_and_habitable_zone_figures(parts):
     left, right = ax.get_xlim()
     assert left > right  # insolation falls to the right
     for name in ("b", "c"):
-        s = parts["summary"]["planets"][name]["insolation_earth"]["median"]
+        s = parts["summary"].planets[name].stat("insolation_earth").median
         assert right < s < left
     assert ax.get_ylabel() == r"Stellar $T_\mathrm{eff}$ [K]"
     assert {"optimistic HZ", "conservative HZ", "planet b", "planet c"} <= {
@@ -338,7 +339,7 @@ def test_mass_radius_and_habitable_zone_figures(parts):
 def test_convergence_figure(parts):
     posterior = parts["posterior"]
     history, chain = read_chain(parts["dir"].samples)
-    assert chain.shape[0] == parts["summary"]["sampling"]["steps"] and history[-1, 0] <= chain.shape[0]
+    assert chain.shape[0] == parts["summary"].sampling.steps and history[-1, 0] <= chain.shape[0]
     fig = parts["fig"]["convergence"]
     assert len(fig.axes) == 4
     assert fig.axes[0].get_ylabel() == "Autocorrelation\ntime [steps]"

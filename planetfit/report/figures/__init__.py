@@ -1,16 +1,18 @@
 """Every figure of a run, one module per figure family.
 
-:func:`figure_builders` lists them; each builder returns a
-:class:`matplotlib.figure.Figure` that the caller saves as PNG and PDF.
+:func:`figure_builders` lists them as (record, builder) pairs: the record
+(:class:`planetfit.report.captions.Drawn`) says what the figure shows and
+names its file; the builder returns a :class:`matplotlib.figure.Figure`
+that the caller saves as PNG and PDF.
 """
 
 from functools import partial
 
 import numpy as np
 
-from planetfit.core.names import file_stem
 from planetfit.fitting import predictions
 from planetfit.fitting.chainfile import read_chain
+from planetfit.report.captions import Drawn
 from planetfit.report.figures.common import PosteriorView
 from planetfit.report.figures.convergence import convergence_figure, physical_chain
 from planetfit.report.figures.corners import physical_corner, sampled_corner
@@ -25,14 +27,14 @@ from planetfit.report.figures.velocity import rv_phase_figure, rv_time_figure
 def _convergence(run_dir, posterior, summary, target_factor):
     history, raw = read_chain(run_dir.samples)
     chain = physical_chain(raw, posterior.layout)
-    return convergence_figure(history, chain, posterior.layout.free, summary["sampling"]["discard"], target_factor)
+    return convergence_figure(history, chain, posterior.layout.free, summary.sampling.discard, target_factor)
 
 
 def _light_builders(posterior, view, summary):
     """The planet-light figure of every dataset whose band carries a planet's light."""
     out = []
     for (band, name), light in posterior.model.lights.items():
-        entry = summary["planets"][name]
+        entry = summary.planets[name]
         for i, d in enumerate(posterior.photometry):
             if d.band == band:
                 build = partial(
@@ -41,40 +43,35 @@ def _light_builders(posterior, view, summary):
                     view,
                     light,
                     i,
-                    entry["eclipse_bjd"]["median"],
-                    entry["transit_duration_hr"]["median"],
+                    entry.stat("eclipse_bjd").median,
+                    entry.stat("transit_duration_hr").median,
                 )
-                out.append((f"planet_light_{file_stem(name)}_{file_stem(d.name)}", build))
+                out.append((Drawn("planet_light", name, d.name), build))
     return out
 
 
 def figure_builders(run_dir, checked, posterior, samples, derived, summary):
-    """``(file stem, builder)`` pairs for every figure of a run, the longest to draw first.
+    """``(Drawn record, builder)`` pairs for every figure of a run, the longest to draw first.
 
     Parameters are those of :func:`planetfit.report.outputs.write_all`.
     """
     view = PosteriorView(posterior, samples, seed=checked.config.seed)
     planets = posterior.planets
     transiting = [p for p in planets if p.transits]
-    out = [("corner_sampled", partial(sampled_corner, derived))]  # ~half of all drawing time
+    out = [(Drawn("corner_sampled"), partial(sampled_corner, derived))]  # ~half of all drawing time
     for p in transiting:
-        duration_hr = summary["planets"][p.name]["transit_duration_hr"]["median"]
+        duration_hr = summary.planets[p.name].stat("transit_duration_hr").median
         for i, d in enumerate(posterior.photometry):
-            out.append(
-                (
-                    f"transit_{file_stem(p.name)}_{file_stem(d.name)}",
-                    partial(transit_figure, posterior, view, p, i, duration_hr),
-                )
-            )
+            out.append((Drawn("transit", p.name, d.name), partial(transit_figure, posterior, view, p, i, duration_hr)))
     out += _light_builders(posterior, view, summary)
     for i, c in enumerate(checked.config.photometry):
         if predictions.has_variability_model(posterior, i) or predictions.has_regressor_trend(posterior, i):
-            out.append((f"light_curve_{file_stem(c.name)}", partial(light_curve_figure, posterior, view, i)))
+            out.append((Drawn("light_curve", dataset=c.name), partial(light_curve_figure, posterior, view, i)))
     if posterior.velocities:
-        out += [(f"rv_phase_{file_stem(p.name)}", partial(rv_phase_figure, posterior, view, p)) for p in planets]
-        out.append(("rv_time", partial(rv_time_figure, posterior, view)))
-    out += [(f"corner_{file_stem(p.name)}", partial(physical_corner, derived, p)) for p in planets]
-    out += [(f"o_minus_c_{file_stem(n)}", partial(o_minus_c_figure, t)) for n, t in derived["transit_times"].items()]
+        out += [(Drawn("rv_phase", p.name), partial(rv_phase_figure, posterior, view, p)) for p in planets]
+        out.append((Drawn("rv_time"), partial(rv_time_figure, posterior, view)))
+    out += [(Drawn("corner", p.name), partial(physical_corner, derived, p)) for p in planets]
+    out += [(Drawn("o_minus_c", n), partial(o_minus_c_figure, t)) for n, t in derived["transit_times"].items()]
     # Planets with a measured mass (a transit-only fit has none) go on the mass-radius diagram.
     weighed = [
         p
@@ -84,10 +81,9 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
         )
     ]
     if weighed:
-        out.append(("mass_radius", partial(mass_radius_figure, derived, weighed)))
-    out.append(("habitable_zone", partial(habitable_zone_figure, derived, planets)))
-    if summary["sampling"].get("method") != "nested":  # a chain's figure; nested sampling has no walkers
-        out.append(
-            ("convergence", partial(_convergence, run_dir, posterior, summary, checked.config.sampling.autocorr_factor))
-        )
+        out.append((Drawn("mass_radius"), partial(mass_radius_figure, derived, weighed)))
+    out.append((Drawn("habitable_zone"), partial(habitable_zone_figure, derived, planets)))
+    if not summary.sampling.nested:  # a chain's figure; nested sampling has no walkers
+        converge = partial(_convergence, run_dir, posterior, summary, checked.config.sampling.autocorr_factor)
+        out.append((Drawn("convergence"), converge))
     return out
