@@ -42,9 +42,9 @@ def run_once(folder, moves, steps, cores):
     config["star"] = star_priors(STAR, 5400)
     Path(path).write_text(yaml.safe_dump(config, sort_keys=False))
     wall, cpu = time.perf_counter(), cpu_seconds()
-    run_dir = pipeline.run(path, quiet=True, figures=False, cores=cores)
+    run_dir = pipeline.run(path, quiet=True, figures=False, cores=cores).path
     wall, cpu = time.perf_counter() - wall, cpu_seconds() - cpu
-    s = json.loads((Path(run_dir) / "summary.json").read_text())["sampling"]
+    s = json.loads((run_dir / "summary.json").read_text())["sampling"]
     keys = ("converged", "steps", "burn_in_steps", "autocorr_steps", "min_bulk_ess", "acceptance_fraction")
     taus = {name: d["autocorr_steps"] for name, d in s["parameter_diagnostics"].items()}
     slowest = dict(sorted(taus.items(), key=lambda item: -item[1])[:3])
