@@ -98,3 +98,14 @@ def test_mode_strings_are_decoded_only_in_the_schema(word):
         if re.search(f"(?<!limb_dark = )[\"']{word}[\"']", p.read_text())
     }
     assert all(p.startswith("inputs/schema/") for p in places), places
+
+
+def test_every_class_name_has_one_meaning():
+    # A schema block and the component or data set built from it must not share a name (issue 25): the schema's
+    # side is called ``...Block`` (``StarBlock`` configures ``Star``).
+    places = {}
+    for path in ROOT.rglob("*.py"):
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, ast.ClassDef) and not node.name.startswith("_"):
+                places.setdefault(node.name, []).append(str(path.relative_to(ROOT)))
+    assert not {name: where for name, where in places.items() if len(where) > 1}

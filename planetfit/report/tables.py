@@ -187,7 +187,7 @@ def table_rows(summary, model, star):
         summary.json content.
     model : Model
         Its parameters (fixed and free, in layout order) and prior-only parameters give labels and priors.
-    star : schema.Star
+    star : schema.StarBlock
         The star's Teff and age priors.
 
     Returns

@@ -40,11 +40,11 @@ EXAMPLES = {
     ("orbit", schema.CircularKeys): dict(_PLANET, orbit="circular"),
     ("orbit", schema.EccentricKeys): dict(_PLANET, orbit="eccentric"),
     ("limb_darkening", schema.QuadraticLaw): {},
-    ("trend", schema.LinearTrend): {"kind": "linear"},
-    ("trend", schema.QuadraticTrend): {"kind": "quadratic"},
-    ("baseline", schema.Photometry): dict(_PHOT),
-    ("baseline", schema.LinearBaseline): dict(_PHOT, baseline="linear"),
-    ("baseline", schema.RegressorBaseline): dict(_PHOT, baseline={"regressors": ["airmass"], "time_degree": 2}),
+    ("trend", schema.LinearTrendBlock): {"kind": "linear"},
+    ("trend", schema.QuadraticTrendBlock): {"kind": "quadratic"},
+    ("baseline", schema.PhotometryBlock): dict(_PHOT),
+    ("baseline", schema.LinearBaselineBlock): dict(_PHOT, baseline="linear"),
+    ("baseline", schema.RegressorBaselineBlock): dict(_PHOT, baseline={"regressors": ["airmass"], "time_degree": 2}),
 }
 #: Block classes that are mixins of a full block: the full class the example validates as.
 FULL_CLASS = {
@@ -63,7 +63,7 @@ def _block(family, kind):
 def _build(family, component, block):
     """The component as the model builds it for ``block``."""
     if family == "limb_darkening":
-        photometry = schema.Photometry.model_validate(_PHOT)
+        photometry = schema.PhotometryBlock.model_validate(_PHOT)
         return component("band", photometry.limb_darkening_q1, photometry.limb_darkening_q2)
     if family == "trend":
         return component(block, TIMES)
@@ -165,8 +165,8 @@ class _NoTerm:
 
 def test_contract_fails_on_broken_components():
     with pytest.raises(AssertionError, match="declared twice"):
-        check_component("trend", schema.LinearTrend, _BrokenTrend)
-    broken = _BrokenTrend(_block("trend", schema.LinearTrend), TIMES)
+        check_component("trend", schema.LinearTrendBlock, _BrokenTrend)
+    broken = _BrokenTrend(_block("trend", schema.LinearTrendBlock), TIMES)
     assert isinstance(broken, base.Trend)
     with pytest.raises(AssertionError):
         check_evaluation("trend", broken, np.random.default_rng(7))

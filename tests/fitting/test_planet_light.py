@@ -13,7 +13,7 @@ from planetfit.core.eclipse import eclipse_bjd
 from planetfit.fitting.components.light import PlanetLight, PlanetLightTerm, star_terms_ppm
 from planetfit.fitting.components.transit import TransitLightCurve
 from planetfit.fitting.keplerian import periastron_bjd
-from planetfit.inputs.schema import PlanetLight as PlanetLightBlock
+from planetfit.inputs.schema import PlanetLightBlock
 
 N_RADIAL = 20000  # grid points across the chord of each disk
 
