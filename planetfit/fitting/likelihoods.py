@@ -77,7 +77,7 @@ class LinearMean:
         return beta, self.marginal.edge_mass(gram), clipped
 
 
-class PhotometryModel(LinearMean):
+class PhotometryLikelihood(LinearMean):
     """A light curve's model: baseline, flux-deficit terms (transits) and dilution.
 
     Parameters
@@ -155,10 +155,10 @@ class PhotometryModel(LinearMean):
         return out
 
 
-class SummedPhotometryModel(PhotometryModel):
+class SummedPhotometryLikelihood(PhotometryLikelihood):
     """A light curve with fixed white noise, scored from precomputed sums plus the points inside the windows.
 
-    Parameters are those of :class:`PhotometryModel`, and ``sums``:
+    Parameters are those of :class:`PhotometryLikelihood`, and ``sums``:
     :class:`~planetfit.fitting.components.noise.SumsOfSquares` of the data and baseline basis.
     """
 
@@ -185,7 +185,7 @@ class SummedPhotometryModel(PhotometryModel):
         return gram, np.full(len(gram), self.sums.constant)
 
 
-class VelocityModel(LinearMean):
+class VelocityLikelihood(LinearMean):
     """Every spectrograph's RVs: Keplerians of all planets, trend, indicator terms, offsets and noise.
 
     Parameters

@@ -27,7 +27,7 @@ from planetfit.fitting.components.registry import component_for
 from planetfit.fitting.components.timing import individual_transit_times
 from planetfit.fitting.components.transit import LIMB_DARKENING, TransitLightCurve, TransitTerm
 from planetfit.fitting.components.velocity import TRENDS, Spectrograph
-from planetfit.fitting.likelihoods import PhotometryModel, SummedPhotometryModel, VelocityModel
+from planetfit.fitting.likelihoods import PhotometryLikelihood, SummedPhotometryLikelihood, VelocityLikelihood
 from planetfit.fitting.linear import marginalisable
 from planetfit.fitting.parameters import Parameter, ParameterLayout
 from planetfit.inputs import schema
@@ -41,8 +41,8 @@ class Model:
     star: Star
     planets: list
     bands: dict  # band name -> limb-darkening component
-    photometry: list  # one PhotometryModel per photometric dataset
-    velocity: VelocityModel  # all RVs, or None
+    photometry: list  # one PhotometryLikelihood per photometric dataset
+    velocity: VelocityLikelihood  # all RVs, or None
     layout: ParameterLayout
     prior_only: list  # Parameters drawn from their priors, never sampled
     exposures: dict  # photometric dataset -> its sub-exposure choice (supersample, error_ppm, warning)
@@ -81,14 +81,14 @@ def _photometry(block, data, baseline, terms, kernel, owns_kernel):
     params = baseline.parameters + [jitter] + ([dilution] if diluted else [])
     if kernel is not None:
         noise = GaussianProcessNoise(data.time, data.error, kernel, [jitter], PPM)
-        return PhotometryModel(data, baseline, terms, dilution, noise), params + (
+        return PhotometryLikelihood(data, baseline, terms, dilution, noise), params + (
             kernel.parameters if owns_kernel else []
         )
     noise = WhiteNoise(data.error, [jitter], PPM)
     if noise.fixed and all(t.sparse for t in terms):
         sums = SumsOfSquares(data.flux, baseline.basis, noise)
-        return SummedPhotometryModel(data, baseline, terms, dilution, noise, sums), params
-    return PhotometryModel(data, baseline, terms, dilution, noise), params
+        return SummedPhotometryLikelihood(data, baseline, terms, dilution, noise, sums), params
+    return PhotometryLikelihood(data, baseline, terms, dilution, noise), params
 
 
 def _kernel(block, kernels):
@@ -153,7 +153,7 @@ def _velocity_model(config, velocities, planets):
             groups=groups[order],
             amplitudes=[s.activity_amplitude for s in spectrographs],
         )
-    return VelocityModel(velocities, spectrographs, planets, trend, noise, order)
+    return VelocityLikelihood(velocities, spectrographs, planets, trend, noise, order)
 
 
 def build_model(config, photometry, velocities):
