@@ -148,7 +148,7 @@ def fit_one(args):
         samples = post.complete(result.samples, seed)[0]  # the marginalised linear parameters drawn back in
         derived = physics.derive(config, post.model, samples, rng)["planets"]["b"]
     true_values = {
-        "mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
+        "mass_earth": orbits["b"].mass_kg / M_EARTH_KG,
         "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
         "rv_amplitude_ms": values["b.rv_amplitude_ms"],
         "radius_ratio": values["b.radius_ratio"],

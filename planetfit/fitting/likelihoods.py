@@ -30,7 +30,7 @@ class Batch:
     """A batch of walkers with physical orbits: each one's parameter values and solved orbits, as floats."""
 
     rows: list  # per walker: {name: float}
-    orbit_rows: list  # per walker: {planet name: {quantity: float}}
+    orbit_rows: list  # per walker: {planet name: SolvedOrbit of floats}
 
 
 class LinearMean:
@@ -213,7 +213,7 @@ class VelocityLikelihood(LinearMean):
         for p in self.planets:
             o = orbits[p.name]
             model += radial_velocity_ms(
-                times, values[p.period.name], o["periastron_bjd"], o["e"], o["omega_rad"], values[p.amplitude.name]
+                times, values[p.period.name], o.periastron_bjd, o.eccentricity, o.omega_rad, values[p.amplitude.name]
             )
         return model
 

@@ -32,17 +32,17 @@ class HillStabilityPrior:
     def _mass_and_axis(self, planet, values, orbit):
         """(mass, semi-major axis) in kg and m for parameter value arrays."""
         if planet.transits:
-            return orbit["mass_kg"], orbit["a_over_rstar"] * values[self.star.radius.name] * R_SUN_M
+            return orbit.mass_kg, orbit.a_over_rstar * values[self.star.radius.name] * R_SUN_M
         mstar = values[self.star.mass.name] * M_SUN_KG
         per = values[planet.period.name]
-        mass = planet_mass_kg(values[planet.amplitude.name], per, orbit["e"], 1.0, mstar)
+        mass = planet_mass_kg(values[planet.amplitude.name], per, orbit.eccentricity, 1.0, mstar)
         return mass, semi_major_axis_m(per, mstar + mass)
 
     def allowed(self, values, orbits):
         """Whether every adjacent pair is Hill stable (a boolean array for array values)."""
         mstar = values[self.star.mass.name] * M_SUN_KG
         ok = True
-        bodies = [(*self._mass_and_axis(p, values, orbits[p.name]), orbits[p.name]["e"]) for p in self.planets]
+        bodies = [(*self._mass_and_axis(p, values, orbits[p.name]), orbits[p.name].eccentricity) for p in self.planets]
         for (m1, a1, e1), (m2, a2, e2) in zip(bodies, bodies[1:]):
             with np.errstate(divide="ignore", invalid="ignore"):
                 margin = hill_margin(mstar, m1, m2, a1, a2, e1, e2)
