@@ -12,7 +12,6 @@ import math
 import numpy as np
 
 from planetfit.fitting.components.orbits import SolvedOrbit
-from planetfit.fitting.components.stability import HillStabilityPrior
 from planetfit.fitting.likelihoods import Batch
 from planetfit.fitting.linear import edge_warnings
 from planetfit.fitting.model import build_model
@@ -72,8 +71,6 @@ class JointPosterior:
         self.layout = self.model.sampled_layout  # what the samplers move; model.layout has every parameter
         self.planets = self.model.planets
         self.photometry, self.velocities = photometry, velocities
-        hill = config.dynamics.hill_prior and len(self.planets) > 1
-        self.stability = HillStabilityPrior(self.planets, self.model.star) if hill else None
 
     def __call__(self, theta):
         return float(self.log_prob_many(np.reshape(theta, (1, -1)))[0])
@@ -84,8 +81,8 @@ class JointPosterior:
         physical = True
         for p in self.planets:
             physical = physical & p.physical(values, orbits[p.name])
-        if self.stability is not None:
-            physical = physical & self.stability.allowed(values, orbits)
+        if self.model.stability is not None:
+            physical = physical & self.model.stability.allowed(values, orbits)
         return orbits, physical
 
     def orbits(self, values):

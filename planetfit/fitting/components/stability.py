@@ -14,6 +14,7 @@ import numpy as np
 from planetfit.core.geometry import planet_mass_kg, semi_major_axis_m
 from planetfit.core.stability import hill_margin
 from planetfit.core.units import M_SUN_KG, R_SUN_M
+from planetfit.inputs import schema
 
 
 class HillStabilityPrior:
@@ -28,6 +29,7 @@ class HillStabilityPrior:
     def __init__(self, planets, star):
         self.planets = sorted(planets, key=lambda p: p.period.prior.centre)
         self.star = star
+        self.parameters = []  # none of its own: it constrains the star's and the planets'
 
     def _mass_and_axis(self, planet, values, orbit):
         """(mass, semi-major axis) in kg and m for parameter value arrays."""
@@ -48,3 +50,6 @@ class HillStabilityPrior:
                 margin = hill_margin(mstar, m1, m2, a1, a2, e1, e2)
             ok = ok & ((margin > 1) | (m1 + m2 == 0))
         return ok
+
+
+STABILITY_PRIORS = {schema.Dynamics: HillStabilityPrior}
