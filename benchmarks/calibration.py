@@ -151,7 +151,7 @@ def fit_one(args):
         # The RV offset is marginalised while sampling and drawn from its conditional afterwards.
         derived = dict(quantities["planets"]["b"], offset_ms=quantities["parameters"]["spec.offset_ms"])
     true_values = {
-        "mass_earth": orbits["b"]["mass_kg"] / M_EARTH_KG,
+        "mass_earth": orbits["b"].mass_kg / M_EARTH_KG,
         "radius_earth": values["b.radius_ratio"] * values["star.radius_rsun"] * R_SUN_M / R_EARTH_M,
         "rv_amplitude_ms": values["b.rv_amplitude_ms"],
         "radius_ratio": values["b.radius_ratio"],

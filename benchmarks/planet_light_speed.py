@@ -38,16 +38,16 @@ def kernel_calls(post, theta):
     per, t0, k = v["b.period_days"], v["b.transit_bjd"], v["b.radius_ratio"]
     u1, u2 = quadratic_coefficients(v["camera.limb_darkening_q1"], v["camera.limb_darkening_q2"])
     lc = post.model.photometry[0].terms[0].light_curve
-    sin_i, inc = math.sqrt(1 - o["cos_i"] ** 2), math.acos(o["cos_i"])
-    a_m = o["a_over_rstar"] * v["star.radius_rsun"] * R_SUN_M
-    half = lc.half_window_days(per, o["a_over_rstar"], k, sin_i, o["e"], o["omega_rad"])
-    t_ecl = float(eclipse_bjd(t0, per, o["e"], o["omega_rad"], a_m, sin_i))
-    delay = float(light_travel_delay_days(a_m, o["e"], o["omega_rad"], sin_i))
+    sin_i, inc = math.sqrt(1 - o.cos_i**2), math.acos(o.cos_i)
+    a_m = o.a_over_rstar * v["star.radius_rsun"] * R_SUN_M
+    half = lc.half_window_days(per, o.a_over_rstar, k, sin_i, o.eccentricity, o.omega_rad)
+    t_ecl = float(eclipse_bjd(t0, per, o.eccentricity, o.omega_rad, a_m, sin_i))
+    delay = float(light_travel_delay_days(a_m, o.eccentricity, o.omega_rad, sin_i))
     calls = []
     for centre, shift, kind in ((t0, 0.0, 1), (t_ecl, delay, 2)):
         idx = lc.window(per, centre, half)
         t = (lc.times[idx, None] - shift + lc.offsets[None, :]).ravel()
-        calls.append((kind, (t, t0, per, o["a_over_rstar"], inc, o["e"], o["omega_rad"], kind, 1), k, u1, u2))
+        calls.append((kind, (t, t0, per, o.a_over_rstar, inc, o.eccentricity, o.omega_rad, kind, 1), k, u1, u2))
     return calls
 
 

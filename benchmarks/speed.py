@@ -326,10 +326,10 @@ def kernel_calls(post, theta):
         for p, lc in ((t.planet, t.light_curve) for t in model.terms):
             o, n = orbits[p.name], p.name
             per, t0, k = v[f"{n}.period_days"], v[f"{n}.transit_bjd"], v[f"{n}.radius_ratio"]
-            sin_i = math.sqrt(1 - o["cos_i"] ** 2)
-            idx = lc.window(per, t0, lc.half_window_days(per, o["a_over_rstar"], k, sin_i, o["e"], o["omega_rad"]))
+            sin_i = math.sqrt(1 - o.cos_i**2)
+            idx = lc.window(per, t0, lc.half_window_days(per, o.a_over_rstar, k, sin_i, o.eccentricity, o.omega_rad))
             t = (lc.times[idx, None] + lc.offsets[None, :]).ravel()
-            calls.append((t, t0, per, o["a_over_rstar"], math.acos(o["cos_i"]), o["e"], o["omega_rad"], k, u1, u2))
+            calls.append((t, t0, per, o.a_over_rstar, math.acos(o.cos_i), o.eccentricity, o.omega_rad, k, u1, u2))
     return calls
 
 

@@ -130,3 +130,48 @@ def test_summary_json_is_parsed_in_one_module():
     places = _summary_reads(ROOT)
     assert all(p.startswith(SUMMARY_PARSER + ":") for p in places), places
     assert "json.loads(" in (ROOT / SUMMARY_PARSER).read_text()
+
+
+def test_every_class_name_has_one_meaning():
+    # A schema block and the component or data set built from it must not share a name (issue 25): the schema's
+    # side is called ``...Block`` (``StarBlock`` configures ``Star``).
+    places = {}
+    for path in ROOT.rglob("*.py"):
+        for node in ast.walk(ast.parse(path.read_text())):
+            if isinstance(node, ast.ClassDef) and not node.name.startswith("_"):
+                places.setdefault(node.name, []).append(str(path.relative_to(ROOT)))
+    assert not {name: where for name, where in places.items() if len(where) > 1}
+
+
+def test_every_package_says_what_it_owns():
+    folders = {p.parent for p in ROOT.rglob("*.py")}
+    missing = [str(f.relative_to(ROOT.parent)) for f in folders if not (f / "__init__.py").is_file()]
+    assert not missing, f"folders of modules without an __init__.py (and its docstring): {missing}"
+    for init in ROOT.rglob("__init__.py"):
+        doc = ast.get_docstring(ast.parse(init.read_text())) or ""
+        assert len(doc.split()) >= 8 and "placeholder" not in doc.lower(), f"{init}: say what the package owns"
+
+
+#: Files named in DEVELOPERS.md: a path from the repository or the package (``tests/...``, ``fitting/model.py``,
+#: a folder ``report/``) or, in a row of its table, from the folder of the row's first path (``fitting/mcmc.py``,
+#: ``ess.py``).
+_FILE_NAME = re.compile(r"`([\w.-]+(?:/[\w.-]+)*(?:\.py|\.j2|/))`")
+
+
+def _named_paths(text):
+    """(name, folders it may be in) of every file or folder DEVELOPERS.md names."""
+    for line in text.splitlines():
+        names = _FILE_NAME.findall(line)
+        first = _FILE_NAME.findall(line.split("|")[1]) if line.startswith("| `") else []
+        base = (ROOT / first[0]) if first and first[0].endswith("/") else (ROOT / first[0]).parent if first else None
+        for name in names:
+            if base is not None or "/" in name:  # a bare name in prose has no folder to look in
+                yield name, [ROOT.parent, ROOT] + ([base] if base is not None else [])
+
+
+def test_developer_notes_name_only_files_that_exist():
+    text = (ROOT.parent / "DEVELOPERS.md").read_text()
+    named = list(_named_paths(text))
+    assert len(named) > 50, "the notes' table was not found"
+    missing = [name for name, folders in named if not any((f / name).exists() for f in folders)]
+    assert not missing, f"DEVELOPERS.md names files that do not exist: {missing}"

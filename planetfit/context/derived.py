@@ -97,8 +97,8 @@ def _planet(planet, values, star, mstar_msun, rstar_rsun):
     """Derived quantities of one planet component from parameter value arrays."""
     per, k_ms = values[planet.period.name], values[planet.amplitude.name]
     orbit = planet.solve(values, star)
-    e = np.broadcast_to(orbit["e"], per.shape)
-    w = np.broadcast_to(orbit["omega_rad"], per.shape)
+    e = np.broadcast_to(orbit.eccentricity, per.shape)
+    w = np.broadcast_to(orbit.omega_rad, per.shape)
     out = {
         "period_days": per,
         "transit_bjd": values[planet.transit_time.name],
@@ -107,8 +107,8 @@ def _planet(planet, values, star, mstar_msun, rstar_rsun):
         "rv_amplitude_ms": k_ms,
     }
     if planet.transits:
-        mass_kg = orbit["mass_kg"]
-        a_r, cos_i = orbit["a_over_rstar"], orbit["cos_i"]
+        mass_kg = orbit.mass_kg
+        a_r, cos_i = orbit.a_over_rstar, orbit.cos_i
         k, b = values[planet.radius_ratio.name], values[planet.impact.name]
         radius_m = k * rstar_rsun * R_SUN_M
         out.update(

@@ -30,7 +30,7 @@ class Batch:
     """A batch of walkers with physical orbits: each one's parameter values and solved orbits, as floats."""
 
     rows: list  # per walker: {name: float}
-    orbit_rows: list  # per walker: {planet name: {quantity: float}}
+    orbit_rows: list  # per walker: {planet name: SolvedOrbit of floats}
 
 
 class LinearMean:
@@ -77,7 +77,7 @@ class LinearMean:
         return beta, self.marginal.edge_mass(gram), clipped
 
 
-class PhotometryModel(LinearMean):
+class PhotometryLikelihood(LinearMean):
     """A light curve's model: baseline, flux-deficit terms (transits) and dilution.
 
     Parameters
@@ -155,10 +155,10 @@ class PhotometryModel(LinearMean):
         return out
 
 
-class SummedPhotometryModel(PhotometryModel):
+class SummedPhotometryLikelihood(PhotometryLikelihood):
     """A light curve with fixed white noise, scored from precomputed sums plus the points inside the windows.
 
-    Parameters are those of :class:`PhotometryModel`, and ``sums``:
+    Parameters are those of :class:`PhotometryLikelihood`, and ``sums``:
     :class:`~planetfit.fitting.components.noise.SumsOfSquares` of the data and baseline basis.
     """
 
@@ -185,7 +185,7 @@ class SummedPhotometryModel(PhotometryModel):
         return gram, np.full(len(gram), self.sums.constant)
 
 
-class VelocityModel(LinearMean):
+class VelocityLikelihood(LinearMean):
     """Every spectrograph's RVs: Keplerians of all planets, trend, indicator terms, offsets and noise.
 
     Parameters
@@ -213,7 +213,7 @@ class VelocityModel(LinearMean):
         for p in self.planets:
             o = orbits[p.name]
             model += radial_velocity_ms(
-                times, values[p.period.name], o["periastron_bjd"], o["e"], o["omega_rad"], values[p.amplitude.name]
+                times, values[p.period.name], o.periastron_bjd, o.eccentricity, o.omega_rad, values[p.amplitude.name]
             )
         return model
 

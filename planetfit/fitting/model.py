@@ -15,21 +15,22 @@ import dataclasses
 
 import numpy as np
 
-from planetfit.core.quantities import DATASET
 from planetfit.core.units import PPM
 from planetfit.fitting.components import exposure
 from planetfit.fitting.components.baselines import BASELINES
 from planetfit.fitting.components.gp import KERNELS, GaussianProcessNoise, RotationKernel
 from planetfit.fitting.components.light import PlanetLight, PlanetLightTerm
 from planetfit.fitting.components.noise import SumsOfSquares, WhiteNoise
+from planetfit.fitting.components.photometry import DILUTIONS, JITTERS
 from planetfit.fitting.components.planets import Planet, Star
 from planetfit.fitting.components.registry import component_for
+from planetfit.fitting.components.stability import STABILITY_PRIORS, HillStabilityPrior
 from planetfit.fitting.components.timing import individual_transit_times
 from planetfit.fitting.components.transit import LIMB_DARKENING, TransitLightCurve, TransitTerm
 from planetfit.fitting.components.velocity import TRENDS, Spectrograph
-from planetfit.fitting.likelihoods import PhotometryModel, SummedPhotometryModel, VelocityModel
+from planetfit.fitting.likelihoods import PhotometryLikelihood, SummedPhotometryLikelihood, VelocityLikelihood
 from planetfit.fitting.linear import marginalisable
-from planetfit.fitting.parameters import Parameter, ParameterLayout
+from planetfit.fitting.parameters import ParameterLayout
 from planetfit.inputs import schema
 from planetfit.inputs.bands import band_of
 
@@ -41,14 +42,15 @@ class Model:
     star: Star
     planets: list
     bands: dict  # band name -> limb-darkening component
-    photometry: list  # one PhotometryModel per photometric dataset
-    velocity: VelocityModel  # all RVs, or None
+    photometry: list  # one PhotometryLikelihood per photometric dataset
+    velocity: VelocityLikelihood  # all RVs, or None
     layout: ParameterLayout
     prior_only: list  # Parameters drawn from their priors, never sampled
     exposures: dict  # photometric dataset -> its sub-exposure choice (supersample, error_ppm, warning)
     warnings: list  # of building the model (too few sub-exposures)
     lights: dict = dataclasses.field(default_factory=dict)  # (band, planet name) -> PlanetLight
     sampled_layout: ParameterLayout = None  # ``layout`` without the linear parameters marginalised analytically
+    stability: HillStabilityPrior = None  # the prior that the system be Hill stable, or None
 
     @property
     def likelihoods(self):
@@ -75,20 +77,19 @@ def _photometry(block, data, baseline, terms, kernel, owns_kernel):
 
     Fixed white noise with sparse terms is scored from sums.
     """
-    jitter = Parameter(block.name, "jitter_ppm", block.jitter_ppm, DATASET["jitter_ppm"])
-    diluted = not (block.dilution.fixed and block.dilution.value == 0.0)
-    dilution = Parameter(block.name, "dilution", block.dilution, DATASET["dilution"]) if diluted else None
-    params = baseline.parameters + [jitter] + ([dilution] if diluted else [])
+    jitter = component_for(block, JITTERS)(block)
+    dilution = component_for(block, DILUTIONS)(block)
+    params = baseline.parameters + jitter.parameters + dilution.parameters
     if kernel is not None:
-        noise = GaussianProcessNoise(data.time, data.error, kernel, [jitter], PPM)
-        return PhotometryModel(data, baseline, terms, dilution, noise), params + (
+        noise = GaussianProcessNoise(data.time, data.error, kernel, jitter.parameters, PPM)
+        return PhotometryLikelihood(data, baseline, terms, dilution.parameter, noise), params + (
             kernel.parameters if owns_kernel else []
         )
-    noise = WhiteNoise(data.error, [jitter], PPM)
+    noise = WhiteNoise(data.error, jitter.parameters, PPM)
     if noise.fixed and all(t.sparse for t in terms):
         sums = SumsOfSquares(data.flux, baseline.basis, noise)
-        return SummedPhotometryModel(data, baseline, terms, dilution, noise, sums), params
-    return PhotometryModel(data, baseline, terms, dilution, noise), params
+        return SummedPhotometryLikelihood(data, baseline, terms, dilution.parameter, noise, sums), params
+    return PhotometryLikelihood(data, baseline, terms, dilution.parameter, noise), params
 
 
 def _kernel(block, kernels):
@@ -153,7 +154,7 @@ def _velocity_model(config, velocities, planets):
             groups=groups[order],
             amplitudes=[s.activity_amplitude for s in spectrographs],
         )
-    return VelocityModel(velocities, spectrographs, planets, trend, noise, order)
+    return VelocityLikelihood(velocities, spectrographs, planets, trend, noise, order)
 
 
 def build_model(config, photometry, velocities):
@@ -166,8 +167,10 @@ def build_model(config, photometry, velocities):
     lights = _lights(config, planets)
     bands, phot = _photometry_models(config, photometry, planets, star, lights)
     rv = _velocity_model(config, velocities, planets)
+    hill = config.dynamics.hill_prior and len(planets) > 1
+    stability = component_for(config.dynamics, STABILITY_PRIORS)(planets, star) if hill else None
     # The star enters through a/R* of a transiting planet, or through the masses of a Hill-stability prior.
-    transits = any(p.transits for p in planets) or (config.dynamics.hill_prior and len(planets) > 1)
+    transits = any(p.transits for p in planets) or stability is not None
     params = list(star.parameters) if transits else []
     params += [q for p in planets for q in p.parameters]
     params += [q for ld in bands.values() for q in ld.parameters]
@@ -200,4 +203,5 @@ def build_model(config, photometry, velocities):
         warnings,
         lights,
         ParameterLayout(q for q in layout.parameters.values() if q.name not in marginalised),
+        stability,
     )

@@ -6,11 +6,12 @@ unphysical orbits rejected, then the sum of every dataset's likelihood
 (:mod:`planetfit.fitting.likelihoods`).
 """
 
+import dataclasses
 import math
 
 import numpy as np
 
-from planetfit.fitting.components.stability import HillStabilityPrior
+from planetfit.fitting.components.orbits import SolvedOrbit
 from planetfit.fitting.likelihoods import Batch
 from planetfit.fitting.linear import edge_warnings
 from planetfit.fitting.model import build_model
@@ -21,13 +22,25 @@ from planetfit.fitting.workers import WorkerProcesses
 LINEAR_BATCH = 100
 
 
+def _table(columns, n):
+    """Lists of Python floats, one per row, from length-``n`` arrays and scalars (the columns)."""
+    table = np.empty((n, len(columns)))
+    for j, column in enumerate(columns):
+        table[:, j] = column
+    return table.tolist()
+
+
 def _rows(columns, n):
     """Dicts of Python floats, one per row, from a dict of length-``n`` arrays and scalars."""
     keys = list(columns)
-    table = np.empty((n, len(keys)))
-    for j, key in enumerate(keys):
-        table[:, j] = columns[key]
-    return [dict(zip(keys, row)) for row in table.tolist()]
+    return [dict(zip(keys, row)) for row in _table([columns[k] for k in keys], n)]
+
+
+def _orbit_rows(orbit, n):
+    """One :class:`SolvedOrbit` of Python floats per row, from a batch's orbit."""
+    # The fields a planet lacks (None: a/R*, cos i, mass without a transit) are the last ones.
+    columns = [getattr(orbit, f.name) for f in dataclasses.fields(SolvedOrbit)]
+    return [SolvedOrbit(*row) for row in _table([c for c in columns if c is not None], n)]
 
 
 def _draw_batch(posterior, thetas, seed, index):
@@ -58,8 +71,6 @@ class JointPosterior:
         self.layout = self.model.sampled_layout  # what the samplers move; model.layout has every parameter
         self.planets = self.model.planets
         self.photometry, self.velocities = photometry, velocities
-        hill = config.dynamics.hill_prior and len(self.planets) > 1
-        self.stability = HillStabilityPrior(self.planets, self.model.star) if hill else None
 
     def __call__(self, theta):
         return float(self.log_prob_many(np.reshape(theta, (1, -1)))[0])
@@ -70,12 +81,12 @@ class JointPosterior:
         physical = True
         for p in self.planets:
             physical = physical & p.physical(values, orbits[p.name])
-        if self.stability is not None:
-            physical = physical & self.stability.allowed(values, orbits)
+        if self.model.stability is not None:
+            physical = physical & self.model.stability.allowed(values, orbits)
         return orbits, physical
 
     def orbits(self, values):
-        """Per planet orbit dict for one set of parameter values, or None if any orbit is unphysical."""
+        """{planet name: SolvedOrbit} for one set of parameter values, or None if any orbit is unphysical."""
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             orbits, physical = self.solve(values)
         return orbits if bool(physical) else None
@@ -96,7 +107,7 @@ class JointPosterior:
             orbits, physical = self.solve(values)
             good = np.flatnonzero(np.broadcast_to(physical, rows.shape))
             value_rows = _rows(values, rows.size)
-            orbit_rows = {name: _rows(orbit, rows.size) for name, orbit in orbits.items()}
+            orbit_rows = {name: _orbit_rows(orbit, rows.size) for name, orbit in orbits.items()}
         batch = Batch([value_rows[j] for j in good], [{name: o[j] for name, o in orbit_rows.items()} for j in good])
         return lp, rows[good], batch if good.size else None
 

@@ -214,11 +214,11 @@ def _rounded_normal(draws):
 
 
 def relation_priors(star, scatter=True, needed=("mass_msun", "radius_rsun")):
-    """Normal mass and radius priors for ``star`` (a schema ``Star``) from the relation its inputs select.
+    """Normal mass and radius priors for ``star`` (a schema ``StarBlock``) from the relation its inputs select.
 
     Parameters
     ----------
-    star : schema.Star
+    star : schema.StarBlock
         ``teff_k`` and, for FGK stars, ``logg_cgs`` and ``feh_dex``; for M dwarfs ``parallax_mas`` and ``mag_k``.
     scatter : bool
         Include the relation's intrinsic scatter (False only to measure what it adds).

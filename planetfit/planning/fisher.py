@@ -73,7 +73,7 @@ def mass_radius_gradients(planet, star, moved, names):
     return gradient(q["mass_earth"]), (gradient(q["radius_earth"]) if "radius_earth" in q else None)
 
 
-class NoiseModel:
+class PlannedRvNoise:
     """Covariance of the new RVs: white (error^2 + jitter^2) plus, optionally, the run's activity process.
 
     Parameters

@@ -148,7 +148,7 @@ class Forecaster:
     model: object
     values: dict
     coords: Coordinates
-    noise: object  # fisher.NoiseModel
+    noise: object  # fisher.PlannedRvNoise
     window_bjd: tuple
     per_night: int
     reweighting: Reweighting = None

@@ -7,7 +7,7 @@ import numpy as np
 
 from planetfit.planning import outputs, plan
 from planetfit.planning.run import load_run
-from planetfit.report.summary_types import Sampling
+from planetfit.report.summary_types import SamplingFacts
 from planetfit.rundir import RunDirectory, require_writable
 
 #: Default observing window: it opens this many days after the run's last data point and lasts this long.
@@ -32,7 +32,7 @@ def resolve_window(window, last_bjd):
 def plan_warnings(run, planets, window, last_bjd):
     """The plan's warnings: the run's state, what the plan cannot model, and a decisiveness that falls."""
     out = []
-    sampling = run.summary.sampling if run.summary is not None else Sampling()
+    sampling = run.summary.sampling if run.summary is not None else SamplingFacts()
     if sampling.converged is False:
         out.append("The run did not converge: its posterior, and so this plan, is not reliable.")
     if len(sampling.modes or []) > 1:

@@ -65,6 +65,6 @@ def masses_from_guess(mass_earth, sd_earth, size, rng):
 def amplitudes_ms(planet, star, values, mass_earth):
     """The semi-amplitude each sample's orbit gives a planet of ``mass_earth``, m/s."""
     orbit = planet.solve(values, star)
-    sin_i = np.sqrt(np.clip(1 - orbit["cos_i"] ** 2, 0.0, 1.0))
+    sin_i = np.sqrt(np.clip(1 - orbit.cos_i**2, 0.0, 1.0))
     mstar = values[star.mass.name] * M_SUN_KG
-    return rv_amplitude_ms(mass_earth * M_EARTH_KG, values[planet.period.name], orbit["e"], sin_i, mstar)
+    return rv_amplitude_ms(mass_earth * M_EARTH_KG, values[planet.period.name], orbit.eccentricity, sin_i, mstar)

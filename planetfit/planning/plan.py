@@ -17,7 +17,7 @@ from planetfit.context.interior.composition import rocky_flags
 from planetfit.core.errors import InputError
 from planetfit.core.stats import stat
 from planetfit.planning import forecast, massprior
-from planetfit.planning.fisher import NoiseModel
+from planetfit.planning.fisher import PlannedRvNoise
 from planetfit.planning.schedule import check_window, window_capacity
 
 #: A verdict is decisive when p_rocky is above this or below 1 minus this (the planning question's threshold).
@@ -212,11 +212,11 @@ def default_noise(run, settings):
     """The new RVs' noise model: the settings' error and jitter, plus the run's activity process if it had one."""
     model = run.model
     if model.velocity is None or not model.velocity.noise.correlated:
-        return NoiseModel(settings.rv_error_ms, settings.jitter_ms)
+        return PlannedRvNoise(settings.rv_error_ms, settings.jitter_ms)
     median = {n: (float(np.median(v)) if np.ndim(v) else v) for n, v in run.values.items()}
     term = model.velocity.noise.kernel.term(median)
     amplitude = float(np.median([median[s.activity_amplitude.name] for s in model.velocity.spectrographs]))
-    return NoiseModel(settings.rv_error_ms, settings.jitter_ms, (term, amplitude))
+    return PlannedRvNoise(settings.rv_error_ms, settings.jitter_ms, (term, amplitude))
 
 
 def run_defaults(run):

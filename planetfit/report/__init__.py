@@ -1,1 +1,3 @@
-"""Run outputs: summary.json, summary.md, posterior.csv, tables and figures."""
+"""Run outputs: summary.json and posterior.csv, the LaTeX table and summary.md, figures and their captions,
+report.html, posterior.nc (arviz), ``planetfit export``, the evidence table of ``planetfit compare``; atomic
+writes. Reads samples and derived quantities; imports the stages before it only."""

@@ -21,7 +21,7 @@ from planetfit.report import captions
 from planetfit.report.files import write_text_atomic
 from planetfit.report.rounding import number_text, value_text
 from planetfit.report.style import PNG_DPI
-from planetfit.report.summary_types import Block, Stat
+from planetfit.report.summary_types import Stat, SummaryBlock
 from planetfit.report.tables import NOTE_TEXT, prior_text, star_note
 
 #: Distributions whose versions the page lists (those not installed are left out).
@@ -76,7 +76,7 @@ def display(value):
     """
     if isinstance(value, Stat):
         return value_text(value) + (" (prior only)" if value.prior_only else "")
-    if isinstance(value, Block):
+    if isinstance(value, SummaryBlock):
         value = dict(value.items())
     if isinstance(value, dict):
         return [(str(k), display(v)) for k, v in value.items()]

@@ -113,7 +113,7 @@ def _mapping_of(block):
 
 
 @dataclasses.dataclass(kw_only=True)
-class Block:
+class SummaryBlock:
     """A summary.json block: typed fields, other keys in ``extra``, and the order the keys came in.
 
     A field left None that the block was not read with is not written.
@@ -164,7 +164,7 @@ class Block:
 
 
 @dataclasses.dataclass(kw_only=True)
-class Evidence(Block):
+class Evidence(SummaryBlock):
     """``sampling.ln_evidence`` of a nested-sampling run: ln Z, its error, and a note on what it means."""
 
     value: float
@@ -173,7 +173,7 @@ class Evidence(Block):
 
 
 @dataclasses.dataclass(kw_only=True)
-class Sampling(Block):
+class SamplingFacts(SummaryBlock):
     """``summary.json["sampling"]``: what the sampler did, for emcee walkers or nested sampling."""
 
     converged: bool | None = None
@@ -214,7 +214,7 @@ class Sampling(Block):
 
 
 @dataclasses.dataclass(kw_only=True)
-class Star(Block):
+class StarResults(SummaryBlock):
     """``summary.json["star"]``: the star's STATs (``stats``), where its priors came from, the density check."""
 
     stats: dict = dataclasses.field(default_factory=dict)
@@ -225,7 +225,7 @@ class Star(Block):
 
 
 @dataclasses.dataclass(kw_only=True)
-class Planet(Block):
+class PlanetResults(SummaryBlock):
     """One planet of ``summary.json["planets"]``: its STATs (``stats``), facts and context blocks.
 
     ``stats`` holds every STAT of the planet (the keys of :data:`PLANET_KEYS`,
@@ -252,18 +252,22 @@ class Planet(Block):
 
 
 @dataclasses.dataclass(kw_only=True)
-class Summary(Block):
+class Summary(SummaryBlock):
     """summary.json: the system's name, star, planets, fitted parameters, sampling facts, data and dynamics."""
 
     system: str
-    star: Star
+    star: StarResults
     planets: dict
     fitted_parameters: dict
-    sampling: Sampling
+    sampling: SamplingFacts
     data: dict | None = None
     dynamics: dict | None = None
 
-    DECODERS: ClassVar[dict] = {"star": Star.from_json, "planets": _mapping_of(Planet), "sampling": Sampling.from_json}
+    DECODERS: ClassVar[dict] = {
+        "star": StarResults.from_json,
+        "planets": _mapping_of(PlanetResults),
+        "sampling": SamplingFacts.from_json,
+    }
 
     def to_text(self):
         """summary.json's text."""

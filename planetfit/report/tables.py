@@ -175,7 +175,7 @@ def table_rows(summary, model, star):
     summary : planetfit.report.summary_types.Summary
     model : Model
         Its parameters (fixed and free, in layout order) and prior-only parameters give labels and priors.
-    star : schema.Star
+    star : schema.StarBlock
         The star's Teff and age priors.
 
     Returns

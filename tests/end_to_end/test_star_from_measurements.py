@@ -9,7 +9,7 @@ from synthetic import TINY_TRUTH, planet_truth, true_mass_radius, write_system, 
 
 from planetfit import pipeline
 from planetfit.cli import main
-from planetfit.inputs.schema import Star
+from planetfit.inputs.schema import StarBlock
 from planetfit.inputs.stellar_relations import relation_priors
 
 #: The tiny system's star as a spectrum gives it: Teff 5300 K, log g of its mass and radius (0.90 M_sun,
@@ -61,7 +61,7 @@ def test_planet_recovered_with_the_star_from_teff_logg_feh(tmp_path):
         assert "Torres" in (run_dir / name).read_text(), name
 
     # The same data with the relation's prior made without its intrinsic scatter: narrower radius error bars.
-    bare = relation_priors(Star.model_validate(SPECTROSCOPY), scatter=False)
+    bare = relation_priors(StarBlock.model_validate(SPECTROSCOPY), scatter=False)
     star = dict(SPECTROSCOPY, mass_msun=bare.mass_msun.as_config(), radius_rsun=bare.radius_rsun.as_config())
     _, without = _fit(write_tiny_system(tmp_path / "no_scatter", max_steps=1500), star)
     with_sd, without_sd = _half_width(b["radius_earth"]), _half_width(without["planets"]["b"]["radius_earth"])
@@ -72,7 +72,7 @@ def test_planet_recovered_with_the_star_from_teff_logg_feh(tmp_path):
     )
     # The planet's error bars from these short chains differ by less than their own noise (the relation's
     # scatter widens R* by 13 %, M* by a factor 2.3); what must hold is that the scatter enters the priors.
-    full = relation_priors(Star.model_validate(SPECTROSCOPY))
+    full = relation_priors(StarBlock.model_validate(SPECTROSCOPY))
     assert full.mass_msun.sd > 1.5 * bare.mass_msun.sd and full.radius_rsun.sd > bare.radius_rsun.sd
 
 

@@ -12,6 +12,7 @@ from synthetic import tiny_posterior
 
 from planetfit.core.quantities import DATASET
 from planetfit.fitting.components import base
+from planetfit.fitting.components.planets import Planet, Star
 from planetfit.fitting.components.registry import FAMILIES
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
@@ -30,6 +31,17 @@ UNIT_IN_QUANTITY_ONLY = ("regressor_", "time_power_")
 
 _PHOT = {"name": "d", "file": "d.csv", "exposure_min": 2.0}
 _PLANET = {"period_days": 3.0, "transit_bjd": 2460001.0, "radius_ratio": 0.1, "impact": 0.3}
+#: A Hill-stability prior's system: a transiting planet and one seen only in RVs at a period ratio of 1.2, their
+#: semi-amplitudes spanning masses that pass and fail the criterion.
+_STAR = {"mass_msun": {"normal": [1.0, 0.05]}, "radius_rsun": {"normal": [1.0, 0.05]}, "teff_k": 5800}
+_K = {"loguniform": [0.1, 1000]}
+_PAIR = {
+    "b": (planet_schema.TransitingCircular, dict(_PLANET, rv_amplitude_ms=_K)),
+    "c": (
+        planet_schema.RvOnlyCircular,
+        {"transits": False, "period_days": 3.6, "transit_bjd": 2460001.5, "rv_amplitude_ms": _K},
+    ),
+}
 #: (family, block class) -> raw config block, validated by that class (the real pydantic schema).
 EXAMPLES = {
     ("kernel", schema.OscillatorGP): dict(_PHOT, baseline="gp", gp_kernel="sho"),
@@ -40,11 +52,14 @@ EXAMPLES = {
     ("orbit", schema.CircularKeys): dict(_PLANET, orbit="circular"),
     ("orbit", schema.EccentricKeys): dict(_PLANET, orbit="eccentric"),
     ("limb_darkening", schema.QuadraticLaw): {},
-    ("trend", schema.LinearTrend): {"kind": "linear"},
-    ("trend", schema.QuadraticTrend): {"kind": "quadratic"},
-    ("baseline", schema.Photometry): dict(_PHOT),
-    ("baseline", schema.LinearBaseline): dict(_PHOT, baseline="linear"),
-    ("baseline", schema.RegressorBaseline): dict(_PHOT, baseline={"regressors": ["airmass"], "time_degree": 2}),
+    ("trend", schema.LinearTrendBlock): {"kind": "linear"},
+    ("trend", schema.QuadraticTrendBlock): {"kind": "quadratic"},
+    ("baseline", schema.PhotometryBlock): dict(_PHOT),
+    ("baseline", schema.LinearBaselineBlock): dict(_PHOT, baseline="linear"),
+    ("baseline", schema.RegressorBaselineBlock): dict(_PHOT, baseline={"regressors": ["airmass"], "time_degree": 2}),
+    ("jitter", schema.PhotometryBlock): dict(_PHOT, jitter_ppm={"loguniform": [1, 1000]}),
+    ("dilution", schema.PhotometryBlock): dict(_PHOT, dilution={"uniform": [0, 0.2]}),
+    ("stability_prior", schema.Dynamics): {"stability_prior": "hill"},
 }
 #: Block classes that are mixins of a full block: the full class the example validates as.
 FULL_CLASS = {
@@ -63,13 +78,20 @@ def _block(family, kind):
 def _build(family, component, block):
     """The component as the model builds it for ``block``."""
     if family == "limb_darkening":
-        photometry = schema.Photometry.model_validate(_PHOT)
+        photometry = schema.PhotometryBlock.model_validate(_PHOT)
         return component("band", photometry.limb_darkening_q1, photometry.limb_darkening_q2)
     if family == "trend":
         return component(block, TIMES)
     if family == "baseline":
         rng = np.random.default_rng(1)
         return component(block, types.SimpleNamespace(time=TIMES, regressors={"airmass": rng.uniform(1, 2, N_POINTS)}))
+    if family == "stability_prior":
+        planets = []
+        for name, (kind, raw) in _PAIR.items():
+            planet = kind.model_validate(raw)
+            planet._name = name
+            planets.append(Planet(planet))
+        return component(planets, Star(schema.StarBlock.model_validate(_STAR)))
     return component(block)
 
 
@@ -96,8 +118,23 @@ def check_parameters(component):
             assert p.key.endswith(UNIT_ENDINGS), f"{p.key} has unit {p.quantity.unit_text} but its key names none"
 
 
+def check_orbit_prior(prior, rng, walkers=40):
+    """A batch's verdicts equal the walkers' one by one, and the example system has both."""
+    many = {p.name: p.prior.sample(rng, walkers) for body in (prior.star, *prior.planets) for p in body.parameters}
+    batch = prior.allowed(many, {p.name: p.solve(many, prior.star) for p in prior.planets})
+    assert batch.shape == (walkers,) and batch.any() and not batch.all(), batch
+    for w in range(walkers):
+        one = {name: x[w] for name, x in many.items()}
+        assert prior.allowed(one, {p.name: p.solve(one, prior.star) for p in prior.planets}) == batch[w]
+
+
 def check_evaluation(family, component, rng):
     """Batch evaluation equals one by one; shapes are right."""
+    if family in ("jitter", "dilution"):
+        return  # parameters only: the noise models and likelihoods use them (tests/fitting/test_posterior.py)
+    if family == "stability_prior":
+        check_orbit_prior(component, rng)
+        return
     values = _values(component, rng)
     if family == "kernel":
         tau = np.linspace(0.0, 5.0, 7)
@@ -165,8 +202,8 @@ class _NoTerm:
 
 def test_contract_fails_on_broken_components():
     with pytest.raises(AssertionError, match="declared twice"):
-        check_component("trend", schema.LinearTrend, _BrokenTrend)
-    broken = _BrokenTrend(_block("trend", schema.LinearTrend), TIMES)
+        check_component("trend", schema.LinearTrendBlock, _BrokenTrend)
+    broken = _BrokenTrend(_block("trend", schema.LinearTrendBlock), TIMES)
     assert isinstance(broken, base.Trend)
     with pytest.raises(AssertionError):
         check_evaluation("trend", broken, np.random.default_rng(7))

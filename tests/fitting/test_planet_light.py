@@ -11,9 +11,10 @@ from scipy.optimize import brentq
 
 from planetfit.core.eclipse import eclipse_bjd
 from planetfit.fitting.components.light import PlanetLight, PlanetLightTerm, star_terms_ppm
+from planetfit.fitting.components.orbits import SolvedOrbit
 from planetfit.fitting.components.transit import TransitLightCurve
 from planetfit.fitting.keplerian import periastron_bjd
-from planetfit.inputs.schema import PlanetLight as PlanetLightBlock
+from planetfit.inputs.schema import PlanetLightBlock
 
 N_RADIAL = 20000  # grid points across the chord of each disk
 
@@ -92,13 +93,8 @@ def planetfit_flux(t, s):
     term = PlanetLightTerm(light, lc, SimpleNamespace(radius=SimpleNamespace(name="R")))
     values = {"P": s["per"], "T0": s["t0"], "k": s["k"], "R": s["rstar"]}
     values.update({p.name: p.prior.value for p in light.parameters})
-    orbit = {
-        "e": s["e"],
-        "omega_rad": s["w"],
-        "periastron_bjd": periastron_bjd(s["t0"], s["per"], s["e"], s["w"]),
-        "a_over_rstar": s["a_r"],
-        "cos_i": math.cos(s["inc"]),
-    }
+    periastron = periastron_bjd(s["t0"], s["per"], s["e"], s["w"])
+    orbit = SolvedOrbit(s["e"], s["w"], periastron, a_over_rstar=s["a_r"], cos_i=math.cos(s["inc"]))
     index = np.arange(t.size)
     transit = lc.flux(index, s["per"], s["t0"], s["a_r"], s["inc"], s["e"], s["w"], s["k"], *s["u"])
     return transit - term.deficit(values, orbit)[1]
@@ -151,7 +147,6 @@ def test_star_terms_predicted_from_the_mass():
     term = PlanetLightTerm(light, TransitLightCurve(t, 1e-4, 1), star)
     values = {"P": 3.0, "T0": 0.0, "k": 0.1, "R": 1.0, "M": 1.0, "K": 140.0}
     values.update({p.name: p.prior.value for p in light.parameters})
-    orbit = {"e": 0.0, "omega_rad": math.pi / 2, "periastron_bjd": 0.0, "a_over_rstar": 5.0, "cos_i": 0.0}
-    orbit["mass_kg"] = const.M_jup.value
+    orbit = SolvedOrbit(0.0, math.pi / 2, 0.0, a_over_rstar=5.0, cos_i=0.0, mass_kg=const.M_jup.value)
     flux = term.flux_ppm(values, orbit)
     assert flux == pytest.approx([-ell, ell + beam, -ell], abs=1e-9)

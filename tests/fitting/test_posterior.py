@@ -8,7 +8,7 @@ from scipy import stats
 from synthetic import tiny_posterior, write_tiny_system
 
 from planetfit.fitting import predictions
-from planetfit.fitting.likelihoods import Batch, SummedPhotometryModel
+from planetfit.fitting.likelihoods import Batch, SummedPhotometryLikelihood
 from planetfit.fitting.posterior import JointPosterior
 from planetfit.pipeline import check
 
@@ -38,7 +38,7 @@ def test_in_window_photometric_likelihood_equals_the_dense_gaussian(tmp_path):
     post = tiny_posterior(
         tmp_path, baseline="linear", slope_per_day={"uniform": [-0.01, 0.01]}, dilution=0.2, jitter_ppm=150.0
     )
-    assert isinstance(post.model.photometry[0], SummedPhotometryModel)
+    assert isinstance(post.model.photometry[0], SummedPhotometryLikelihood)
     d = post.photometry[0]
     sd = np.sqrt(d.error**2 + (150e-6) ** 2)
     for theta in prior_draws(post, 8):

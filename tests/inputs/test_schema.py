@@ -98,6 +98,6 @@ def test_defaults_and_variants_of_a_loaded_config(tmp_path):
     (photometry,) = config.photometry
     assert photometry.band_name == "cam" and photometry.baseline == "constant"
     assert photometry.limb_darkening_q1.describe() == "U(0, 1)"
-    assert type(config.rv_trend).__name__ == "QuadraticTrend" and config.rv_trend.curvature_ms_per_day2.lo == -0.01
+    assert type(config.rv_trend).__name__ == "QuadraticTrendBlock" and config.rv_trend.curvature_ms_per_day2.lo == -0.01
     assert config.planets[0].name == "b" and config.velocities[0].path == (tmp_path / "rv.txt").resolve()
     assert config.line("planets.b.period_days") > config.line("planets")

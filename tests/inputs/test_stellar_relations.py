@@ -6,12 +6,12 @@ import pytest
 from pydantic import ValidationError
 
 from planetfit.inputs import stellar_relations as sr
-from planetfit.inputs.schema import Star
+from planetfit.inputs.schema import StarBlock
 
 
 def star(**keys):
     """A validated star block from config spellings."""
-    return Star.model_validate(keys)
+    return StarBlock.model_validate(keys)
 
 
 def logg_of(mass_msun, radius_rsun):

@@ -11,7 +11,7 @@ from planetfit.core.errors import InputError
 from planetfit.core.geometry import planet_mass_kg, rv_amplitude_ms
 from planetfit.core.units import M_EARTH_KG, M_SUN_KG
 from planetfit.planning import forecast, massprior, plan
-from planetfit.planning.fisher import NoiseModel
+from planetfit.planning.fisher import PlannedRvNoise
 from planetfit.planning.job import resolve_window
 from planetfit.planning.run import from_samples
 from planetfit.planning.schedule import NIGHT_HOURS, observation_times
@@ -28,7 +28,7 @@ def _prior_run(config, n=3000, seed=1):
 
 def _plan(run, counts, window, draws=300, mass_guess=None):
     settings = plan.PlanSettings(SIGMA_MS, 0.0, counts, window, draws=draws, mass_guess=mass_guess)
-    return plan.make_plan(run, settings, NoiseModel(SIGMA_MS, 0.0))[0]["b"]
+    return plan.make_plan(run, settings, PlannedRvNoise(SIGMA_MS, 0.0))[0]["b"]
 
 
 def test_sigma_k_of_n_rvs_at_random_phases(tmp_path):
@@ -79,7 +79,7 @@ def test_reweighted_and_gaussian_verdicts_agree(tmp_path):
     coords = forecast.coordinates(run.values, names)
     rng = np.random.default_rng(6)
     forecaster = forecast.Forecaster(
-        run.model, run.values, coords, NoiseModel(SIGMA_MS, 0.0), (TRANSIT_BJD + 10, TRANSIT_BJD + 100), 1,
+        run.model, run.values, coords, PlannedRvNoise(SIGMA_MS, 0.0), (TRANSIT_BJD + 10, TRANSIT_BJD + 100), 1,
         plan._reweighting(run, run.values, coords, rng),
     )  # fmt: skip
     normals = rng.standard_normal((4000, 2))

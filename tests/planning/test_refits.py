@@ -16,7 +16,7 @@ from planetfit import pipeline
 from planetfit.cli import main
 from planetfit.context.derived import derive
 from planetfit.planning import plan
-from planetfit.planning.fisher import NoiseModel
+from planetfit.planning.fisher import PlannedRvNoise
 from planetfit.planning.job import plan_warnings
 from planetfit.planning.run import load_run
 from planetfit.planning.schedule import observation_times
@@ -62,7 +62,7 @@ def test_planner_agrees_with_refits(old_run, tmp_path):
     run_dir, old = old_run
     run = load_run(run_dir)
     settings = plan.PlanSettings(SIGMA_MS, 0.0, [NEW_RVS], WINDOW, draws=100)
-    expected = plan.make_plan(run, settings, NoiseModel(SIGMA_MS, 0.0))[0]["b"]["counts"][0]["mass_precision"]
+    expected = plan.make_plan(run, settings, PlannedRvNoise(SIGMA_MS, 0.0))[0]["b"]["counts"][0]["mass_precision"]
     rng = np.random.default_rng(12)
     rows = rng.choice(run.size, REFITS, replace=False)
     refits = [

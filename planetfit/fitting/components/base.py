@@ -94,3 +94,12 @@ class Baseline(Protocol):
     def flux(self, values): ...
 
     def columns(self, values): ...
+
+
+@runtime_checkable
+class OrbitPrior(Protocol):
+    """A prior on the solved orbits (Hill stability): which parameter values it allows, a boolean per walker."""
+
+    parameters: list
+
+    def allowed(self, values, orbits): ...

@@ -104,7 +104,7 @@ class RegressorBaseline(ConstantBaseline):
 
 
 BASELINES = {
-    schema.LinearBaseline: LinearBaseline,
-    schema.RegressorBaseline: RegressorBaseline,
-    schema.Photometry: ConstantBaseline,
+    schema.LinearBaselineBlock: LinearBaseline,
+    schema.RegressorBaselineBlock: RegressorBaseline,
+    schema.PhotometryBlock: ConstantBaseline,
 }

@@ -128,7 +128,7 @@ class PlanetLightTerm:
         """(indices near predicted eclipses, fraction of the planet's disk seen there), exposure-averaged."""
         p, lc = self.planet, self.light_curve
         per, t0, k = values[p.period.name], values[p.transit_time.name], values[p.radius_ratio.name]
-        e, w, a_r, cos_i = orbit["e"], orbit["omega_rad"], orbit["a_over_rstar"], orbit["cos_i"]
+        e, w, a_r, cos_i = orbit.eccentricity, orbit.omega_rad, orbit.a_over_rstar, orbit.cos_i
         sin_i = math.sqrt(1 - cos_i * cos_i)
         a_m = a_r * values[self.star.radius.name] * R_SUN_M
         t_ecl = float(eclipse_bjd(t0, per, e, w, a_m, sin_i))
@@ -148,8 +148,8 @@ class PlanetLightTerm:
     def flux_ppm(self, values, orbit):
         """The planet's flux and the star's phase terms at every point, ppm of the star's flux (one walker)."""
         light, p = self.light, self.planet
-        e, w = orbit["e"], orbit["omega_rad"]
-        theta = orbital_angle(self.light_curve.times, values[p.period.name], orbit["periastron_bjd"], e, w)
+        e, w = orbit.eccentricity, orbit.omega_rad
+        theta = orbital_angle(self.light_curve.times, values[p.period.name], orbit.periastron_bjd, e, w)
         a, b, delta = phase_coefficients(
             light.value(values, "eclipse_depth_ppm"),
             light.value(values, "nightside_ppm"),
@@ -169,10 +169,10 @@ class PlanetLightTerm:
         light = self.light
         if not light.predicted:
             return light.value(values, "ellipsoidal_ppm"), light.value(values, "beaming_ppm")
-        mass_ratio = orbit["mass_kg"] / (values[self.star.mass.name] * M_SUN_KG)
-        sin_i = math.sqrt(1 - orbit["cos_i"] ** 2)
+        mass_ratio = orbit.mass_kg / (values[self.star.mass.name] * M_SUN_KG)
+        sin_i = math.sqrt(1 - orbit.cos_i**2)
         k_ms = values[self.planet.amplitude.name]
-        return star_terms_ppm(mass_ratio, orbit["a_over_rstar"], sin_i, k_ms, *light.coefficients)
+        return star_terms_ppm(mass_ratio, orbit.a_over_rstar, sin_i, k_ms, *light.coefficients)
 
     def deficit(self, values, orbit):
         """(every index, minus the added flux): the planet's light raises the flux."""

@@ -1,10 +1,13 @@
-"""Orbit shapes: circular, or eccentric sampled as sqrt(e) cos w, sqrt(e) sin w.
+"""Orbit shapes (circular, or eccentric sampled as sqrt(e) cos w, sqrt(e) sin w) and the solved orbit.
 
 Each variant gives the eccentricity and argument of periastron of a batch of
 parameter values (:meth:`shape`) and says which are allowed (:meth:`allowed`).
 Sampling sqrt(e) cos w and sqrt(e) sin w with uniform priors gives uniform
 priors on e and w (Eastman, Gaudi & Agol 2013, PASP 125, 83, section 3.3.1).
+A planet's orbit solved for parameter values is a :class:`SolvedOrbit`.
 """
+
+import dataclasses
 
 import numpy as np
 
@@ -12,6 +15,23 @@ from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega
 from planetfit.core.quantities import PLANET
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
+
+
+@dataclasses.dataclass(frozen=True, slots=True)
+class SolvedOrbit:
+    """One planet's orbit for a batch of parameter values (arrays) or one walker's (floats).
+
+    The last three are known for a transiting planet only (None otherwise):
+    its a/R* comes from Kepler's third law with the sampled masses, its
+    inclination from the impact parameter (:func:`planetfit.core.geometry.solve_orbit`).
+    """
+
+    eccentricity: np.ndarray
+    omega_rad: np.ndarray  # argument of periastron of the planet's orbit
+    periastron_bjd: np.ndarray
+    a_over_rstar: np.ndarray | None = None
+    cos_i: np.ndarray | None = None
+    mass_kg: np.ndarray | None = None
 
 
 class CircularOrbit:

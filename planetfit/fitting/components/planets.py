@@ -10,7 +10,7 @@ import numpy as np
 
 from planetfit.core.geometry import solve_orbit
 from planetfit.core.quantities import STAR, planet_quantity
-from planetfit.fitting.components.orbits import ORBITS
+from planetfit.fitting.components.orbits import ORBITS, SolvedOrbit
 from planetfit.fitting.components.registry import component_for
 from planetfit.fitting.keplerian import periastron_bjd
 from planetfit.fitting.parameters import Parameter
@@ -67,25 +67,23 @@ class Planet:
 
         Returns
         -------
-        dict
-            ``e``, ``omega_rad``, ``periastron_bjd`` and, for a transiting
-            planet, ``a_over_rstar``, ``cos_i``, ``mass_kg``.
+        SolvedOrbit
+            With a/R*, cos i and the mass for a transiting planet.
         """
         e, w = self.orbit.shape(values)
         per, t0 = values[self.period.name], values[self.transit_time.name]
-        out = {"e": e, "omega_rad": w, "periastron_bjd": periastron_bjd(t0, per, e, w)}
-        if self.transits:
-            a_r, cos_i, mp = solve_orbit(
-                per,
-                values[self.amplitude.name],
-                values[self.impact.name],
-                e,
-                w,
-                values[star.mass.name],
-                values[star.radius.name],
-            )
-            out.update(a_over_rstar=a_r, cos_i=cos_i, mass_kg=mp)
-        return out
+        if not self.transits:
+            return SolvedOrbit(e, w, periastron_bjd(t0, per, e, w))
+        a_r, cos_i, mp = solve_orbit(
+            per,
+            values[self.amplitude.name],
+            values[self.impact.name],
+            e,
+            w,
+            values[star.mass.name],
+            values[star.radius.name],
+        )
+        return SolvedOrbit(e, w, periastron_bjd(t0, per, e, w), a_r, cos_i, mp)
 
     def physical(self, values, orbit):
         """Whether the orbit is allowed (a boolean array for array values).
@@ -94,7 +92,7 @@ class Planet:
         radius ratio, a transit (b < 1 + k) and periastron outside the star
         (batman's light curves fail for orbits that cross the star).
         """
-        ok = self.orbit.allowed(orbit["e"])
+        ok = self.orbit.allowed(orbit.eccentricity)
         if not self.transits:
             return ok
         k = values[self.radius_ratio.name]
@@ -103,6 +101,6 @@ class Planet:
                 ok
                 & (k > 0)
                 & (values[self.impact.name] < 1 + k)
-                & (np.abs(orbit["cos_i"]) < 1)
-                & (orbit["a_over_rstar"] * (1 - orbit["e"]) > 1 + k)
+                & (np.abs(orbit.cos_i) < 1)
+                & (orbit.a_over_rstar * (1 - orbit.eccentricity) > 1 + k)
             )

@@ -9,6 +9,8 @@ from planetfit.fitting.components import base
 from planetfit.fitting.components.baselines import BASELINES
 from planetfit.fitting.components.gp import KERNELS
 from planetfit.fitting.components.orbits import ORBITS
+from planetfit.fitting.components.photometry import DILUTIONS, JITTERS
+from planetfit.fitting.components.stability import STABILITY_PRIORS
 from planetfit.fitting.components.transit import LIMB_DARKENING
 from planetfit.fitting.components.velocity import TRENDS
 
@@ -19,6 +21,9 @@ FAMILIES = {
     "limb_darkening": (LIMB_DARKENING, base.LimbDarkening),
     "trend": (TRENDS, base.Trend),
     "baseline": (BASELINES, base.Baseline),
+    "jitter": (JITTERS, base.Component),
+    "dilution": (DILUTIONS, base.Component),
+    "stability_prior": (STABILITY_PRIORS, base.OrbitPrior),
 }
 
 

@@ -139,8 +139,8 @@ class TransitTerm:
         """(indices, 1 - flux there) for one walker's values (floats) and its planet's orbit; None if no point."""
         p, lc = self.planet, self.light_curve
         per, t0, k = values[p.period.name], values[p.transit_time.name], values[p.radius_ratio.name]
-        sin_i = math.sqrt(1 - orbit["cos_i"] ** 2)
-        half = lc.half_window_days(per, orbit["a_over_rstar"], k, sin_i, orbit["e"], orbit["omega_rad"])
+        sin_i = math.sqrt(1 - orbit.cos_i**2)
+        half = lc.half_window_days(per, orbit.a_over_rstar, k, sin_i, orbit.eccentricity, orbit.omega_rad)
         timing = p.timing
         index = lc.window(per, t0, half if timing is None else half + timing.reach_days)
         if not index.size:
@@ -151,10 +151,10 @@ class TransitTerm:
             index,
             per,
             t0,
-            orbit["a_over_rstar"],
-            math.acos(orbit["cos_i"]),
-            orbit["e"],
-            orbit["omega_rad"],
+            orbit.a_over_rstar,
+            math.acos(orbit.cos_i),
+            orbit.eccentricity,
+            orbit.omega_rad,
             k,
             u1,
             u2,

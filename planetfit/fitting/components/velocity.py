@@ -21,7 +21,7 @@ class Spectrograph:
 
     Parameters
     ----------
-    block : schema.Velocities
+    block : schema.VelocitiesBlock
     data : Velocities
         Its RVs, with the centred indicators.
     """
@@ -61,7 +61,7 @@ class LinearTrend:
 
     Parameters
     ----------
-    block : schema.LinearTrend
+    block : schema.LinearTrendBlock
     rv_times : ndarray
         Every RV time; t_ref is the middle of their span unless the block gives it.
     """
@@ -103,4 +103,4 @@ class QuadraticTrend(LinearTrend):
         )
 
 
-TRENDS = {schema.QuadraticTrend: QuadraticTrend, schema.LinearTrend: LinearTrend}
+TRENDS = {schema.QuadraticTrendBlock: QuadraticTrend, schema.LinearTrendBlock: LinearTrend}

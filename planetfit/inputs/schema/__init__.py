@@ -11,50 +11,50 @@ from .base import Block
 from .config import ConfigFile
 from .datasets import (
     PHOTOMETRY_VARIANTS,
-    ConstantBaseline,
-    LinearBaseline,
+    ConstantBaselineBlock,
+    LinearBaselineBlock,
     Matern32GP,
     OscillatorGP,
-    Photometry,
+    PhotometryBlock,
     QuadraticLaw,
-    RegressorBaseline,
+    RegressorBaselineBlock,
     RotationGP,
     SharedGP,
-    Velocities,
+    VelocitiesBlock,
 )
 from .dynamics import Dynamics
-from .light import PlanetLight
-from .planets import PLANET_VARIANTS, CircularKeys, EccentricKeys, RvOnlyKeys, Star, TransitKeys
-from .settings import Climate, LinearTrend, NoTrend, QuadraticTrend, RvActivity, Sampling
+from .light import PlanetLightBlock
+from .planets import PLANET_VARIANTS, CircularKeys, EccentricKeys, RvOnlyKeys, StarBlock, TransitKeys
+from .settings import Climate, LinearTrendBlock, NoTrend, QuadraticTrendBlock, RvActivity, Sampling
 
 __all__ = [
     "Block",
     "CircularKeys",
     "Climate",
     "ConfigFile",
-    "ConstantBaseline",
+    "ConstantBaselineBlock",
     "Dynamics",
     "EccentricKeys",
-    "LinearBaseline",
-    "LinearTrend",
+    "LinearBaselineBlock",
+    "LinearTrendBlock",
     "Matern32GP",
     "NoTrend",
     "OscillatorGP",
     "PHOTOMETRY_VARIANTS",
     "PLANET_VARIANTS",
-    "PlanetLight",
-    "Photometry",
+    "PlanetLightBlock",
+    "PhotometryBlock",
     "QuadraticLaw",
-    "QuadraticTrend",
-    "RegressorBaseline",
+    "QuadraticTrendBlock",
+    "RegressorBaselineBlock",
     "RotationGP",
     "RvActivity",
     "RvOnlyKeys",
     "Sampling",
     "SharedGP",
-    "Star",
+    "StarBlock",
     "TransitKeys",
-    "Velocities",
+    "VelocitiesBlock",
     "json_schema",
 ]
 

@@ -10,10 +10,10 @@ from ..fits import is_fits
 from ..priors import LogUniform
 from ..timesystems import NEEDS_COORDINATES
 from .base import Block
-from .datasets import PhotometryDataset, SharedGP, Velocities, _OwnGP
+from .datasets import AnyPhotometryBlock, SharedGP, VelocitiesBlock, _OwnGP
 from .dynamics import Dynamics
 from .fields import fail
-from .planets import Planet, Star
+from .planets import AnyPlanetBlock, StarBlock
 from .settings import Climate, NoTrend, RvActivity, RvTrend, Sampling
 
 #: Default activity amplitude of each spectrograph when an ``rv_activity`` block is given, m/s.
@@ -37,10 +37,10 @@ class ConfigFile(Block):
     system: Optional[str] = None
     seed: Annotated[int, BeforeValidator(_seed), Field(ge=0)] = 0
     output: Optional[str] = None
-    star: Star
-    planets: Annotated[dict[str, Planet], Field(min_length=1)]
-    photometry: Annotated[list[PhotometryDataset], BeforeValidator(_empty_is_default)] = []
-    velocities: Annotated[list[Velocities], BeforeValidator(_empty_is_default)] = []
+    star: StarBlock
+    planets: Annotated[dict[str, AnyPlanetBlock], Field(min_length=1)]
+    photometry: Annotated[list[AnyPhotometryBlock], BeforeValidator(_empty_is_default)] = []
+    velocities: Annotated[list[VelocitiesBlock], BeforeValidator(_empty_is_default)] = []
     rv_trend: RvTrend = NoTrend()
     rv_activity: Optional[RvActivity] = None
     climate: Annotated[Climate, BeforeValidator(lambda v: {} if v is None else v)] = Climate()

@@ -28,7 +28,7 @@ from .fields import (
     positive_prior,
     prior_within,
 )
-from .light import PlanetLight
+from .light import PlanetLightBlock
 
 #: Quality factor of a stochastically driven damped oscillator whose power spectrum resembles
 #: granulation-type variability (Foreman-Mackey et al. 2017, AJ 154, 220, section 4.1).
@@ -143,7 +143,7 @@ class Dataset(Block):
 MAX_SUPERSAMPLE = 1000
 
 
-class Photometry(Dataset):
+class PhotometryBlock(Dataset):
     """A light curve (text table or FITS), its cleaning, limb darkening, baseline level, jitter and dilution."""
 
     columns: PhotometryColumns = PhotometryColumns()
@@ -173,7 +173,7 @@ class Photometry(Dataset):
     segment_gap_days: PositiveNumber = 0.5
     near_transits_hours: Optional[PositiveNumber] = None
     baseline: BASELINES = "constant"
-    planet_light: dict[str, PlanetLight] = {}
+    planet_light: dict[str, PlanetLightBlock] = {}
     band_wavelength_um: Optional[PositiveNumber] = None
     band_response: Optional[str] = None
     _band_response_path: Optional[Path] = PrivateAttr(None)
@@ -267,11 +267,11 @@ class Photometry(Dataset):
         return self.band or self.name
 
 
-class ConstantBaseline(Photometry):
+class ConstantBaselineBlock(PhotometryBlock):
     variant = {"baseline": "constant"}
 
 
-class LinearBaseline(Photometry):
+class LinearBaselineBlock(PhotometryBlock):
     variant = {"baseline": "linear"}
     baseline: BASELINES
     slope_per_day: PriorSpec = Uniform(-0.01, 0.01)
@@ -289,7 +289,7 @@ class Regressors(Block):
     coefficient: PriorSpec = Uniform(-0.1, 0.1)
 
 
-class RegressorBaseline(Photometry):
+class RegressorBaselineBlock(PhotometryBlock):
     """A ground-based light curve: F0 (1 + sum_j c_j z_j + sum_k p_k dt^k), z_j the standardised regressors."""
 
     variant = {"baseline": "<regressors: [...]>"}
@@ -314,7 +314,7 @@ class RegressorBaseline(Photometry):
         return self
 
 
-class _OwnGP(Photometry):
+class _OwnGP(PhotometryBlock):
     baseline: BASELINES
     gp_kernel: GP_KERNELS = "sho"
     gp_sigma_ppm: Annotated[PriorSpec, positive_prior("gp_sigma_ppm")] = LogUniform(1.0, 1e5)
@@ -352,7 +352,7 @@ class RotationGP(_OwnGP):
     gp_mix: Annotated[PriorSpec, HarmonicFraction] = Fixed(0.5)
 
 
-class SharedGP(Photometry):
+class SharedGP(PhotometryBlock):
     """The GP kernel and hyperparameters of another dataset (same star and band); own level and jitter."""
 
     variant = {"baseline": "gp", "gp_shared_with": "<another dataset>"}
@@ -362,20 +362,20 @@ class SharedGP(Photometry):
 
 def _photometry_variant(raw):
     if isinstance(raw.get("baseline"), dict):
-        return "RegressorBaseline"
+        return "RegressorBaselineBlock"
     if raw.get("baseline") == "gp":
         if "gp_shared_with" in raw:
             return "SharedGP"
         return {"matern32": "Matern32GP", "rotation": "RotationGP"}.get(raw.get("gp_kernel"), "OscillatorGP")
-    return "LinearBaseline" if raw.get("baseline") == "linear" else "ConstantBaseline"
+    return "LinearBaselineBlock" if raw.get("baseline") == "linear" else "ConstantBaselineBlock"
 
 
-_WHITE_NOISE = (ConstantBaseline, LinearBaseline, RegressorBaseline)
+_WHITE_NOISE = (ConstantBaselineBlock, LinearBaselineBlock, RegressorBaselineBlock)
 PHOTOMETRY_VARIANTS = (*_WHITE_NOISE, OscillatorGP, Matern32GP, RotationGP, SharedGP)
-PhotometryDataset = variants(_photometry_variant, *PHOTOMETRY_VARIANTS)
+AnyPhotometryBlock = variants(_photometry_variant, *PHOTOMETRY_VARIANTS)
 
 
-class Velocities(Dataset):
+class VelocitiesBlock(Dataset):
     """One spectrograph's RVs: offset, jitter, activity-indicator coefficients and activity amplitude."""
 
     columns: VelocityColumns = VelocityColumns()

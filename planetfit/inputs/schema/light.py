@@ -34,7 +34,7 @@ HotspotOffset = prior_within(
 )
 
 
-class PlanetLight(Block):
+class PlanetLightBlock(Block):
     """One planet's light in one band (ppm of the star's flux; offset in degrees, eastward positive)."""
 
     eclipse_depth_ppm: Annotated[PriorSpec, NonNegativeFlux]

@@ -30,7 +30,7 @@ Unbound = prior_within(
 )
 
 
-class Star(Block):
+class StarBlock(Block):
     """The host star: mass and radius priors, or what is measured (Teff, log g, [Fe/H]; parallax and K magnitude)
     turned into them by published relations (:mod:`planetfit.inputs.stellar_relations`); magnitudes, sky position,
     and the refractory abundances [Mg/H], [Si/H] for the composition block."""
@@ -222,5 +222,5 @@ def _planet_variant(raw):
 
 
 #: One planet, its variant chosen by ``transits`` and ``orbit``.
-Planet = variants(_planet_variant, TransitingCircular, TransitingEccentric, RvOnlyCircular, RvOnlyEccentric)
+AnyPlanetBlock = variants(_planet_variant, TransitingCircular, TransitingEccentric, RvOnlyCircular, RvOnlyEccentric)
 PLANET_VARIANTS = (TransitingCircular, TransitingEccentric, RvOnlyCircular, RvOnlyEccentric)

@@ -19,7 +19,7 @@ class NoTrend(Block):
     kind: TRENDS = "none"
 
 
-class LinearTrend(Block):
+class LinearTrendBlock(Block):
     """An RV trend c1 (t - t_ref), for a long-period companion; t_ref defaults to the middle of the RVs."""
 
     variant = {"kind": "linear"}
@@ -28,7 +28,7 @@ class LinearTrend(Block):
     reference_bjd: Optional[Number] = None
 
 
-class QuadraticTrend(LinearTrend):
+class QuadraticTrendBlock(LinearTrendBlock):
     """c1 (t - t_ref) + c2 (t - t_ref)^2."""
 
     variant = {"kind": "quadratic"}
@@ -42,10 +42,10 @@ def _trend_block(value):
 
 RvTrend = Annotated[
     variants(
-        lambda raw: {"linear": "LinearTrend", "quadratic": "QuadraticTrend"}.get(raw.get("kind"), "NoTrend"),
+        lambda raw: {"linear": "LinearTrendBlock", "quadratic": "QuadraticTrendBlock"}.get(raw.get("kind"), "NoTrend"),
         NoTrend,
-        LinearTrend,
-        QuadraticTrend,
+        LinearTrendBlock,
+        QuadraticTrendBlock,
     ),
     BeforeValidator(_trend_block),
 ]

@@ -28,7 +28,7 @@ class PosteriorView:
     median, median_orbits : dict
         Values of every parameter at the per-parameter posterior medians
         (the sample nearest to them if that combination is unphysical),
-        and the orbits they give.
+        and the orbits they give ({planet name: SolvedOrbit}).
     draws : list of (dict, dict)
         Values and orbits of up to ``n_draws`` physical posterior samples.
     """

@@ -23,7 +23,7 @@ DENSE_POINTS = 1000
 def _model_ppm(lc, values, orbit, planet, model, limb_darkening):
     """One planet's (diluted) transit (relative flux - 1, ppm) on ``lc``'s times, measured from mid-transit.
 
-    ``model`` is the dataset's PhotometryModel (for its dilution), ``limb_darkening`` its band's.
+    ``model`` is the dataset's PhotometryLikelihood (for its dilution), ``limb_darkening`` its band's.
     """
     dilution = values[model.dilution.name] if model.dilution else 0.0
     u1, u2 = limb_darkening.coefficients(values)
@@ -31,10 +31,10 @@ def _model_ppm(lc, values, orbit, planet, model, limb_darkening):
         np.arange(lc.times.size),
         values[planet.period.name],
         0.0,
-        orbit["a_over_rstar"],
-        math.acos(orbit["cos_i"]),
-        orbit["e"],
-        orbit["omega_rad"],
+        orbit.a_over_rstar,
+        math.acos(orbit.cos_i),
+        orbit.eccentricity,
+        orbit.omega_rad,
         values[planet.radius_ratio.name],
         u1,
         u2,

@@ -22,9 +22,9 @@ def planet_rv_ms(values, orbit, planet, times):
     return radial_velocity_ms(
         times,
         values[planet.period.name],
-        orbit["periastron_bjd"],
-        orbit["e"],
-        orbit["omega_rad"],
+        orbit.periastron_bjd,
+        orbit.eccentricity,
+        orbit.omega_rad,
         values[planet.amplitude.name],
     )
 
