@@ -42,7 +42,7 @@ import yaml
 
 from planetfit import pipeline
 from planetfit.demo import DEMO_CONFIG
-from planetfit.fitting import mcmc
+from planetfit.fitting.sampling import mcmc
 from planetfit.inputs.schema.settings import Sampling
 
 SAMPLERS = ("differential_evolution", "fitted_proposal")

@@ -98,3 +98,16 @@ def test_mode_strings_are_decoded_only_in_the_schema(word):
         if re.search(f"(?<!limb_dark = )[\"']{word}[\"']", p.read_text())
     }
     assert all(p.startswith("inputs/schema/") for p in places), places
+
+
+@pytest.mark.parametrize("word", ["mcmc", "nested", "fitted_proposal"])
+def test_sampler_words_are_decoded_only_in_the_schema(word):
+    # The sampling block is decoded once (its variants, SamplingMethod, WalkerMoves); the sampler is chosen by
+    # planetfit.fitting.sampling.sampler_for, and code after it asks typed questions (has_walkers, weighted).
+    # Templates count: report.html.j2 once compared the method's word.
+    places = {
+        str(p.relative_to(ROOT))
+        for p in ROOT.rglob("*")
+        if p.suffix in (".py", ".j2") and re.search(f"[\"']{word}[\"']", p.read_text())
+    }
+    assert all(p.startswith("inputs/schema/") for p in places), places

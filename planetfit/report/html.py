@@ -15,6 +15,7 @@ from pathlib import Path
 
 import jinja2
 
+from planetfit.inputs.schema import SamplingMethod
 from planetfit.report import captions
 from planetfit.report.files import write_text_atomic
 from planetfit.report.rounding import number_text, value_text
@@ -241,6 +242,7 @@ def page_context(summary, rows, figures_folder):
     return {
         "system": summary["system"],
         "sampling": sampling,
+        "method": SamplingMethod.of_facts(sampling),
         "sampling_facts": [(k, display(v)) for k, v in sampling.items() if k not in SAMPLING_SPECIAL],
         "diagnostics": sampling.get("parameter_diagnostics") or {},
         "modes": display(sampling["modes"]) if sampling.get("modes") else None,

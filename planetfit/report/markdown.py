@@ -1,5 +1,6 @@
 """summary.md: the parameter table of table.tex as Markdown, plus the run's context in words."""
 
+from planetfit.inputs.schema import SamplingMethod
 from planetfit.report.rounding import number_text, value_text
 from planetfit.report.tables import NOTE_TEXT, prior_text, star_note
 
@@ -75,7 +76,7 @@ def _dynamics(d):
 def sampling_text(s):
     """One sentence of the sampling facts: emcee's walkers and autocorrelation, or nested sampling's evidence."""
     converged = f"converged: {'yes' if s['converged'] else 'NO (see the warnings)'}; {s['seconds']:.0f} s."
-    if s.get("method") == "nested":
+    if SamplingMethod.of_facts(s).weighted:
         z = s["ln_evidence"]
         return (
             f"nested sampling (dynesty), {s['live_points']} live points, {s['iterations']} iterations, "

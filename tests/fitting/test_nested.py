@@ -26,9 +26,9 @@ from synthetic import planet_truth
 from two_seasons import alias_weights, write_two_season_system
 
 from planetfit import pipeline
-from planetfit.fitting import nested
-from planetfit.fitting.mcmc import run_sampler
-from planetfit.fitting.nested import run_nested
+from planetfit.fitting.sampling import nested
+from planetfit.fitting.sampling.mcmc import run_sampler
+from planetfit.fitting.sampling.nested import run_nested
 
 
 def nested_fit(config, seed=1):

@@ -25,7 +25,18 @@ from .datasets import (
 from .dynamics import Dynamics
 from .light import PlanetLight
 from .planets import PLANET_VARIANTS, CircularKeys, EccentricKeys, RvOnlyKeys, Star, TransitKeys
-from .settings import Climate, LinearTrend, NoTrend, QuadraticTrend, RvActivity, Sampling
+from .settings import (
+    Climate,
+    LinearTrend,
+    McmcSettings,
+    NestedSettings,
+    NoTrend,
+    QuadraticTrend,
+    RvActivity,
+    Sampling,
+    SamplingMethod,
+    WalkerMoves,
+)
 
 __all__ = [
     "Block",
@@ -38,6 +49,8 @@ __all__ = [
     "LinearBaseline",
     "LinearTrend",
     "Matern32GP",
+    "McmcSettings",
+    "NestedSettings",
     "NoTrend",
     "OscillatorGP",
     "PHOTOMETRY_VARIANTS",
@@ -51,10 +64,12 @@ __all__ = [
     "RvActivity",
     "RvOnlyKeys",
     "Sampling",
+    "SamplingMethod",
     "SharedGP",
     "Star",
     "TransitKeys",
     "Velocities",
+    "WalkerMoves",
     "json_schema",
 ]
 

@@ -10,7 +10,8 @@ import numpy as np
 
 from planetfit.core.names import file_stem
 from planetfit.fitting import predictions
-from planetfit.fitting.chainfile import read_chain
+from planetfit.fitting.sampling.chainfile import read_chain
+from planetfit.inputs.schema import SamplingMethod
 from planetfit.report.figures.common import PosteriorView
 from planetfit.report.figures.convergence import convergence_figure, physical_chain
 from planetfit.report.figures.corners import physical_corner, sampled_corner
@@ -86,7 +87,7 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
     if weighed:
         out.append(("mass_radius", partial(mass_radius_figure, derived, weighed)))
     out.append(("habitable_zone", partial(habitable_zone_figure, derived, planets)))
-    if summary["sampling"].get("method") != "nested":  # a chain's figure; nested sampling has no walkers
+    if SamplingMethod.of_facts(summary["sampling"]).has_walkers:  # a chain's figure
         out.append(
             ("convergence", partial(_convergence, run_dir, posterior, summary, checked.config.sampling.autocorr_factor))
         )
