@@ -140,7 +140,7 @@ def fit_one(args):
     seed, steps, moves = args
     from planetfit.context import derived as physics
     from planetfit.core.units import M_EARTH_KG, R_EARTH_M, R_SUN_M
-    from planetfit.fitting.mcmc import run_sampler
+    from planetfit.fitting.sampling.mcmc import run_sampler
 
     with tempfile.TemporaryDirectory() as tmp:
         config, post, values, orbits = simulate_system(seed, tmp, steps, moves)

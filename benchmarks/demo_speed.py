@@ -43,7 +43,7 @@ from clock import cpu_seconds  # beside this script
 
 from planetfit import pipeline
 from planetfit.demo import DEMO_CONFIG
-from planetfit.fitting import mcmc
+from planetfit.fitting.sampling import mcmc
 from planetfit.inputs.schema.settings import Sampling
 
 SAMPLERS = ("differential_evolution", "fitted_proposal")

@@ -34,7 +34,7 @@ from threadpoolctl import threadpool_limits
 
 from planetfit import pipeline
 from planetfit.demo import DEMO_CONFIG
-from planetfit.fitting.mcmc import run_sampler
+from planetfit.fitting.sampling.mcmc import run_sampler
 
 MODES = ("sampled", "marginalised")
 WALKERS = 50

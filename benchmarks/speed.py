@@ -6,7 +6,7 @@ with the demo generator's true system: two 27-day sectors at 2-min cadence,
 one at 30-min cadence, 60 RVs from two spectrographs, one transiting planet
 and one seen only in RVs, white noise. Everything is measured in one process, the
 contenders interleaved round by round (best round kept), with BLAS limited to
-one thread as :func:`planetfit.fitting.mcmc.run_sampler` does.
+one thread as :func:`planetfit.fitting.sampling.mcmc.run_sampler` does.
 
 Figures
 -------

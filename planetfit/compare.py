@@ -16,12 +16,14 @@ from pathlib import Path
 from planetfit import pipeline, rundir
 from planetfit.batch import run_directories
 from planetfit.inputs.config import load_config
+from planetfit.inputs.schema import SamplingMethod
 from planetfit.report import comparison
 from planetfit.rundir import manifest
 
 log = logging.getLogger("planetfit")
 
-NESTED = "nested"
+#: The method every model is fitted with: its evidence ranks the models.
+NESTED = SamplingMethod.NESTED.value
 
 
 def _finished(run_dir, config):
@@ -44,7 +46,7 @@ def run_directory(config_path, output):
     if output is not None:
         return Path(output)
     own = load_config(config_path)
-    if own.sampling.nested:
+    if own.sampling.kind.weighted:
         return own.output
     return own.output.with_name(own.output.name + "-nested")
 

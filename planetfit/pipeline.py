@@ -17,10 +17,8 @@ from planetfit.context import blocks, derived, diagnostics, dynamics, stellar_de
 from planetfit.context.light import light_warnings
 from planetfit.core.errors import InputError
 from planetfit.core.units import PPM
-from planetfit.fitting import chainfile
-from planetfit.fitting.mcmc import run_sampler
-from planetfit.fitting.nested import run_nested
 from planetfit.fitting.posterior import JointPosterior
+from planetfit.fitting.sampling import chainfile, sampler_for
 from planetfit.inputs.config import load_config
 from planetfit.inputs.datasets import load_all
 from planetfit.report import exports, inference, outputs
@@ -208,13 +206,12 @@ def saved_progress(config_path, output=None):
 
 def _claim(checked, directory, resume):
     """Write a new run's manifest; for a resume, check the run's manifest (with its differences), then the chain."""
-    current, sampling = checked.manifest(), checked.config.sampling
+    current = checked.manifest()
     if resume:
         directory.require_writable()
         if directory.manifest.is_file():
             directory.claim(current, resume)
-        if not sampling.nested:
-            chainfile.check_resumable(directory.samples, checked.posterior.layout.ndim, sampling.walkers)
+        sampler_for(checked.config.sampling).check_resumable(directory, checked.posterior.layout.ndim)
     directory.claim(current, resume)
 
 
@@ -231,20 +228,9 @@ def _log_start(checked, note):
 
 def _sample(checked, directory, rng, cores, quiet, resume):
     """Sample the posterior with the config's method into the run's samples.h5; return (samples, facts)."""
-    post, settings, h5 = checked.posterior, checked.config.sampling, directory.samples
-    if settings.nested:
-        result = run_nested(post, settings, directory.checkpoint, rng, cores=cores, progress=not quiet, resume=resume)
-        facts = dict(result.summary(), cores=cores, warnings=list(result.warnings), modes=result.modes)
-        facts["phase_seconds"] = {"sampling": result.seconds}
-        chainfile.write_nested(h5, post.layout.free, facts, result)
-        return result.samples, facts
-    result = run_sampler(post, post.layout, settings, h5, rng, cores=cores, progress=not quiet, resume=resume)
-    facts = result.summary()
-    facts.update(
-        discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings), modes=result.modes
-    )
-    chainfile.write_facts(h5, post.layout.free, facts, result.autocorr_history)
-    return result.samples, facts
+    sampler = sampler_for(checked.config.sampling)
+    draws = sampler.sample(checked.posterior, directory, rng, cores=cores, progress=not quiet, resume=resume)
+    return draws.samples, draws.facts
 
 
 def run_warnings(checked, samples):
@@ -293,10 +279,10 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
         config, post.model, quantities, np.random.default_rng([config.seed, 2])
     )
     phases["derived"] = time.perf_counter() - start
-    if config.sampling.nested:  # posterior.nc, R-hat and ESS read emcee's walkers; nested runs have ln Z instead
-        stats, stats_warnings = {}, []
-    else:
+    if config.sampling.kind.has_walkers:  # posterior.nc, R-hat and ESS read emcee's walkers
         stats, stats_warnings = inference.write_posterior(directory, checked, quantities, sampling_facts)
+    else:  # nested runs have ln Z instead
+        stats, stats_warnings = {}, []
     density, density_warnings = stellar_density.density_check(
         config, post.model, quantities, np.random.default_rng([config.seed, 3])
     )
@@ -353,7 +339,7 @@ def export(run_dir, fmt, out=None):
     """Write the posterior of a finished run as ``fmt`` (csv, json or nc) to ``out`` or the run directory."""
     run = open_finished(run_dir)
     directory, checked, facts = run.directory, run.checked, run.facts
-    if checked.config.sampling.nested:
+    if not checked.config.sampling.kind.has_walkers:
         raise InputError(
             f"{directory} holds a nested-sampling run; 'planetfit export' writes emcee walkers and their statistics.",
             fix="use the run's posterior.csv (its equal-weight samples), or fit with 'sampling: {method: mcmc}'.",

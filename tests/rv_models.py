@@ -65,8 +65,8 @@ def interrupted_nested_run(folder, monkeypatch, live_points, after_calls):
     """Start a nested fit of planet b (RV seed 4) with a checkpoint at every iteration, and stop it by a
     KeyboardInterrupt after ``after_calls`` likelihood calls. Returns (config path, times, RVs)."""
     from planetfit import pipeline
-    from planetfit.fitting import nested
     from planetfit.fitting.posterior import JointPosterior
+    from planetfit.fitting.sampling import nested
 
     t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
     config = write_rv_model(folder, t, rv, {"b": circular()}, live_points=live_points)

@@ -175,3 +175,16 @@ def test_developer_notes_name_only_files_that_exist():
     assert len(named) > 50, "the notes' table was not found"
     missing = [name for name, folders in named if not any((f / name).exists() for f in folders)]
     assert not missing, f"DEVELOPERS.md names files that do not exist: {missing}"
+
+
+@pytest.mark.parametrize("word", ["mcmc", "nested", "fitted_proposal"])
+def test_sampler_words_are_decoded_only_in_the_schema(word):
+    # The sampling block is decoded once (its variants, SamplingMethod, WalkerMoves); the sampler is chosen by
+    # planetfit.fitting.sampling.sampler_for, and code after it asks typed questions (has_walkers, weighted).
+    # Templates count: report.html.j2 once compared the method's word.
+    places = {
+        str(p.relative_to(ROOT))
+        for p in ROOT.rglob("*")
+        if p.suffix in (".py", ".j2") and re.search(f"[\"']{word}[\"']", p.read_text())
+    }
+    assert all(p.startswith("inputs/schema/") for p in places), places

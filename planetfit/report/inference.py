@@ -14,7 +14,7 @@ import warnings
 import emcee
 import numpy as np
 
-from planetfit.fitting.chainfile import read_sample_stats
+from planetfit.fitting.sampling.chainfile import read_sample_stats
 
 log = logging.getLogger("planetfit")
 
@@ -43,7 +43,7 @@ def posterior_groups(checked, derived, sample_stats):
     derived : dict
         :func:`planetfit.context.derived.derive` output after context.
     sample_stats : tuple
-        :func:`planetfit.fitting.chainfile.read_sample_stats` output.
+        :func:`planetfit.fitting.sampling.chainfile.read_sample_stats` output.
 
     Returns
     -------

@@ -18,7 +18,7 @@ from pathlib import Path
 import yaml
 
 from planetfit.core.errors import InputError
-from planetfit.fitting.nested import CHECKPOINT
+from planetfit.fitting.sampling.nested import CHECKPOINT
 from planetfit.report.files import write_text_atomic
 from planetfit.report.summary_types import read_summary
 from planetfit.rundir import lock, manifest

@@ -38,7 +38,7 @@ def test_posterior_intervals_cover_the_truth_at_the_nominal_rate():
 
 
 def test_optimiser_finds_the_transit_the_prior_centre_misses(tmp_path):
-    from planetfit.fitting.optimiser import find_map
+    from planetfit.fitting.sampling.optimiser import find_map
 
     # System 1009: the transit time lies 0.1 d (about a transit duration) from the prior's centre.
     _, post, values, _ = calibration.simulate_system(1009, tmp_path, steps=100)

@@ -11,8 +11,8 @@ from synthetic import light_curve, planet_truth, star_priors, write_config
 
 from planetfit import pipeline
 from planetfit.cli import main
-from planetfit.fitting.laplace import laplace_covariance
-from planetfit.fitting.optimiser import find_map
+from planetfit.fitting.sampling.laplace import laplace_covariance
+from planetfit.fitting.sampling.optimiser import find_map
 
 STAR = {"mass_msun": 0.9, "radius_rsun": 0.85}
 PLANET = planet_truth(2.7, 2460200.70, 0.0, radius_ratio=0.11, impact=0.3)

@@ -23,7 +23,7 @@ from synthetic import write_tiny_system
 
 from planetfit import pipeline
 from planetfit.cli import main
-from planetfit.fitting import chainfile, mcmc, nested
+from planetfit.fitting.sampling import chainfile, mcmc, nested
 
 TIME_LIMIT_S = 60
 

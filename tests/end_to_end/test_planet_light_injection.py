@@ -18,7 +18,7 @@ from scipy import integrate, optimize
 from planetfit import pipeline
 from planetfit.context.light import brightness_temp_k
 from planetfit.demo import hot_giant
-from planetfit.fitting.laplace import laplace_covariance
+from planetfit.fitting.sampling.laplace import laplace_covariance
 from planetfit.inputs.schema.datasets import BANDS_FOLDER
 
 SEEDS = (101, 202, 303)

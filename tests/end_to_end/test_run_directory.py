@@ -21,7 +21,7 @@ from synthetic import write_tiny_system as write_system
 from planetfit import pipeline
 from planetfit.cli import main
 from planetfit.core.errors import InputError
-from planetfit.fitting.chainfile import saved_steps
+from planetfit.fitting.sampling.chainfile import saved_steps
 from planetfit.rundir import RunDirectory, require_writable
 
 WAIT_S = 90

@@ -5,7 +5,7 @@ import numpy as np
 import pytest
 
 from planetfit.core.errors import InputError
-from planetfit.fitting import chainfile
+from planetfit.fitting.sampling import chainfile
 
 
 def _log_prob(x):

@@ -6,8 +6,8 @@ import emcee
 import numpy as np
 import pytest
 
-from planetfit.fitting import mcmc
-from planetfit.fitting.ess import bulk_ess, rank_normalised
+from planetfit.fitting.sampling import mcmc
+from planetfit.fitting.sampling.ess import bulk_ess, rank_normalised
 
 
 def _ar1_chain(rng, phi, steps, walkers, ndim):

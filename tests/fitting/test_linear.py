@@ -13,7 +13,7 @@ from synthetic import planet_truth, write_tiny_system
 from variability import write_active_star, write_spotted_star, write_trend_star
 
 from planetfit import pipeline
-from planetfit.fitting.mcmc import run_sampler
+from planetfit.fitting.sampling.mcmc import run_sampler
 
 
 def posteriors(path, edit=None):

@@ -10,9 +10,9 @@ import emcee
 import numpy as np
 import pytest
 
-from planetfit.fitting.mcmc import walker_moves
-from planetfit.fitting.modes import Mode
-from planetfit.fitting.proposal import FittedProposal
+from planetfit.fitting.sampling.mcmc import walker_moves
+from planetfit.fitting.sampling.modes import Mode
+from planetfit.fitting.sampling.proposal import FittedProposal
 
 # Six parameters on scales from 1e-3 to 1, like a transit + RV fit. In scaled
 # units y = x / SCALE: y0 ~ N(0, 1); y1 | y0 ~ N(y0^2, 0.3^2) (a curved

@@ -19,11 +19,11 @@ from two_seasons import GAP_DAYS, K_MS, PERIOD, PERIOD_PRIOR, TC, TC_HALF_WIDTH,
 
 from planetfit import pipeline
 from planetfit.core.quantities import DATASET, PLANET
-from planetfit.fitting import density_modes, modes
-from planetfit.fitting import mcmc as sampling
 from planetfit.fitting.parameters import Parameter, ParameterLayout
-from planetfit.fitting.periodogram import periodogram_starts, sinusoid
 from planetfit.fitting.posterior import JointPosterior
+from planetfit.fitting.sampling import density_modes, modes
+from planetfit.fitting.sampling import mcmc as sampling
+from planetfit.fitting.sampling.periodogram import periodogram_starts, sinusoid
 from planetfit.inputs.priors import Uniform
 
 
@@ -204,7 +204,7 @@ def test_a_mode_only_the_samples_show_is_reported():
     )
     one = [modes.Mode(np.zeros(2), 0.0, np.eye(2))]
     groups = modes.describe(chain, -0.5 * np.sum(chain**2, axis=2), 1, one, layout)
-    assert len(groups) == 1 and groups[0].found_by == "samples" and groups[0].names == ["b.period_days"]
+    assert len(groups) == 1 and groups[0].found_by is modes.FoundBy.CHAIN and groups[0].names == ["b.period_days"]
     assert groups[0].fractions == [0.5, 0.5] and groups[0].moves == 0 and not groups[0].mixed
     assert "in the posterior samples that the optimiser did not find" in groups[0].warning()
 

@@ -6,6 +6,8 @@ fit takes seconds.
 
 import json
 import math
+import pickle
+import sys
 
 import numpy as np
 import pytest
@@ -26,9 +28,9 @@ from synthetic import planet_truth
 from two_seasons import alias_weights, write_two_season_system
 
 from planetfit import pipeline
-from planetfit.fitting import nested
-from planetfit.fitting.mcmc import run_sampler
-from planetfit.fitting.nested import run_nested
+from planetfit.fitting.sampling import checkpoint, nested
+from planetfit.fitting.sampling.mcmc import run_sampler
+from planetfit.fitting.sampling.nested import run_nested
 
 
 def nested_fit(config, seed=1):
@@ -165,3 +167,15 @@ def test_an_interrupted_nested_run_resumes_from_its_checkpoint(tmp_path, monkeyp
     # source: closed-form integral of a Gaussian likelihood over a uniform prior box (closed_form_ln_evidence).
     expected = closed_form_ln_evidence(t, rv, (0, 40), (-50, 50))
     assert abs(s["ln_evidence"]["value"] - expected) < 3 * s["ln_evidence"]["error"]
+
+
+def test_a_checkpoint_written_before_the_samplers_moved_still_unpickles():
+    # common practice, no published source: a checkpoint names the module of nested sampling's shared functions
+    # as it was when written (planetfit.fitting.nested until the samplers moved to planetfit.fitting.sampling).
+    old = b"cplanetfit.fitting.nested\n_shared\n(Vlog_likelihood\ntR."
+    with pytest.raises(ModuleNotFoundError):
+        pickle.loads(old)
+    with checkpoint.moved_modules():
+        shared = pickle.loads(old)
+    assert isinstance(shared, nested._Shared) and shared.name == "log_likelihood"
+    assert "planetfit.fitting.nested" not in sys.modules

@@ -5,8 +5,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from planetfit.fitting.modes import Mode
-from planetfit.fitting.proposal import FittedProposal, IndependenceMove
+from planetfit.fitting.sampling.modes import Mode
+from planetfit.fitting.sampling.proposal import FittedProposal, IndependenceMove
 
 # Target: a bivariate Student-t with 3 degrees of freedom (heavier tails than the proposal's 5), correlated.
 TARGET_DF, SHAPE = 3.0, np.array([[1.0, 0.6], [0.6, 2.0]])

@@ -4,9 +4,9 @@ import numpy as np
 from celerite2 import terms
 from synthetic import STAR, star_priors, tiny_light_curve, write_config, write_photometry
 
-from planetfit.fitting.laplace import laplace_covariance
-from planetfit.fitting.optimiser import find_map
 from planetfit.fitting.posterior import JointPosterior
+from planetfit.fitting.sampling.laplace import laplace_covariance
+from planetfit.fitting.sampling.optimiser import find_map
 from planetfit.pipeline import check
 
 PERIOD_DAYS, SIGMA_PPM, NOISE_PPM = 6.0, 3000.0, 300.0

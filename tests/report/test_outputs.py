@@ -18,7 +18,7 @@ from matplotlib.image import imread
 
 import planetfit
 from planetfit import pipeline
-from planetfit.fitting.chainfile import read_chain
+from planetfit.fitting.sampling.chainfile import read_chain
 from planetfit.report import outputs, rounding, tables
 from planetfit.report.summary import STAR_KEYS
 from planetfit.report.summary_types import Stat

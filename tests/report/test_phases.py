@@ -2,12 +2,12 @@
 
 import numpy as np
 
-from planetfit.fitting.chainfile import read_chain
-from planetfit.fitting.ess import bulk_ess
+from planetfit.fitting.sampling.chainfile import read_chain
+from planetfit.fitting.sampling.ess import bulk_ess
 
 # common practice, no published source: these tests check planetfit's own bookkeeping (the phases' seconds add up
-# to the sampler's clock; summary.json's min_bulk_ess is the estimator of fitting/ess.py applied to the saved chain),
-# no physics; the estimator itself is checked against the closed form in tests/fitting/test_ess.py.
+# to the sampler's clock; summary.json's min_bulk_ess is the estimator of fitting/sampling/ess.py applied to the saved
+# chain), no physics; the estimator itself is checked against the closed form in tests/fitting/test_ess.py.
 PHASES = ["optimiser", "sampling", "derived", "figures_and_report"]
 
 

@@ -25,7 +25,18 @@ from .datasets import (
 from .dynamics import Dynamics
 from .light import PlanetLightBlock
 from .planets import PLANET_VARIANTS, CircularKeys, EccentricKeys, RvOnlyKeys, StarBlock, TransitKeys
-from .settings import Climate, LinearTrendBlock, NoTrend, QuadraticTrendBlock, RvActivity, Sampling
+from .settings import (
+    Climate,
+    LinearTrendBlock,
+    McmcSettings,
+    NestedSettings,
+    NoTrend,
+    QuadraticTrendBlock,
+    RvActivity,
+    Sampling,
+    SamplingMethod,
+    WalkerMoves,
+)
 
 __all__ = [
     "Block",
@@ -38,6 +49,8 @@ __all__ = [
     "LinearBaselineBlock",
     "LinearTrendBlock",
     "Matern32GP",
+    "McmcSettings",
+    "NestedSettings",
     "NoTrend",
     "OscillatorGP",
     "PHOTOMETRY_VARIANTS",
@@ -51,10 +64,12 @@ __all__ = [
     "RvActivity",
     "RvOnlyKeys",
     "Sampling",
+    "SamplingMethod",
     "SharedGP",
     "StarBlock",
     "TransitKeys",
     "VelocitiesBlock",
+    "WalkerMoves",
     "json_schema",
 ]
 

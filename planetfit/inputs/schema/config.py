@@ -14,7 +14,7 @@ from .datasets import AnyPhotometryBlock, SharedGP, VelocitiesBlock, _OwnGP
 from .dynamics import Dynamics
 from .fields import fail
 from .planets import AnyPlanetBlock, StarBlock
-from .settings import Climate, NoTrend, RvActivity, RvTrend, Sampling
+from .settings import Climate, McmcSettings, NoTrend, RvActivity, RvTrend, SamplingBlock
 
 #: Default activity amplitude of each spectrograph when an ``rv_activity`` block is given, m/s.
 ACTIVITY_AMPLITUDE_DEFAULT = LogUniform(0.01, 50.0)
@@ -44,7 +44,7 @@ class ConfigFile(Block):
     rv_trend: RvTrend = NoTrend()
     rv_activity: Optional[RvActivity] = None
     climate: Annotated[Climate, BeforeValidator(lambda v: {} if v is None else v)] = Climate()
-    sampling: Annotated[Sampling, BeforeValidator(lambda v: {} if v is None else v)] = Sampling()
+    sampling: Annotated[SamplingBlock, BeforeValidator(lambda v: {} if v is None else v)] = McmcSettings()
     dynamics: Annotated[Dynamics, BeforeValidator(lambda v: {} if v is None else v)] = Dynamics()
 
     @model_validator(mode="after")

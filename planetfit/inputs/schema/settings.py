@@ -1,7 +1,8 @@
 """The run-wide blocks: RV trend, RV activity process, climate assumptions, sampling settings."""
 
+import enum
 import math
-from typing import Annotated, Literal, Optional, Union
+from typing import Annotated, ClassVar, Literal, Optional, Union
 
 from pydantic import BeforeValidator, Field, model_validator
 
@@ -131,33 +132,71 @@ class Climate(Block):
 MAX_WALKERS, MAX_CHAIN_GIB_PER_PARAMETER = 100_000, 2.0
 
 
-class Sampling(Block):
-    """How the posterior is sampled and when the run counts as converged.
+class SamplingMethod(enum.Enum):
+    """``sampling.method``: how the posterior is sampled. Its value is the config's word and summary.json's."""
 
-    ``method: mcmc`` (emcee; walkers and the autocorrelation rule) or
-    ``nested`` (dynesty; live points and the evidence's stopping rule).
+    MCMC = "mcmc"
+    NESTED = "nested"
+
+    @classmethod
+    def of_facts(cls, facts):
+        """The method of a run's sampling facts (samples.h5's or summary.json's ``sampling``).
+
+        Nested-sampling facts carry ``method``; those of an MCMC run have never had it.
+        """
+        return cls(facts.get("method", cls.MCMC.value))
+
+    @property
+    def has_walkers(self):
+        """Whether the samples are an ensemble's walkers: chain diagnostics (R-hat, ESS, posterior.nc), a
+        convergence figure, ``planetfit export``, a chain to check before ``--resume``."""
+        return self is SamplingMethod.MCMC
+
+    @property
+    def weighted(self):
+        """Whether the sampler's points carry importance weights and the evidence ln Z (nested sampling)."""
+        return self is SamplingMethod.NESTED
+
+
+class WalkerMoves(enum.Enum):
+    """``sampling.moves`` of an MCMC run; its value is the config's word and summary.json's ``sampling.moves``."""
+
+    #: Differential evolution alone (planetfit.fitting.sampling.mcmc.walker_moves).
+    DIFFERENTIAL_EVOLUTION = "differential_evolution"
+    #: A burn-in of differential evolution fits a proposal, then differential evolution and independence moves
+    #: from it (planetfit.fitting.sampling.burnin).
+    FITTED_PROPOSAL = "fitted_proposal"
+
+
+class Sampling(Block):
+    """How the posterior is sampled and when the run counts as converged: the keys of every method.
+
+    A variant per ``method`` (:class:`McmcSettings`, :class:`NestedSettings`).
+    Each accepts the other method's keys, as the one block of earlier
+    versions did: ``planetfit compare`` samples an MCMC config by nested
+    sampling, and a config switched between methods keeps its keys.
     """
 
-    method: Literal["mcmc", "nested"] = "mcmc"
+    method: Literal[tuple(m.value for m in SamplingMethod)] = SamplingMethod.MCMC.value
     walkers: Count = 48
     max_steps: Count = 20000
     check_every: Count = 200
     autocorr_factor: PositiveNumber = 50.0
     autocorr_tolerance: PositiveNumber = 0.01
     optimiser_starts: Count = 4
-    #: "fitted_proposal": a burn-in of differential evolution fits a proposal, then differential evolution
-    #: and independence moves from it (planetfit.fitting.burnin).
-    moves: Literal["differential_evolution", "fitted_proposal"] = "differential_evolution"
+    moves: Literal[tuple(m.value for m in WalkerMoves)] = WalkerMoves.DIFFERENTIAL_EVOLUTION.value
     live_points: Count = 400
     dlogz: PositiveNumber = 0.1
     #: Effective samples a converged run has: for mcmc, the smallest bulk effective sample size over the sampled
-    #: parameters (planetfit.fitting.ess); for nested sampling, those of its weighted points.
+    #: parameters (planetfit.fitting.sampling.ess); for nested sampling, those of its weighted points.
     min_effective_samples: Count = 1000
     max_likelihood_calls: Count = 50_000_000
     #: "marginalised": parameters entering a dataset's mean linearly (flux levels, RV offsets, trend and
     #: activity-indicator coefficients) with a normal or uniform prior are integrated out of the likelihood
     #: analytically and drawn from their conditional posterior afterwards; "sampled": the sampler moves them.
     linear_parameters: Literal["marginalised", "sampled"] = "marginalised"
+    #: The method, typed (set by each variant).
+    kind: ClassVar[SamplingMethod]
 
     @property
     def marginalise_linear(self):
@@ -178,7 +217,28 @@ class Sampling(Block):
             )
         return self
 
-    @property
-    def nested(self):
-        """Whether the posterior is sampled by nested sampling (dynesty) rather than emcee."""
-        return self.method == "nested"
+
+class McmcSettings(Sampling):
+    """``method: mcmc`` (the default): emcee's walkers (``walkers``, ``moves``, ``optimiser_starts``) until the
+    autocorrelation rule holds (``max_steps``, ``check_every``, ``autocorr_factor``, ``autocorr_tolerance``,
+    ``min_effective_samples``)."""
+
+    variant = {"method": SamplingMethod.MCMC.value}
+    kind = SamplingMethod.MCMC
+
+
+class NestedSettings(Sampling):
+    """``method: nested``: dynesty's ``live_points`` until the evidence left in them is below ``dlogz`` (or
+    ``max_likelihood_calls``), with ``min_effective_samples`` weighted points."""
+
+    variant = {"method": SamplingMethod.NESTED.value}
+    kind = SamplingMethod.NESTED
+    method: Literal[tuple(m.value for m in SamplingMethod)]  # required: only 'method: nested' chooses this variant
+
+
+#: The sampling block: one variant per method, told apart by ``method`` (absent: mcmc).
+SamplingBlock = variants(
+    lambda raw: {SamplingMethod.NESTED.value: "NestedSettings"}.get(raw.get("method"), "McmcSettings"),
+    McmcSettings,
+    NestedSettings,
+)

@@ -11,7 +11,7 @@ from functools import partial
 import numpy as np
 
 from planetfit.fitting import predictions
-from planetfit.fitting.chainfile import read_chain
+from planetfit.fitting.sampling.chainfile import read_chain
 from planetfit.report.captions import Drawn
 from planetfit.report.figures.common import PosteriorView
 from planetfit.report.figures.convergence import convergence_figure, physical_chain

@@ -1,7 +1,7 @@
 """Separated modes of a posterior: found among the optimiser's end points, described, and assigned after sampling.
 
 1. Each optimum is described by its Laplace approximation (covariance and
-   evidence, :mod:`planetfit.fitting.laplace`).
+   evidence, :mod:`planetfit.fitting.sampling.laplace`).
 2. Two optima are distinct modes when some parameter differs by more than
    :data:`SEPARATION_WIDTHS` Laplace standard deviations (the larger of the
    two optima's) and the log-probability along the straight line between
@@ -13,17 +13,18 @@
    (Mahalanobis distance in the parameters that separate the modes); walker
    moves between modes after burn-in are counted, and each mode's fraction
    of the samples is reported (:func:`describe`).
-4. :func:`planetfit.fitting.density_modes.sample_modes` finds separated
+4. :func:`planetfit.fitting.sampling.density_modes.sample_modes` finds separated
    modes in one parameter's samples, for modes the optimiser did not find.
 """
 
 import dataclasses
+import enum
 import math
 
 import numpy as np
 
-from planetfit.fitting.density_modes import BoundaryPile, sample_modes, value_text
-from planetfit.fitting.laplace import laplace_covariance, log_evidence
+from planetfit.fitting.sampling.density_modes import BoundaryPile, sample_modes, value_text
+from planetfit.fitting.sampling.laplace import laplace_covariance, log_evidence
 
 #: Two optima are distinct when some parameter differs by more than this many Laplace widths (sd).
 SEPARATION_WIDTHS = 5.0
@@ -57,7 +58,7 @@ class Mode:
 
     @property
     def log_evidence(self):
-        """Laplace evidence of the mode (:func:`planetfit.fitting.laplace.log_evidence`)."""
+        """Laplace evidence of the mode (:func:`planetfit.fitting.sampling.laplace.log_evidence`)."""
         return log_evidence(self.log_prob, self.cov)
 
 
@@ -147,6 +148,14 @@ def _moves(labels, k=None):
     return int(np.sum(change))
 
 
+class FoundBy(enum.Enum):
+    """Where a group of separated modes was found."""
+
+    OPTIMISER = enum.auto()  # the optimiser's end points, as a chain sampled them
+    CHAIN = enum.auto()  # an MCMC chain's samples, within one of the optimiser's modes
+    WEIGHTS = enum.auto()  # weighted samples (nested sampling's), each mode weighed by its evidence
+
+
 @dataclasses.dataclass
 class ModeGroup:
     """Separated modes of the posterior, as the chain sampled them.
@@ -165,12 +174,12 @@ class ModeGroup:
     fractions: list
     jumps: list
     moves: int
-    found_by: str  # "optimiser", "samples" (an MCMC chain's) or "nested" (weighted samples)
+    found_by: FoundBy
 
     @property
     def mixed(self):
         """Whether every mode's fraction is measured: at least MIN_JUMPS moves and sd(f) <= MAX_FRACTION_SD."""
-        if self.found_by == "nested":  # weighed by their evidence, not by walkers moving between them
+        if self.found_by is FoundBy.WEIGHTS:  # weighed by their evidence, not by walkers moving between them
             return True
         return all(
             j >= MIN_JUMPS and 2 * f * (1 - f) / math.sqrt(j) <= MAX_FRACTION_SD
@@ -185,12 +194,12 @@ class ModeGroup:
             for i, (x, sd, lp, f) in enumerate(zip(self.locations, self.sds, self.log_probs, self.fractions))
         ]
         text = f"{name} has {len(listed)} separated modes"
-        if self.found_by == "samples":
+        if self.found_by is FoundBy.CHAIN:
             text += " in the posterior samples that the optimiser did not find"
         if len(self.names) > 1:
             text += f" (also separated in {', '.join(self.names[1:])})"
         text += ": " + (", ".join(listed[:-1]) + " and " + listed[-1])
-        if self.found_by == "nested":
+        if self.found_by is FoundBy.WEIGHTS:
             return text + "; nested sampling weighs each mode by its evidence (fractions of the posterior weight)"
         if self.mixed:
             return text + f"; walkers moved between them {self.moves} times"
@@ -232,7 +241,7 @@ def _optimiser_group(chain, thin, modes, layout):
         fractions=[float(np.mean(flat == k)) for k in range(len(modes))],
         jumps=[_moves(labels, k) for k in range(len(modes))],
         moves=_moves(labels),
-        found_by="optimiser",
+        found_by=FoundBy.OPTIMISER,
     )
     return group, labels
 
@@ -261,7 +270,7 @@ def _sample_group(chain, log_prob, thin, labels, k, params, split, layout):
         fractions=[float(np.mean(flat_sub == m)) for m in indices],
         jumps=[_moves(sub, m) for m in indices],
         moves=_moves(sub),
-        found_by="samples",
+        found_by=FoundBy.CHAIN,
     )
 
 
@@ -341,7 +350,7 @@ def describe_weighted(samples, weights, log_prob, layout):
                 fractions=fractions,
                 jumps=[0] * len(fractions),
                 moves=0,
-                found_by="nested",
+                found_by=FoundBy.WEIGHTS,
             )
         )
     return groups + piles

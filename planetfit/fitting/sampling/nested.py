@@ -30,14 +30,15 @@ import numpy as np
 from threadpoolctl import threadpool_limits
 
 from planetfit.core.errors import InputError
-from planetfit.fitting import checkpoint as signed_checkpoint
-from planetfit.fitting import modes as mode_finding
-from planetfit.fitting.mcmc import redrawn_progress
+from planetfit.fitting.sampling import checkpoint as signed_checkpoint
+from planetfit.fitting.sampling import modes as mode_finding
+from planetfit.fitting.sampling.mcmc import redrawn_progress
 from planetfit.fitting.workers import WorkerProcesses
+from planetfit.inputs.schema import SamplingMethod
 
 log = logging.getLogger("planetfit")
 
-#: dynesty's checkpoint file in the run directory (signed: :mod:`planetfit.fitting.checkpoint`).
+#: dynesty's checkpoint file in the run directory (signed: :mod:`planetfit.fitting.sampling.checkpoint`).
 CHECKPOINT = "nested_checkpoint.pkl"
 #: Seconds between checkpoints.
 CHECKPOINT_SECONDS = 60.0
@@ -117,7 +118,7 @@ class NestedResult:
     def summary(self):
         """The ``sampling`` block of summary.json."""
         return {
-            "method": "nested",
+            "method": SamplingMethod.NESTED.value,
             "live_points": int(self.live_points),
             "iterations": int(self.iterations),
             "likelihood_calls": int(self.likelihood_calls),
@@ -147,7 +148,7 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
     Parameters
     ----------
     posterior : JointPosterior
-    settings : Sampling
+    settings : NestedSettings
         ``live_points``, ``dlogz``, ``min_effective_samples``, ``max_likelihood_calls``.
     checkpoint : Path
         dynesty's checkpoint file, written every minute; continued when ``resume``.
@@ -169,7 +170,7 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
     loglike = _Shared("log_likelihood", lambda theta: float(posterior.log_likelihood_many(theta[None, :])[0]))
     transform = _Shared("prior_transform", layout.from_unit_cube)
     try:
-        # One likelihood is too small a job for threaded BLAS (see planetfit.fitting.mcmc.run_sampler).
+        # One likelihood is too small a job for threaded BLAS (see planetfit.fitting.sampling.mcmc.run_sampler).
         with threadpool_limits(limits=1), WorkerProcesses(posterior, cores) as workers:
             pool = _Pool(workers) if cores > 1 else None
             resume = resume and checkpoint.exists()

@@ -1,12 +1,12 @@
 """The burn-in of the staged sampler: differential evolution, then a proposal fitted to its later half.
 
 The walkers start at the optimiser's modes and move with differential
-evolution alone (:func:`planetfit.fitting.mcmc.walker_moves`) until the
+evolution alone (:func:`planetfit.fitting.sampling.mcmc.walker_moves`) until the
 burn-in is :data:`BURN_IN_TAUS` of its own autocorrelation times long
 (checked every ``check_every`` steps from ``2 * check_every`` on: a short
 chain's estimate is low; at most ``max_steps // 4`` steps).
 Its later half, each sample assigned to its mode, gives the
-:class:`planetfit.fitting.proposal.FittedProposal`. The burn-in is not kept:
+:class:`planetfit.fitting.sampling.proposal.FittedProposal`. The burn-in is not kept:
 the chain that is kept starts at its last positions with the proposal
 fixed, so it is a Markov chain with one transition kernel.
 """
@@ -16,8 +16,8 @@ import logging
 import emcee
 import numpy as np
 
-from planetfit.fitting import modes as mode_finding
-from planetfit.fitting.proposal import FittedProposal
+from planetfit.fitting.sampling import modes as mode_finding
+from planetfit.fitting.sampling.proposal import FittedProposal
 
 log = logging.getLogger("planetfit")
 
@@ -37,7 +37,7 @@ def run_burn_in(evaluate, initial, moves, modes, settings, random_state):
         The differential-evolution moves of the chain.
     modes : list of Mode
         The optimiser's modes; the proposal has one component per mode.
-    settings : SamplingConfig
+    settings : McmcSettings
         ``check_every`` and ``max_steps``.
     random_state : tuple
         State of a ``numpy.random.RandomState`` for emcee.

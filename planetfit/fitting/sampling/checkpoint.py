@@ -7,8 +7,11 @@ an HMAC-SHA256 digest (:mod:`planetfit.core.signing`) in front of the same
 pickle; :func:`restore` checks it before dynesty reads a byte of it.
 """
 
+import contextlib
+import importlib
 import os
 import pickle
+import sys
 import tempfile
 from pathlib import Path
 
@@ -18,6 +21,8 @@ from planetfit.core import signing
 
 #: dynesty's own checkpoint layout (``dynesty.utils.save_sampler``), format 1.
 _FORMAT_VERSION = 1
+#: Modules a checkpoint of an earlier planetfit names that have moved since: old name -> new name.
+MOVED_MODULES = {"planetfit.fitting.nested": "planetfit.fitting.sampling.nested"}
 
 
 class _SignedSave:
@@ -55,4 +60,18 @@ def restore(path, pool):
     with tempfile.TemporaryDirectory() as folder:  # private (mode 0700): dynesty reads the checked bytes from here
         copy = Path(folder) / "checkpoint.pkl"
         copy.write_bytes(payload)
-        return attach(dynesty.NestedSampler.restore(str(copy), pool=pool))
+        with moved_modules():
+            return attach(dynesty.NestedSampler.restore(str(copy), pool=pool))
+
+
+@contextlib.contextmanager
+def moved_modules():
+    """While unpickling, the old names of :data:`MOVED_MODULES` find the modules at their new place."""
+    added = [old for old in MOVED_MODULES if old not in sys.modules]
+    for old in added:
+        sys.modules[old] = importlib.import_module(MOVED_MODULES[old])
+    try:
+        yield
+    finally:
+        for old in added:
+            sys.modules.pop(old, None)

@@ -3,11 +3,11 @@
 1. Maxima: bounded and local Powell searches from the prior's centre, the
    most probable of 2,000 draws from the prior, random ones of them and,
    for planets fitted from RVs with a wide period prior, the highest
-   periodogram peaks (:mod:`planetfit.fitting.periodogram`). Every search's
-   end point is kept; :mod:`planetfit.fitting.modes` tells which are
+   periodogram peaks (:mod:`planetfit.fitting.sampling.periodogram`). Every search's
+   end point is kept; :mod:`planetfit.fitting.sampling.modes` tells which are
    distinct modes.
 2. Walkers start from the Laplace approximation around each mode
-   (:mod:`planetfit.fitting.laplace`), so burn-in is short.
+   (:mod:`planetfit.fitting.sampling.laplace`), so burn-in is short.
 """
 
 import logging
@@ -115,7 +115,8 @@ def find_map(log_prob, layout, rng, starts, processes=None, seeds=()):
 def initial_walkers(evaluate, layout, mode, nwalkers, rng):
     """Walker positions drawn from a mode's Laplace approximation, each with finite probability.
 
-    ``mode`` is a :class:`planetfit.fitting.modes.Mode`; ``evaluate`` maps an (n, ndim) batch to its log-probabilities.
+    ``mode`` is a :class:`planetfit.fitting.sampling.modes.Mode`; ``evaluate`` maps an (n, ndim) batch to its
+    log-probabilities.
     """
     _, _, lo, hi = layout.geometry()
     theta, cov = mode.theta, mode.cov

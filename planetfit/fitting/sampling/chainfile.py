@@ -18,12 +18,14 @@ from emcee.ensemble import walkers_independent
 
 from planetfit.core.errors import InputError
 from planetfit.core.storage import require_room
-from planetfit.fitting.modes import Mode
-from planetfit.fitting.proposal import FittedProposal
+from planetfit.fitting.sampling.modes import Mode
+from planetfit.fitting.sampling.proposal import FittedProposal
+from planetfit.inputs.schema import SamplingMethod
 
 #: The chain's group (emcee's) and planetfit's group in samples.h5.
 CHAIN_GROUP, FACTS_GROUP, MODES_GROUP = "chain", "planetfit", "modes"
-NESTED_GROUP, PROPOSAL_GROUP = "nested", "proposal"
+#: A nested-sampling run's group is named after its method (as in every earlier samples.h5).
+NESTED_GROUP, PROPOSAL_GROUP = SamplingMethod.NESTED.value, "proposal"
 #: Attribute of the chain group: seconds the run has taken so far, over all its segments.
 SECONDS_ATTR = "planetfit_seconds"
 #: Room kept beyond twice the steps' bytes for HDF5's chunks and metadata when flushing.
@@ -237,7 +239,7 @@ def write_nested(h5_path, names, facts, result):
 
 def _read_samples(h5_path, facts):
     """The posterior samples of a run: the nested run's equal-weight ones, or the chain without burn-in, thinned."""
-    if facts.get("method") == "nested":
+    if SamplingMethod.of_facts(facts).weighted:
         with h5py.File(h5_path, "r") as fh:
             return fh[NESTED_GROUP]["samples"][()]
     backend = emcee.backends.HDFBackend(str(h5_path), name=CHAIN_GROUP, read_only=True)

@@ -2,7 +2,7 @@
 
 emcee's ensemble sampler (Foreman-Mackey et al. 2013, PASP 125, 306) with
 differential-evolution moves (ter Braak 2006; Nelson et al. 2014), every
-step written to samples.h5 (:mod:`planetfit.fitting.chainfile`), which can
+step written to samples.h5 (:mod:`planetfit.fitting.sampling.chainfile`), which can
 be resumed. emcee's snooker move is not used: in emcee 3.1.6 its step is
 not a unit-vector projection and its acceptance factor is half of ter Braak
 & Vrugt's (2008) (d - 1) ln(|q - z| / |x - z|), so it does not keep the
@@ -10,7 +10,7 @@ target distribution (see :func:`walker_moves`). The chain stops when it is
 longer than ``autocorr_factor`` times the largest integrated
 autocorrelation time (over parameters), that estimate changed by less
 than ``autocorr_tolerance`` since the last check, and the bulk effective
-sample size of every parameter after burn-in (:mod:`planetfit.fitting.ess`)
+sample size of every parameter after burn-in (:mod:`planetfit.fitting.sampling.ess`)
 is at least ``min_effective_samples`` -- what a paper's uncertainties rest
 on -- or at ``max_steps``. Split R-hat over walkers is not a stopping
 target: walkers of one ensemble are not independent chains, and their
@@ -31,9 +31,9 @@ samples. Each finding is a warning.
 
 With ``sampling.moves: fitted_proposal`` the chain is staged: a burn-in of
 differential evolution, not kept, fits a proposal to the posterior
-(:mod:`planetfit.fitting.burnin`), and the kept chain mixes differential
+(:mod:`planetfit.fitting.sampling.burnin`), and the kept chain mixes differential
 evolution with an independence move drawing from that fixed proposal
-(:mod:`planetfit.fitting.proposal`), with weight :data:`INDEPENDENCE_WEIGHT`.
+(:mod:`planetfit.fitting.sampling.proposal`), with weight :data:`INDEPENDENCE_WEIGHT`.
 """
 
 import dataclasses
@@ -45,14 +45,15 @@ import emcee
 import numpy as np
 from threadpoolctl import threadpool_limits
 
-from planetfit.fitting import modes as mode_finding
-from planetfit.fitting.burnin import run_burn_in
-from planetfit.fitting.chainfile import load_modes, load_proposal, open_chain, save_modes, save_proposal
-from planetfit.fitting.ess import bulk_ess
-from planetfit.fitting.optimiser import find_map, initial_walkers
-from planetfit.fitting.periodogram import periodogram_starts
-from planetfit.fitting.proposal import IndependenceMove
+from planetfit.fitting.sampling import modes as mode_finding
+from planetfit.fitting.sampling.burnin import run_burn_in
+from planetfit.fitting.sampling.chainfile import load_modes, load_proposal, open_chain, save_modes, save_proposal
+from planetfit.fitting.sampling.ess import bulk_ess
+from planetfit.fitting.sampling.optimiser import find_map, initial_walkers
+from planetfit.fitting.sampling.periodogram import periodogram_starts
+from planetfit.fitting.sampling.proposal import IndependenceMove
 from planetfit.fitting.workers import WorkerProcesses
+from planetfit.inputs.schema import WalkerMoves
 
 log = logging.getLogger("planetfit")
 
@@ -70,9 +71,9 @@ def walker_moves(several_modes=False, proposal=None):
     walker moves by the whole difference of two others, from one mode to
     another when they lie in different modes (ter Braak 2006, Stat. Comput.
     16, 239, sect. 3). Single-mode chains keep the plain move. With a
-    ``proposal`` (:class:`planetfit.fitting.proposal.FittedProposal`), these
+    ``proposal`` (:class:`planetfit.fitting.sampling.proposal.FittedProposal`), these
     take ``1 - INDEPENDENCE_WEIGHT`` of the moves and an
-    :class:`planetfit.fitting.proposal.IndependenceMove` the rest.
+    :class:`planetfit.fitting.sampling.proposal.IndependenceMove` the rest.
 
     Notes
     -----
@@ -108,9 +109,9 @@ class SamplingResult:
     autocorr_history: list  # [(step, max tau)]
     warnings: list = dataclasses.field(default_factory=list)  # every warning of the sampling stage
     modes: list = dataclasses.field(default_factory=list)  # {parameter, location, ln_p, fraction} per mode
-    moves: str = "differential_evolution"  # sampling.moves
+    moves: WalkerMoves = WalkerMoves.DIFFERENTIAL_EVOLUTION  # sampling.moves
     burn_in_steps: int = 0  # steps of the staged sampler's burn-in, not kept (none for differential evolution)
-    min_bulk_ess: float = 0.0  # smallest bulk effective sample size over parameters (planetfit.fitting.ess)
+    min_bulk_ess: float = 0.0  # smallest bulk effective sample size over parameters (planetfit.fitting.sampling.ess)
     phase_seconds: dict = dataclasses.field(default_factory=dict)  # wall seconds: optimiser, sampling
 
     def summary(self):
@@ -123,7 +124,7 @@ class SamplingResult:
             "acceptance_fraction": round(self.acceptance_fraction, 4),
             "converged": bool(self.converged),
             "seconds": round(self.seconds, 1),
-            "moves": self.moves,
+            "moves": self.moves.value,
             "burn_in_steps": int(self.burn_in_steps),
             "min_bulk_ess": round(float(self.min_bulk_ess)),
             "phase_seconds": {k: round(v, 1) for k, v in self.phase_seconds.items()},
@@ -144,7 +145,7 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
         Callable on one sampler vector (the optimiser's calls) with
         ``log_prob_many`` for batches (the walkers', evaluated together).
     layout : ParameterLayout
-    settings : SamplingConfig
+    settings : McmcSettings
     h5_path : Path
         The chain file; written every step, continued when ``resume``.
     rng : numpy.random.Generator
@@ -191,10 +192,15 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
             backend.flush()
     seconds = time.perf_counter() - start  # this segment's, for its phases
     result = _result(backend, settings, nwalkers, converged, history, backend.seconds, modes, layout)
-    result.moves, result.burn_in_steps = ("fitted_proposal" if proposal else "differential_evolution"), burn_in
+    result.moves, result.burn_in_steps = _moves_of(proposal), burn_in
     result.phase_seconds = {"optimiser": optimiser_seconds, "sampling": seconds - optimiser_seconds}
     log.info("optimiser %.1f s, sampling %.1f s (wall)", optimiser_seconds, seconds - optimiser_seconds)
     return result
+
+
+def _moves_of(proposal):
+    """``sampling.moves`` of a chain: staged if it has a fitted proposal (new, or read back for a resume)."""
+    return WalkerMoves.DIFFERENTIAL_EVOLUTION if proposal is None else WalkerMoves.FITTED_PROPOSAL
 
 
 def _start(log_prob, layout, settings, rng, workers, nwalkers, h5_path):
@@ -215,7 +221,7 @@ def _start(log_prob, layout, settings, rng, workers, nwalkers, h5_path):
         log.info("walkers per mode: %s", ", ".join(str(n) for n in counts))
     initial = np.concatenate([initial_walkers(workers, layout, m, n, rng) for m, n in zip(modes, counts) if n > 0])
     optimiser_seconds = time.perf_counter() - start
-    if settings.moves != "fitted_proposal":
+    if WalkerMoves(settings.moves) is not WalkerMoves.FITTED_PROPOSAL:
         return initial, modes, None, 0, optimiser_seconds
     proposal, initial, burn_in = run_burn_in(
         workers, initial, walker_moves(len(modes) > 1), modes, settings, _random_state(rng)
@@ -230,7 +236,7 @@ def _random_state(rng):
 
 
 def _find_modes(log_prob, layout, settings, rng, evaluate):
-    """The distinct modes among the optimiser's end points (:func:`planetfit.fitting.modes.distinct_modes`)."""
+    """The distinct modes among the optimiser's end points (:func:`planetfit.fitting.sampling.modes.distinct_modes`)."""
     centre, scale, _, _ = layout.geometry()
     ends = find_map(
         log_prob, layout, rng, settings.optimiser_starts, evaluate, seeds=periodogram_starts(log_prob, layout, centre)

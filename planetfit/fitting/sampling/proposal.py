@@ -1,7 +1,7 @@
 """An independence Metropolis-Hastings move whose proposal is fitted to the samples of a burn-in.
 
 The proposal is a mixture of multivariate Student-t distributions, one per
-mode of the posterior (:mod:`planetfit.fitting.modes`), each with the mean
+mode of the posterior (:mod:`planetfit.fitting.sampling.modes`), each with the mean
 and covariance of that mode's burn-in samples. A walker at x proposes
 x' ~ g independently of x and accepts with probability
 min(1, p(x') g(x) / (p(x) g(x'))) (Hastings 1970, Biometrika 57, 97;
