@@ -13,7 +13,7 @@ modes (:mod:`.modes`, :mod:`.density_modes`) and samples.h5
 
 The model side (parameters, components, likelihoods, linear parameters,
 the joint posterior, predictions) stays in :mod:`planetfit.fitting`: it is
-what is sampled, and samplers see only ``JointPosterior``'s
+what is sampled, and samplers see only ``LogProbability``'s
 ``log_prob_many`` / ``log_likelihood_many`` and its ``layout``.
 :mod:`planetfit.fitting.workers` stays there too: the posterior's
 ``complete`` also shares its batches among processes.
