@@ -98,8 +98,8 @@ def simulate_system(seed, folder, steps, moves=None):
 
     Returns
     -------
-    (config, posterior, values, orbits)
-        The loaded config, the posterior of the simulated data, and the
+    (config, log_prob, values, orbits)
+        The loaded config, the log-probability of the simulated data, and the
         true parameter values and orbits.
     """
     from planetfit.fitting import predictions
@@ -111,7 +111,7 @@ def simulate_system(seed, folder, steps, moves=None):
     folder = Path(folder)
     t_phot = PHOT_START_BJD + np.arange(0, PHOT_DAYS, CADENCE_MIN / (24 * 60))
     t_rv = np.sort(rng.uniform(PHOT_START_BJD - 15, PHOT_START_BJD + 15, N_RV))
-    # Placeholder tables give the posterior the observation times; the model then makes the data.
+    # Placeholder tables give the log-probability the observation times; the model then makes the data.
     _write_table(folder / "phot.csv", [t_phot, np.ones_like(t_phot), np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
     _write_table(folder / "rv.csv", [t_rv, np.zeros(N_RV), np.full(N_RV, RV_ERROR_MS)], "t,v,e")
     (folder / "config.yaml").write_text(

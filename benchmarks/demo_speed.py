@@ -5,7 +5,7 @@ same seed: first as before issue 26 (``sampling.linear_parameters: sampled``
 where the config schema knows that key, ``autocorr_factor: 100`` and
 differential evolution alone), then as shipped (``planetfit/demo/demo.yaml``:
 the default stopping rule and marginalisation, the staged sampler). With
-``--demo-samplers`` both samplers also run on the demo posterior, one after
+``--demo-samplers`` both samplers also run on the demo's log-probability, one after
 the other from the same seed (so the same optimiser end points), with the
 config's convergence rule. CPU seconds are this process's user + system time
 and its finished children's (they do not count time the process waits for a
@@ -50,7 +50,7 @@ SAMPLERS = ("differential_evolution", "fitted_proposal")
 
 
 class CountingLogProbability:
-    """A posterior that counts its evaluations (one process: ``cores=1``)."""
+    """A log-probability that counts its evaluations (one process: ``cores=1``)."""
 
     def __init__(self, log_prob):
         self.log_prob, self.evaluations = log_prob, 0
@@ -81,7 +81,7 @@ class TimedStart:
 
 
 def sample_once(checked, moves, folder):
-    """One ``run_sampler`` of the demo posterior with ``sampling.moves = moves``; its facts and costs."""
+    """One ``run_sampler`` of the demo's log-probability with ``sampling.moves = moves``; its facts and costs."""
     log_prob = CountingLogProbability(checked.log_probability)
     settings = checked.config.sampling.model_copy(update={"moves": moves})
     start, original = TimedStart(mcmc._find_modes, log_prob), mcmc._find_modes

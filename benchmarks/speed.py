@@ -237,7 +237,7 @@ class PlainLogProbability:
     ----------
     log_prob : LogProbability
         Supplies the data, the parameter layout and the prior (shared, so
-        both compute the same posterior).
+        both compute the same log-probability).
     groups : list of (dataset indices, supersample, exposure_days)
         One ``batman.TransitModel`` per group over the concatenated times.
 

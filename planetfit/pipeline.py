@@ -33,7 +33,7 @@ log = logging.getLogger("planetfit")
 
 @dataclasses.dataclass
 class Checked:
-    """A validated config with its data read and checked, and the posterior of its model."""
+    """A validated config with its data read and checked, and the log-probability of its model."""
 
     config: object
     photometry: list

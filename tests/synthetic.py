@@ -312,7 +312,7 @@ def write_tiny_system(
 
 
 def tiny_log_prob(folder, linear_parameters="sampled", **photometry):
-    """The posterior of the tiny system written into ``folder``, its photometry entry updated with ``photometry``.
+    """The log-probability of the tiny system written into ``folder``, its photometry entry updated with ``photometry``.
 
     Linear parameters are sampled unless ``linear_parameters="marginalised"``: every parameter is in
     ``log_prob.layout``.

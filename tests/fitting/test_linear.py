@@ -17,7 +17,7 @@ from planetfit.fitting.sampling.mcmc import run_sampler
 
 
 def log_probs(path, edit=None):
-    """(marginalised, sampled) log_probs of the config at ``path``, its raw YAML changed by ``edit`` first."""
+    """(marginalised, sampled) log-probabilities of the config at ``path``, its raw YAML changed by ``edit`` first."""
     raw = yaml.safe_load(path.read_text())
     if edit is not None:
         edit(raw)

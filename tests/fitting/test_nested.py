@@ -34,7 +34,7 @@ from planetfit.fitting.sampling.nested import run_nested
 
 
 def nested_fit(config, seed=1):
-    """(NestedResult, posterior) of a config, without the later stages."""
+    """(NestedResult, log-probability) of a config, without the later stages."""
     checked = pipeline.check(config)
     log_prob = checked.log_probability
     checkpoint = config.parent / "checkpoint.pkl"
