@@ -98,12 +98,12 @@ def simulate_system(seed, folder, steps, moves=None):
 
     Returns
     -------
-    (config, posterior, values, orbits)
-        The loaded config, the posterior of the simulated data, and the
+    (config, log_prob, values, orbits)
+        The loaded config, the log-probability of the simulated data, and the
         true parameter values and orbits.
     """
     from planetfit.fitting import predictions
-    from planetfit.fitting.posterior import JointPosterior
+    from planetfit.fitting.log_probability import LogProbability
     from planetfit.inputs.config import load_config
     from planetfit.inputs.datasets import load_all
 
@@ -111,28 +111,30 @@ def simulate_system(seed, folder, steps, moves=None):
     folder = Path(folder)
     t_phot = PHOT_START_BJD + np.arange(0, PHOT_DAYS, CADENCE_MIN / (24 * 60))
     t_rv = np.sort(rng.uniform(PHOT_START_BJD - 15, PHOT_START_BJD + 15, N_RV))
-    # Placeholder tables give the posterior the observation times; the model then makes the data.
+    # Placeholder tables give the log-probability the observation times; the model then makes the data.
     _write_table(folder / "phot.csv", [t_phot, np.ones_like(t_phot), np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
     _write_table(folder / "rv.csv", [t_rv, np.zeros(N_RV), np.full(N_RV, RV_ERROR_MS)], "t,v,e")
     (folder / "config.yaml").write_text(
         yaml.safe_dump(_config(folder / "phot.csv", folder / "rv.csv", steps, seed, moves))
     )
     config = load_config(folder / "config.yaml")
-    post = JointPosterior(config, *load_all(config))
+    log_prob = LogProbability(config, *load_all(config))
     while True:  # a draw from the prior with a transit and a finite probability
-        values = post.model.layout.values(post.model.layout.sample_prior(rng, 1)[0])  # every parameter, linear too
-        orbits = post.orbits(values)
-        if orbits is not None and np.any(predictions.photometry_model(post, values, orbits, 0) < 1):
+        values = log_prob.model.layout.values(
+            log_prob.model.layout.sample_prior(rng, 1)[0]
+        )  # every parameter, linear too
+        orbits = log_prob.orbits(values)
+        if orbits is not None and np.any(predictions.photometry_model(log_prob, values, orbits, 0) < 1):
             break
-    flux = predictions.photometry_model(post, values, orbits, 0) + rng.normal(0, NOISE_PPM * 1e-6, t_phot.size)
+    flux = predictions.photometry_model(log_prob, values, orbits, 0) + rng.normal(0, NOISE_PPM * 1e-6, t_phot.size)
     rv = (
         values["spec.offset_ms"]
-        + predictions.velocity_model(post, values, orbits, 0)
+        + predictions.velocity_model(log_prob, values, orbits, 0)
         + rng.normal(0, RV_ERROR_MS, N_RV)
     )
     _write_table(folder / "phot.csv", [t_phot, flux, np.full(t_phot.size, NOISE_PPM * 1e-6)], "t,f,e")
     _write_table(folder / "rv.csv", [t_rv, rv, np.full(N_RV, RV_ERROR_MS)], "t,v,e")
-    return config, JointPosterior(config, *load_all(config)), values, orbits
+    return config, LogProbability(config, *load_all(config)), values, orbits
 
 
 def fit_one(args):
@@ -143,11 +145,11 @@ def fit_one(args):
     from planetfit.fitting.sampling.mcmc import run_sampler
 
     with tempfile.TemporaryDirectory() as tmp:
-        config, post, values, orbits = simulate_system(seed, tmp, steps, moves)
+        config, log_prob, values, orbits = simulate_system(seed, tmp, steps, moves)
         rng = np.random.default_rng(seed + 1_000_000)  # the fit's own stream, apart from the simulation's
-        result = run_sampler(post, post.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
-        samples = post.complete(result.samples, seed)[0]  # the marginalised linear parameters drawn back in
-        quantities = physics.derive(config, post.model, samples, rng)
+        result = run_sampler(log_prob, log_prob.layout, config.sampling, Path(tmp) / "samples.h5", rng, progress=False)
+        samples = log_prob.complete(result.samples, seed)[0]  # the marginalised linear parameters drawn back in
+        quantities = physics.derive(config, log_prob.model, samples, rng)
         # The RV offset is marginalised while sampling and drawn from its conditional afterwards.
         derived = dict(quantities["planets"]["b"], offset_ms=quantities["parameters"]["spec.offset_ms"])
     true_values = {

@@ -5,7 +5,7 @@ same seed: first as before issue 26 (``sampling.linear_parameters: sampled``
 where the config schema knows that key, ``autocorr_factor: 100`` and
 differential evolution alone), then as shipped (``planetfit/demo/demo.yaml``:
 the default stopping rule and marginalisation, the staged sampler). With
-``--demo-samplers`` both samplers also run on the demo posterior, one after
+``--demo-samplers`` both samplers also run on the demo's log-probability, one after
 the other from the same seed (so the same optimiser end points), with the
 config's convergence rule. CPU seconds are this process's user + system time
 and its finished children's (they do not count time the process waits for a
@@ -49,22 +49,22 @@ from planetfit.inputs.schema.settings import Sampling
 SAMPLERS = ("differential_evolution", "fitted_proposal")
 
 
-class CountingPosterior:
-    """A posterior that counts its evaluations (one process: ``cores=1``)."""
+class CountingLogProbability:
+    """A log-probability that counts its evaluations (one process: ``cores=1``)."""
 
-    def __init__(self, post):
-        self.post, self.evaluations = post, 0
+    def __init__(self, log_prob):
+        self.log_prob, self.evaluations = log_prob, 0
 
     def __call__(self, theta):
         self.evaluations += 1
-        return self.post(theta)
+        return self.log_prob(theta)
 
     def log_prob_many(self, thetas):
         self.evaluations += len(thetas)
-        return self.post.log_prob_many(thetas)
+        return self.log_prob.log_prob_many(thetas)
 
     def __getattr__(self, name):
-        return getattr(self.post, name)
+        return getattr(self.log_prob, name)
 
 
 class TimedStart:
@@ -81,15 +81,15 @@ class TimedStart:
 
 
 def sample_once(checked, moves, folder):
-    """One ``run_sampler`` of the demo posterior with ``sampling.moves = moves``; its facts and costs."""
-    post = CountingPosterior(checked.posterior)
+    """One ``run_sampler`` of the demo's log-probability with ``sampling.moves = moves``; its facts and costs."""
+    log_prob = CountingLogProbability(checked.log_probability)
     settings = checked.config.sampling.model_copy(update={"moves": moves})
-    start, original = TimedStart(mcmc._find_modes, post), mcmc._find_modes
+    start, original = TimedStart(mcmc._find_modes, log_prob), mcmc._find_modes
     mcmc._find_modes = start
     try:
         cpu, wall = cpu_seconds(), time.perf_counter()
         rng = np.random.default_rng(checked.config.seed)
-        result = mcmc.run_sampler(post, post.layout, settings, folder / f"{moves}.h5", rng, progress=False)
+        result = mcmc.run_sampler(log_prob, log_prob.layout, settings, folder / f"{moves}.h5", rng, progress=False)
         cpu, wall = cpu_seconds() - cpu, time.perf_counter() - wall
     finally:
         mcmc._find_modes = original
@@ -105,11 +105,11 @@ def sample_once(checked, moves, folder):
         "optimiser_cpu_seconds": round(start.cpu, 1),
         "optimiser_evaluations": start.evaluations,
         "sampling_cpu_seconds": round(sampling_cpu, 1),
-        "sampling_evaluations": post.evaluations - start.evaluations,
+        "sampling_evaluations": log_prob.evaluations - start.evaluations,
         "wall_seconds_with_optimiser": round(wall, 1),
         "independent_samples_per_cpu_second": round(result.independent_samples / sampling_cpu, 3),
         "independent_samples_per_1000_evaluations": round(
-            1000 * result.independent_samples / (post.evaluations - start.evaluations), 3
+            1000 * result.independent_samples / (log_prob.evaluations - start.evaluations), 3
         ),
         "independent_samples_per_cpu_second_with_optimiser": round(result.independent_samples / cpu, 3),
     }

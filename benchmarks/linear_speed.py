@@ -70,7 +70,7 @@ def checked_pair(folder, edit=None):
 
 def evaluation(checked):
     """CPU microseconds per evaluation in each mode, on the same points (linear ones drawn for the sampled mode)."""
-    marg = checked["marginalised"].posterior
+    marg = checked["marginalised"].log_probability
     rng = np.random.default_rng(1)
     centre, scale, _, _ = marg.layout.geometry()
     draws = centre + 0.02 * scale * rng.standard_normal((20 * WALKERS, centre.size))
@@ -79,10 +79,10 @@ def evaluation(checked):
     best = dict.fromkeys(MODES, np.inf)
     for _ in range(ROUNDS):
         for mode in MODES:
-            post, batch = checked[mode].posterior, points[mode]
+            log_prob, batch = checked[mode].log_probability, points[mode]
             start = time.process_time()
             for _ in range(3):
-                post.log_prob_many(batch)
+                log_prob.log_prob_many(batch)
             best[mode] = min(best[mode], (time.process_time() - start) / (3 * len(batch)))
     out = {f"{mode}_us": round(best[mode] * 1e6, 1) for mode in MODES}
     out["ratio"] = round(best["marginalised"] / best["sampled"], 3)
@@ -101,11 +101,16 @@ def mixing(checked, steps, folder, modes=MODES):
         settings = c.config.sampling.model_copy(update={"max_steps": steps})
         cpu = cpu_seconds()
         result = run_sampler(
-            c.posterior, c.posterior.layout, settings, folder / f"{mode}.h5", np.random.default_rng(7), progress=False
+            c.log_probability,
+            c.log_probability.layout,
+            settings,
+            folder / f"{mode}.h5",
+            np.random.default_rng(7),
+            progress=False,
         )
         chain = emcee.backends.HDFBackend(str(folder / f"{mode}.h5"), name="chain", read_only=True).get_chain()
         tau = emcee.autocorr.integrated_time(chain[result.discard :], tol=0, quiet=True)
-        names = c.posterior.layout.free
+        names = c.log_probability.layout.free
         out[mode] = {
             "cpu_seconds": round(cpu_seconds() - cpu, 1),
             "steps": int(result.steps),

@@ -25,19 +25,19 @@ from planetfit.fitting.components.transit import quadratic_coefficients
 POSITIONS = 28
 
 
-def truth_vector(post):
+def truth_vector(log_prob):
     """Sampler coordinates of the example's truth (flux level 1, jitter 1 m/s)."""
     values = hot_giant.true_parameters()
-    return post.layout.to_sampler(np.array([values[n] for n in post.layout.free]))
+    return log_prob.layout.to_sampler(np.array([values[n] for n in log_prob.layout.free]))
 
 
-def kernel_calls(post, theta):
+def kernel_calls(log_prob, theta):
     """(kernel, its arguments) of every batman call planetfit makes for ``theta``."""
-    v = post.layout.values(theta)
-    o = post.orbits(v)["b"]
+    v = log_prob.layout.values(theta)
+    o = log_prob.orbits(v)["b"]
     per, t0, k = v["b.period_days"], v["b.transit_bjd"], v["b.radius_ratio"]
     u1, u2 = quadratic_coefficients(v["camera.limb_darkening_q1"], v["camera.limb_darkening_q2"])
-    lc = post.model.photometry[0].terms[0].light_curve
+    lc = log_prob.model.photometry[0].terms[0].light_curve
     sin_i, inc = math.sqrt(1 - o.cos_i**2), math.acos(o.cos_i)
     a_m = o.a_over_rstar * v["star.radius_rsun"] * R_SUN_M
     half = lc.half_window_days(per, o.a_over_rstar, k, sin_i, o.eccentricity, o.omega_rad)
@@ -51,9 +51,9 @@ def kernel_calls(post, theta):
     return calls
 
 
-def floor_function(post, thetas):
+def floor_function(log_prob, thetas):
     """A callable running only batman's kernels for every position, and the kernel points per evaluation."""
-    calls = [c for th in thetas for c in kernel_calls(post, th)]
+    calls = [c for th in thetas for c in kernel_calls(log_prob, th)]
 
     def run():
         for kind, geometry, k, u1, u2 in calls:
@@ -68,16 +68,16 @@ def floor_function(post, thetas):
 
 def hot_giant_figures():
     """The hot-giant evaluation figures (planetfit over the batman floor), as a dict."""
-    post = pipeline.check(EXAMPLES["hot-giant"]).posterior
-    centre = truth_vector(post)
+    log_prob = pipeline.check(EXAMPLES["hot-giant"]).log_probability
+    centre = truth_vector(log_prob)
     rng = np.random.default_rng(1)
-    thetas = centre + 1e-4 * post.layout.geometry()[1] * rng.standard_normal((POSITIONS, centre.size))
-    floor, points = floor_function(post, thetas)
+    thetas = centre + 1e-4 * log_prob.layout.geometry()[1] * rng.standard_normal((POSITIONS, centre.size))
+    floor, points = floor_function(log_prob, thetas)
     with threadpool_limits(limits=1):
-        t = race({"planetfit": lambda: post.log_prob_many(thetas), "floor": floor}, POSITIONS)
+        t = race({"planetfit": lambda: log_prob.log_prob_many(thetas), "floor": floor}, POSITIONS)
     planetfit_s, floor_s = t["planetfit"], t["floor"]
     return {
-        "photometry_points": int(post.photometry[0].time.size),
+        "photometry_points": int(log_prob.photometry[0].time.size),
         "kernel_points_per_evaluation": round(points),
         "planetfit_microseconds_per_evaluation": round(planetfit_s * 1e6, 1),
         "floor_microseconds_per_evaluation": round(floor_s * 1e6, 1),

@@ -11,7 +11,7 @@ one thread as :func:`planetfit.fitting.sampling.mcmc.run_sampler` does.
 Figures
 -------
 ratio_vs_plain
-    Log-probability evaluations per second of ``JointPosterior`` (walkers in
+    Log-probability evaluations per second of ``LogProbability`` (walkers in
     batches of 28, as emcee proposes them for 56 walkers) over those of
     a hand-written reference: one ``batman.TransitModel`` over all photometry,
     15 sub-exposures of 30 min everywhere, radvel Keplerians, numpy sums.
@@ -64,7 +64,7 @@ from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega, solv
 from planetfit.core.units import MINUTES_PER_DAY, PPM, R_EARTH_M, R_SUN_M
 from planetfit.demo import generate
 from planetfit.fitting.components.transit import quadratic_coefficients
-from planetfit.fitting.posterior import JointPosterior
+from planetfit.fitting.log_probability import LogProbability
 
 POSITIONS = 28  # parameter vectors per batch: half of 56 walkers, as emcee's moves propose them
 NAIVE_SUPERSAMPLE = 15  # sub-exposures of the plain reference, everywhere
@@ -195,7 +195,7 @@ def write_dataset(folder, sectors=SECTORS, sampling=None):
     return path
 
 
-def true_values(post):
+def true_values(log_prob):
     """Physical value of every free parameter at the generator's truth (flux levels 1)."""
     t = generate.TRUTH
     u1, u2 = t["limb_darkening_u"]
@@ -215,29 +215,29 @@ def true_values(post):
             values[f"{p}.{key}"] = t[p][key]
     for name, _, _, jitter, offset in SPECTROGRAPHS:
         values[f"{name}.offset_ms"], values[f"{name}.jitter_ms"] = offset, jitter
-    for d in post.photometry:
+    for d in log_prob.photometry:
         values[f"{d.name}.flux_level"] = 1.0
-    return np.array([values[n] for n in post.layout.free])
+    return np.array([values[n] for n in log_prob.layout.free])
 
 
-def positions(post, n, seed=1):
+def positions(log_prob, n, seed=1):
     """``n`` sampler-coordinate vectors scattered by 1e-4 of the prior widths around the truth."""
-    _, scale, _, _ = post.layout.geometry()
-    centre = post.layout.to_sampler(true_values(post))
+    _, scale, _, _ = log_prob.layout.geometry()
+    centre = log_prob.layout.to_sampler(true_values(log_prob))
     rng = np.random.default_rng(seed)
     out = centre + 1e-4 * scale * rng.standard_normal((n, centre.size))
-    assert all(math.isfinite(post(x)) for x in out), "benchmark positions must have finite probability"
+    assert all(math.isfinite(log_prob(x)) for x in out), "benchmark positions must have finite probability"
     return out
 
 
-class PlainPosterior:
+class PlainLogProbability:
     """The joint log-probability written by hand, as a user would without planetfit.
 
     Parameters
     ----------
-    post : JointPosterior
+    log_prob : LogProbability
         Supplies the data, the parameter layout and the prior (shared, so
-        both compute the same posterior).
+        both compute the same log-probability).
     groups : list of (dataset indices, supersample, exposure_days)
         One ``batman.TransitModel`` per group over the concatenated times.
 
@@ -247,15 +247,15 @@ class PlainPosterior:
     the benchmark system.
     """
 
-    def __init__(self, post, groups):
-        self.layout, self.planets, self.velocities = post.layout, post.planets, post.velocities
+    def __init__(self, log_prob, groups):
+        self.layout, self.planets, self.velocities = log_prob.layout, log_prob.planets, log_prob.velocities
         self.params = batman.TransitParams()
         p = self.params  # placeholders until the first call; circular orbits
         p.t0, p.per, p.rp, p.a, p.inc, p.ecc, p.w = 0.0, 1.0, 0.01, 10.0, 90.0, 0.0, 90.0
         p.u, p.limb_dark = [0.4, 0.2], "quadratic"
         self.groups = []
         for idx, supersample, exposure in groups:
-            data = [post.photometry[i] for i in idx]
+            data = [log_prob.photometry[i] for i in idx]
             t = np.concatenate([d.time for d in data])
             model = batman.TransitModel(p, t, supersample_factor=supersample, exp_time=exposure)
             self.groups.append(
@@ -316,12 +316,12 @@ class PlainPosterior:
         return lp + ll
 
 
-def kernel_calls(post, theta):
+def kernel_calls(log_prob, theta):
     """Arguments of every batman kernel call planetfit makes for ``theta`` (in-window, supersampled)."""
-    v = post.layout.values(theta)
-    orbits = post.orbits(v)
+    v = log_prob.layout.values(theta)
+    orbits = log_prob.orbits(v)
     calls = []
-    for d, model in zip(post.photometry, post.model.photometry):
+    for d, model in zip(log_prob.photometry, log_prob.model.photometry):
         u1, u2 = quadratic_coefficients(v[f"{d.band}.limb_darkening_q1"], v[f"{d.band}.limb_darkening_q2"])
         for p, lc in ((t.planet, t.light_curve) for t in model.terms):
             o, n = orbits[p.name], p.name
@@ -333,9 +333,9 @@ def kernel_calls(post, theta):
     return calls
 
 
-def floor_function(post, thetas):
+def floor_function(log_prob, thetas):
     """A callable running only batman's kernels for every position; and the points per evaluation."""
-    calls = [call for th in thetas for call in kernel_calls(post, th)]
+    calls = [call for th in thetas for call in kernel_calls(log_prob, th)]
 
     def run():
         for t, t0, per, a_r, inc, e, w, k, u1, u2 in calls:
@@ -346,22 +346,24 @@ def floor_function(post, thetas):
 
 def evaluation_figures(config_path):
     checked = pipeline.check(config_path)
-    post = JointPosterior(checked.config, checked.photometry, checked.velocities)
-    thetas = positions(post, POSITIONS)
+    log_prob = LogProbability(checked.config, checked.photometry, checked.velocities)
+    thetas = positions(log_prob, POSITIONS)
     phot = checked.photometry
-    naive = PlainPosterior(post, [(list(range(len(phot))), NAIVE_SUPERSAMPLE, NAIVE_EXPOSURE_MIN / MINUTES_PER_DAY)])
-    per_dataset = PlainPosterior(
-        post, [([i], post.model.exposures[d.name].supersample, d.exposure_days) for i, d in enumerate(phot)]
+    naive = PlainLogProbability(
+        log_prob, [(list(range(len(phot))), NAIVE_SUPERSAMPLE, NAIVE_EXPOSURE_MIN / MINUTES_PER_DAY)]
     )
-    floor, floor_points = floor_function(post, thetas)
-    planetfit_lp = post.log_prob_many(thetas)
+    per_dataset = PlainLogProbability(
+        log_prob, [([i], log_prob.model.exposures[d.name].supersample, d.exposure_days) for i, d in enumerate(phot)]
+    )
+    floor, floor_points = floor_function(log_prob, thetas)
+    planetfit_lp = log_prob.log_prob_many(thetas)
 
     def one_at_a_time(fn):
         return lambda: [fn(x) for x in thetas]
 
     contenders = {
-        "planetfit": lambda: post.log_prob_many(thetas),
-        "planetfit_one_at_a_time": one_at_a_time(post),
+        "planetfit": lambda: log_prob.log_prob_many(thetas),
+        "planetfit_one_at_a_time": one_at_a_time(log_prob),
         "plain": one_at_a_time(naive),
         "plain_per_dataset": one_at_a_time(per_dataset),
         "floor": floor,

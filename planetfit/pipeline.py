@@ -17,7 +17,7 @@ from planetfit.context import blocks, derived, diagnostics, dynamics, stellar_de
 from planetfit.context.light import light_warnings
 from planetfit.core.errors import InputError
 from planetfit.core.units import PPM
-from planetfit.fitting.posterior import JointPosterior
+from planetfit.fitting.log_probability import LogProbability
 from planetfit.fitting.sampling import chainfile, sampler_for
 from planetfit.inputs.config import load_config
 from planetfit.inputs.datasets import load_all
@@ -33,30 +33,30 @@ log = logging.getLogger("planetfit")
 
 @dataclasses.dataclass
 class Checked:
-    """A validated config with its data read and checked, and the posterior of its model."""
+    """A validated config with its data read and checked, and the log-probability of its model."""
 
     config: object
     photometry: list
     velocities: list
-    posterior: JointPosterior
+    log_probability: LogProbability
 
     @property
     def warnings(self):
         """Every warning of reading the data and building the model, in dataset order."""
         return [
             w for d in self.photometry + self.velocities for w in d.reading.warnings
-        ] + self.posterior.model.warnings
+        ] + self.log_probability.model.warnings
 
     def data_counts(self):
         """The ``data`` block of summary.json: each dataset's counts, with its sub-exposures for light curves."""
         out = {d.name: d.counts() for d in self.photometry + self.velocities}
-        for name, choice in self.posterior.model.exposures.items():
+        for name, choice in self.log_probability.model.exposures.items():
             out[name].update(supersample=choice.supersample, integration_error_ppm=choice.error_ppm)
         return out
 
     def manifest(self):
         """The manifest of this config and its data as they are now (:mod:`planetfit.rundir.manifest`)."""
-        return manifest.build(self.config, rundir.resolved_config(self.config), self.posterior.layout.free)
+        return manifest.build(self.config, rundir.resolved_config(self.config), self.log_probability.layout.free)
 
 
 @dataclasses.dataclass
@@ -111,7 +111,7 @@ def check(config_path, output=None, sampling_method=None):
     """Validate the config, read and check every dataset, build the model; fit nothing."""
     config = load_config(config_path, output=output, sampling_method=sampling_method)
     phot, rvs = load_all(config)
-    return Checked(config, phot, rvs, JointPosterior(config, phot, rvs))
+    return Checked(config, phot, rvs, LogProbability(config, phot, rvs))
 
 
 def _reading_text(d):
@@ -211,7 +211,7 @@ def _claim(checked, directory, resume):
         directory.require_writable()
         if directory.manifest.is_file():
             directory.claim(current, resume)
-        sampler_for(checked.config.sampling).check_resumable(directory, checked.posterior.layout.ndim)
+        sampler_for(checked.config.sampling).check_resumable(directory, checked.log_probability.layout.ndim)
     directory.claim(current, resume)
 
 
@@ -229,13 +229,13 @@ def _log_start(checked, note):
 def _sample(checked, directory, rng, cores, quiet, resume):
     """Sample the posterior with the config's method into the run's samples.h5; return (samples, facts)."""
     sampler = sampler_for(checked.config.sampling)
-    draws = sampler.sample(checked.posterior, directory, rng, cores=cores, progress=not quiet, resume=resume)
+    draws = sampler.sample(checked.log_probability, directory, rng, cores=cores, progress=not quiet, resume=resume)
     return draws.samples, draws.facts
 
 
 def run_warnings(checked, samples):
     """Warnings about the posterior itself: unconstrained parameters, jitters far above the errors."""
-    layout = checked.posterior.model.layout
+    layout = checked.log_probability.model.layout
     jitters = [(d.name, float(np.median(d.error)) / PPM, f"{d.name}.jitter_ppm", "ppm") for d in checked.photometry]
     jitters += [(d.name, float(np.median(d.error)), f"{d.name}.jitter_ms", "m/s") for d in checked.velocities]
     return diagnostics.unconstrained_warnings(layout, samples) + diagnostics.jitter_warnings(layout, samples, jitters)
@@ -243,13 +243,13 @@ def run_warnings(checked, samples):
 
 def _derive(checked, samples):
     """Derived quantities of the samples with their context (the same draws for the same seed), and the blocks."""
-    config, post = checked.config, checked.posterior
+    config, log_prob = checked.config, checked.log_probability
     rng = np.random.default_rng([config.seed, 1])
-    quantities = derived.derive(config, post.model, samples, rng)
-    quantities["parameter_names"] = post.model.layout.free
-    quantities["sampled_names"] = post.layout.free
-    context = blocks.add_context(config, post.model, quantities, rng)
-    quantities["transit_times"] = transit_times.transit_times(post.model, config, quantities["parameters"])
+    quantities = derived.derive(config, log_prob.model, samples, rng)
+    quantities["parameter_names"] = log_prob.model.layout.free
+    quantities["sampled_names"] = log_prob.layout.free
+    context = blocks.add_context(config, log_prob.model, quantities, rng)
+    quantities["transit_times"] = transit_times.transit_times(log_prob.model, config, quantities["parameters"])
     for name, timing in quantities["transit_times"].items():
         context[name].update(timing.block())
     return quantities, context
@@ -257,7 +257,7 @@ def _derive(checked, samples):
 
 def complete(checked, samples, cores=1):
     """The sampler's samples with the marginalised linear parameters drawn in (seeded by the config), and warnings."""
-    return checked.posterior.complete(samples, checked.config.seed, cores)
+    return checked.log_probability.complete(samples, checked.config.seed, cores)
 
 
 def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
@@ -270,13 +270,13 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     figures, report.html), join the sampler's in
     ``summary.json["sampling"]["phase_seconds"]`` and run.log.
     """
-    config, post = checked.config, checked.posterior
+    config, log_prob = checked.config, checked.log_probability
     directory, since = rundir.RunDirectory(run_dir), time.time()
     phases, start = dict(sampling_facts.get("phase_seconds") or {}), time.perf_counter()
     samples, linear_warnings = complete(checked, samples, cores)
     quantities, context = _derive(checked, samples)
     stability, stability_warnings = dynamics.dynamics_block(
-        config, post.model, quantities, np.random.default_rng([config.seed, 2])
+        config, log_prob.model, quantities, np.random.default_rng([config.seed, 2])
     )
     phases["derived"] = time.perf_counter() - start
     if config.sampling.kind.has_walkers:  # posterior.nc, R-hat and ESS read emcee's walkers
@@ -284,7 +284,7 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     else:  # nested runs have ln Z instead
         stats, stats_warnings = {}, []
     density, density_warnings = stellar_density.density_check(
-        config, post.model, quantities, np.random.default_rng([config.seed, 3])
+        config, log_prob.model, quantities, np.random.default_rng([config.seed, 3])
     )
     new = (
         linear_warnings
@@ -298,7 +298,7 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
         log.warning("WARNING: %s", warning)
     warnings = checked.warnings + list(sampling_facts.get("warnings", [])) + new
     content = summary_out.build_summary(
-        config, post.model, quantities, context, dict(sampling_facts, **stats, warnings=warnings)
+        config, log_prob.model, quantities, context, dict(sampling_facts, **stats, warnings=warnings)
     )
     content["star"].update(density)
     content["data"] = checked.data_counts()
@@ -308,7 +308,7 @@ def finish(run_dir, checked, samples, sampling_facts, figures=True, cores=1):
     summary_out.write_posterior_csv(directory.posterior_csv, quantities)
     if quantities["transit_times"]:
         write_transit_times_csv(directory.transit_times, quantities["transit_times"])
-    outputs.write_all(directory, checked, post, samples, quantities, summary, figures=figures, cores=cores)
+    outputs.write_all(directory, checked, log_prob, samples, quantities, summary, figures=figures, cores=cores)
     phases["figures_and_report"] = time.perf_counter() - start - phases["derived"]
     summary.sampling.phase_seconds = {k: round(v, 1) for k, v in phases.items()}
     write_text_atomic(directory.summary, summary.to_text())  # last, once: a summary.json marks a finished run

@@ -65,13 +65,13 @@ def interrupted_nested_run(folder, monkeypatch, live_points, after_calls):
     """Start a nested fit of planet b (RV seed 4) with a checkpoint at every iteration, and stop it by a
     KeyboardInterrupt after ``after_calls`` likelihood calls. Returns (config path, times, RVs)."""
     from planetfit import pipeline
-    from planetfit.fitting.posterior import JointPosterior
+    from planetfit.fitting.log_probability import LogProbability
     from planetfit.fitting.sampling import nested
 
     t, rv = rv_data(4, {"b": planet_truth(PERIOD, TC, K_MS)})
     config = write_rv_model(folder, t, rv, {"b": circular()}, live_points=live_points)
     monkeypatch.setattr(nested, "CHECKPOINT_SECONDS", 0.0)
-    calls, original = [0], JointPosterior.log_likelihood_many
+    calls, original = [0], LogProbability.log_likelihood_many
 
     def interrupted(self, thetas):
         calls[0] += 1
@@ -79,8 +79,8 @@ def interrupted_nested_run(folder, monkeypatch, live_points, after_calls):
             raise KeyboardInterrupt
         return original(self, thetas)
 
-    monkeypatch.setattr(JointPosterior, "log_likelihood_many", interrupted)
+    monkeypatch.setattr(LogProbability, "log_likelihood_many", interrupted)
     with pytest.raises(KeyboardInterrupt):
         pipeline.run(config, quiet=True, figures=False)
-    monkeypatch.setattr(JointPosterior, "log_likelihood_many", original)
+    monkeypatch.setattr(LogProbability, "log_likelihood_many", original)
     return config, t, rv

@@ -311,12 +311,13 @@ def write_tiny_system(
     return write_config(folder, config)
 
 
-def tiny_posterior(folder, linear_parameters="sampled", **photometry):
-    """The posterior of the tiny system written into ``folder``, its photometry entry updated with ``photometry``.
+def tiny_log_prob(folder, linear_parameters="sampled", **photometry):
+    """The log-probability of the tiny system written into ``folder``, its photometry entry updated with ``photometry``.
 
-    Linear parameters are sampled unless ``linear_parameters="marginalised"``: every parameter is in ``post.layout``.
+    Linear parameters are sampled unless ``linear_parameters="marginalised"``: every parameter is in
+    ``log_prob.layout``.
     """
-    from planetfit.fitting.posterior import JointPosterior
+    from planetfit.fitting.log_probability import LogProbability
     from planetfit.pipeline import check
 
     path = write_tiny_system(folder)
@@ -325,4 +326,4 @@ def tiny_posterior(folder, linear_parameters="sampled", **photometry):
     raw["sampling"]["linear_parameters"] = linear_parameters
     path.write_text(yaml.safe_dump(raw))
     checked = check(path)
-    return JointPosterior(checked.config, checked.photometry, checked.velocities)
+    return LogProbability(checked.config, checked.photometry, checked.velocities)

@@ -4,6 +4,7 @@
 """
 
 import ast
+import dataclasses
 import importlib
 import pkgutil
 import re
@@ -188,3 +189,61 @@ def test_sampler_words_are_decoded_only_in_the_schema(word):
         if p.suffix in (".py", ".j2") and re.search(f"[\"']{word}[\"']", p.read_text())
     }
     assert all(p.startswith("inputs/schema/") for p in places), places
+
+
+#: Every class, module, parameter or attribute named with "posterior" in planetfit/, tests/ and benchmarks/, and
+#: why: each is about posterior samples or their files. The object that scores parameter vectors is
+#: ``LogProbability`` (fitting/log_probability.py), held as ``Checked.log_probability`` and passed as ``log_prob``.
+POSTERIOR_NAMES = {
+    "planetfit/report/figures/common.py: class PosteriorView": "the posterior samples' medians and draws, for figures",
+    "planetfit/context/stellar_density.py: parameter posterior": "the density samples' median and percentiles",
+    "tests/context/test_stellar_density.py: parameter posterior_scale": "a factor on the stand-in density samples",
+}
+
+
+def _posterior_names(path, rel):
+    """``"path: kind name"`` of every module, class, parameter or attribute of ``path`` named with "posterior"."""
+    found = [f"{rel}: module {path.stem}"] if "posterior" in path.stem.lower() else []
+    for node in ast.walk(ast.parse(path.read_text())):
+        if isinstance(node, ast.ClassDef):
+            names = [("class", node.name)] + [("attribute", t.target.id) for t in node.body if _annotated(t)]
+        elif isinstance(node, ast.arguments):
+            names = [("parameter", a.arg) for a in node.posonlyargs + node.args + node.kwonlyargs]
+        elif isinstance(node, ast.Attribute) and isinstance(node.ctx, ast.Store):
+            names = [("attribute", node.attr)]  # self.posterior = ...
+        else:
+            continue
+        found += [f"{rel}: {kind} {name}" for kind, name in names if "posterior" in name.lower()]
+    return found
+
+
+def _annotated(statement):
+    return isinstance(statement, ast.AnnAssign) and isinstance(statement.target, ast.Name)
+
+
+def test_posterior_means_the_samples_only():
+    # Issue 25: "posterior" named the log-probability object (its class, Checked.posterior, parameters
+    # ``posterior``), the samples and their files. Names of functions about samples (read_posterior,
+    # posterior_groups, write_posterior_csv) and arviz's ``idata.posterior`` are not checked here.
+    repo = ROOT.parent
+    found = {
+        name
+        for folder in ("planetfit", "tests", "benchmarks")
+        for path in (repo / folder).rglob("*.py")
+        for name in _posterior_names(path, path.relative_to(repo).as_posix())
+    }
+    assert found == set(POSTERIOR_NAMES), f"named 'posterior' but not about samples: {found - set(POSTERIOR_NAMES)}"
+    old = "Joint" + "Posterior"  # split, so that this file does not hold the name it looks for
+    texts = [p for f in ("planetfit", "tests", "benchmarks") for p in (repo / f).rglob("*.py")] + [
+        repo / "DEVELOPERS.md",
+        repo / "README.md",
+    ]
+    assert not [str(p.relative_to(repo)) for p in texts if re.search(rf"\b{old}\b", p.read_text())]
+
+
+def test_the_checked_config_holds_its_log_probability_as_log_probability():
+    from planetfit.fitting.log_probability import LogProbability
+    from planetfit.pipeline import Checked
+
+    hints = {f.name: f.type for f in dataclasses.fields(Checked)}
+    assert hints.get("log_probability") is LogProbability, hints

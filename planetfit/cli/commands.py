@@ -120,7 +120,7 @@ def check(args):
         relation = source.get("intrinsic_scatter")
         origin = f"the {source['from']}, scatter {relation}, from {source['inputs']}" if relation else source["from"]
         print(f"  star {key}: {source['prior']} ({origin})")
-    layout, everything = checked.posterior.layout, checked.posterior.model.layout
+    layout, everything = checked.log_probability.layout, checked.log_probability.model.layout
     print(f"  {layout.ndim} sampled parameters: {', '.join(layout.free)}")
     marginalised = [n for n in everything.free if n not in layout.free]
     if marginalised:

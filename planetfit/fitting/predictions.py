@@ -1,59 +1,59 @@
 """What the fitted model predicts, for figures: model light curves and RVs, and the noise models' predictions.
 
-Every function takes a :class:`~planetfit.fitting.posterior.JointPosterior`,
+Every function takes a :class:`~planetfit.fitting.log_probability.LogProbability`,
 one walker's parameter values (floats) and its orbits
-(:meth:`~planetfit.fitting.posterior.JointPosterior.orbits`).
+(:meth:`~planetfit.fitting.log_probability.LogProbability.orbits`).
 """
 
 import numpy as np
 
 
-def photometry_model(posterior, values, orbits, index, planets=None, parts=None):
+def photometry_model(log_prob, values, orbits, index, planets=None, parts=None):
     """Model flux of photometric dataset ``index``, with the terms of ``planets`` and ``parts`` (default: all;
     parts ``"transit"``, ``"planet light"``)."""
-    return posterior.model.photometry[index].flux(values, orbits, planets, parts)
+    return log_prob.model.photometry[index].flux(values, orbits, planets, parts)
 
 
-def baseline_flux(posterior, values, index):
+def baseline_flux(log_prob, values, index):
     """The baseline flux of photometric dataset ``index`` at its times."""
     return np.broadcast_to(
-        posterior.model.photometry[index].baseline.flux(values), posterior.photometry[index].time.shape
+        log_prob.model.photometry[index].baseline.flux(values), log_prob.photometry[index].time.shape
     )
 
 
-def photometry_noise_prediction(posterior, values, orbits, index):
+def photometry_noise_prediction(log_prob, values, orbits, index):
     """The noise model's prediction of dataset ``index``'s residuals (the GP's variability; zeros if white)."""
-    m = posterior.model.photometry[index]
+    m = log_prob.model.photometry[index]
     return m.noise.predict(m.data.flux - m.flux(values, orbits), values)
 
 
-def has_regressor_trend(posterior, index):
+def has_regressor_trend(log_prob, index):
     """Whether dataset ``index``'s baseline follows regressors (observing conditions) and time."""
-    return hasattr(posterior.model.photometry[index].baseline, "trend")
+    return hasattr(log_prob.model.photometry[index].baseline, "trend")
 
 
-def has_variability_model(posterior, index):
+def has_variability_model(log_prob, index):
     """Whether dataset ``index``'s noise model predicts correlated variability (a GP)."""
-    return posterior.model.photometry[index].noise.correlated
+    return log_prob.model.photometry[index].noise.correlated
 
 
-def keplerians_ms(posterior, values, orbits, times):
+def keplerians_ms(log_prob, values, orbits, times):
     """Sum of every planet's Keplerian RV (m/s) at ``times``."""
-    return posterior.model.velocity.keplerians_ms(values, orbits, times)
+    return log_prob.model.velocity.keplerians_ms(values, orbits, times)
 
 
-def trend_ms(posterior, values, times):
+def trend_ms(log_prob, values, times):
     """The RV trend (m/s) at ``times`` (zeros without one)."""
-    return posterior.model.velocity.trend_ms(values, times)
+    return log_prob.model.velocity.trend_ms(values, times)
 
 
-def velocity_model(posterior, values, orbits, index, times=None):
+def velocity_model(log_prob, values, orbits, index, times=None):
     """Model RV (m/s, without the offset) of spectrograph ``index``.
 
     At the spectrograph's times: Keplerians + trend + activity-indicator
     terms. At other ``times``: Keplerians + trend.
     """
-    rv = posterior.model.velocity
+    rv = log_prob.model.velocity
     t = rv.data[index].time if times is None else times
     model = rv.keplerians_ms(values, orbits, t) + rv.trend_ms(values, t)
     if times is None:
@@ -61,27 +61,27 @@ def velocity_model(posterior, values, orbits, index, times=None):
     return model
 
 
-def velocity_noise_prediction(posterior, values, orbits):
+def velocity_noise_prediction(log_prob, values, orbits):
     """Per spectrograph, the noise model's prediction of its residuals (the activity GP; zeros if white)."""
-    rv = posterior.model.velocity
+    rv = log_prob.model.velocity
     resid = rv.residuals(values, orbits)
     out = np.zeros(resid.size)
     out[rv.order] = rv.noise.predict(resid[rv.order], values)
     return np.split(out, np.cumsum([d.time.size for d in rv.data])[:-1])
 
 
-def has_activity_model(posterior):
+def has_activity_model(log_prob):
     """Whether the RVs have an activity process (a GP shared by the spectrographs)."""
-    return posterior.model.velocity is not None and posterior.model.velocity.noise.correlated
+    return log_prob.model.velocity is not None and log_prob.model.velocity.noise.correlated
 
 
-def activity_prediction(posterior, values, orbits, times):
+def activity_prediction(log_prob, values, orbits, times):
     """The RV activity process at ``times`` given the data: (mean, sd) per spectrograph (m/s).
 
     The shared process has unit amplitude; each spectrograph sees it times
     its own ``activity_amplitude_ms``.
     """
-    rv = posterior.model.velocity
+    rv = log_prob.model.velocity
     mean, sd = rv.noise.predict(rv.residuals(values, orbits)[rv.order], values, times=times, return_sd=True)
     return [
         (values[s.activity_amplitude.name] * mean, values[s.activity_amplitude.name] * sd) for s in rv.spectrographs

@@ -36,7 +36,7 @@ class WorkerProcesses:
 
     Parameters
     ----------
-    log_prob : JointPosterior
+    log_prob : LogProbability
         Anything with ``log_prob_many((n, ndim)) -> (n,)``.
     cores : int
     """

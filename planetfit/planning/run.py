@@ -44,7 +44,7 @@ class PlanningRun:
 
     @property
     def model(self):
-        return self.checked.posterior.model
+        return self.checked.log_probability.model
 
     @property
     def has_velocities(self):
@@ -86,6 +86,10 @@ def load_run(run_dir, seed=0):
 
 def from_samples(checked, samples, summary=None, run_dir=None, seed=0):
     """A :class:`PlanningRun` from a checked config and posterior samples in sampler coordinates."""
-    samples = pipeline.complete(checked, samples)[0] if samples.shape[1] == checked.posterior.layout.ndim else samples
-    quantities = derived.derive(checked.config, checked.posterior.model, samples, np.random.default_rng([seed, 2]))
+    samples = (
+        pipeline.complete(checked, samples)[0] if samples.shape[1] == checked.log_probability.layout.ndim else samples
+    )
+    quantities = derived.derive(
+        checked.config, checked.log_probability.model, samples, np.random.default_rng([seed, 2])
+    )
     return PlanningRun(run_dir, checked, quantities["parameters"], quantities["planets"], summary)

@@ -13,7 +13,7 @@ from planetfit.report.style import save_figure
 log = logging.getLogger("planetfit")
 
 
-def write_all(run_dir, checked, posterior, samples, derived, summary, figures=True, cores=1):
+def write_all(run_dir, checked, log_prob, samples, derived, summary, figures=True, cores=1):
     """Write table.tex, summary.md, every figure (into ``run_dir/figures``) and then report.html.
 
     Parameters
@@ -21,7 +21,7 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
     run_dir : planetfit.rundir.RunDirectory
         The file names of the run.
     checked : pipeline.Checked
-    posterior : JointPosterior
+    log_prob : LogProbability
     samples : ndarray, shape (n, ndim)
         Flat posterior samples (burn-in discarded, thinned).
     derived : dict
@@ -32,12 +32,12 @@ def write_all(run_dir, checked, posterior, samples, derived, summary, figures=Tr
     cores : int
         Processes drawing figures (:func:`draw_figures`).
     """
-    rows = tables.table_rows(summary, posterior.model, checked.config.star)
+    rows = tables.table_rows(summary, log_prob.model, checked.config.star)
     write_text_atomic(run_dir.table, tables.latex_table(summary, rows))
     write_text_atomic(run_dir.summary_md, summary_markdown(summary, rows))
     drawn = []
     if figures:
-        builders = figure_builders(run_dir, checked, posterior, samples, derived, summary)
+        builders = figure_builders(run_dir, checked, log_prob, samples, derived, summary)
         drawn = draw_figures(builders, run_dir.figures, cores)
     html.write_report(run_dir.report, summary, rows, run_dir.figures, drawn)
 

@@ -47,7 +47,7 @@ def test_hot_giant_brightness_temperatures_match_an_independent_irac_table(tmp_p
     config = yaml.safe_load(hot_giant.CONFIG.read_text())
     assert config["photometry"][0]["band_response"] == "spitzer-4.5"
     (tmp_path / "config.yaml").write_text(yaml.safe_dump(config))
-    model = pipeline.check(tmp_path / "config.yaml").posterior.model
+    model = pipeline.check(tmp_path / "config.yaml").log_probability.model
     built_in = model.lights["camera", "b"].response
     independent = _table(INDEPENDENT_IRAC_45)
     truth = hot_giant.TRUTH

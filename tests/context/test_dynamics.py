@@ -81,7 +81,7 @@ def test_megno_regular_for_separated_pair_and_large_for_close_pair():
     assert megno(1.0, _pair(3e-4, 13.0), 1000) > 4.0
 
 
-def _two_planet_posterior(tmp_path, outer_period_days, **dynamics):
+def _two_planet_system(tmp_path, outer_period_days, **dynamics):
     """A transiting b (3 d) and an RV-only c, and prior draws as stand-in posterior samples."""
     planets = {
         "b": planet_truth(3.0, 2460001.5, 5.0, radius_ratio=0.05, impact=0.3),
@@ -95,7 +95,7 @@ def _two_planet_posterior(tmp_path, outer_period_days, **dynamics):
 
 
 def _block(checked, n=1000):
-    config, model = checked.config, checked.posterior.model
+    config, model = checked.config, checked.log_probability.model
     samples = model.layout.sample_prior(np.random.default_rng(1), n)
     quantities = derive(config, model, samples, np.random.default_rng(2))
     return dynamics_block(config, model, quantities, np.random.default_rng(3))
@@ -103,7 +103,7 @@ def _block(checked, n=1000):
 
 def test_far_apart_pair_is_stable_and_minimum_masses_are_named(tmp_path):
     # source: Gladman (1993): a period ratio of 10 (a2/a1 = 4.6) is far beyond 2 sqrt(3) mutual Hill radii
-    block, warnings = _block(_two_planet_posterior(tmp_path, 30.0))
+    block, warnings = _block(_two_planet_system(tmp_path, 30.0))
     assert block["p_hill_stable"] == 1.0 and block["p_orbits_cross"] == 0.0 and block["samples"] == 1000
     assert block["minimum_mass_planets"] == ["c"] and "minimum masses" in block["assumptions"]
     assert warnings == []
@@ -111,20 +111,20 @@ def test_far_apart_pair_is_stable_and_minimum_masses_are_named(tmp_path):
 
 def test_close_pair_is_unstable_and_warned_about(tmp_path):
     # source: Gladman (1993): period ratio 1.07 (a2/a1 = 1.044) against 2 sqrt(3) R_H ~ 0.09 a for ~10 Earth masses
-    block, warnings = _block(_two_planet_posterior(tmp_path, 3.2))
+    block, warnings = _block(_two_planet_system(tmp_path, 3.2))
     assert block["p_hill_stable"] < 0.5
     assert any("Hill stable" in w for w in warnings)
 
 
 def test_hill_prior_rejects_exactly_the_unstable_samples(tmp_path):
     # source: Gladman (1993), as above: with the prior, a draw keeps a finite probability iff it is Hill stable
-    free = _two_planet_posterior(tmp_path / "free", 3.2)
-    tied = _two_planet_posterior(tmp_path / "tied", 3.2, stability_prior="hill").posterior
-    model = free.posterior.model
+    free = _two_planet_system(tmp_path / "free", 3.2)
+    tied = _two_planet_system(tmp_path / "tied", 3.2, stability_prior="hill").log_probability
+    model = free.log_probability.model
     draws = model.layout.sample_prior(np.random.default_rng(4), 300)
     quantities = derive(free.config, model, draws, np.random.default_rng(2))
     ((_, _, margin, _),) = pair_checks(model, quantities)
-    finite_free = np.isfinite(free.posterior.log_prob_many(draws))
+    finite_free = np.isfinite(free.log_probability.log_prob_many(draws))
     finite_tied = np.isfinite(tied.log_prob_many(draws))
     assert 0 < finite_tied.sum() < finite_free.sum()
     np.testing.assert_array_equal(finite_tied, finite_free & (margin > 1))
@@ -132,7 +132,7 @@ def test_hill_prior_rejects_exactly_the_unstable_samples(tmp_path):
 
 def test_nbody_block_of_a_far_apart_pair(tmp_path):
     # source: Cincotta & Simo (2000): regular orbits have MEGNO near 2
-    checked = _two_planet_posterior(tmp_path, 30.0, stability="nbody", nbody_samples=4, nbody_orbits=200)
+    checked = _two_planet_system(tmp_path, 30.0, stability="nbody", nbody_samples=4, nbody_orbits=200)
     block, warnings = _block(checked, 100)
     assert block["nbody_samples"] == 4 and block["p_megno_stable"] == 1.0
     assert block["megno"]["median"] == pytest.approx(2.0, abs=0.2)
@@ -140,7 +140,7 @@ def test_nbody_block_of_a_far_apart_pair(tmp_path):
 
 
 def test_nbody_without_rebound_names_the_extra(tmp_path, monkeypatch):
-    checked = _two_planet_posterior(tmp_path, 30.0, stability="nbody", nbody_samples=2, nbody_orbits=10)
+    checked = _two_planet_system(tmp_path, 30.0, stability="nbody", nbody_samples=2, nbody_orbits=10)
     monkeypatch.setitem(sys.modules, "rebound", None)  # import rebound now raises ImportError
     with pytest.raises(InputError, match=r"planetfit\[dynamics\]"):
         _block(checked, 10)

@@ -41,11 +41,11 @@ def test_optimiser_finds_the_transit_the_prior_centre_misses(tmp_path):
     from planetfit.fitting.sampling.optimiser import find_map
 
     # System 1009: the transit time lies 0.1 d (about a transit duration) from the prior's centre.
-    _, post, values, _ = calibration.simulate_system(1009, tmp_path, steps=100)
-    j = post.layout.free.index("b.transit_bjd")
+    _, log_prob, values, _ = calibration.simulate_system(1009, tmp_path, steps=100)
+    j = log_prob.layout.free.index("b.transit_bjd")
     t0 = values["b.transit_bjd"]
-    centre_only, lp_centre = find_map(post, post.layout, np.random.default_rng(1), starts=1)[0]
-    theta, lp = find_map(post, post.layout, np.random.default_rng(1), starts=2)[0]
+    centre_only, lp_centre = find_map(log_prob, log_prob.layout, np.random.default_rng(1), starts=1)[0]
+    theta, lp = find_map(log_prob, log_prob.layout, np.random.default_rng(1), starts=2)[0]
     # common practice, no published source: two transits at this depth and noise give T0 to ~1e-3 d.
     assert abs(centre_only[j] - t0) > 0.05 and lp - lp_centre > 50  # the centre alone stops on a wrong optimum
     assert abs(theta[j] - t0) < 0.005

@@ -70,10 +70,10 @@ def config(folder, baseline, **extra):
 
 def _radius_ratio(path):
     """MAP radius ratio and its Laplace standard deviation."""
-    post = pipeline.check(path).posterior
-    layout = post.layout
-    best = find_map(post, layout, np.random.default_rng(2), starts=3)[0][0]
-    cov = laplace_covariance(post.log_prob_many, best, layout.geometry()[1])
+    log_prob = pipeline.check(path).log_probability
+    layout = log_prob.layout
+    best = find_map(log_prob, layout, np.random.default_rng(2), starts=3)[0][0]
+    cov = laplace_covariance(log_prob.log_prob_many, best, layout.geometry()[1])
     i = layout.free.index("b.radius_ratio")
     return best[i], float(np.sqrt(cov[i, i]))
 

@@ -40,12 +40,12 @@ def _fit(folder, seed, with_light):
     if not with_light:
         del config["photometry"][0]["planet_light"], config["photometry"][0]["band_response"]
     (folder / "config.yaml").write_text(yaml.safe_dump(config))
-    post = pipeline.check(folder / "config.yaml").posterior
-    layout = post.layout
+    log_prob = pipeline.check(folder / "config.yaml").log_probability
+    layout = log_prob.layout
     x0 = _truth_vector(layout, truth)
     if "camera.flux_level" in layout.free:  # sampled (linear_parameters: sampled); else marginalised
         x0[layout.free.index("camera.flux_level")] = 1.0 / (1.0 + 1e-6 * sum(truth["light"].values()) / 2)
-    return layout, *_maximum(post.log_prob_many, x0, layout)
+    return layout, *_maximum(log_prob.log_prob_many, x0, layout)
 
 
 def _conditional_widths(evaluate, theta, widths):
@@ -142,15 +142,15 @@ def test_kepler_band_brightness_temperature_recovered(tmp_path):
         "hotspot_offset_deg": 0.0,
     }
     (tmp_path / "config.yaml").write_text(yaml.safe_dump(config))
-    post = pipeline.check(tmp_path / "config.yaml").posterior
-    layout = post.layout
+    log_prob = pipeline.check(tmp_path / "config.yaml").log_probability
+    layout = log_prob.layout
     x0 = _truth_vector(layout, truth)
     if "camera.flux_level" in layout.free:  # sampled (linear_parameters: sampled); else marginalised
         x0[layout.free.index("camera.flux_level")] = 1.0
-    theta, cov = _maximum(post.log_prob_many, x0, layout)
+    theta, cov = _maximum(log_prob.log_prob_many, x0, layout)
     rng = np.random.default_rng(5)
     draws = layout.values(rng.multivariate_normal(theta, cov, 4000))
-    band = post.model.lights["camera", "b"].response
+    band = log_prob.model.lights["camera", "b"].response
     temps = brightness_temp_k(
         draws["b.camera.eclipse_depth_ppm"] * 1e-6, draws["b.radius_ratio"], rng.normal(teff, 100.0, 4000), band
     )

@@ -7,7 +7,7 @@ import json
 
 import emcee
 import numpy as np
-from synthetic import tiny_posterior
+from synthetic import tiny_log_prob
 from variability import TRANSITING, write_spotted_star
 
 from planetfit import pipeline
@@ -38,10 +38,13 @@ def test_gp_baseline_recovers_radius_ratio_under_variability(tmp_path):
     assert abs(flat["median"] - truth) > abs(gp["median"] - truth), (flat, gp, truth)
 
 
-def _values(post):
+def _values(log_prob):
     from synthetic import TINY_TRUTH as TRUTH
 
-    values = {n: post.layout.priors[n].value if post.layout.priors[n].fixed else None for n in post.layout.all_names}
+    values = {
+        n: log_prob.layout.priors[n].value if log_prob.layout.priors[n].fixed else None
+        for n in log_prob.layout.all_names
+    }
     values.update(
         {
             "star.mass_msun": TRUTH["mass_msun"],
@@ -60,8 +63,8 @@ def _values(post):
 
 
 def test_dilution_scales_the_transit_depth(tmp_path):
-    clean = tiny_posterior(tmp_path / "a")
-    diluted = tiny_posterior(tmp_path / "b", dilution=0.3)
+    clean = tiny_log_prob(tmp_path / "a")
+    diluted = tiny_log_prob(tmp_path / "b", dilution=0.3)
     v = _values(clean)
     deficit = 1 - predictions.photometry_model(clean, v, clean.orbits(v), 0)
     v["cam.dilution"] = 0.3
@@ -74,12 +77,14 @@ def test_dilution_scales_the_transit_depth(tmp_path):
 
 
 def test_linear_baseline_multiplies_the_transit(tmp_path):
-    post = tiny_posterior(tmp_path, baseline="linear")
-    v = _values(post)
+    log_prob = tiny_log_prob(tmp_path, baseline="linear")
+    v = _values(log_prob)
     v["cam.slope_per_day"] = 2e-3
-    model = predictions.photometry_model(post, v, post.orbits(v), 0)
-    t = post.photometry[0].time
+    model = predictions.photometry_model(log_prob, v, log_prob.orbits(v), 0)
+    t = log_prob.photometry[0].time
     line = 1 + 2e-3 * (t - 0.5 * (t[0] + t[-1]))
     v["cam.slope_per_day"] = 0.0
     # common practice, no published source: the transit divides the (trending) stellar flux
-    assert np.allclose(model, line * predictions.photometry_model(post, v, post.orbits(v), 0), rtol=0, atol=1e-12)
+    assert np.allclose(
+        model, line * predictions.photometry_model(log_prob, v, log_prob.orbits(v), 0), rtol=0, atol=1e-12
+    )

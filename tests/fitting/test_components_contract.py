@@ -8,7 +8,7 @@ import types
 
 import numpy as np
 import pytest
-from synthetic import tiny_posterior
+from synthetic import tiny_log_prob
 
 from planetfit.core.quantities import DATASET
 from planetfit.fitting.components import base
@@ -131,7 +131,7 @@ def check_orbit_prior(prior, rng, walkers=40):
 def check_evaluation(family, component, rng):
     """Batch evaluation equals one by one; shapes are right."""
     if family in ("jitter", "dilution"):
-        return  # parameters only: the noise models and likelihoods use them (tests/fitting/test_posterior.py)
+        return  # parameters only: the noise models and likelihoods use them (tests/fitting/test_log_probability.py)
     if family == "stability_prior":
         check_orbit_prior(component, rng)
         return
@@ -212,10 +212,10 @@ def test_contract_fails_on_broken_components():
 
 def test_built_models_keep_the_flux_term_and_noise_protocols(tmp_path):
     # Terms and noise models are built per dataset by the model, not registered: check them as built.
-    post = tiny_posterior(tmp_path, baseline="gp", gp_kernel="rotation", gp_period_days={"uniform": [1, 10]})
-    white = tiny_posterior(tmp_path / "white")
-    for model in [*post.model.photometry, *white.model.photometry]:
+    log_prob = tiny_log_prob(tmp_path, baseline="gp", gp_kernel="rotation", gp_period_days={"uniform": [1, 10]})
+    white = tiny_log_prob(tmp_path / "white")
+    for model in [*log_prob.model.photometry, *white.model.photometry]:
         assert model.terms and all(isinstance(t, base.FluxTerm) for t in model.terms)
         assert isinstance(model.noise, base.NoiseModel)
-    assert isinstance(post.model.photometry[0].noise.kernel, base.Kernel)
+    assert isinstance(log_prob.model.photometry[0].noise.kernel, base.Kernel)
     assert isinstance(white.model.velocity.noise, base.NoiseModel)

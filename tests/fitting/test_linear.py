@@ -16,8 +16,8 @@ from planetfit import pipeline
 from planetfit.fitting.sampling.mcmc import run_sampler
 
 
-def posteriors(path, edit=None):
-    """(marginalised, sampled) posteriors of the config at ``path``, its raw YAML changed by ``edit`` first."""
+def log_probs(path, edit=None):
+    """(marginalised, sampled) log-probabilities of the config at ``path``, its raw YAML changed by ``edit`` first."""
     raw = yaml.safe_load(path.read_text())
     if edit is not None:
         edit(raw)
@@ -26,15 +26,15 @@ def posteriors(path, edit=None):
         raw["sampling"]["linear_parameters"] = mode
         written = path.with_name(f"{mode}.yaml")
         written.write_text(yaml.safe_dump(raw, sort_keys=False))
-        out.append(pipeline.check(written).posterior)
+        out.append(pipeline.check(written).log_probability)
     return out
 
 
-def conditional(post, theta):
+def conditional(log_prob, theta):
     """{name: (mean, sd)} of each marginalised parameter given the sampled vector ``theta``."""
-    _, _, batch = post._batch(theta[None, :])
+    _, _, batch = log_prob._batch(theta[None, :])
     out = {}
-    for likelihood in post.model.likelihoods:
+    for likelihood in log_prob.model.likelihoods:
         if likelihood.marginal is not None:
             mean, chol = likelihood.marginal.conditional(likelihood.gram(batch)[0])
             cov = np.linalg.inv(chol[0] @ chol[0].T)
@@ -111,7 +111,7 @@ CASES = {
 @pytest.mark.parametrize("case", CASES)
 def test_marginal_likelihood_equals_brute_force_integration(tmp_path, case):
     writer, edit, k = CASES[case]
-    marg, samp = posteriors(writer(tmp_path), edit)
+    marg, samp = log_probs(writer(tmp_path), edit)
     assert samp.layout.ndim - marg.layout.ndim == k
     rng = np.random.default_rng(2)
     centre, scale, _, _ = marg.layout.geometry()
@@ -129,23 +129,23 @@ def test_marginal_likelihood_equals_brute_force_integration(tmp_path, case):
 def test_conditional_draws_match_a_sampled_run(tmp_path):
     t, rv = rv_data(6, {"b": planet_truth(PERIOD, TC, K_MS)})
     path = write_rv_model(tmp_path, t, rv, {"b": circular()}, method="mcmc", walkers=16, max_steps=20000)
-    marg, samp = posteriors(path)
+    marg, samp = log_probs(path)
     offsets, results = [], []
-    for post, seed in ((marg, 1), (samp, 2)):
+    for log_prob, seed in ((marg, 1), (samp, 2)):
         result = run_sampler(
-            post,
-            post.layout,
-            post.config.sampling,
+            log_prob,
+            log_prob.layout,
+            log_prob.config.sampling,
             tmp_path / f"{seed}.h5",
             np.random.default_rng(seed),
             progress=False,
         )
         assert result.converged
         results.append(result)
-        samples, warnings = post.complete(result.samples, seed)
+        samples, warnings = log_prob.complete(result.samples, seed)
         assert not warnings
         step = max(1, len(samples) // result.independent_samples)  # about one sample per autocorrelation time
-        offsets.append(post.model.layout.values(samples[::step])["spec.offset_ms"])
+        offsets.append(log_prob.model.layout.values(samples[::step])["spec.offset_ms"])
     # common practice, no published source: two samplers of one posterior give one distribution (two-sample KS).
     assert stats.ks_2samp(*offsets).pvalue > 0.01, [np.percentile(o, [16, 50, 84]) for o in offsets]
     # The draws are reproducible: the same samples and seed give the same draws.
@@ -173,7 +173,7 @@ def test_a_uniform_prior_cutting_the_posterior_is_warned_about(tmp_path):
 def test_the_edge_mass_is_the_normal_tail(tmp_path):
     t, rv = rv_data(6, {"b": planet_truth(PERIOD, TC, K_MS)})
     edit = lambda raw: raw["velocities"][0].update(offset_ms={"uniform": [-50, 4.2]})  # noqa: E731
-    marg, _ = posteriors(write_rv_model(tmp_path, t, rv, {"b": circular()}), edit)
+    marg, _ = log_probs(write_rv_model(tmp_path, t, rv, {"b": circular()}), edit)
     theta = marg.layout.geometry()[0]
     theta[marg.layout.free.index("b.rv_amplitude_ms")] = K_MS
     mean, sd = conditional(marg, theta)["spec.offset_ms"]
@@ -189,7 +189,7 @@ def test_four_linear_parameters_give_the_exact_gaussian_integral(tmp_path):
     # An offset, a quadratic trend and an activity-indicator coefficient: the integrand is exactly Gaussian in
     # them, so its integral is f(peak) (2 pi)^(k/2) det(H)^(-1/2) with H the Hessian of -ln f, here by central
     # differences (exact for a quadratic up to rounding).
-    marg, samp = posteriors(write_trend_star(tmp_path, 2))
+    marg, samp = log_probs(write_trend_star(tmp_path, 2))
     theta = marg.layout.geometry()[0]
     cond = conditional(marg, theta)
     assert len(cond) == 4

@@ -19,8 +19,8 @@ from two_seasons import GAP_DAYS, K_MS, PERIOD, PERIOD_PRIOR, TC, TC_HALF_WIDTH,
 
 from planetfit import pipeline
 from planetfit.core.quantities import DATASET, PLANET
+from planetfit.fitting.log_probability import LogProbability
 from planetfit.fitting.parameters import Parameter, ParameterLayout
-from planetfit.fitting.posterior import JointPosterior
 from planetfit.fitting.sampling import density_modes, modes
 from planetfit.fitting.sampling import mcmc as sampling
 from planetfit.fitting.sampling.periodogram import periodogram_starts, sinusoid
@@ -209,27 +209,27 @@ def test_a_mode_only_the_samples_show_is_reported():
     assert "in the posterior samples that the optimiser did not find" in groups[0].warning()
 
 
-def _noise_free_posterior(tmp_path):
+def _noise_free_log_prob(tmp_path):
     config = write_two_season_system(tmp_path, noise=False)
     raw = yaml.safe_load(config.read_text())
     raw["sampling"]["linear_parameters"] = "sampled"  # the offset's seed is checked too
     config.write_text(yaml.safe_dump(raw, sort_keys=False))
     checked = pipeline.check(config)
-    return JointPosterior(checked.config, checked.photometry, checked.velocities)
+    return LogProbability(checked.config, checked.photometry, checked.velocities)
 
 
 def test_periodogram_seed_of_a_noise_free_sinusoid_is_its_orbit(tmp_path):
-    post = _noise_free_posterior(tmp_path)
-    layout = post.layout
+    log_prob = _noise_free_log_prob(tmp_path)
+    layout = log_prob.layout
     centre = layout.geometry()[0]
-    starts = periodogram_starts(post, layout, centre)
+    starts = periodogram_starts(log_prob, layout, centre)
     assert len(starts) == 3
     best = layout.values(starts[0])
     # source: the RVs are radvel's circular orbit (synthetic.radial_velocity) of this period, conjunction
     # time and semi-amplitude; a noise-free sinusoid peaks at its own frequency.
     assert abs(best["b.period_days"] - PERIOD) < 1e-5
     assert abs(best["b.transit_bjd"] - TC) < 1e-3 and abs(best["b.rv_amplitude_ms"] - K_MS) < 0.01
-    assert best["spec.offset_ms"] == pytest.approx(np.median(post.velocities[0].rv))
+    assert best["spec.offset_ms"] == pytest.approx(np.median(log_prob.velocities[0].rv))
     # The other two starts are the next aliases (1 / 200 d apart in frequency), inside the priors.
     others = sorted(abs(1 / layout.values(s)["b.period_days"] - 1 / PERIOD) * GAP_DAYS for s in starts[1:])
     assert np.allclose(others, [1, 1], atol=0.05)
@@ -237,8 +237,8 @@ def test_periodogram_seed_of_a_noise_free_sinusoid_is_its_orbit(tmp_path):
         assert abs(layout.values(s)["b.transit_bjd"] - TC) <= TC_HALF_WIDTH
     # source: astropy's LombScargle (the reference): its highest peak of these data is the seed's, to half
     # a step of its own frequency grid.
-    t, rv = post.velocities[0].time, post.velocities[0].rv
-    frequency, power = LombScargle(t, rv, post.velocities[0].error).autopower(
+    t, rv = log_prob.velocities[0].time, log_prob.velocities[0].rv
+    frequency, power = LombScargle(t, rv, log_prob.velocities[0].error).autopower(
         minimum_frequency=1 / PERIOD_PRIOR[1], maximum_frequency=1 / PERIOD_PRIOR[0], samples_per_peak=50
     )
     assert abs(frequency[np.argmax(power)] - 1 / best["b.period_days"]) <= 0.5 * (frequency[1] - frequency[0])
@@ -254,14 +254,14 @@ def test_sinusoid_follows_the_conjunction_convention():
 
 
 def test_no_seeds_for_transiting_planets_or_narrow_priors(tmp_path):
-    post = JointPosterior(*_checked_parts(write_tiny_system(tmp_path / "tiny")))
-    assert periodogram_starts(post, post.layout, post.layout.geometry()[0]) == []
+    log_prob = LogProbability(*_checked_parts(write_tiny_system(tmp_path / "tiny")))
+    assert periodogram_starts(log_prob, log_prob.layout, log_prob.layout.geometry()[0]) == []
     config = write_two_season_system(tmp_path / "narrow")
     raw = yaml.safe_load(config.read_text())
     raw["planets"]["b"]["period_days"] = {"uniform": [4.745, 4.755]}  # 0.00044 / d wide, 1 / span = 0.0046 / d
     config.write_text(yaml.safe_dump(raw))
-    post = JointPosterior(*_checked_parts(config))
-    assert periodogram_starts(post, post.layout, post.layout.geometry()[0]) == []
+    log_prob = LogProbability(*_checked_parts(config))
+    assert periodogram_starts(log_prob, log_prob.layout, log_prob.layout.geometry()[0]) == []
 
 
 def _checked_parts(config):

@@ -34,11 +34,13 @@ from planetfit.fitting.sampling.nested import run_nested
 
 
 def nested_fit(config, seed=1):
-    """(NestedResult, posterior) of a config, without the later stages."""
+    """(NestedResult, log-probability) of a config, without the later stages."""
     checked = pipeline.check(config)
-    post = checked.posterior
+    log_prob = checked.log_probability
     checkpoint = config.parent / "checkpoint.pkl"
-    return run_nested(post, checked.config.sampling, checkpoint, np.random.default_rng(seed), progress=False), post
+    return run_nested(
+        log_prob, checked.config.sampling, checkpoint, np.random.default_rng(seed), progress=False
+    ), log_prob
 
 
 def _least_squares(t, rv):
@@ -119,14 +121,19 @@ def test_nested_and_mcmc_posteriors_agree(tmp_path):
     config = write_rv_model(
         tmp_path, t, rv, {"b": planet}, live_points=500, jitter_ms={"loguniform": [0.01, 10]}, walkers=32
     )
-    nested, post = nested_fit(config)
+    nested, log_prob = nested_fit(config)
     checked = pipeline.check(config)
     chain = run_sampler(
-        post, post.layout, checked.config.sampling, tmp_path / "chain.h5", np.random.default_rng(2), progress=False
+        log_prob,
+        log_prob.layout,
+        checked.config.sampling,
+        tmp_path / "chain.h5",
+        np.random.default_rng(2),
+        progress=False,
     )
     assert chain.converged and nested.converged
-    nested_values, chain_values = post.layout.values(nested.samples), post.layout.values(chain.samples)
-    for name in post.layout.free:
+    nested_values, chain_values = log_prob.layout.values(nested.samples), log_prob.layout.values(chain.samples)
+    for name in log_prob.layout.free:
         a, b = (
             np.percentile(nested_values[name], [15.87, 50, 84.13]),
             np.percentile(chain_values[name], [15.87, 50, 84.13]),

@@ -22,7 +22,7 @@ SIGMA_MS = 2.0
 def _prior_run(config, n=3000, seed=1):
     """A run whose posterior is its prior: parameters drawn from the prior stand in for the samples."""
     checked = pipeline.check(config)
-    samples = checked.posterior.layout.sample_prior(np.random.default_rng(seed), n)
+    samples = checked.log_probability.layout.sample_prior(np.random.default_rng(seed), n)
     return from_samples(checked, samples)
 
 

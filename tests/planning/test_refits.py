@@ -48,13 +48,13 @@ def _refit(folder, old, truth, rng):
     rv_new += rng.normal(0, SIGMA_MS, NEW_RVS)
     config = write_rv_system(folder, [("old", *old, SIGMA_MS), ("new", t_new, rv_new, SIGMA_MS)], _planet())
     checked = pipeline.check(config)
-    layout = checked.posterior.layout
+    layout = checked.log_probability.layout
     centre = layout.to_sampler([truth.get(n, 0.0) for n in layout.free])
     walkers = centre + 1e-3 * rng.standard_normal((16, layout.ndim)) * layout.geometry()[1]
-    sampler = emcee.EnsembleSampler(16, layout.ndim, checked.posterior.log_prob_many, vectorize=True)
+    sampler = emcee.EnsembleSampler(16, layout.ndim, checked.log_probability.log_prob_many, vectorize=True)
     sampler.run_mcmc(walkers, 700, progress=False)
     samples = sampler.get_chain(discard=200, flat=True)
-    mass = derive(checked.config, checked.posterior.model, samples, rng)["planets"]["b"]["mass_earth"]
+    mass = derive(checked.config, checked.log_probability.model, samples, rng)["planets"]["b"]["mass_earth"]
     return np.std(mass) / np.median(mass)
 
 

@@ -26,7 +26,7 @@ def run(tiny_run):
     """The tiny run (conftest.py), its report as the run wrote it, and the rows of its parameter table."""
     run_dir, summary = tiny_run["dir"], tiny_run["typed"]
     checked = pipeline.check(run_dir / "config.resolved.yaml", output=run_dir)
-    rows = tables.table_rows(summary, checked.posterior.model, checked.config.star)
+    rows = tables.table_rows(summary, checked.log_probability.model, checked.config.star)
     return {**tiny_run, "report": (run_dir / "report.html").read_text(), "rows": rows}
 
 

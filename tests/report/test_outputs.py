@@ -264,8 +264,8 @@ def test_figure_names(run):
 
 @pytest.fixture(scope="module")
 def parts(run):
-    run_dir, checked, posterior, samples, derived, summary = run["args"]
-    return {"posterior": posterior, "derived": derived, "summary": summary, "dir": run_dir, "fig": run["figures"]}
+    run_dir, checked, log_prob, samples, derived, summary = run["args"]
+    return {"log_prob": log_prob, "derived": derived, "summary": summary, "dir": run_dir, "fig": run["figures"]}
 
 
 def test_transit_figure_axes_labels_and_depth(parts):
@@ -337,11 +337,11 @@ def test_mass_radius_and_habitable_zone_figures(parts):
 
 
 def test_convergence_figure(parts):
-    posterior = parts["posterior"]
+    log_prob = parts["log_prob"]
     history, chain = read_chain(parts["dir"].samples)
     assert chain.shape[0] == parts["summary"].sampling.steps and history[-1, 0] <= chain.shape[0]
     fig = parts["fig"]["convergence"]
     assert len(fig.axes) == 4
     assert fig.axes[0].get_ylabel() == "Autocorrelation\ntime [steps]"
-    assert all(ax.texts[0].get_text() in posterior.layout.free for ax in fig.axes[1:])
+    assert all(ax.texts[0].get_text() in log_prob.layout.free for ax in fig.axes[1:])
     assert fig.axes[-1].get_xlabel().startswith("Step")

@@ -1,4 +1,4 @@
-"""The samplers: from a posterior to posterior samples, behind one interface.
+"""The samplers: from a log-probability to posterior samples, behind one interface.
 
 :mod:`~planetfit.fitting.sampling.sampler` holds the :class:`Sampler` protocol
 (start or resume, sample, return :class:`Draws`: samples, weights and facts)
@@ -12,10 +12,10 @@ modes (:mod:`.modes`, :mod:`.density_modes`) and samples.h5
 (:mod:`.chainfile`, the one module that reads or writes it).
 
 The model side (parameters, components, likelihoods, linear parameters,
-the joint posterior, predictions) stays in :mod:`planetfit.fitting`: it is
-what is sampled, and samplers see only ``JointPosterior``'s
+the joint log-probability, predictions) stays in :mod:`planetfit.fitting`: it is
+what is sampled, and samplers see only ``LogProbability``'s
 ``log_prob_many`` / ``log_likelihood_many`` and its ``layout``.
-:mod:`planetfit.fitting.workers` stays there too: the posterior's
+:mod:`planetfit.fitting.workers` stays there too: ``LogProbability``'s
 ``complete`` also shares its batches among processes.
 """
 

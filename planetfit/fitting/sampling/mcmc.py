@@ -141,7 +141,7 @@ def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True
 
     Parameters
     ----------
-    log_prob : JointPosterior
+    log_prob : LogProbability
         Callable on one sampler vector (the optimiser's calls) with
         ``log_prob_many`` for batches (the walkers', evaluated together).
     layout : ParameterLayout

@@ -142,12 +142,12 @@ def _log_progress(results, niter, ncall, **_):
         log.info("iteration %d: %d likelihood calls, ln Z %.2f", niter, ncall, results.logz)
 
 
-def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, resume=False):
+def run_nested(log_prob, settings, checkpoint, rng, cores=1, progress=True, resume=False):
     """Run dynesty until the evidence left in the live points is below ``settings.dlogz``.
 
     Parameters
     ----------
-    posterior : JointPosterior
+    log_prob : LogProbability
     settings : NestedSettings
         ``live_points``, ``dlogz``, ``min_effective_samples``, ``max_likelihood_calls``.
     checkpoint : Path
@@ -165,13 +165,13 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
     -------
     NestedResult
     """
-    layout = posterior.layout
+    layout = log_prob.layout
     start = time.perf_counter()
-    loglike = _Shared("log_likelihood", lambda theta: float(posterior.log_likelihood_many(theta[None, :])[0]))
+    loglike = _Shared("log_likelihood", lambda theta: float(log_prob.log_likelihood_many(theta[None, :])[0]))
     transform = _Shared("prior_transform", layout.from_unit_cube)
     try:
         # One likelihood is too small a job for threaded BLAS (see planetfit.fitting.sampling.mcmc.run_sampler).
-        with threadpool_limits(limits=1), WorkerProcesses(posterior, cores) as workers:
+        with threadpool_limits(limits=1), WorkerProcesses(log_prob, cores) as workers:
             pool = _Pool(workers) if cores > 1 else None
             resume = resume and checkpoint.exists()
             if resume:
@@ -194,7 +194,7 @@ def run_nested(posterior, settings, checkpoint, rng, cores=1, progress=True, res
             results = sampler.results
     finally:
         _SHARED.clear()
-    return _result(results, posterior, settings, rng, time.perf_counter() - start)
+    return _result(results, log_prob, settings, rng, time.perf_counter() - start)
 
 
 def _new_sampler(loglike, transform, ndim, settings, rng, pool):
@@ -242,9 +242,9 @@ def remaining_dlogz(results):
     return float(np.logaddexp(z_dead, np.max(results.logl[dead:]) + results.logvol[dead - 1]) - z_dead)
 
 
-def _result(results, posterior, settings, rng, seconds):
+def _result(results, log_prob, settings, rng, seconds):
     """Equal-weight samples, the evidence, the convergence facts, modes and warnings of a finished run."""
-    layout = posterior.layout
+    layout = log_prob.layout
     log_w = results.logwt - np.logaddexp.reduce(results.logwt)
     weights = np.exp(log_w)
     points = np.asarray(results.samples)
@@ -262,8 +262,8 @@ def _result(results, posterior, settings, rng, seconds):
             f"NOT CONVERGED: {ess} effective samples, fewer than sampling.min_effective_samples = "
             f"{settings.min_effective_samples}; raise sampling.live_points."
         )
-    log_prob = results.logl + np.array([layout.log_prior(t) for t in points])
-    groups = mode_finding.describe_weighted(points, weights, log_prob, layout)
+    log_density = results.logl + np.array([layout.log_prior(t) for t in points])
+    groups = mode_finding.describe_weighted(points, weights, log_density, layout)
     found += [g.warning() for g in groups]
     for w in found:
         log.warning("WARNING: %s", w)
@@ -272,7 +272,7 @@ def _result(results, posterior, settings, rng, seconds):
         points=points,
         log_weights=log_w,
         log_likelihood=np.asarray(results.logl),
-        max_log_likelihood=posterior.max_log_likelihood(points[np.argsort(results.logl)[-PROFILED_POINTS:]]),
+        max_log_likelihood=log_prob.max_log_likelihood(points[np.argsort(results.logl)[-PROFILED_POINTS:]]),
         live_points=int(results.nlive),
         iterations=int(results.niter),
         likelihood_calls=calls,

@@ -1,4 +1,4 @@
-"""Where the chain starts: the posterior's maxima, and walkers drawn from the Laplace approximation of each.
+"""Where the chain starts: the log-probability's maxima, and walkers drawn from the Laplace approximation of each.
 
 1. Maxima: bounded and local Powell searches from the prior's centre, the
    most probable of 2,000 draws from the prior, random ones of them and,
@@ -61,7 +61,7 @@ def _optimise(log_prob, x0, centre, scale, bounds):
 
 
 def find_map(log_prob, layout, rng, starts, processes=None, seeds=()):
-    """Maxima of the posterior by Powell's method from several starts.
+    """Maxima of the log-probability by Powell's method from several starts.
 
     The starts are the prior's centre and ``starts - 1`` of
     :data:`PRIOR_SEARCH_DRAWS` draws from the prior: half of them (rounded

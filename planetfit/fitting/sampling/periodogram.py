@@ -23,14 +23,14 @@ PEAKS = 3
 SAMPLES_PER_PEAK = 10
 
 
-def _planets(posterior, layout):
+def _planets(log_prob, layout):
     """The planets fitted from RVs alone whose period and semi-amplitude are free."""
-    if not posterior.velocities:
+    if not log_prob.velocities:
         return []
     return [
         p
-        for p in posterior.planets
-        if (not p.transits or not posterior.photometry)
+        for p in log_prob.planets
+        if (not p.transits or not log_prob.photometry)
         and p.period.name in layout.free
         and p.amplitude.name in layout.free
     ]
@@ -89,12 +89,12 @@ def _into_prior(prior, value, period=None):
     return float(np.clip(value, lo, hi))
 
 
-def periodogram_starts(posterior, layout, base):
+def periodogram_starts(log_prob, layout, base):
     """Optimiser starts (sampler coordinates) at the periodogram peaks of every planet fitted from RVs.
 
     Parameters
     ----------
-    posterior : JointPosterior
+    log_prob : LogProbability
     layout : ParameterLayout
     base : ndarray
         The start's other parameters (the prior's centre); each
@@ -105,14 +105,14 @@ def periodogram_starts(posterior, layout, base):
     list of ndarray
         Empty where no planet's period prior holds more than one peak.
     """
-    planets = _planets(posterior, layout)
+    planets = _planets(log_prob, layout)
     if not planets:
         return []
-    t = np.concatenate([d.time for d in posterior.velocities])
-    rv = np.concatenate([d.rv - np.median(d.rv) for d in posterior.velocities])
-    error = np.concatenate([d.error for d in posterior.velocities])
+    t = np.concatenate([d.time for d in log_prob.velocities])
+    rv = np.concatenate([d.rv - np.median(d.rv) for d in log_prob.velocities])
+    error = np.concatenate([d.error for d in log_prob.velocities])
     start = np.array(base, dtype=float)
-    for d, spectrograph in zip(posterior.velocities, posterior.model.velocity.spectrographs):
+    for d, spectrograph in zip(log_prob.velocities, log_prob.model.velocity.spectrographs):
         name = spectrograph.offset.name
         if name in layout.free:
             start[layout.free.index(name)] = layout.priors[name].to_sampler(

@@ -1,7 +1,7 @@
 """The one interface of every sampler, one class per ``sampling.method``, and the one place that picks it.
 
 A :class:`Sampler` starts or resumes sampling a
-:class:`~planetfit.fitting.posterior.JointPosterior` into a run's files
+:class:`~planetfit.fitting.log_probability.LogProbability` into a run's files
 and returns :class:`Draws`: the equal-weight posterior samples, the
 sampler's own points with their weights, and the facts of the run (the
 ``sampling`` block of summary.json, also kept in samples.h5). Its
@@ -44,8 +44,8 @@ class Sampler(Protocol):
         :class:`planetfit.rundir.RunDirectory` names them); ``ndim``: the free parameters sampled.
         """
 
-    def sample(self, posterior, files, rng, cores=1, progress=True, resume=False):
-        """Start (or with ``resume`` continue) sampling ``posterior`` into ``files``; return :class:`Draws`."""
+    def sample(self, log_prob, files, rng, cores=1, progress=True, resume=False):
+        """Start (or with ``resume`` continue) sampling ``log_prob`` into ``files``; return :class:`Draws`."""
 
 
 def _equal_weights(samples):
@@ -62,22 +62,15 @@ class EmceeSampler:
     def check_resumable(self, files, ndim):
         chainfile.check_resumable(files.samples, ndim, self.settings.walkers)
 
-    def sample(self, posterior, files, rng, cores=1, progress=True, resume=False):
+    def sample(self, log_prob, files, rng, cores=1, progress=True, resume=False):
         result = run_sampler(
-            posterior,
-            posterior.layout,
-            self.settings,
-            files.samples,
-            rng,
-            cores=cores,
-            progress=progress,
-            resume=resume,
+            log_prob, log_prob.layout, self.settings, files.samples, rng, cores=cores, progress=progress, resume=resume
         )
         facts = result.summary()
         facts.update(
             discard=result.discard, thin=result.thin, cores=cores, warnings=list(result.warnings), modes=result.modes
         )
-        chainfile.write_facts(files.samples, posterior.layout.free, facts, result.autocorr_history)
+        chainfile.write_facts(files.samples, log_prob.layout.free, facts, result.autocorr_history)
         return Draws(result.samples, result.samples, _equal_weights(result.samples), facts)
 
 
@@ -92,13 +85,13 @@ class DynestySampler:
     def check_resumable(self, files, ndim):
         """Nothing before sampling: the checkpoint is checked (signature, parameters) when it is restored."""
 
-    def sample(self, posterior, files, rng, cores=1, progress=True, resume=False):
+    def sample(self, log_prob, files, rng, cores=1, progress=True, resume=False):
         result = run_nested(
-            posterior, self.settings, files.checkpoint, rng, cores=cores, progress=progress, resume=resume
+            log_prob, self.settings, files.checkpoint, rng, cores=cores, progress=progress, resume=resume
         )
         facts = dict(result.summary(), cores=cores, warnings=list(result.warnings), modes=result.modes)
         facts["phase_seconds"] = {"sampling": result.seconds}
-        chainfile.write_nested(files.samples, posterior.layout.free, facts, result)
+        chainfile.write_nested(files.samples, log_prob.layout.free, facts, result)
         return Draws(result.samples, result.points, result.log_weights, facts)
 
 

@@ -24,22 +24,22 @@ from planetfit.report.figures.transit_times import o_minus_c_figure
 from planetfit.report.figures.velocity import rv_phase_figure, rv_time_figure
 
 
-def _convergence(run_dir, posterior, summary, target_factor):
+def _convergence(run_dir, log_prob, summary, target_factor):
     history, raw = read_chain(run_dir.samples)
-    chain = physical_chain(raw, posterior.layout)
-    return convergence_figure(history, chain, posterior.layout.free, summary.sampling.discard, target_factor)
+    chain = physical_chain(raw, log_prob.layout)
+    return convergence_figure(history, chain, log_prob.layout.free, summary.sampling.discard, target_factor)
 
 
-def _light_builders(posterior, view, summary):
+def _light_builders(log_prob, view, summary):
     """The planet-light figure of every dataset whose band carries a planet's light."""
     out = []
-    for (band, name), light in posterior.model.lights.items():
+    for (band, name), light in log_prob.model.lights.items():
         entry = summary.planets[name]
-        for i, d in enumerate(posterior.photometry):
+        for i, d in enumerate(log_prob.photometry):
             if d.band == band:
                 build = partial(
                     phase_curve_figure,
-                    posterior,
+                    log_prob,
                     view,
                     light,
                     i,
@@ -50,26 +50,26 @@ def _light_builders(posterior, view, summary):
     return out
 
 
-def figure_builders(run_dir, checked, posterior, samples, derived, summary):
+def figure_builders(run_dir, checked, log_prob, samples, derived, summary):
     """``(Drawn record, builder)`` pairs for every figure of a run, the longest to draw first.
 
     Parameters are those of :func:`planetfit.report.outputs.write_all`.
     """
-    view = PosteriorView(posterior, samples, seed=checked.config.seed)
-    planets = posterior.planets
+    view = PosteriorView(log_prob, samples, seed=checked.config.seed)
+    planets = log_prob.planets
     transiting = [p for p in planets if p.transits]
     out = [(Drawn("corner_sampled"), partial(sampled_corner, derived))]  # ~half of all drawing time
     for p in transiting:
         duration_hr = summary.planets[p.name].stat("transit_duration_hr").median
-        for i, d in enumerate(posterior.photometry):
-            out.append((Drawn("transit", p.name, d.name), partial(transit_figure, posterior, view, p, i, duration_hr)))
-    out += _light_builders(posterior, view, summary)
+        for i, d in enumerate(log_prob.photometry):
+            out.append((Drawn("transit", p.name, d.name), partial(transit_figure, log_prob, view, p, i, duration_hr)))
+    out += _light_builders(log_prob, view, summary)
     for i, c in enumerate(checked.config.photometry):
-        if predictions.has_variability_model(posterior, i) or predictions.has_regressor_trend(posterior, i):
-            out.append((Drawn("light_curve", dataset=c.name), partial(light_curve_figure, posterior, view, i)))
-    if posterior.velocities:
-        out += [(Drawn("rv_phase", p.name), partial(rv_phase_figure, posterior, view, p)) for p in planets]
-        out.append((Drawn("rv_time"), partial(rv_time_figure, posterior, view)))
+        if predictions.has_variability_model(log_prob, i) or predictions.has_regressor_trend(log_prob, i):
+            out.append((Drawn("light_curve", dataset=c.name), partial(light_curve_figure, log_prob, view, i)))
+    if log_prob.velocities:
+        out += [(Drawn("rv_phase", p.name), partial(rv_phase_figure, log_prob, view, p)) for p in planets]
+        out.append((Drawn("rv_time"), partial(rv_time_figure, log_prob, view)))
     out += [(Drawn("corner", p.name), partial(physical_corner, derived, p)) for p in planets]
     out += [(Drawn("o_minus_c", n), partial(o_minus_c_figure, t)) for n, t in derived["transit_times"].items()]
     # Planets with a measured mass (a transit-only fit has none) go on the mass-radius diagram.
@@ -84,6 +84,6 @@ def figure_builders(run_dir, checked, posterior, samples, derived, summary):
         out.append((Drawn("mass_radius"), partial(mass_radius_figure, derived, weighed)))
     out.append((Drawn("habitable_zone"), partial(habitable_zone_figure, derived, planets)))
     if not summary.sampling.nested:  # a chain's figure; nested sampling has no walkers
-        converge = partial(_convergence, run_dir, posterior, summary, checked.config.sampling.autocorr_factor)
+        converge = partial(_convergence, run_dir, log_prob, summary, checked.config.sampling.autocorr_factor)
         out.append((Drawn("convergence"), converge))
     return out

@@ -16,7 +16,7 @@ class PosteriorView:
 
     Parameters
     ----------
-    posterior : JointPosterior
+    log_prob : LogProbability
     samples : ndarray, shape (n, ndim)
         Flat posterior samples as the sampler stores them.
     n_draws : int
@@ -33,22 +33,22 @@ class PosteriorView:
         Values and orbits of up to ``n_draws`` physical posterior samples.
     """
 
-    def __init__(self, posterior, samples, n_draws=N_DRAWS, seed=0):
-        layout = posterior.model.layout  # samples with the marginalised parameters drawn in
+    def __init__(self, log_prob, samples, n_draws=N_DRAWS, seed=0):
+        layout = log_prob.model.layout  # samples with the marginalised parameters drawn in
         self.median = layout.values(np.median(samples, axis=0))
-        self.median_orbits = posterior.orbits(self.median)
+        self.median_orbits = log_prob.orbits(self.median)
         if self.median_orbits is None:
             scale = np.std(samples, axis=0)
             scale[scale == 0] = 1.0
             nearest = np.argmin(np.sum(((samples - np.median(samples, axis=0)) / scale) ** 2, axis=1))
             self.median = layout.values(samples[nearest])
-            self.median_orbits = posterior.orbits(self.median)
+            self.median_orbits = log_prob.orbits(self.median)
         rng = np.random.default_rng(seed)
         picks = rng.choice(len(samples), size=min(n_draws, len(samples)), replace=False)
         self.draws = []
         for row in samples[np.sort(picks)]:
             values = layout.values(row)
-            orbits = posterior.orbits(values)
+            orbits = log_prob.orbits(values)
             if orbits is not None:
                 self.draws.append((values, orbits))
 

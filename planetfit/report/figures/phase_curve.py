@@ -22,15 +22,15 @@ def _phase(times, period, transit_bjd):
     return np.mod((times - transit_bjd) / period + 0.25, 1.0) - 0.25
 
 
-def _model_ppm(posterior, view, light, index, times):
+def _model_ppm(log_prob, view, light, index, times):
     """The planet's transit and light (relative flux - 1, ppm) at ``times`` for the median parameters."""
     view_values, orbits = view.median, view.median_orbits
-    d, model = posterior.photometry[index], posterior.model.photometry[index]
-    lc = TransitLightCurve(times, d.exposure_days, posterior.model.exposures[d.name].supersample)
-    ld = posterior.model.bands[d.band]
+    d, model = log_prob.photometry[index], log_prob.model.photometry[index]
+    lc = TransitLightCurve(times, d.exposure_days, log_prob.model.exposures[d.name].supersample)
+    ld = log_prob.model.bands[d.band]
     orbit = orbits[light.planet.name]
     deficit = np.zeros(times.size)
-    for term in (TransitTerm(light.planet, lc, ld), PlanetLightTerm(light, lc, posterior.model.star)):
+    for term in (TransitTerm(light.planet, lc, ld), PlanetLightTerm(light, lc, log_prob.model.star)):
         part = term.deficit(view_values, orbit)
         if part is not None:
             deficit[part[0]] += part[1]
@@ -38,19 +38,19 @@ def _model_ppm(posterior, view, light, index, times):
     return -deficit * (1 - dilution) / PPM
 
 
-def _folded(posterior, view, light, index):
+def _folded(log_prob, view, light, index):
     """Phase, the planet's own signal (ppm) and the residuals (ppm) of dataset ``index``."""
     v, orbits = view.median, view.median_orbits
     name = light.planet.name
-    flux, level = detrended(posterior, v, orbits, index)
-    full = predictions.photometry_model(posterior, v, orbits, index)
-    own = predictions.photometry_model(posterior, v, orbits, index, planets=[name])
-    d = posterior.photometry[index]
+    flux, level = detrended(log_prob, v, orbits, index)
+    full = predictions.photometry_model(log_prob, v, orbits, index)
+    own = predictions.photometry_model(log_prob, v, orbits, index, planets=[name])
+    d = log_prob.photometry[index]
     phase = _phase(d.time, v[light.planet.period.name], v[light.planet.transit_time.name])
     return phase, ((flux - (full - own)) / level - 1.0) / PPM, (flux - full) / level / PPM
 
 
-def phase_curve_figure(posterior, view, light, index, eclipse_bjd, duration_hr):
+def phase_curve_figure(log_prob, view, light, index, eclipse_bjd, duration_hr):
     """Figure of one planet's light in photometric dataset ``index``.
 
     Left: the whole orbit folded on the median ephemeris (phase 0 at
@@ -64,16 +64,16 @@ def phase_curve_figure(posterior, view, light, index, eclipse_bjd, duration_hr):
     """
     v = view.median
     per, t0 = v[light.planet.period.name], v[light.planet.transit_time.name]
-    d = posterior.photometry[index]
-    phase, own, resid = _folded(posterior, view, light, index)
+    d = log_prob.photometry[index]
+    phase, own, resid = _folded(log_prob, view, light, index)
     grid_phase = np.linspace(-0.25, 0.75, GRID_POINTS)
-    model = _model_ppm(posterior, view, light, index, t0 + per * grid_phase)
+    model = _model_ppm(log_prob, view, light, index, t0 + per * grid_phase)
     half_hr = ECLIPSE_HALF_DURATIONS * duration_hr
     ecl_phase = (eclipse_bjd - t0) / per
     x_hr = (phase - ecl_phase) * per * HOURS_PER_DAY
     near = np.abs(x_hr) <= half_hr
     grid_hr = np.linspace(-half_hr, half_hr, 400)
-    ecl_model = _model_ppm(posterior, view, light, index, eclipse_bjd + grid_hr / HOURS_PER_DAY)
+    ecl_model = _model_ppm(log_prob, view, light, index, eclipse_bjd + grid_hr / HOURS_PER_DAY)
     with style.style():
         fig = style.new_figure(style.PAGE_WIDTH_IN, 3.4)
         grid = fig.add_gridspec(2, 2, height_ratios=(3, 1.2), width_ratios=(1.6, 1))

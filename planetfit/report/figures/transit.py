@@ -42,20 +42,20 @@ def _model_ppm(lc, values, orbit, planet, model, limb_darkening):
     return (f - 1.0) * (1 - dilution) / PPM
 
 
-def detrended(posterior, values, orbits, index):
+def detrended(log_prob, values, orbits, index):
     """Dataset ``index``'s flux with the noise model's prediction (GP variability) removed, and its baseline."""
-    d = posterior.photometry[index]
-    flux = d.flux - predictions.photometry_noise_prediction(posterior, values, orbits, index)
-    return flux, predictions.baseline_flux(posterior, values, index)
+    d = log_prob.photometry[index]
+    flux = d.flux - predictions.photometry_noise_prediction(log_prob, values, orbits, index)
+    return flux, predictions.baseline_flux(log_prob, values, index)
 
 
-def _folded_data(posterior, view, planet, index, half_hr):
+def _folded_data(log_prob, view, planet, index, half_hr):
     """Times from mid-transit (h) within ``half_hr``, the planet's own transit signal and the residuals (ppm)."""
-    d = posterior.photometry[index]
+    d = log_prob.photometry[index]
     v, orbits = view.median, view.median_orbits
-    flux, level = detrended(posterior, v, orbits, index)
-    full = predictions.photometry_model(posterior, v, orbits, index)
-    own = predictions.photometry_model(posterior, v, orbits, index, planets=[planet.name], parts=["transit"])
+    flux, level = detrended(log_prob, v, orbits, index)
+    full = predictions.photometry_model(log_prob, v, orbits, index)
+    own = predictions.photometry_model(log_prob, v, orbits, index, planets=[planet.name], parts=["transit"])
     per, t0 = v[planet.period.name], v[planet.transit_time.name]
     x_days = phase_days(d.time, per, t0)
     if planet.timing is not None:  # folded on each transit's own mid-time
@@ -65,18 +65,18 @@ def _folded_data(posterior, view, planet, index, half_hr):
     return (x_hr[sel], ((flux - (full - own))[sel] / level[sel] - 1.0) / PPM, (flux - full)[sel] / level[sel] / PPM)
 
 
-def _model_curves(posterior, view, planet, index, half_hr):
+def _model_curves(log_prob, view, planet, index, half_hr):
     """A time grid (h from mid-transit), the median model and the 68% band of the draws on it (ppm)."""
-    d = posterior.photometry[index]
+    d = log_prob.photometry[index]
     grid_hr = np.linspace(-half_hr, half_hr, GRID_POINTS)
-    lc = TransitLightCurve(grid_hr / HOURS_PER_DAY, d.exposure_days, posterior.model.exposures[d.name].supersample)
-    model, ld = posterior.model.photometry[index], posterior.model.bands[d.band]
+    lc = TransitLightCurve(grid_hr / HOURS_PER_DAY, d.exposure_days, log_prob.model.exposures[d.name].supersample)
+    model, ld = log_prob.model.photometry[index], log_prob.model.bands[d.band]
     median = _model_ppm(lc, view.median, view.median_orbits[planet.name], planet, model, ld)
     lo, hi = band([_model_ppm(lc, val, orb[planet.name], planet, model, ld) for val, orb in view.draws])
     return grid_hr, median, lo, hi
 
 
-def transit_figure(posterior, view, planet, index, duration_hr):
+def transit_figure(log_prob, view, planet, index, duration_hr):
     """Figure of ``planet``'s transits in photometric dataset ``index``.
 
     Data are folded on the median ephemeris (on each transit's own median
@@ -88,7 +88,7 @@ def transit_figure(posterior, view, planet, index, duration_hr):
 
     Parameters
     ----------
-    posterior : JointPosterior
+    log_prob : LogProbability
     view : PosteriorView
     planet : PlanetConfig
     index : int
@@ -101,10 +101,10 @@ def transit_figure(posterior, view, planet, index, duration_hr):
     matplotlib.figure.Figure
         Two axes: flux, residuals.
     """
-    d = posterior.photometry[index]
+    d = log_prob.photometry[index]
     half = max(WINDOW_DURATIONS * duration_hr, MIN_HALF_WINDOW_HR)
-    x_hr, flux_ppm, resid_ppm = _folded_data(posterior, view, planet, index, half)
-    grid_hr, median_model, lo, hi = _model_curves(posterior, view, planet, index, half)
+    x_hr, flux_ppm, resid_ppm = _folded_data(log_prob, view, planet, index, half)
+    grid_hr, median_model, lo, hi = _model_curves(log_prob, view, planet, index, half)
     width_hr = max(duration_hr / BINS_PER_DURATION, d.exposure_days * HOURS_PER_DAY)
 
     with style.style():
@@ -127,7 +127,7 @@ def transit_figure(posterior, view, planet, index, duration_hr):
             loc="outside upper center",
             ncols=2,
             title=f"Planet {planet.name}, {d.name} ({exposure:.0f}-min exposures)\n"
-            f"data: {_removed(posterior, index)} removed",
+            f"data: {_removed(log_prob, index)} removed",
         )
     return fig
 
@@ -148,14 +148,14 @@ def points(ax, x, y, width, model):
     _limits(ax, np.r_[by - be, by + be] if dense and by.size else y, model)
 
 
-def _removed(posterior, index):
+def _removed(log_prob, index):
     """What the folded points have had subtracted or divided out."""
     parts = ["baseline"]
-    if predictions.has_variability_model(posterior, index):
+    if predictions.has_variability_model(log_prob, index):
         parts.append("variability (GP mean)")
-    if len(posterior.model.transiting) > 1:
+    if len(log_prob.model.transiting) > 1:
         parts.append("other planets")
-    if any(t.part == "planet light" for t in posterior.model.photometry[index].terms):
+    if any(t.part == "planet light" for t in log_prob.model.photometry[index].terms):
         parts.append("planets' light")
     return ", ".join(parts[:-1]) + (" and " if len(parts) > 1 else "") + parts[-1]
 
@@ -168,7 +168,7 @@ def _limits(ax, data, model):
     ax.set_ylim(lo - pad, hi + pad)
 
 
-def light_curve_figure(posterior, view, index):
+def light_curve_figure(log_prob, view, index):
     """Dataset ``index`` against time: data, the GP prediction or regressor trend with the model, and detrended.
 
     Returns
@@ -178,11 +178,11 @@ def light_curve_figure(posterior, view, index):
         model (or the model with its baseline trend in observing conditions),
         and the data with the GP prediction and the baseline removed.
     """
-    d = posterior.photometry[index]
+    d = log_prob.photometry[index]
     v, orbits = view.median, view.median_orbits
-    model = predictions.photometry_model(posterior, v, orbits, index)
-    gp = predictions.photometry_noise_prediction(posterior, v, orbits, index)
-    base = predictions.baseline_flux(posterior, v, index)
+    model = predictions.photometry_model(log_prob, v, orbits, index)
+    gp = predictions.photometry_noise_prediction(log_prob, v, orbits, index)
+    base = predictions.baseline_flux(log_prob, v, index)
     t0 = float(np.floor(d.time.min()))
     x = d.time - t0
     gaps = np.flatnonzero(np.diff(d.time) > 10 * np.median(np.diff(d.time))) + 1

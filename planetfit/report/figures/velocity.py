@@ -29,28 +29,28 @@ def planet_rv_ms(values, orbit, planet, times):
     )
 
 
-def _corrected(posterior, view, index):
+def _corrected(log_prob, view, index):
     """RVs without offset and activity prediction, the model (planets, trend, indicators), jitter-inflated errors."""
-    d, s = posterior.velocities[index], posterior.model.velocity.spectrographs[index]
+    d, s = log_prob.velocities[index], log_prob.model.velocity.spectrographs[index]
     v = view.median
-    rv = d.rv - v[s.offset.name] - predictions.velocity_noise_prediction(posterior, v, view.median_orbits)[index]
+    rv = d.rv - v[s.offset.name] - predictions.velocity_noise_prediction(log_prob, v, view.median_orbits)[index]
     err = np.hypot(d.error, v[s.jitter.name])
-    return d, rv, predictions.velocity_model(posterior, v, view.median_orbits, index), err
+    return d, rv, predictions.velocity_model(log_prob, v, view.median_orbits, index), err
 
 
-def removed_text(posterior, *extra):
+def removed_text(log_prob, *extra):
     """Legend title naming what was subtracted from the plotted RVs."""
     parts = ["offsets", *extra]
-    if predictions.has_activity_model(posterior):
+    if predictions.has_activity_model(log_prob):
         parts.append("activity (GP mean)")
-    if posterior.model.velocity.has_indicators:
+    if log_prob.model.velocity.has_indicators:
         parts.append("activity-indicator terms")
     text = ", ".join(parts[:-1]) + (" and " if len(parts) > 1 else "") + parts[-1]
     return f"data: {text} removed"
 
 
-def _instruments(ax, posterior, draw_one):
-    for i, d in enumerate(posterior.velocities):
+def _instruments(ax, log_prob, draw_one):
+    for i, d in enumerate(log_prob.velocities):
         x, y, e = draw_one(i)
         ax.errorbar(
             x,
@@ -72,7 +72,7 @@ def _panels(width_in, height_in, rows=2):
     return fig, axes
 
 
-def rv_phase_figure(posterior, view, planet):
+def rv_phase_figure(log_prob, view, planet):
     """RVs folded on ``planet``'s period with offsets, activity and the other planets removed.
 
     Error bars include each spectrograph's median jitter. Phase 0 is the
@@ -91,12 +91,12 @@ def rv_phase_figure(posterior, view, planet):
         return phase_days(times, period, v[planet.transit_time.name]) / period
 
     def folded(i):
-        d, rv, model, err = _corrected(posterior, view, i)
+        d, rv, model, err = _corrected(log_prob, view, i)
         own = planet_rv_ms(v, orbits[name], planet, d.time)
         return phase(d.time), rv - (model - own), err
 
     def residual(i):
-        d, rv, model, err = _corrected(posterior, view, i)
+        d, rv, model, err = _corrected(log_prob, view, i)
         return phase(d.time), rv - model, err
 
     grid = np.linspace(-0.5, 0.5, GRID_POINTS)
@@ -107,14 +107,14 @@ def rv_phase_figure(posterior, view, planet):
             for val, orb in view.draws
         ]
     )
-    others = ["other planets"] if len(posterior.planets) > 1 else []
-    others += ["trend"] if posterior.model.velocity.trend is not None else []
+    others = ["other planets"] if len(log_prob.planets) > 1 else []
+    others += ["trend"] if log_prob.model.velocity.trend is not None else []
     with style.style():
         fig, (top, bottom) = _panels(style.COLUMN_WIDTH_IN, 3.4)
         top.fill_between(grid, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0, label="68% of draws")
         top.plot(grid, median, color=style.MODEL_COLOUR, label="median model")
-        _instruments(top, posterior, folded)
-        _instruments(bottom, posterior, residual)
+        _instruments(top, log_prob, folded)
+        _instruments(bottom, log_prob, residual)
         top.set_ylabel("Radial velocity [m/s]")
         bottom.set_xlabel("Phase (0 = conjunction)")
         bottom.set_xlim(-0.5, 0.5)
@@ -122,43 +122,43 @@ def rv_phase_figure(posterior, view, planet):
             *top.get_legend_handles_labels(),
             loc="outside upper center",
             ncols=2,
-            title=f"Planet {name}, P = {period:.4g} d\n{removed_text(posterior, *others)}",
+            title=f"Planet {name}, P = {period:.4g} d\n{removed_text(log_prob, *others)}",
         )
     return fig
 
 
-def _time_grid(posterior, view):
+def _time_grid(log_prob, view):
     """Times of the whole RV series, the plotted range and a model grid resolving the shortest period."""
     v = view.median
-    t_all = np.concatenate([d.time for d in posterior.velocities])
+    t_all = np.concatenate([d.time for d in log_prob.velocities])
     t0 = float(np.floor(t_all.min() / 100.0) * 100.0)
     span = t_all.max() - t_all.min()
     t_lo, t_hi = t_all.min() - 0.03 * span, t_all.max() + 0.03 * span
-    shortest = min(v[p.period.name] for p in posterior.planets)
+    shortest = min(v[p.period.name] for p in log_prob.planets)
     n = int(min(MAX_GRID_POINTS, max(GRID_POINTS, POINTS_PER_PERIOD * (t_hi - t_lo) / shortest)))
     return t0, t_lo, t_hi, np.linspace(t_lo, t_hi, n)
 
 
-def _activity_panel(ax, posterior, view, grid, t0):
+def _activity_panel(ax, log_prob, view, grid, t0):
     """RVs minus offsets, planets and trend, with the activity GP's mean and 68% band per spectrograph."""
     v = view.median
-    prediction = predictions.activity_prediction(posterior, v, view.median_orbits, grid)
+    prediction = predictions.activity_prediction(log_prob, v, view.median_orbits, grid)
     for i, (mean, sd) in enumerate(prediction):
         colour = style.CYCLE[i % len(style.CYCLE)]
         ax.fill_between(grid - t0, mean - sd, mean + sd, color=colour, alpha=0.2, lw=0)
-        ax.plot(grid - t0, mean, color=colour, lw=0.8, label=f"GP mean ± 1σ ({posterior.velocities[i].name})")
+        ax.plot(grid - t0, mean, color=colour, lw=0.8, label=f"GP mean ± 1σ ({log_prob.velocities[i].name})")
 
     def activity(i):
-        d, rv, model, err = _corrected(posterior, view, i)
-        gp = predictions.velocity_noise_prediction(posterior, v, view.median_orbits)[i]
+        d, rv, model, err = _corrected(log_prob, view, i)
+        gp = predictions.velocity_noise_prediction(log_prob, v, view.median_orbits)[i]
         return d.time - t0, rv + gp - model, err
 
-    _instruments(ax, posterior, activity)
+    _instruments(ax, log_prob, activity)
     ax.set_ylabel("Activity [m/s]")
     ax.set_title("data: offsets, planets and trend removed", loc="left", fontsize="small", pad=2)
 
 
-def rv_time_figure(posterior, view):
+def rv_time_figure(log_prob, view):
     """All RVs against time with the summed model of every planet (and the activity GP, when fitted).
 
     Returns
@@ -167,24 +167,24 @@ def rv_time_figure(posterior, view):
         Velocity, the activity panel (with ``rv_activity``), residuals.
     """
     v, orbits = view.median, view.median_orbits
-    t0, t_lo, t_hi, grid = _time_grid(posterior, view)
+    t0, t_lo, t_hi, grid = _time_grid(log_prob, view)
 
     def total(values, orbs):
-        return predictions.trend_ms(posterior, values, grid) + sum(
-            planet_rv_ms(values, orbs[p.name], p, grid) for p in posterior.planets
+        return predictions.trend_ms(log_prob, values, grid) + sum(
+            planet_rv_ms(values, orbs[p.name], p, grid) for p in log_prob.planets
         )
 
     lo, hi = band([total(val, orb) for val, orb in view.draws])
 
     def data(i):
-        d, rv, _, err = _corrected(posterior, view, i)
-        return d.time - t0, rv - posterior.model.velocity.spectrographs[i].indicator_ms(v), err
+        d, rv, _, err = _corrected(log_prob, view, i)
+        return d.time - t0, rv - log_prob.model.velocity.spectrographs[i].indicator_ms(v), err
 
     def residual(i):
-        d, rv, model, err = _corrected(posterior, view, i)
+        d, rv, model, err = _corrected(log_prob, view, i)
         return d.time - t0, rv - model, err
 
-    activity = predictions.has_activity_model(posterior)
+    activity = predictions.has_activity_model(log_prob)
     with style.style():
         fig, axes = _panels(style.PAGE_WIDTH_IN, 4.6 if activity else 3.3, rows=3 if activity else 2)
         top, bottom = axes[0], axes[-1]
@@ -192,10 +192,10 @@ def rv_time_figure(posterior, view):
             grid - t0, lo, hi, color=style.MODEL_COLOUR, alpha=style.BAND_ALPHA, lw=0, label="68% of draws"
         )
         top.plot(grid - t0, total(v, orbits), color=style.MODEL_COLOUR, lw=0.8, label="median model (planets + trend)")
-        _instruments(top, posterior, data)
+        _instruments(top, log_prob, data)
         if activity:
-            _activity_panel(axes[1], posterior, view, grid, t0)
-        _instruments(bottom, posterior, residual)
+            _activity_panel(axes[1], log_prob, view, grid, t0)
+        _instruments(bottom, log_prob, residual)
         top.set_ylabel("Radial velocity [m/s]")
         bottom.set_xlabel(f"Time [BJD$_\\mathrm{{TDB}}$ $-$ {t0:.0f}]")
         bottom.set_xlim(t_lo - t0, t_hi - t0)
@@ -207,7 +207,7 @@ def rv_time_figure(posterior, view):
             handles,
             labels,
             loc="outside upper center",
-            ncols=2 + len(posterior.velocities),
-            title=removed_text(posterior) + " (top panel)" * activity,
+            ncols=2 + len(log_prob.velocities),
+            title=removed_text(log_prob) + " (top panel)" * activity,
         )
     return fig

@@ -43,11 +43,11 @@ def _orbit_rows(orbit, n):
     return [SolvedOrbit(*row) for row in _table([c for c in columns if c is not None], n)]
 
 
-def _draw_batch(posterior, thetas, seed, index):
-    return posterior.draw_linear(thetas, np.random.default_rng([seed, 3, index]))
+def _draw_batch(log_prob, thetas, seed, index):
+    return log_prob.draw_linear(thetas, np.random.default_rng([seed, 3, index]))
 
 
-class JointPosterior:
+class LogProbability:
     """Log-probability of the joint model of a config's datasets.
 
     Parameters
