@@ -15,7 +15,7 @@ from pydantic import BeforeValidator, Field, PrivateAttr, WithJsonSchema, model_
 from ..files import MAX_TABLE_MB
 from ..priors import Fixed, LogUniform, Uniform
 from ..timesystems import TIME_SYSTEMS
-from .base import Block, variants
+from .base import Block, Given, variants
 from .fields import (
     Column,
     Count,
@@ -292,7 +292,7 @@ class Regressors(Block):
 class RegressorBaselineBlock(PhotometryBlock):
     """A ground-based light curve: F0 (1 + sum_j c_j z_j + sum_k p_k dt^k), z_j the standardised regressors."""
 
-    variant = {"baseline": "<regressors: [...]>"}
+    variant = {"baseline": Given("<regressors: [...]>", dict)}
     baseline: Regressors
 
     def columns_used(self):
@@ -355,24 +355,15 @@ class RotationGP(_OwnGP):
 class SharedGP(PhotometryBlock):
     """The GP kernel and hyperparameters of another dataset (same star and band); own level and jitter."""
 
-    variant = {"baseline": "gp", "gp_shared_with": "<another dataset>"}
+    variant = {"baseline": "gp", "gp_shared_with": Given("<another dataset>")}
     baseline: BASELINES
     gp_shared_with: str
 
 
-def _photometry_variant(raw):
-    if isinstance(raw.get("baseline"), dict):
-        return "RegressorBaselineBlock"
-    if raw.get("baseline") == "gp":
-        if "gp_shared_with" in raw:
-            return "SharedGP"
-        return {"matern32": "Matern32GP", "rotation": "RotationGP"}.get(raw.get("gp_kernel"), "OscillatorGP")
-    return "LinearBaselineBlock" if raw.get("baseline") == "linear" else "ConstantBaselineBlock"
-
-
 _WHITE_NOISE = (ConstantBaselineBlock, LinearBaselineBlock, RegressorBaselineBlock)
-PHOTOMETRY_VARIANTS = (*_WHITE_NOISE, OscillatorGP, Matern32GP, RotationGP, SharedGP)
-AnyPhotometryBlock = variants(_photometry_variant, *PHOTOMETRY_VARIANTS)
+#: SharedGP before the own kernels: a block giving both ``gp_shared_with`` and ``gp_kernel`` is a shared one.
+PHOTOMETRY_VARIANTS = (*_WHITE_NOISE, SharedGP, OscillatorGP, Matern32GP, RotationGP)
+AnyPhotometryBlock = variants(*PHOTOMETRY_VARIANTS)
 
 
 class VelocitiesBlock(Dataset):

@@ -40,15 +40,7 @@ def _trend_block(value):
     return {"kind": value} if isinstance(value, str) else value
 
 
-RvTrend = Annotated[
-    variants(
-        lambda raw: {"linear": "LinearTrendBlock", "quadratic": "QuadraticTrendBlock"}.get(raw.get("kind"), "NoTrend"),
-        NoTrend,
-        LinearTrendBlock,
-        QuadraticTrendBlock,
-    ),
-    BeforeValidator(_trend_block),
-]
+RvTrend = Annotated[variants(NoTrend, LinearTrendBlock, QuadraticTrendBlock), BeforeValidator(_trend_block)]
 
 
 class RvActivity(Block):
