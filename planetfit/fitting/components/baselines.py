@@ -18,10 +18,12 @@ gives them keeps its meaning.
 import numpy as np
 
 from planetfit.core.quantities import DATASET, regressor_quantity, time_power_quantity
+from planetfit.fitting.components.base import BASELINES
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
 
 
+@BASELINES.register(schema.PhotometryBlock)
 class ConstantBaseline:
     """One flux level F0 for the whole dataset."""
 
@@ -41,6 +43,7 @@ class ConstantBaseline:
         return {self.level.name: 1.0}
 
 
+@BASELINES.register(schema.LinearBaselineBlock)
 class LinearBaseline(ConstantBaseline):
     """F0 [1 + s (t - t_mid)], with t_mid the middle of the dataset's time span."""
 
@@ -63,6 +66,7 @@ class LinearBaseline(ConstantBaseline):
         return {self.level.name: 1 + values[self.slope.name] * self.dt_days}
 
 
+@BASELINES.register(schema.RegressorBaselineBlock)
 class RegressorBaseline(ConstantBaseline):
     """F0 (1 + sum_j c_j z_j + sum_k p_k dt^k) for ground-based light curves.
 
@@ -101,10 +105,3 @@ class RegressorBaseline(ConstantBaseline):
 
     def columns(self, values):
         return {self.level.name: self.trend(values)}
-
-
-BASELINES = {
-    schema.LinearBaselineBlock: LinearBaseline,
-    schema.RegressorBaselineBlock: RegressorBaseline,
-    schema.PhotometryBlock: ConstantBaseline,
-}
