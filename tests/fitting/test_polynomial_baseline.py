@@ -2,7 +2,7 @@
 trend under the tiny system's transits."""
 
 import numpy as np
-from synthetic import STAR, star_priors, tiny_light_curve, write_config, write_photometry
+from synthetic import tiny_light_curve, write_photometry, write_tiny_transits
 
 from planetfit.fitting.laplace import laplace_covariance
 from planetfit.fitting.optimiser import find_map
@@ -26,14 +26,7 @@ def _trended_star(folder, seed=5):
     )
     # Limb darkening held at the injected u = (0.4, 0.2) as Kipping's q1 = (u1 + u2)^2, q2 = u1 / (2 (u1 + u2)).
     entry.update(limb_darkening_q1=0.36, limb_darkening_q2=1 / 3)
-    planet = {
-        "period_days": {"uniform": [2.99, 3.01]},
-        "transit_bjd": {"uniform": [2460001.45, 2460001.55]},
-        "radius_ratio": {"uniform": [0.02, 0.06]},
-        "impact": {"uniform": [0.0, 0.8]},
-    }
-    config = {"system": "Trended-1", "output": "run", "star": star_priors(STAR, 5300), "planets": {"b": planet}}
-    return write_config(folder, dict(config, photometry=[entry]))
+    return write_tiny_transits(folder, "Trended-1", entry)
 
 
 def test_a_fit_recovers_an_injected_quadratic_trend(tmp_path):
