@@ -182,15 +182,19 @@ class SummedPhotometryLikelihood(PhotometryLikelihood):
         """The Gram matrices from the sums and the windows' points (the baseline linear in its marginalised
         parameters: its coefficients per unit of each, and at the stacks' reference values)."""
         parts = [self.deficit(v, o) for v, o in zip(batch.rows, batch.orbit_rows)]
-        points = [{**v, **self._zero} for v in batch.rows]
-        zero = np.array([self.baseline.coefficients(p) for p in points], dtype=float)
-        units = []
+        n = len(batch.rows)
+        own = [p.name for p in self.baseline.parameters if p.name not in self.marginal.names]
+        values = {name: np.array([v[name] for v in batch.rows]) for name in own}
+        values.update(dict.fromkeys(self.marginal.names, np.zeros(n)))
+
+        def coefficients():  # (n, k), every walker at once
+            return np.column_stack([np.broadcast_to(c, n) for c in self.baseline.coefficients(values)])
+
+        zero, units = coefficients(), []
         for name in self.marginal.names:
-            for p in points:
-                p[name] = 1.0
-            units.append(np.array([self.baseline.coefficients(p) for p in points], dtype=float) - zero)
-            for p in points:
-                p[name] = 0.0
+            values[name] = np.ones(n)
+            units.append(coefficients() - zero)
+            values[name] = np.zeros(n)
         units = np.stack(units, axis=1)
         base = zero + np.einsum("l,nlk->nk", self.marginal.reference, units)
         gram = self.sums.gram(units, base, [p[0] for p in parts], [p[1] for p in parts])
