@@ -245,6 +245,19 @@ def tiny_light_curve(times, truth=TINY_TRUTH):
     return light_curve(times, _tiny_planets(truth), 0.0, star=truth, u=(0.4, 0.2))
 
 
+def write_tiny_transits(folder, system, entry):
+    """A config fitting the tiny system's planet b to one light curve (``entry``) alone, with wide priors;
+    returns its path."""
+    planet = {
+        "period_days": {"uniform": [2.99, 3.01]},
+        "transit_bjd": {"uniform": [2460001.45, 2460001.55]},
+        "radius_ratio": {"uniform": [0.02, 0.06]},
+        "impact": {"uniform": [0.0, 0.8]},
+    }
+    config = {"system": system, "output": "run", "star": star_priors(STAR, 5300), "planets": {"b": planet}}
+    return write_config(folder, dict(config, photometry=[entry]))
+
+
 def write_tiny_system(
     folder,
     truth=TINY_TRUTH,

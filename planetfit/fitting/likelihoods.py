@@ -167,8 +167,9 @@ class SummedPhotometryLikelihood(PhotometryLikelihood):
         self.sums = sums
 
     def marginalise(self, parameters, reference=None):
-        """As :meth:`LinearMean.marginalise`, centred on the data's weighted mean level (the sums' centre)."""
-        super().marginalise(parameters, [self.sums.mean])
+        """As :meth:`LinearMean.marginalise`; the level centred on the data's weighted mean (the sums' centre)."""
+        level = self.baseline.level.name
+        super().marginalise(parameters, [self.sums.mean if p.name == level else p.prior.centre for p in parameters])
 
     def log_likelihood(self, batch):
         if self.marginal is not None:
@@ -178,10 +179,25 @@ class SummedPhotometryLikelihood(PhotometryLikelihood):
         return self.sums.score(coefficients, [p[0] for p in parts], [p[1] for p in parts])
 
     def gram(self, batch):
-        """The Gram matrices from the sums and the windows' points (the level being the one linear parameter)."""
+        """The Gram matrices from the sums and the windows' points (the baseline linear in its marginalised
+        parameters: its coefficients per unit of each, and at the stacks' reference values)."""
         parts = [self.deficit(v, o) for v, o in zip(batch.rows, batch.orbit_rows)]
-        units = [self.baseline.coefficients(dict(v, **{self.baseline.level.name: 1.0})) for v in batch.rows]
-        gram = self.sums.gram(units, [p[0] for p in parts], [p[1] for p in parts])
+        n = len(batch.rows)
+        own = [p.name for p in self.baseline.parameters if p.name not in self.marginal.names]
+        values = {name: np.array([v[name] for v in batch.rows]) for name in own}
+        values.update(dict.fromkeys(self.marginal.names, np.zeros(n)))
+
+        def coefficients():  # (n, k), every walker at once
+            return np.column_stack([np.broadcast_to(c, n) for c in self.baseline.coefficients(values)])
+
+        zero, units = coefficients(), []
+        for name in self.marginal.names:
+            values[name] = np.ones(n)
+            units.append(coefficients() - zero)
+            values[name] = np.zeros(n)
+        units = np.stack(units, axis=1)
+        base = zero + np.einsum("l,nlk->nk", self.marginal.reference, units)
+        gram = self.sums.gram(units, base, [p[0] for p in parts], [p[1] for p in parts])
         return gram, np.full(len(gram), self.sums.constant)
 
 

@@ -56,6 +56,7 @@ EXAMPLES = {
     ("trend", schema.QuadraticTrendBlock): {"kind": "quadratic"},
     ("baseline", schema.PhotometryBlock): dict(_PHOT),
     ("baseline", schema.LinearBaselineBlock): dict(_PHOT, baseline="linear"),
+    ("baseline", schema.PolynomialBaselineBlock): dict(_PHOT, baseline="polynomial", degree=3),
     ("baseline", schema.RegressorBaselineBlock): dict(_PHOT, baseline={"regressors": ["airmass"], "time_degree": 2}),
     ("jitter", schema.PhotometryBlock): dict(_PHOT, jitter_ppm={"loguniform": [1, 1000]}),
     ("dilution", schema.PhotometryBlock): dict(_PHOT, dilution={"uniform": [0, 0.2]}),

@@ -102,6 +102,11 @@ CASES = {
     # name: (config writer, YAML edit, number of linear parameters)
     "white-sums-level": (_tiny_photometry, None, 1),
     "white-sums-linear-baseline": (_tiny_photometry, _linear_baseline, 1),
+    "white-sums-polynomial": (
+        _tiny_photometry,
+        lambda raw: raw["photometry"][0].update(baseline="polynomial", degree=1),
+        2,
+    ),
     "white-offset-and-trend": (_rv_trend, lambda raw: raw.update(rv_trend="linear"), 2),
     "gp-flux-level": (lambda p: write_spotted_star(p, 3, "gp"), None, 1),
     "gp-two-offsets": (lambda p: write_active_star(p, 3, True), None, 2),

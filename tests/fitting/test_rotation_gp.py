@@ -2,7 +2,7 @@
 
 import numpy as np
 from celerite2 import terms
-from synthetic import STAR, star_priors, tiny_light_curve, write_config, write_photometry
+from synthetic import tiny_light_curve, write_photometry, write_tiny_transits
 
 from planetfit.fitting.log_probability import LogProbability
 from planetfit.fitting.sampling.laplace import laplace_covariance
@@ -23,14 +23,7 @@ def _spotted_star(folder, seed=4):
     )
     entry = write_photometry(folder, t, flux, NOISE_PPM * 1e-6, 2.0, supersample=1, baseline="gp")
     entry.update(gp_kernel="rotation", gp_period_days={"uniform": [3.0, 12.0]})
-    planet = {
-        "period_days": {"uniform": [2.99, 3.01]},
-        "transit_bjd": {"uniform": [2460001.45, 2460001.55]},
-        "radius_ratio": {"uniform": [0.02, 0.06]},
-        "impact": {"uniform": [0.0, 0.8]},
-    }
-    config = {"system": "Spotted-1", "output": "run", "star": star_priors(STAR, 5300), "planets": {"b": planet}}
-    return write_config(folder, dict(config, photometry=[entry]))
+    return write_tiny_transits(folder, "Spotted-1", entry)
 
 
 def test_a_map_fit_recovers_the_rotation_period(tmp_path):

@@ -103,3 +103,46 @@ class OrbitPrior(Protocol):
     parameters: list
 
     def allowed(self, values, orbits): ...
+
+
+class Family(dict):
+    """One family of components: {schema block class: the component class that implements it}.
+
+    A component states the block class it implements once, by registering
+    (``@BASELINES.register(schema.LinearBaselineBlock)``); the family is
+    built from those declarations, never written out by hand.
+
+    Parameters
+    ----------
+    name : str
+    protocol : type
+        The Protocol its classes keep (checked by the contract test).
+    """
+
+    def __init__(self, name, protocol):
+        super().__init__()
+        self.name, self.protocol = name, protocol
+
+    def register(self, block_class):
+        """Class decorator: the decorated component implements ``block_class`` (kept as its ``configures``)."""
+
+        def declare(component):
+            if block_class in self:
+                raise TypeError(f"{block_class.__name__} already has the {self.name} {self[block_class].__name__}")
+            component.configures = block_class
+            self[block_class] = component
+            return component
+
+        return declare
+
+
+KERNELS = Family("kernel", Kernel)
+ORBITS = Family("orbit", Orbit)
+LIMB_DARKENING = Family("limb_darkening", LimbDarkening)
+TRENDS = Family("trend", Trend)
+BASELINES = Family("baseline", Baseline)
+JITTERS = Family("jitter", Component)
+DILUTIONS = Family("dilution", Component)
+STABILITY_PRIORS = Family("stability_prior", OrbitPrior)
+#: Every family, filled when the modules of :mod:`planetfit.fitting.components.registry` are imported.
+FAMILIES = (KERNELS, ORBITS, LIMB_DARKENING, TRENDS, BASELINES, JITTERS, DILUTIONS, STABILITY_PRIORS)

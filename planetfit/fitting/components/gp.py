@@ -16,6 +16,7 @@ from celerite2 import GaussianProcess, driver, terms
 
 from planetfit.core.quantities import DATASET
 from planetfit.core.units import PPM
+from planetfit.fitting.components.base import KERNELS
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
 
@@ -24,6 +25,7 @@ _LOG_2PI = math.log(2 * math.pi)
 PREDICT_BLOCK_ELEMENTS = 4_000_000
 
 
+@KERNELS.register(schema.OscillatorGP)
 class OscillatorKernel:
     """Stochastically driven damped simple harmonic oscillator (Foreman-Mackey et al. 2017, eq. 20).
 
@@ -43,6 +45,7 @@ class OscillatorKernel:
         )
 
 
+@KERNELS.register(schema.Matern32GP)
 class Matern32Kernel:
     """Matern-3/2 kernel in celerite2's approximation (Foreman-Mackey et al. 2017, section 4.2)."""
 
@@ -55,6 +58,7 @@ class Matern32Kernel:
         return terms.Matern32Term(sigma=values[self.sigma.name] * PPM, rho=values[self.rho.name])
 
 
+@KERNELS.register(schema.RotationGP)
 class PhotometricRotationKernel:
     """Quasi-periodic spot modulation of a light curve: celerite2's RotationTerm with its own amplitude.
 
@@ -78,14 +82,6 @@ class PhotometricRotationKernel:
     def term(self, values):
         sigma, period, q0, dq, mix = (values[p.name] for p in self.parameters)
         return terms.RotationTerm(sigma=sigma * PPM, period=period, Q0=q0, dQ=dq, f=mix)
-
-
-#: The photometric kernel each GP block asks for.
-KERNELS = {
-    schema.OscillatorGP: OscillatorKernel,
-    schema.Matern32GP: Matern32Kernel,
-    schema.RotationGP: PhotometricRotationKernel,
-}
 
 
 class RotationKernel:

@@ -120,43 +120,51 @@ class SumsOfSquares:
             b = b + coefficients[owner, k] * column[index]
         return index, owner, b
 
-    def gram(self, units, indices, relative_deficits):
-        """Gram matrices of [r, g] for n models whose flux level is marginalised, in time independent of N.
+    def gram(self, units, base, indices, relative_deficits):
+        """Gram matrices of [r, g_1..g_L] for n models with L marginalised parameters, in time independent of N.
 
-        g = (B u)(1 - x) is the level's design column (``units`` u: the
-        baseline coefficients at unit level), r = y - mean g the data minus
-        the model at the reference level ``mean``. Off the windows both are
-        combinations of y - mean and the basis (r: 1 and mean (e_1 - u); g: 0
-        and u), whose Gram matrix is precomputed; the windows' points add the
-        difference.
+        g_j = (B u_j)(1 - x) is parameter j's design column (``units`` u_j:
+        the baseline coefficients per unit of it), r = y - (B v)(1 - x) the
+        data minus the model with the parameters at their reference values
+        (``base`` v: the baseline coefficients there). Off the windows both
+        are combinations of y - mean and the basis (r: 1 and mean e_1 - v;
+        g_j: 0 and u_j), whose Gram matrix is precomputed; the windows' points
+        add the difference, written as d (2 x + d) so that nothing cancels.
+
+        Parameters
+        ----------
+        units : array-like
+            (n, L, k) coefficients per unit of each marginalised parameter.
+        base : array-like
+            (n, k) coefficients at the reference values.
+        indices, relative_deficits : list of ndarray
+            Per model, the points where its deficit x is non-zero and x there.
 
         Returns
         -------
         ndarray
-            Shape (n, 2, 2).
+            Shape (n, 1 + L, 1 + L).
         """
-        u = np.array(units, dtype=float)
-        n, k = u.shape
-        combos = np.zeros((n, 1 + k, 2))
+        u, v = np.array(units, dtype=float), np.array(base, dtype=float)
+        n, m, k = u.shape
+        combos = np.zeros((n, 1 + k, 1 + m))
         combos[:, 0, 0] = 1.0
-        combos[:, 1:, 0] = -self.mean * u
+        combos[:, 1:, 0] = -v
         combos[:, 1, 0] += self.mean
-        combos[:, 1:, 1] = u
+        combos[:, 1:, 1:] = np.swapaxes(u, 1, 2)
         gram = np.swapaxes(combos, 1, 2) @ self.full_gram @ combos
-        index, owner, bu = self._windows(u, indices)
+        index, owner, bv = self._windows(v, indices)
         if index.size:
             x = np.concatenate(relative_deficits)
+            bu = [self._windows(u[:, j], indices)[2] for j in range(m)]
+            off = np.array([self.y[index] + self.mean - bv, *bu])  # [r, g_j] off the windows' deficits
+            diff = np.array([bv * x, *(-b * x for b in bu)])  # what the deficits add to each
             w = self.w[index]
-            r_base = self.y[index] + self.mean * (1 - bu)
-            g_base, dg = bu, -bu * x  # g = g_base + dg, r = r_base - mean dg
-            r = r_base - self.mean * dg
-            for (i, j), value in {
-                (0, 0): w * (r - r_base) * (r + r_base),
-                (0, 1): w * (r * dg + (r - r_base) * g_base),
-                (1, 1): w * dg * (2 * g_base + dg),
-            }.items():
-                gram[:, i, j] += np.bincount(owner, value, minlength=n)
-            gram[:, 1, 0] = gram[:, 0, 1]
+            for i in range(1 + m):
+                for j in range(i, 1 + m):
+                    value = w * (diff[i] * off[j] + off[i] * diff[j] + diff[i] * diff[j])
+                    gram[:, i, j] += np.bincount(owner, value, minlength=n)
+                    gram[:, j, i] = gram[:, i, j]
         return gram
 
     def score(self, coefficients, indices, relative_deficits):

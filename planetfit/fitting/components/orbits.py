@@ -13,6 +13,7 @@ import numpy as np
 
 from planetfit.core.geometry import CIRCULAR_OMEGA_RAD, eccentricity_omega
 from planetfit.core.quantities import PLANET
+from planetfit.fitting.components.base import ORBITS
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
 
@@ -34,6 +35,7 @@ class SolvedOrbit:
     mass_kg: np.ndarray | None = None
 
 
+@ORBITS.register(schema.CircularKeys)
 class CircularOrbit:
     """e = 0 (w is then arbitrary: pi/2, so transit happens at periastron)."""
 
@@ -51,6 +53,7 @@ class CircularOrbit:
         return np.ones(np.shape(e), dtype=bool)
 
 
+@ORBITS.register(schema.EccentricKeys)
 class EccentricOrbit:
     """e and w from sqrt(e) cos w and sqrt(e) sin w, with e below the planet's ``eccentricity_max``."""
 
@@ -67,6 +70,3 @@ class EccentricOrbit:
 
     def allowed(self, e):
         return np.asarray(e) < self.eccentricity_max
-
-
-ORBITS = {schema.CircularKeys: CircularOrbit, schema.EccentricKeys: EccentricOrbit}

@@ -9,10 +9,12 @@ fixed at 0 (the default) declares no parameter.
 """
 
 from planetfit.core.quantities import DATASET
+from planetfit.fitting.components.base import DILUTIONS, JITTERS
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
 
 
+@JITTERS.register(schema.PhotometryBlock)
 class PhotometricJitter:
     """A light curve's jitter, ppm of its relative flux.
 
@@ -26,6 +28,7 @@ class PhotometricJitter:
         self.parameters = [self.jitter]
 
 
+@DILUTIONS.register(schema.PhotometryBlock)
 class Dilution:
     """A light curve's contaminating flux fraction D: ``parameter`` is None when D is fixed at 0.
 
@@ -38,7 +41,3 @@ class Dilution:
         undiluted = block.dilution.fixed and block.dilution.value == 0.0
         self.parameter = None if undiluted else Parameter(block.name, "dilution", block.dilution, DATASET["dilution"])
         self.parameters = [] if undiluted else [self.parameter]
-
-
-JITTERS = {schema.PhotometryBlock: PhotometricJitter}
-DILUTIONS = {schema.PhotometryBlock: Dilution}

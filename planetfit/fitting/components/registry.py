@@ -1,41 +1,33 @@
 """Which component class a config block builds, and every family of them.
 
 The schema (:mod:`planetfit.inputs.schema`) decodes the config's words into
-block classes; each component family maps those classes to the component
-that implements them. This is the only place a block's kind decides code.
+block classes; each component registers for the block class it implements
+(:meth:`~planetfit.fitting.components.base.Family.register`), which builds
+its family's {block class: component class} mapping. This is the only place
+a block's kind decides code.
 """
 
-from planetfit.fitting.components import base
-from planetfit.fitting.components.baselines import BASELINES
-from planetfit.fitting.components.gp import KERNELS
-from planetfit.fitting.components.orbits import ORBITS
-from planetfit.fitting.components.photometry import DILUTIONS, JITTERS
-from planetfit.fitting.components.stability import STABILITY_PRIORS
-from planetfit.fitting.components.transit import LIMB_DARKENING
-from planetfit.fitting.components.velocity import TRENDS
+from planetfit.fitting.components import base, baselines, gp, orbits, photometry, stability, transit, velocity
+
+#: The modules whose component classes register themselves in the families (imported here so every family is full).
+MODULES = (baselines, gp, orbits, photometry, stability, transit, velocity)
 
 #: Every component family: {name: (its {block class: component class} registry, the Protocol its classes keep)}.
-FAMILIES = {
-    "kernel": (KERNELS, base.Kernel),
-    "orbit": (ORBITS, base.Orbit),
-    "limb_darkening": (LIMB_DARKENING, base.LimbDarkening),
-    "trend": (TRENDS, base.Trend),
-    "baseline": (BASELINES, base.Baseline),
-    "jitter": (JITTERS, base.Component),
-    "dilution": (DILUTIONS, base.Component),
-    "stability_prior": (STABILITY_PRIORS, base.OrbitPrior),
-}
+FAMILIES = {family.name: (family, family.protocol) for family in base.FAMILIES}
 
 
 def component_for(block, family):
-    """The component class ``family`` (a {block class: component class} dict) gives ``block``.
+    """The component class ``family`` (a {block class: component class} mapping) gives ``block``.
+
+    The most derived registered class among the block's classes decides
+    (a linear-baseline block is also a photometry block: its own entry wins).
 
     Raises
     ------
     TypeError
         If no entry matches: a schema variant without a component (a bug, not a user mistake).
     """
-    for kind, component in family.items():
-        if isinstance(block, kind):
-            return component
+    for kind in type(block).__mro__:
+        if kind in family:
+            return family[kind]
     raise TypeError(f"no component for {type(block).__name__} among {', '.join(k.__name__ for k in family)}")

@@ -14,9 +14,11 @@ import numpy as np
 from planetfit.core.geometry import planet_mass_kg, semi_major_axis_m
 from planetfit.core.stability import hill_margin
 from planetfit.core.units import M_SUN_KG, R_SUN_M
+from planetfit.fitting.components.base import STABILITY_PRIORS
 from planetfit.inputs import schema
 
 
+@STABILITY_PRIORS.register(schema.Dynamics)
 class HillStabilityPrior:
     """Rejects parameter values whose planets include a Hill-unstable adjacent pair.
 
@@ -50,6 +52,3 @@ class HillStabilityPrior:
                 margin = hill_margin(mstar, m1, m2, a1, a2, e1, e2)
             ok = ok & ((margin > 1) | (m1 + m2 == 0))
         return ok
-
-
-STABILITY_PRIORS = {schema.Dynamics: HillStabilityPrior}

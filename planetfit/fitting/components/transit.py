@@ -20,6 +20,7 @@ import numpy as np
 from batman import _quadratic_ld, _rsky
 
 from planetfit.core.quantities import DATASET
+from planetfit.fitting.components.base import LIMB_DARKENING
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
 
@@ -99,6 +100,7 @@ class TransitLightCurve:
         return f
 
 
+@LIMB_DARKENING.register(schema.QuadraticLaw)
 class QuadraticLimbDarkening:
     """A band's quadratic limb darkening, sampled as Kipping's (2013) q1, q2 (uniform priors cover every
     physical u1, u2 exactly once)."""
@@ -111,9 +113,6 @@ class QuadraticLimbDarkening:
     def coefficients(self, values):
         """(u1, u2) of parameter values."""
         return quadratic_coefficients(values[self.q1.name], values[self.q2.name])
-
-
-LIMB_DARKENING = {schema.QuadraticLaw: QuadraticLimbDarkening}
 
 
 class TransitTerm:

@@ -4,6 +4,7 @@ terms, and a long-term trend."""
 import numpy as np
 
 from planetfit.core.quantities import DATASET
+from planetfit.fitting.components.base import TRENDS
 from planetfit.fitting.parameters import Parameter
 from planetfit.inputs import schema
 
@@ -56,6 +57,7 @@ class Spectrograph:
         return {self.offset.name: np.ones(self.size), **{c.name: x for c, x in zip(self.coefficients, self.indicators)}}
 
 
+@TRENDS.register(schema.LinearTrendBlock)
 class LinearTrend:
     """Trend c_1 (t - t_ref) for a long-period companion; the offsets absorb the constant term.
 
@@ -87,6 +89,7 @@ class LinearTrend:
         return {c.name: dt**power for power, c in enumerate(self.coefficients, 1)}
 
 
+@TRENDS.register(schema.QuadraticTrendBlock)
 class QuadraticTrend(LinearTrend):
     """c_1 (t - t_ref) + c_2 (t - t_ref)^2."""
 
@@ -101,6 +104,3 @@ class QuadraticTrend(LinearTrend):
                 linear=True,
             )
         )
-
-
-TRENDS = {schema.QuadraticTrendBlock: QuadraticTrend, schema.LinearTrendBlock: LinearTrend}

@@ -1,7 +1,7 @@
 """The ``photometry`` and ``velocities`` dataset blocks.
 
-A photometric dataset is one of seven variants by its baseline and noise:
-``baseline: constant`` or ``linear`` or ``{regressors: [...]}`` (white noise), or ``baseline: gp``
+A photometric dataset is one of eight variants by its baseline and noise:
+``baseline: constant``, ``linear``, ``polynomial`` or ``{regressors: [...]}`` (white noise), or ``baseline: gp``
 with its own damped-oscillator (``gp_kernel: sho``), Matern-3/2 or quasi-periodic rotation
 kernel, or with the kernel of another dataset (``gp_shared_with``).
 """
@@ -15,7 +15,7 @@ from pydantic import BeforeValidator, Field, PrivateAttr, WithJsonSchema, model_
 from ..files import MAX_TABLE_MB
 from ..priors import Fixed, LogUniform, Uniform
 from ..timesystems import TIME_SYSTEMS
-from .base import Block, variants
+from .base import Block, Given, variants
 from .fields import (
     Column,
     Count,
@@ -33,7 +33,7 @@ from .light import PlanetLightBlock
 #: Quality factor of a stochastically driven damped oscillator whose power spectrum resembles
 #: granulation-type variability (Foreman-Mackey et al. 2017, AJ 154, 220, section 4.1).
 SHO_QUALITY_DEFAULT = 1 / math.sqrt(2)
-BASELINES = Literal["constant", "linear", "gp"]
+BASELINES = Literal["constant", "linear", "polynomial", "gp"]
 GP_KERNELS = Literal["sho", "matern32", "rotation"]
 #: The flux of a mission light-curve product: the corrected one (PDCSAP) or the simple-aperture one (SAP).
 MISSION_FLUXES = Literal["pdcsap", "sap"]
@@ -277,6 +277,15 @@ class LinearBaselineBlock(PhotometryBlock):
     slope_per_day: PriorSpec = Uniform(-0.01, 0.01)
 
 
+class PolynomialBaselineBlock(PhotometryBlock):
+    """F0 + sum_k a_k dt^k (k = 1 to ``degree``; dt days from the middle), a_k of prior ``polynomial_coefficient``."""
+
+    variant = {"baseline": "polynomial"}
+    baseline: BASELINES
+    degree: Annotated[int, Field(ge=1, le=5)]
+    polynomial_coefficient: PriorSpec = Uniform(-0.01, 0.01)
+
+
 class Regressors(Block):
     """Observing conditions the flux level follows linearly (columns of the file), and a polynomial in time.
 
@@ -292,7 +301,7 @@ class Regressors(Block):
 class RegressorBaselineBlock(PhotometryBlock):
     """A ground-based light curve: F0 (1 + sum_j c_j z_j + sum_k p_k dt^k), z_j the standardised regressors."""
 
-    variant = {"baseline": "<regressors: [...]>"}
+    variant = {"baseline": Given("<regressors: [...]>", dict)}
     baseline: Regressors
 
     def columns_used(self):
@@ -355,24 +364,15 @@ class RotationGP(_OwnGP):
 class SharedGP(PhotometryBlock):
     """The GP kernel and hyperparameters of another dataset (same star and band); own level and jitter."""
 
-    variant = {"baseline": "gp", "gp_shared_with": "<another dataset>"}
+    variant = {"baseline": "gp", "gp_shared_with": Given("<another dataset>")}
     baseline: BASELINES
     gp_shared_with: str
 
 
-def _photometry_variant(raw):
-    if isinstance(raw.get("baseline"), dict):
-        return "RegressorBaselineBlock"
-    if raw.get("baseline") == "gp":
-        if "gp_shared_with" in raw:
-            return "SharedGP"
-        return {"matern32": "Matern32GP", "rotation": "RotationGP"}.get(raw.get("gp_kernel"), "OscillatorGP")
-    return "LinearBaselineBlock" if raw.get("baseline") == "linear" else "ConstantBaselineBlock"
-
-
-_WHITE_NOISE = (ConstantBaselineBlock, LinearBaselineBlock, RegressorBaselineBlock)
-PHOTOMETRY_VARIANTS = (*_WHITE_NOISE, OscillatorGP, Matern32GP, RotationGP, SharedGP)
-AnyPhotometryBlock = variants(_photometry_variant, *PHOTOMETRY_VARIANTS)
+_WHITE_NOISE = (ConstantBaselineBlock, LinearBaselineBlock, PolynomialBaselineBlock, RegressorBaselineBlock)
+#: SharedGP before the own kernels: a block giving both ``gp_shared_with`` and ``gp_kernel`` is a shared one.
+PHOTOMETRY_VARIANTS = (*_WHITE_NOISE, SharedGP, OscillatorGP, Matern32GP, RotationGP)
+AnyPhotometryBlock = variants(*PHOTOMETRY_VARIANTS)
 
 
 class VelocitiesBlock(Dataset):

@@ -210,17 +210,6 @@ class RvOnlyEccentric(PlanetBlock, RvOnlyKeys, EccentricKeys):
     variant = {"transits": False, "orbit": "eccentric"}
 
 
-def _planet_variant(raw):
-    transiting = raw.get("transits", True) is not False
-    eccentric = raw.get("orbit") == "eccentric"
-    return {
-        (True, False): "TransitingCircular",
-        (True, True): "TransitingEccentric",
-        (False, False): "RvOnlyCircular",
-        (False, True): "RvOnlyEccentric",
-    }[(transiting, eccentric)]
-
-
 #: One planet, its variant chosen by ``transits`` and ``orbit``.
-AnyPlanetBlock = variants(_planet_variant, TransitingCircular, TransitingEccentric, RvOnlyCircular, RvOnlyEccentric)
 PLANET_VARIANTS = (TransitingCircular, TransitingEccentric, RvOnlyCircular, RvOnlyEccentric)
+AnyPlanetBlock = variants(*PLANET_VARIANTS)

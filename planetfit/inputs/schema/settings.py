@@ -41,15 +41,7 @@ def _trend_block(value):
     return {"kind": value} if isinstance(value, str) else value
 
 
-RvTrend = Annotated[
-    variants(
-        lambda raw: {"linear": "LinearTrendBlock", "quadratic": "QuadraticTrendBlock"}.get(raw.get("kind"), "NoTrend"),
-        NoTrend,
-        LinearTrendBlock,
-        QuadraticTrendBlock,
-    ),
-    BeforeValidator(_trend_block),
-]
+RvTrend = Annotated[variants(NoTrend, LinearTrendBlock, QuadraticTrendBlock), BeforeValidator(_trend_block)]
 
 
 class RvActivity(Block):
@@ -237,8 +229,4 @@ class NestedSettings(Sampling):
 
 
 #: The sampling block: one variant per method, told apart by ``method`` (absent: mcmc).
-SamplingBlock = variants(
-    lambda raw: {SamplingMethod.NESTED.value: "NestedSettings"}.get(raw.get("method"), "McmcSettings"),
-    McmcSettings,
-    NestedSettings,
-)
+SamplingBlock = variants(McmcSettings, NestedSettings)
