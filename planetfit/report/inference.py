@@ -8,6 +8,7 @@ autocorrelation times, not instead of them.
 """
 
 import logging
+import math
 import os
 import warnings
 
@@ -136,8 +137,14 @@ def diagnostics(idata, chain_after_burn_in, names, drawn=None, thin=1):
     bulk = az.ess(idata.posterior, method="bulk")
     tail = az.ess(idata.posterior, method="tail")
     for n in out:
-        out[n].update(rhat=round(float(rhat[n]), 4), ess_bulk=round(float(bulk[n])), ess_tail=round(float(tail[n])))
+        out[n].update(rhat=_rounded(rhat[n], 4), ess_bulk=_rounded(bulk[n]), ess_tail=_rounded(tail[n]))
     return out
+
+
+def _rounded(value, digits=None):
+    """``round(value, digits)``, or None (null in summary.json) where arviz gives NaN: a walker that never moved."""
+    value = float(value)
+    return round(value, digits) if np.isfinite(value) else None
 
 
 def rhat_expected(tau, steps):
@@ -161,14 +168,15 @@ def sampling_facts(per_parameter, steps_after_burn_in):
     autocorrelation rule's business, not a second warning.
     """
     facts = {"parameter_diagnostics": per_parameter}
-    rhats = {n: d["rhat"] for n, d in per_parameter.items() if "rhat" in d}
+    # An undefined R-hat (None: a walker that never moved) counts as the worst.
+    rhats = {n: math.inf if d["rhat"] is None else d["rhat"] for n, d in per_parameter.items() if "rhat" in d}
     if not rhats:
         return facts, []
     worst = max(rhats, key=rhats.get)
     facts.update(
-        rhat_max=rhats[worst],
-        ess_bulk_min=min(d["ess_bulk"] for d in per_parameter.values()),
-        ess_tail_min=min(d["ess_tail"] for d in per_parameter.values()),
+        rhat_max=per_parameter[worst]["rhat"],
+        ess_bulk_min=_least(d["ess_bulk"] for d in per_parameter.values()),
+        ess_tail_min=_least(d["ess_tail"] for d in per_parameter.values()),
     )
     limits = {
         n: max(RHAT_LIMIT, rhat_expected(per_parameter[n]["autocorr_steps"], steps_after_burn_in) + RHAT_MARGIN)
@@ -180,12 +188,23 @@ def sampling_facts(per_parameter, steps_after_burn_in):
     first = high[0]
     return facts, [
         f"R-hat above what the chain length explains for {len(high)} of {len(rhats)} parameters (largest "
-        f"{rhats[first]:.3f} for {first}, against {limits[first]:.3f} expected from its autocorrelation time of "
-        f"{per_parameter[first]['autocorr_steps']:.0f} steps over {steps_after_burn_in} steps): the walkers, read "
+        f"{_rhat_text(per_parameter[first]['rhat'])} for {first}, against {limits[first]:.3f} expected from its "
+        f"autocorrelation time of {per_parameter[first]['autocorr_steps']:.0f} steps over {steps_after_burn_in} "
+        "steps): the walkers, read "
         "as separate chains, do not share one distribution (not yet mixed from their starts, a stuck walker, or "
         "unmixed modes). Do not quote these "
         "uncertainties before a longer run agrees"
     ]
+
+
+def _rhat_text(rhat):
+    return "undefined (a walker never moved)" if rhat is None else f"{rhat:.3f}"
+
+
+def _least(values):
+    """The smallest of ``values``, or None when any is undefined (None)."""
+    values = list(values)
+    return None if any(v is None for v in values) else min(values)
 
 
 def run_attrs(checked):

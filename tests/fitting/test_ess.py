@@ -76,3 +76,17 @@ def test_the_chain_runs_until_every_parameter_has_the_effective_samples_asked_fo
     assert np.min(bulk_ess(backend.get_chain(discard=discard))) >= 1000
     assert backend.iteration > 3 * short.iteration
     assert mcmc._min_bulk_ess(short, float(np.max(mcmc.autocorr_estimate(short)))) < 1000
+
+
+def test_a_walker_that_never_moved_counts_as_the_chains_whole_length():
+    # common practice, no published source: emcee's estimate is 0/0 for a walker that has not moved; planetfit
+    # takes the chain's length instead (far from converged), where the run once stopped on a NaN.
+    rng = np.random.default_rng(5)
+    backend = emcee.backends.Backend()
+    backend.reset(8, 2)
+    backend.grow(30, None)
+    for _ in range(30):
+        coords = rng.normal(size=(8, 2))
+        coords[0] = 50.0  # the stuck walker
+        backend.save_step(emcee.State(coords, log_prob=np.zeros(8)), np.ones(8, dtype=bool))
+    assert np.allclose(mcmc.autocorr_estimate(backend), 30.0)

@@ -94,6 +94,17 @@ def test_a_walker_stuck_elsewhere_raises_rhat_and_a_warning():
     assert len(warnings) == 1 and "largest" in warnings[0] and "for x" in warnings[0]
 
 
+def test_a_walker_that_never_moved_is_undefined_and_warned_not_a_crash():
+    # common practice, no published source: a 40-step chain with a walker stuck at its start has autocorrelation
+    # times of its whole length, so one draw per walker is kept and arviz gives NaN for R-hat and ESS; the summary
+    # gets nulls and a warning, where the run once stopped with "cannot convert float NaN to integer".
+    x = np.random.default_rng(5).normal(size=(1, 8))
+    idata = az.from_dict(posterior={"x": x.T})
+    facts, warnings = inference.sampling_facts(inference.diagnostics(idata, x[..., None], ["x"]), 1)
+    assert facts["rhat_max"] is None and facts["ess_bulk_min"] is None
+    assert len(warnings) == 1 and "a walker never moved" in warnings[0]
+
+
 def test_rhat_of_chains_as_long_as_the_convergence_rule_asks_raises_no_warning():
     # AR(1) chains 50 autocorrelation times long (the default rule): R-hat ~ sqrt(1 + 2 tau / N) = 1.02 > 1.01,
     # explained by the length alone, so no warning; the same chains with one walker shifted by 1 sd do warn.

@@ -132,8 +132,14 @@ class SamplingResult:
 
 
 def autocorr_estimate(backend):
-    """Integrated autocorrelation time per parameter (tolerance off; noisy on short chains)."""
-    return backend.get_autocorr_time(tol=0)
+    """Integrated autocorrelation time per parameter (tolerance off; noisy on short chains).
+
+    A walker that has not moved yet makes emcee's estimate 0/0; such a
+    parameter's time counts as the chain's length (far from converged).
+    """
+    with np.errstate(invalid="ignore", divide="ignore"):
+        tau = backend.get_autocorr_time(tol=0)
+    return np.where(np.isfinite(tau), tau, float(backend.iteration))
 
 
 def run_sampler(log_prob, layout, settings, h5_path, rng, cores=1, progress=True, resume=False):
