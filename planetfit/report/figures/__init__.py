@@ -58,7 +58,10 @@ def figure_builders(run_dir, checked, log_prob, samples, derived, summary):
     view = PosteriorView(log_prob, samples, seed=checked.config.seed)
     planets = log_prob.planets
     transiting = [p for p in planets if p.transits]
-    out = [(Drawn("corner_sampled"), partial(sampled_corner, derived))]  # ~half of all drawing time
+    out = [(Drawn("corner_sampled"), partial(sampled_corner, derived))]  # the two longest to draw first
+    if not summary.sampling.nested:  # a chain's figure; nested sampling has no walkers
+        converge = partial(_convergence, run_dir, log_prob, summary, checked.config.sampling.autocorr_factor)
+        out.append((Drawn("convergence"), converge))
     for p in transiting:
         duration_hr = summary.planets[p.name].stat("transit_duration_hr").median
         for i, d in enumerate(log_prob.photometry):
@@ -83,7 +86,4 @@ def figure_builders(run_dir, checked, log_prob, samples, derived, summary):
     if weighed:
         out.append((Drawn("mass_radius"), partial(mass_radius_figure, derived, weighed)))
     out.append((Drawn("habitable_zone"), partial(habitable_zone_figure, derived, planets)))
-    if not summary.sampling.nested:  # a chain's figure; nested sampling has no walkers
-        converge = partial(_convergence, run_dir, log_prob, summary, checked.config.sampling.autocorr_factor)
-        out.append((Drawn("convergence"), converge))
     return out
