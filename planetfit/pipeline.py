@@ -57,7 +57,8 @@ class Checked:
 
     def manifest(self):
         """The manifest of this config and its data as they are now (:mod:`planetfit.rundir.manifest`)."""
-        return manifest.build(self.config, rundir.resolved_config(self.config), self.posterior.layout.free)
+        layout = self.posterior.layout
+        return manifest.build(self.config, rundir.resolved_config(self.config), layout.free, layout.sampled_labels)
 
 
 @dataclasses.dataclass
