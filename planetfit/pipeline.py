@@ -56,7 +56,8 @@ class Checked:
 
     def manifest(self):
         """The manifest of this config and its data as they are now (:mod:`planetfit.rundir.manifest`)."""
-        return manifest.build(self.config, rundir.resolved_config(self.config), self.log_probability.layout.free)
+        layout = self.log_probability.layout
+        return manifest.build(self.config, rundir.resolved_config(self.config), layout.free, layout.sampled_labels)
 
 
 @dataclasses.dataclass

@@ -165,6 +165,9 @@ def build_model(config, photometry, velocities):
         if planet.transits and block.free_transit_times:
             planet.attach_timing(individual_transit_times(config, block, photometry))
     lights = _lights(config, planets)
+    for planet in planets:  # the eclipse and phase curve leave b to the transit's shape: b^2 mixes better there
+        if planet.transits and any(name == planet.name for _, name in lights):
+            planet.sample_impact_squared()
     bands, phot = _photometry_models(config, photometry, planets, star, lights)
     rv = _velocity_model(config, velocities, planets)
     hill = config.dynamics.hill_prior and len(planets) > 1

@@ -77,8 +77,20 @@ def data_changes(saved, config):
     return _data_changes(saved.get("data", []), _data_entries(config))
 
 
-def build(config, resolved_yaml, parameter_names):
-    """The manifest of a config (as resolved) and its data as they are now (a JSON-ready dict)."""
+def transformed_coordinates(parameter_names, sampled_labels):
+    """Sampler coordinates other than a parameter itself or its logarithm (``b.impact^2``).
+
+    Samples are saved in the sampler's coordinates; the manifest lists these so that samples saved in
+    others (by a planetfit that sampled b, not b^2) are refused rather than misread.
+    """
+    return [label for name, label in zip(parameter_names, sampled_labels) if label not in (name, f"ln({name})")]
+
+
+def build(config, resolved_yaml, parameter_names, sampled_labels=None):
+    """The manifest of a config (as resolved) and its data as they are now (a JSON-ready dict).
+
+    ``sampled_labels`` names the sampler's coordinate of each parameter (default: the parameters themselves).
+    """
     model = _model_config(resolved_yaml)
     sampler = config.sampling.model_dump(mode="json")
     return {
@@ -90,6 +102,7 @@ def build(config, resolved_yaml, parameter_names):
         "sampler": {k: v for k, v in sampler.items() if k not in STOPPING_RULE},
         "data": _data_entries(config),
         "parameters": list(parameter_names),
+        "coordinates": transformed_coordinates(parameter_names, sampled_labels or parameter_names),
         "outputs": [],
     }
 
@@ -172,5 +185,10 @@ def differences(before, after):
         lines.append(
             f"free parameters: {len(before.get('parameters', []))} ({_quote(before.get('parameters'))}) -> "
             f"{len(after['parameters'])} ({_quote(after['parameters'])})"
+        )
+    if before.get("coordinates", []) != after.get("coordinates", []):
+        lines.append(
+            f"sampler coordinates: {_quote(before.get('coordinates', []))} -> {_quote(after.get('coordinates', []))} "
+            "(the saved samples are in the former)"
         )
     return lines
