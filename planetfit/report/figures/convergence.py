@@ -60,6 +60,7 @@ def convergence_figure(history, chain, names, discard, target_factor):
             ax.plot(x, chain[::stride, :, j], color=style.BLUE, lw=0.3, alpha=0.25, rasterized=True)
             ax.axvline(discard, color=style.VERMILLION, lw=0.8, ls="--")
             ax.set_xlim(0, steps)
+            ax.ticklabel_format(axis="y", style="plain", useOffset=False)  # a BJD as it is, not x 1e6
             # Names are too long for a y label of a short panel: written inside it.
             box = {"facecolor": "white", "edgecolor": "none", "alpha": 0.8, "pad": 1.0}
             ax.text(0.01, 0.95, names[j], transform=ax.transAxes, ha="left", va="top", fontsize=6.5, bbox=box)
