@@ -8,8 +8,8 @@ from scipy import stats
 from planetfit import pipeline
 from planetfit.core.quantities import PLANET
 from planetfit.demo.hot_giant import CONFIG as HOT_GIANT
-from planetfit.fitting.sampling.mcmc import walker_moves
 from planetfit.fitting.parameters import Parameter, ParameterLayout
+from planetfit.fitting.sampling.mcmc import walker_moves
 from planetfit.inputs.priors import Normal, SquaredUniform, Uniform, sampled_squared
 from planetfit.rundir import manifest
 
