@@ -57,24 +57,22 @@ def convergence_figure(history, chain, names, discard, target_factor):
         ax.set_ylabel("Autocorrelation\ntime [steps]")
         ax.legend(loc="upper left")
         for ax, j in zip(axes[1:], slowest):
-            ax.plot(x, chain[::stride, :, j], color=style.BLUE, lw=0.3, alpha=0.25, rasterized=True)
-            ax.axvline(discard, color=style.VERMILLION, lw=0.8, ls="--")
-            ax.set_xlim(0, steps)
-            ax.ticklabel_format(axis="y", style="plain", useOffset=False)  # a BJD as it is, not x 1e6
-            # Names are too long for a y label of a short panel: written inside it.
-            box = {"facecolor": "white", "edgecolor": "none", "alpha": 0.8, "pad": 1.0}
-            ax.text(0.01, 0.95, names[j], transform=ax.transAxes, ha="left", va="top", fontsize=6.5, bbox=box)
-            ax.text(
-                0.99,
-                0.95,
-                rf"$\hat\tau$ = {tau[j]:.0f}",
-                transform=ax.transAxes,
-                ha="right",
-                va="top",
-                fontsize=6.5,
-                bbox=box,
-            )
+            _trace(ax, x, chain[::stride, :, j], discard, steps, names[j], tau[j])
         axes[-1].set_xlabel("Step (dashed: end of burn-in)")
         for ax in axes[1:-1]:
             ax.tick_params(labelbottom=False)
     return fig
+
+
+def _trace(ax, x, walkers, discard, steps, name, tau):
+    """One parameter's walker traces, the end of burn-in, its name and autocorrelation time, on ``ax``."""
+    ax.plot(x, walkers, color=style.BLUE, lw=0.3, alpha=0.25, rasterized=True)
+    ax.axvline(discard, color=style.VERMILLION, lw=0.8, ls="--")
+    ax.set_xlim(0, steps)
+    ax.ticklabel_format(axis="y", style="plain", useOffset=False)  # a BJD as it is, not x 1e6
+    # Names are too long for a y label of a short panel: written inside it.
+    box = {"facecolor": "white", "edgecolor": "none", "alpha": 0.8, "pad": 1.0}
+    ax.text(0.01, 0.95, name, transform=ax.transAxes, ha="left", va="top", fontsize=6.5, bbox=box)
+    ax.text(
+        0.99, 0.95, rf"$\hat\tau$ = {tau:.0f}", transform=ax.transAxes, ha="right", va="top", fontsize=6.5, bbox=box
+    )
