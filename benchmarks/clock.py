@@ -1,8 +1,11 @@
-"""Clocks for the benchmarks: CPU seconds of a process and its children, and interleaved timing rounds."""
+"""Clocks for the benchmarks: CPU seconds, a timed run of a config, and interleaved timing rounds."""
 
+import json
 import math
 import resource
 import time
+
+from planetfit import pipeline
 
 ROUNDS = 7  # interleaved rounds; the best is kept
 MIN_ROUND_S = 0.3  # each contender repeats its positions until a round lasts this long
@@ -12,6 +15,15 @@ def cpu_seconds():
     """User + system CPU seconds of this process and its finished children."""
     own, children = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
     return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
+
+
+def timed_run(config_path, **options):
+    """``pipeline.run(config_path, quiet=True, **options)``: its summary.json (as users' scripts read it), wall and
+    CPU seconds."""
+    wall, cpu = time.perf_counter(), cpu_seconds()
+    run_dir = pipeline.run(config_path, quiet=True, **options).path
+    wall, cpu = time.perf_counter() - wall, cpu_seconds() - cpu
+    return json.loads((run_dir / "summary.json").read_text()), wall, cpu
 
 
 def race(contenders, n):

@@ -32,14 +32,13 @@ independent_samples_per_cpu_second
     fitted-proposal sampler's figure over differential evolution's.
 """
 
-import json
 import tempfile
 import time
 from pathlib import Path
 
 import numpy as np
 import yaml
-from clock import cpu_seconds  # beside this script
+from clock import cpu_seconds, timed_run  # beside this script
 
 from planetfit import pipeline
 from planetfit.demo import DEMO_CONFIG
@@ -141,10 +140,8 @@ def before_issue_26():
 
 def whole_demo(folder, cores, sampling):
     """One full ``pipeline.run`` of the demo with ``sampling`` entries set; its wall and CPU seconds and facts."""
-    wall, cpu = time.perf_counter(), cpu_seconds()
-    run_dir = pipeline.run(demo_config(folder, sampling), quiet=True, cores=cores).path
-    wall, cpu = time.perf_counter() - wall, cpu_seconds() - cpu
-    s = json.loads((run_dir / "summary.json").read_text())["sampling"]
+    summary, wall, cpu = timed_run(demo_config(folder, sampling), cores=cores)
+    s = summary["sampling"]
     keys = ("converged", "steps", "autocorr_steps", "independent_samples", "min_bulk_ess", "rhat_max", "phase_seconds")
     return {"sampling": sampling, "seconds_in_all": round(wall, 1), "cpu_seconds_in_all": round(cpu, 1)} | {
         k: s.get(k) for k in keys

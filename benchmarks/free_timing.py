@@ -18,15 +18,13 @@ import argparse
 import json
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 import yaml
-from clock import cpu_seconds  # beside this script
+from clock import timed_run  # beside this script
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # the repository root, for tests.*
 
-from planetfit import pipeline  # noqa: E402
 from tests.end_to_end.test_transit_times import write_ttv_system  # noqa: E402
 from tests.synthetic import STAR, star_priors  # noqa: E402
 
@@ -41,10 +39,8 @@ def run_once(folder, moves, steps, cores):
     config["sampling"].update(walkers=WALKERS, moves=moves)
     config["star"] = star_priors(STAR, 5400)
     Path(path).write_text(yaml.safe_dump(config, sort_keys=False))
-    wall, cpu = time.perf_counter(), cpu_seconds()
-    run_dir = pipeline.run(path, quiet=True, figures=False, cores=cores).path
-    wall, cpu = time.perf_counter() - wall, cpu_seconds() - cpu
-    s = json.loads((run_dir / "summary.json").read_text())["sampling"]
+    summary, wall, cpu = timed_run(path, figures=False, cores=cores)
+    s = summary["sampling"]
     keys = ("converged", "steps", "burn_in_steps", "autocorr_steps", "min_bulk_ess", "acceptance_fraction")
     taus = {name: d["autocorr_steps"] for name, d in s["parameter_diagnostics"].items()}
     slowest = dict(sorted(taus.items(), key=lambda item: -item[1])[:3])
