@@ -37,6 +37,7 @@ evolution with an independence move drawing from that fixed proposal
 """
 
 import dataclasses
+import functools
 import logging
 import sys
 import time
@@ -230,7 +231,7 @@ def _start(log_prob, layout, settings, rng, workers, nwalkers, h5_path):
     if WalkerMoves(settings.moves) is not WalkerMoves.FITTED_PROPOSAL:
         return initial, modes, None, 0, optimiser_seconds
     proposal, initial, burn_in = run_burn_in(
-        workers, initial, walker_moves(len(modes) > 1), modes, settings, _random_state(rng)
+        workers, initial, functools.partial(walker_moves, len(modes) > 1), modes, settings, _random_state(rng)
     )
     save_proposal(h5_path, proposal, burn_in)
     return initial, modes, proposal, burn_in, optimiser_seconds
