@@ -92,6 +92,22 @@ def test_fitted_proposal_has_its_pieces_in_every_mode(fractions):
     assert near_second == pytest.approx(expected[-1] if len(modes) > 1 else 0.0, abs=0.01)
 
 
+def test_a_mode_on_stuck_walkers_keeps_its_laplace_covariance():
+    # A burn-in where one mode's 45 samples are 6 distinct points (walkers that never moved), as in calibration
+    # system 1233: their covariance is singular. source: the Mode's own covariance, by construction.
+    rng = np.random.default_rng(7)
+    modes = [Mode(np.zeros(7), 0.0, np.eye(7)), Mode(np.full(7, 10.0), 0.0, 2.0 * np.eye(7))]
+    stuck = np.repeat(10.0 + rng.normal(size=(6, 7)), [10, 10, 10, 5, 5, 5], axis=0)
+    samples = np.concatenate([rng.normal(size=(2400, 7)), stuck])
+    labels = np.repeat([0, 1], [2400, 45])
+    proposal = FittedProposal.fit(samples, labels, modes)
+    far = proposal.locations[:, 0] > 5
+    assert far.sum() == 1
+    assert np.array_equal(proposal.locations[far][0], modes[1].theta)
+    assert np.array_equal(proposal.shapes[far][0], modes[1].cov)
+    assert np.all(np.isfinite(proposal.log_density(proposal.draw(np.random.RandomState(2), 100))))
+
+
 def test_pieces_follow_a_curved_posterior():
     # A banana: y = x^2 + noise, x ~ N(0, 1). One t over it proposes much where the target has nothing
     # (the hollow under the arc). source: the target's own density, by construction.

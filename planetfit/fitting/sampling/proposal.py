@@ -69,7 +69,7 @@ class FittedProposal:
 
     @classmethod
     def fit(cls, samples, labels, modes):
-        """One component per mode, fitted to the burn-in ``samples`` (n, ndim) assigned to it.
+        """:data:`PIECES_PER_MODE` components per mode, fitted to the burn-in ``samples`` (n, ndim) assigned to it.
 
         Parameters
         ----------
@@ -77,23 +77,25 @@ class FittedProposal:
         labels : ndarray of int, shape (n,)
             Index in ``modes`` of each sample's mode.
         modes : list of Mode
-            A mode with fewer samples than twice the dimension keeps its
-            optimum and Laplace covariance.
+            A mode whose samples do not span every direction (fewer than
+            twice the dimension distinct ones, as when a walker stuck for
+            most of the burn-in) keeps its optimum and Laplace covariance.
         """
-        ndim = samples.shape[1]
         weights, locations, shapes = [], [], []
         for j, mode in enumerate(modes):
             inside = samples[labels == j]
             weight = max(inside.shape[0] / samples.shape[0], MIN_MODE_WEIGHT)
-            if inside.shape[0] < 2 * ndim:
+            pieces = _pieces(inside) if _spans(inside) else []
+            if not all(_spans(p) for p in pieces):  # a piece on a stuck walker: the mode whole
+                pieces = [inside]
+            if not pieces:
                 weights.append(weight)
                 locations.append(mode.theta)
                 shapes.append(mode.cov)
-                continue
-            for part in _pieces(inside):
+            for part in pieces:
                 weights.append(weight * part.shape[0] / inside.shape[0])
                 locations.append(part.mean(axis=0))
-                shapes.append(np.cov(part, rowvar=False).reshape(ndim, ndim))
+                shapes.append(np.atleast_2d(np.cov(part, rowvar=False)))
         return cls(np.array(weights), np.array(locations), np.array(shapes))
 
     def log_density(self, x):
@@ -119,6 +121,20 @@ class FittedProposal:
     def arrays(self):
         """The arrays that define the proposal, by name (for the chain file)."""
         return {"weights": self.weights, "locations": self.locations, "shapes": self.shapes, "df": np.array(self.df)}
+
+
+def _spans(samples):
+    """Whether ``samples`` (n, ndim) hold twice the dimension distinct rows and a positive-definite covariance."""
+    ndim = samples.shape[1]
+    if np.unique(samples, axis=0).shape[0] < 2 * ndim:
+        return False
+    cov = np.atleast_2d(np.cov(samples, rowvar=False))
+    sd = np.sqrt(np.diag(cov))
+    try:
+        np.linalg.cholesky(cov / np.outer(sd, sd))
+    except np.linalg.LinAlgError:
+        return False
+    return bool(np.all(sd > 0))
 
 
 def _pieces(samples):
