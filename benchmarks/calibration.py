@@ -15,7 +15,7 @@ at a uniformly distributed rank among its samples; the Kolmogorov-Smirnov
 p-value of each quantity's ranks against the uniform distribution is
 reported too.
 
-Usage: python benchmarks/calibration.py [--systems N] [--processes P] [--steps S] [--moves M]
+Usage: python benchmarks/calibration.py [--systems N] [--processes P] [--steps S] [--moves M] [--first-seed K]
 Prints one JSON object; each system's result goes to stderr as one JSON line.
 """
 
@@ -237,8 +237,11 @@ def main():
         choices=["differential_evolution", "fitted_proposal"],
         help="sampling.moves (planetfit's default if not given)",
     )
+    parser.add_argument(
+        "--first-seed", type=int, default=1000, help="seed of the first system (another set of systems)"
+    )
     args = parser.parse_args()
-    print(json.dumps(calibrate(args.systems, args.processes, args.steps, args.moves), indent=2))
+    print(json.dumps(calibrate(args.systems, args.processes, args.steps, args.moves, args.first_seed), indent=2))
 
 
 if __name__ == "__main__":
