@@ -18,7 +18,7 @@ where an independence sampler would otherwise stick (Tierney 1994, sect. 4).
 
 Measured on the demo (one core, four seeds of the whole run, burn-in refit
 of :mod:`planetfit.fitting.sampling.burnin`): largest autocorrelation time
-17-34 steps with two pieces per mode, 23-47 with one, 27-37 with three and
+17-34 steps with two pieces per mode, 21-47 with one, 27-37 with three and
 43-47 with five (seeds 2 and 7).
 """
 
