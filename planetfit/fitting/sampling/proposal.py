@@ -85,17 +85,19 @@ class FittedProposal:
         for j, mode in enumerate(modes):
             inside = samples[labels == j]
             weight = max(inside.shape[0] / samples.shape[0], MIN_MODE_WEIGHT)
-            pieces = _pieces(inside) if _spans(inside) else []
-            if not all(_spans(p) for p in pieces):  # a piece on a stuck walker: the mode whole
-                pieces = [inside]
+            whole = _spanning_covariance(inside)
+            pieces = [] if whole is None else _pieces(inside)
+            covariances = [_spanning_covariance(p) for p in pieces]
+            if any(c is None for c in covariances):  # a piece on a stuck walker: the mode whole
+                pieces, covariances = [inside], [whole]
             if not pieces:
                 weights.append(weight)
                 locations.append(mode.theta)
                 shapes.append(mode.cov)
-            for part in pieces:
+            for part, covariance in zip(pieces, covariances):
                 weights.append(weight * part.shape[0] / inside.shape[0])
                 locations.append(part.mean(axis=0))
-                shapes.append(np.atleast_2d(np.cov(part, rowvar=False)))
+                shapes.append(covariance)
         return cls(np.array(weights), np.array(locations), np.array(shapes))
 
     def log_density(self, x):
@@ -123,18 +125,21 @@ class FittedProposal:
         return {"weights": self.weights, "locations": self.locations, "shapes": self.shapes, "df": np.array(self.df)}
 
 
-def _spans(samples):
-    """Whether ``samples`` (n, ndim) hold twice the dimension distinct rows and a positive-definite covariance."""
+def _spanning_covariance(samples):
+    """The covariance (ndim, ndim) of ``samples`` (n, ndim), or None unless they hold twice the dimension distinct
+    rows and the covariance is positive definite (a stuck walker's repeated rows span too few directions)."""
     ndim = samples.shape[1]
     if np.unique(samples, axis=0).shape[0] < 2 * ndim:
-        return False
+        return None
     cov = np.atleast_2d(np.cov(samples, rowvar=False))
     sd = np.sqrt(np.diag(cov))
+    if not np.all(sd > 0):
+        return None
     try:
         np.linalg.cholesky(cov / np.outer(sd, sd))
     except np.linalg.LinAlgError:
-        return False
-    return bool(np.all(sd > 0))
+        return None
+    return cov
 
 
 def _pieces(samples):
